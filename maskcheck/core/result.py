@@ -1,0 +1,223 @@
+"""What a check concluded, as plain data (no I/O, no rendering).
+
+:class:`CheckResult` is the only thing renderers read.  ``to_dict()`` gives the
+JSON form whose keys later releases keep stable; the plotting curves are kept
+beside it as numpy arrays and left out of the JSON unless asked for.
+
+Margins are ``limit - measured`` in dB: positive is good.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+__all__ = [
+    "VERDICTS",
+    "EXIT_CODES",
+    "Curve",
+    "RegionResult",
+    "Emission",
+    "ReferencePower",
+    "MaskInfo",
+    "InputFile",
+    "BandwidthFigure",
+    "CheckResult",
+    "combine_verdicts",
+]
+
+#: Verdicts in order of precedence when regions are combined.
+VERDICTS = ("fail", "incomplete", "marginal", "pass")
+
+#: Exit code of every checking command for each verdict (2 is bad input).
+EXIT_CODES = {"pass": 0, "fail": 1, "marginal": 3, "incomplete": 3}
+
+
+def combine_verdicts(verdicts) -> str:
+    """Overall verdict: a failure anywhere fails; then incomplete; then marginal.
+
+    An empty list is ``incomplete``: nothing evaluated is never a pass.
+    """
+    verdicts = list(verdicts)
+    for v in verdicts:
+        if v not in VERDICTS:
+            raise ValueError(f"verdict {v!r} is not one of {VERDICTS}")
+    if not verdicts:
+        return "incomplete"
+    for v in VERDICTS:
+        if v in verdicts:
+            return v
+    raise AssertionError("unreachable")
+
+
+@dataclass(frozen=True, eq=False)
+class Curve:
+    """Measured level and limit along a region, for plots (not in the JSON).
+
+    ``level_dbm`` is the power in the rule's reference bandwidth (or the
+    reading itself where the RBW was wider); ``limit_dbm`` the limit there.
+    """
+
+    freq_hz: np.ndarray
+    level_dbm: np.ndarray
+    limit_dbm: np.ndarray
+
+
+@dataclass
+class RegionResult:
+    """One region of the mask, judged."""
+
+    name: str
+    kind: str
+    start_hz: float
+    stop_hz: float
+    verdict: str
+    worst_margin_db: float | None = None
+    worst_freq_hz: float | None = None
+    worst_level_dbm: float | None = None
+    worst_limit_dbm: float | None = None
+    limit_text: str = ""
+    detector_required: str = "any"
+    #: (start_hz, stop_hz, reference_bandwidth_hz) bands used
+    reference_bandwidths: list[tuple[float, float, float]] = field(default_factory=list)
+    excluded_hz: list[tuple[float, float]] = field(default_factory=list)
+    uncovered_hz: list[tuple[float, float]] = field(default_factory=list)
+    points_evaluated: int = 0
+    reasons: list[str] = field(default_factory=list)
+    curve: Curve | None = field(default=None, repr=False)
+
+    def to_dict(self) -> dict:
+        d = asdict(self)
+        d.pop("curve")
+        d["reference_bandwidths"] = [
+            {"start_hz": a, "stop_hz": b, "bandwidth_hz": w} for a, b, w in self.reference_bandwidths
+        ]
+        d["excluded_hz"] = [list(x) for x in self.excluded_hz]
+        d["uncovered_hz"] = [list(x) for x in self.uncovered_hz]
+        return d
+
+
+@dataclass
+class Emission:
+    """A discrete emission (local peak) within the reporting threshold of its limit."""
+
+    freq_hz: float
+    level_dbm: float
+    limit_dbm: float
+    margin_db: float
+    region: str = ""
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class ReferencePower:
+    """The power the relative limits are taken below."""
+
+    kind: str  # "mean" or "pep"
+    dbm: float
+    source: str  # "stated", "measured", or "stated mean power used for PEP"
+    measured_dbm: float | None = None
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class MaskInfo:
+    """Provenance of the mask used."""
+
+    id: str
+    title: str
+    authority: str
+    citation: str
+    edition: str
+    verified: bool
+    path: str = ""
+    sha256: str = ""
+    note: str = ""
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class InputFile:
+    path: str
+    sha256: str
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class BandwidthFigure:
+    """An occupied (beta/2) or x-dB bandwidth with its edges."""
+
+    method: str  # "occupied" or "x-dB"
+    width_hz: float
+    lower_hz: float
+    upper_hz: float
+    parameter: float  # beta (fraction) or x (dB)
+    notes: list[str] = field(default_factory=list)
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class CheckResult:
+    """Everything a check concluded; renderers read only this."""
+
+    verdict: str
+    mask: MaskInfo
+    reference_power: ReferencePower
+    regions: list[RegionResult]
+    emissions: list[Emission]
+    station: dict
+    occupied_bandwidth: BandwidthFigure | None
+    guard_db: float
+    fundamental_window_hz: tuple[float, float]
+    fundamental_window_source: str
+    spectrum_summary: dict
+    inputs: list[InputFile] = field(default_factory=list)
+    warnings: list[str] = field(default_factory=list)
+    tool: dict = field(default_factory=dict)
+    created_utc: str = ""
+    #: the whole trace as read (for plots; not in the JSON)
+    trace: Curve | None = field(default=None, repr=False)
+
+    @property
+    def exit_code(self) -> int:
+        return EXIT_CODES[self.verdict]
+
+    @property
+    def worst_region(self) -> RegionResult | None:
+        judged = [r for r in self.regions if r.worst_margin_db is not None]
+        return min(judged, key=lambda r: r.worst_margin_db) if judged else None
+
+    def to_dict(self) -> dict:
+        """The JSON form (stable keys; see the README)."""
+        obw = self.occupied_bandwidth
+        return {
+            "verdict": self.verdict,
+            "exit_code": self.exit_code,
+            "mask": self.mask.to_dict(),
+            "reference_power": self.reference_power.to_dict(),
+            "occupied_bandwidth_hz": None if obw is None else obw.width_hz,
+            "occupied_bandwidth_edges_hz": None if obw is None else [obw.lower_hz, obw.upper_hz],
+            "occupied_bandwidth": None if obw is None else obw.to_dict(),
+            "regions": [r.to_dict() for r in self.regions],
+            "emissions": [e.to_dict() for e in self.emissions],
+            "warnings": list(self.warnings),
+            "inputs": [i.to_dict() for i in self.inputs],
+            "tool": dict(self.tool),
+            "station": dict(self.station),
+            "guard_db": self.guard_db,
+            "fundamental_window_hz": list(self.fundamental_window_hz),
+            "fundamental_window_source": self.fundamental_window_source,
+            "spectrum": dict(self.spectrum_summary),
+            "created_utc": self.created_utc,
+        }

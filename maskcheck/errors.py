@@ -1,0 +1,86 @@
+"""The exception family of maskcheck.
+
+Every error that bad input can cause is a subclass of :class:`MaskcheckError`
+and also of the matching built-in (``ValueError``, ``OSError``), so callers
+that know only the built-ins still catch it.  Each carries ``.path`` (the file,
+if any) and ``.where`` (a line number, a TOML key path or an option name), and
+formats itself as one line a person can act on::
+
+    trace.txt, line 14: 'abc' is not a number (expected a level in dBm)
+
+The command line prints ``str(error)`` and exits with code 2; no traceback
+reaches a user for bad input.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "MaskcheckError",
+    "UnitError",
+    "SpectrumError",
+    "TraceError",
+    "MaskError",
+    "StationError",
+    "OutputError",
+]
+
+
+class MaskcheckError(Exception):
+    """Base of every maskcheck error caused by input or usage.
+
+    Parameters
+    ----------
+    message : str
+        What was found and what was expected.
+    path : str or os.PathLike, optional
+        The file the problem is in.
+    where : str or int, optional
+        Line number (int) or key path / option name (str) inside ``path``.
+    """
+
+    def __init__(self, message: str, *, path=None, where=None):
+        super().__init__(message)
+        self.message = message
+        self.path = None if path is None else str(path)
+        self.where = where
+
+    def __str__(self) -> str:
+        prefix = ""
+        if self.path is not None:
+            prefix = self.path
+        if self.where is not None:
+            loc = f"line {self.where}" if isinstance(self.where, int) else str(self.where)
+            prefix = f"{prefix}, {loc}" if prefix else loc
+        return f"{prefix}: {self.message}" if prefix else self.message
+
+
+class UnitError(MaskcheckError, ValueError):
+    """A quantity could not be parsed or has the wrong unit family."""
+
+
+class SpectrumError(MaskcheckError, ValueError):
+    """Arrays that cannot form a valid :class:`~maskcheck.core.spectrum.Spectrum`."""
+
+
+class TraceError(MaskcheckError, ValueError):
+    """A malformed trace file."""
+
+
+class MaskError(MaskcheckError, ValueError):
+    """A malformed or inconsistent mask file.
+
+    ``problems`` holds every problem found (all are reported at once); the
+    message joins them.
+    """
+
+    def __init__(self, message: str, *, path=None, where=None, problems=None):
+        super().__init__(message, path=path, where=where)
+        self.problems = list(problems) if problems else [message]
+
+
+class StationError(MaskcheckError, ValueError):
+    """Station data (carrier, power, ...) that is missing or impossible."""
+
+
+class OutputError(MaskcheckError, OSError):
+    """An output file that cannot or must not be written."""

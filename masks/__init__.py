@@ -1,0 +1,1 @@
+"""The built-in mask library: one TOML file per rule set (data only)."""
