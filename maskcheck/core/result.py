@@ -55,13 +55,16 @@ def combine_verdicts(verdicts) -> str:
 class Curve:
     """Measured level and limit along a region, for plots (not in the JSON).
 
-    ``level_dbm`` is the power in the rule's reference bandwidth (or the
-    reading itself where the RBW was wider); ``limit_dbm`` the limit there.
+    For a region, ``level_dbm`` is the power in the rule's reference
+    bandwidth (or the reading itself where the RBW was wider) and
+    ``limit_dbm`` the limit there.  For the whole trace (``CheckResult.trace``)
+    ``level_dbm`` is each point's reading in its own RBW and ``limit_dbm`` is
+    None.
     """
 
     freq_hz: np.ndarray
     level_dbm: np.ndarray
-    limit_dbm: np.ndarray
+    limit_dbm: np.ndarray | None = None
 
 
 @dataclass

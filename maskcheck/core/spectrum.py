@@ -93,6 +93,10 @@ class Spectrum:
     segments : sequence of int, optional
         Index of the first point of each span after the first (see
         :func:`stitch`).  Empty for a single span.
+    span_edges_hz : sequence of (float or None, float or None), optional
+        Explicit outer cell edges of each span, Hz (None keeps the natural
+        edge).  :func:`stitch` sets them where it trims a span against a
+        narrower-RBW one, so the two meet without a gap or an overlap.
     """
 
     freq_hz: np.ndarray
@@ -102,6 +106,7 @@ class Spectrum:
     detector: str = "unknown"
     reference: Mapping = field(default_factory=dict)
     segments: tuple[int, ...] = ()
+    span_edges_hz: tuple = ()
 
     def __post_init__(self):
         f = _as_1d("freq_hz", self.freq_hz)
@@ -135,6 +140,24 @@ class Spectrum:
         segs = tuple(int(s) for s in self.segments)
         if any(not 0 < s < n for s in segs) or list(segs) != sorted(set(segs)):
             raise SpectrumError(f"segments={segs} must be increasing indices inside 1..{n - 1}")
+        nspans = len(segs) + 1
+        edges = tuple(self.span_edges_hz)
+        if edges:
+            if len(edges) != nspans:
+                raise SpectrumError(f"span_edges_hz has {len(edges)} entries, expected one per span ({nspans})")
+            bounds = (0, *segs, n)
+            clean = []
+            for k, (lo, hi) in enumerate(edges):
+                a, b = bounds[k], bounds[k + 1]
+                if lo is not None and not (np.isfinite(lo) and lo <= f[a]):
+                    raise SpectrumError(f"span {k}: lower edge {lo!r} Hz must be <= its first point {f[a]!r} Hz")
+                if hi is not None and not (np.isfinite(hi) and hi >= f[b - 1]):
+                    raise SpectrumError(f"span {k}: upper edge {hi!r} Hz must be >= its last point {f[b - 1]!r} Hz")
+                clean.append((None if lo is None else float(lo), None if hi is None else float(hi)))
+            edges = tuple(clean)
+            if all(e == (None, None) for e in edges):
+                edges = ()
+        object.__setattr__(self, "span_edges_hz", edges)
         for arr in (f, p, rbw, enbw):
             arr.flags.writeable = False
         object.__setattr__(self, "freq_hz", f)
@@ -162,17 +185,23 @@ class Spectrum:
         """Lower and upper edge of each point's cell, Hz (two arrays of len n)."""
         lo = np.empty(len(self))
         hi = np.empty(len(self))
-        for a, b in self._spans():
+        for k, (a, b) in enumerate(self._spans()):
             f = self.freq_hz[a:b]
             if b - a == 1:
                 half = self.rbw_hz[a] / 2.0
                 lo[a], hi[a] = f[0] - half, f[0] + half
-                continue
-            mid = (f[1:] + f[:-1]) / 2.0
-            lo[a + 1 : b] = mid
-            hi[a : b - 1] = mid
-            lo[a] = f[0] - (f[1] - f[0]) / 2.0
-            hi[b - 1] = f[-1] + (f[-1] - f[-2]) / 2.0
+            else:
+                mid = (f[1:] + f[:-1]) / 2.0
+                lo[a + 1 : b] = mid
+                hi[a : b - 1] = mid
+                lo[a] = f[0] - (f[1] - f[0]) / 2.0
+                hi[b - 1] = f[-1] + (f[-1] - f[-2]) / 2.0
+            if self.span_edges_hz:
+                e_lo, e_hi = self.span_edges_hz[k]
+                if e_lo is not None:
+                    lo[a] = e_lo
+                if e_hi is not None:
+                    hi[b - 1] = e_hi
         return lo, hi
 
     @property
@@ -214,9 +243,9 @@ class Spectrum:
         return missing
 
     # -- power in bands --------------------------------------------------------
-    def _cumulative(self):
+    def _cumulative(self, weight=None):
         lo, hi = self.cell_edges_hz
-        cp = self.power_w * (hi - lo) / self.enbw_hz
+        cp = self.power_w * (hi - lo) / self.enbw_hz if weight is None else weight(lo, hi)
         # piecewise-linear cumulative power over the concatenated cells; a gap
         # between spans adds no power.
         x = np.empty(2 * len(self))
@@ -244,16 +273,30 @@ class Spectrum:
         """Power of the whole spectrum, W (sum of the cell powers)."""
         return float(self.cell_power_w.sum())
 
-    def sliding_power_w(self, bandwidth_hz) -> np.ndarray:
-        """Power in a band of ``bandwidth_hz`` centred on each point, W.
+    def band_powers_w(self, centre_hz, bandwidth_hz) -> np.ndarray:
+        """Power in bands of ``bandwidth_hz`` centred on ``centre_hz``, W (arrays broadcast).
 
         This is the integration that rules allow when the measurement RBW is
-        narrower than the reference bandwidth.  ``bandwidth_hz`` may be one
-        value or one per point.
+        narrower than the reference bandwidth.  Parts of a band without data
+        contribute nothing (see :meth:`band_coverages_hz`).
         """
-        bw = np.broadcast_to(np.asarray(bandwidth_hz, dtype=float), self.freq_hz.shape)
+        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
         x, c = self._cumulative()
-        return np.interp(self.freq_hz + bw / 2.0, x, c) - np.interp(self.freq_hz - bw / 2.0, x, c)
+        return np.interp(c0 + bw / 2.0, x, c) - np.interp(c0 - bw / 2.0, x, c)
+
+    def band_coverages_hz(self, centre_hz, bandwidth_hz) -> np.ndarray:
+        """How much of each band of :meth:`band_powers_w` has data, Hz.
+
+        Equal to the bandwidth except near the ends of spans; used to tell a
+        band that was only partly measured.
+        """
+        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
+        x, c = self._cumulative(lambda lo, hi: hi - lo)
+        return np.interp(c0 + bw / 2.0, x, c) - np.interp(c0 - bw / 2.0, x, c)
+
+    def sliding_power_w(self, bandwidth_hz) -> np.ndarray:
+        """Power in a band of ``bandwidth_hz`` centred on each point, W."""
+        return self.band_powers_w(self.freq_hz, bandwidth_hz)
 
     # -- slicing -----------------------------------------------------------------
     def between(self, start_hz: float, stop_hz: float) -> "Spectrum":
@@ -266,6 +309,14 @@ class Spectrum:
                 f"(the spectrum covers {self.freq_hz[0]:g} to {self.freq_hz[-1]:g} Hz)"
             )
         segs = tuple(s - i0 for s in self.segments if i0 < s < i1)
+        edges = ()
+        if self.span_edges_hz:
+            edges = []
+            for k, (a, b) in enumerate(self._spans()):
+                if b <= i0 or a >= i1:
+                    continue
+                e_lo, e_hi = self.span_edges_hz[k]
+                edges.append((e_lo if a >= i0 else None, e_hi if b <= i1 else None))
         return Spectrum(
             self.freq_hz[i0:i1],
             self.power_w[i0:i1],
@@ -274,6 +325,7 @@ class Spectrum:
             detector=self.detector,
             reference=self.reference,
             segments=segs,
+            span_edges_hz=tuple(edges),
         )
 
     def scaled(self, gain_db: float) -> "Spectrum":
@@ -286,40 +338,104 @@ class Spectrum:
             detector=self.detector,
             reference=self.reference,
             segments=self.segments,
+            span_edges_hz=self.span_edges_hz,
         )
 
 
 def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
     """Join several spans into one Spectrum.
 
-    Spans are ordered by frequency; they must not overlap (an overlap would
-    count its power twice and make the reading ambiguous) and must share one
-    detector.  Gaps between spans stay gaps (see :attr:`Spectrum.coverage_hz`).
+    Where spans overlap, the span with the narrower resolution bandwidth wins
+    and the wider one is trimmed there: a zoom span taken around the carrier
+    with a narrow RBW replaces the overview sweep across it (common practice,
+    no published source).  Overlapping spans with the same RBW are
+    ambiguous and an error.  All spans must share one detector.  Gaps between
+    spans stay gaps (see :attr:`Spectrum.coverage_hz`).
     """
-    spectra = sorted(spectra, key=lambda s: s.freq_hz[0])
+    spectra = list(spectra)
     if not spectra:
         raise SpectrumError("stitch needs at least one spectrum")
+    if len(spectra) == 1:
+        return spectra[0]
     detectors = {s.detector for s in spectra}
     if len(detectors) > 1:
         raise SpectrumError(f"cannot stitch spans with different detectors: {', '.join(sorted(detectors))}")
-    for a, b in zip(spectra, spectra[1:]):
-        if b.freq_hz[0] <= a.freq_hz[-1]:
-            raise SpectrumError(
-                f"spans overlap: one ends at {a.freq_hz[-1]:g} Hz, the next starts at {b.freq_hz[0]:g} Hz"
+    # narrowest RBW first: it keeps all its points
+    order = sorted(range(len(spectra)), key=lambda i: float(np.median(spectra[i].rbw_hz)))
+    taken: list[tuple[float, float, float]] = []  # (lo, hi, rbw) already covered
+    pieces = []
+    notes = []
+    for i in order:
+        s = spectra[i]
+        rbw = float(np.median(s.rbw_hz))
+        keep = np.ones(len(s), bool)
+        for lo, hi, other_rbw in taken:
+            inside = (s.freq_hz >= lo) & (s.freq_hz <= hi)
+            if inside.any():
+                if other_rbw == rbw:
+                    raise SpectrumError(
+                        f"spans overlap between {max(lo, s.freq_hz[0]):g} Hz and {min(hi, s.freq_hz[-1]):g} Hz "
+                        f"with the same RBW ({rbw:g} Hz): which one to use is ambiguous"
+                    )
+                keep &= ~inside
+        if not keep.any():
+            raise SpectrumError(f"a span from {s.freq_hz[0]:g} to {s.freq_hz[-1]:g} Hz lies wholly inside a narrower-RBW span")
+        if not keep.all():
+            notes.append(
+                f"span {s.reference.get('source', i)} trimmed where a narrower-RBW span covers it"
             )
-    segs, offset = [], 0
-    for s in spectra:
+        # each run of kept points becomes a span of its own; where a run was
+        # cut against a narrower span, its outer cell meets that span's edge
+        s_lo, s_hi = s.cell_edges_hz
+        runs = np.flatnonzero(np.diff(np.concatenate(([0], keep.astype(np.int8), [0]))))
+        for a, b in zip(runs[0::2], runs[1::2]):
+            a, b = int(a), int(b)
+            e_lo = e_hi = None
+            if a > 0:  # cut below: meet the covered interval that ends below this run
+                e_lo = max(hi for lo, hi, _ in taken if hi <= s.freq_hz[a])
+            elif s.span_edges_hz:
+                e_lo = s.span_edges_hz[0][0]
+            if b < len(s):
+                e_hi = min(lo for lo, hi, _ in taken if lo >= s.freq_hz[b - 1])
+            elif s.span_edges_hz:
+                e_hi = s.span_edges_hz[-1][1]
+            if e_lo is not None and e_lo > s.freq_hz[a]:
+                e_lo = None
+            if e_hi is not None and e_hi < s.freq_hz[b - 1]:
+                e_hi = None
+            if e_lo is not None:
+                # never stretch a cell by more than two of its own widths: a
+                # larger hole stays a hole (and shows as uncovered)
+                e_lo = max(e_lo, float(s_lo[a]) - float(s_hi[a] - s_lo[a]) * 2)
+            if e_hi is not None:
+                e_hi = min(e_hi, float(s_hi[b - 1]) + float(s_hi[b - 1] - s_lo[b - 1]) * 2)
+            pieces.append((s, a, b, e_lo, e_hi))
+        for a, b in s.coverage_hz:
+            taken.append((a, b, rbw))
+    pieces.sort(key=lambda t: t[0].freq_hz[t[1]])
+    segs, offset, edges = [], 0, []
+    arrays = {k: [] for k in ("f", "p", "r", "e")}
+    for s, a, b, e_lo, e_hi in pieces:
         if offset:
             segs.append(offset)
-        segs.extend(offset + k for k in s.segments)
-        offset += len(s)
+        inner = [k for k in s.segments if a < k < b]
+        if inner:
+            raise SpectrumError("stitching spectra that are themselves stitched is not supported; stitch all spans at once")
+        edges.append((e_lo, e_hi))
+        arrays["f"].append(s.freq_hz[a:b])
+        arrays["p"].append(s.power_w[a:b])
+        arrays["r"].append(s.rbw_hz[a:b])
+        arrays["e"].append(s.enbw_hz[a:b])
+        offset += b - a
     sources = [s.reference.get("source") for s in spectra if s.reference.get("source")]
+    ref = {"sources": sources, "notes": notes} if sources or notes else {}
     return Spectrum(
-        np.concatenate([s.freq_hz for s in spectra]),
-        np.concatenate([s.power_w for s in spectra]),
-        np.concatenate([s.rbw_hz for s in spectra]),
-        np.concatenate([s.enbw_hz for s in spectra]),
+        np.concatenate(arrays["f"]),
+        np.concatenate(arrays["p"]),
+        np.concatenate(arrays["r"]),
+        np.concatenate(arrays["e"]),
         detector=spectra[0].detector,
-        reference={"sources": sources} if sources else {},
+        reference=ref,
         segments=tuple(segs),
+        span_edges_hz=tuple(edges),
     )

@@ -1,0 +1,63 @@
+"""What the checker must know that the spectrum does not say."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from ..errors import StationError
+
+__all__ = ["Station"]
+
+
+@dataclass(frozen=True)
+class Station:
+    """The transmitter under test.
+
+    Parameters
+    ----------
+    carrier_hz : float
+        Carrier (assigned) frequency, Hz.
+    power_w : float, optional
+        Mean power at the antenna port, W.  When omitted, the check takes the
+        channel power measured around the carrier (the trace must then
+        represent the transmitter output, corrections applied).
+    pep_w : float, optional
+        Peak envelope power at the antenna port, W (needed by PEP-referenced
+        rules; without it the mean power stands in, which is conservative).
+    designator : str, optional
+        Emission designator, e.g. ``"2K70J3E"`` (recorded; used by later releases).
+    name : str, optional
+        A label for reports.
+    """
+
+    carrier_hz: float
+    power_w: float | None = None
+    pep_w: float | None = None
+    designator: str | None = None
+    name: str = ""
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+    def __post_init__(self):
+        if not (isinstance(self.carrier_hz, (int, float)) and math.isfinite(self.carrier_hz) and self.carrier_hz > 0):
+            raise StationError(f"carrier_hz={self.carrier_hz!r} must be a finite frequency > 0", where="--carrier")
+        for name in ("power_w", "pep_w"):
+            v = getattr(self, name)
+            if v is not None and not (math.isfinite(v) and v > 0):
+                opt = "--power" if name == "power_w" else "--pep"
+                raise StationError(f"{name}={v!r} must be a finite power > 0", where=opt)
+        if self.power_w is not None and self.pep_w is not None and self.pep_w < self.power_w * (1 - 1e-9):
+            raise StationError(
+                f"PEP ({self.pep_w:g} W) is below the mean power ({self.power_w:g} W); PEP is never below the mean",
+                where="--pep",
+            )
+
+    def to_dict(self) -> dict:
+        return {
+            "carrier_hz": self.carrier_hz,
+            "power_w": self.power_w,
+            "pep_w": self.pep_w,
+            "designator": self.designator,
+            "name": self.name,
+            "notes": list(self.notes),
+        }

@@ -1,0 +1,105 @@
+"""Spectrum validation, channel power and stitching."""
+
+import numpy as np
+import pytest
+
+from maskcheck.core.spectrum import Spectrum, stitch
+from maskcheck.errors import SpectrumError
+
+
+def test_invalid_arrays_are_errors_never_fixed():
+    # Common practice, no published source: NaN, inf, <= 0 power and unsorted axes are refused
+    f = np.arange(5.0)
+    with pytest.raises(SpectrumError, match="not finite"):
+        Spectrum(f, [1, 1, np.nan, 1, 1], 1.0)
+    with pytest.raises(SpectrumError, match="not finite"):
+        Spectrum(f, [1, 1, np.inf, 1, 1], 1.0)
+    with pytest.raises(SpectrumError, match="must be > 0"):
+        Spectrum(f, [1, 1, 0, 1, 1], 1.0)
+    with pytest.raises(SpectrumError, match="does not increase"):
+        Spectrum([0, 1, 1, 2, 3], np.ones(5), 1.0)
+    with pytest.raises(SpectrumError, match="rbw_hz"):
+        Spectrum(f, np.ones(5), -1.0)
+    with pytest.raises(SpectrumError, match="detector"):
+        Spectrum(f, np.ones(5), 1.0, detector="magic")
+    with pytest.raises(SpectrumError, match="4 values, expected 5"):
+        Spectrum(f, np.ones(4), 1.0)
+
+
+def test_arrays_are_read_only():
+    s = Spectrum(np.arange(3.0), np.ones(3), 1.0)
+    with pytest.raises(ValueError):
+        s.power_w[0] = 5.0
+
+
+def test_channel_power_of_flat_noise_scales_with_bandwidth():
+    # Closed form: density N0 over B gives N0*B; readings are N0*RBW per point
+    n0 = 1e-12  # W/Hz
+    rbw = 1000.0
+    f = np.arange(0.0, 1e6, 500.0)
+    s = Spectrum(f, np.full(f.size, n0 * rbw), rbw)
+    assert s.band_power_w(100e3, 200e3) == pytest.approx(n0 * 100e3, rel=1e-12)
+    # prorated inside a cell
+    assert s.band_power_w(100e3, 100e3 + 123.0) == pytest.approx(n0 * 123.0, rel=1e-9)
+    assert s.sliding_power_w(10e3)[1000] == pytest.approx(n0 * 10e3, rel=1e-12)
+
+
+def test_cw_line_through_gaussian_filter_integrates_to_its_power():
+    # Closed form: ENBW of a Gaussian filter = sqrt(pi/(4 ln 2)) * B3dB (methods sheet 1.4);
+    # summing readings x spacing / ENBW returns the line's power.
+    b3 = 1000.0
+    enbw = np.sqrt(np.pi / (4 * np.log(2))) * b3
+    f = np.arange(-20e3, 20e3, 50.0)
+    p = 2.0 * np.exp(-4 * np.log(2) * f**2 / b3**2) + 1e-20
+    s = Spectrum(f, p, b3, enbw_hz=enbw)
+    assert s.band_power_w(-10e3, 10e3) == pytest.approx(2.0, rel=1e-9)
+
+
+def test_uncovered_parts_and_gaps():
+    a = Spectrum(np.arange(0.0, 100.0), np.ones(100), 1.0)
+    b = Spectrum(np.arange(200.0, 300.0), np.ones(100), 1.0)
+    s = stitch([b, a])
+    assert s.coverage_hz == [(-0.5, 99.5), (199.5, 299.5)]
+    assert s.uncovered_hz(0, 250) == [(99.5, 199.5)]
+    assert s.uncovered_hz(-10, 350) == [(-10, -0.5), (99.5, 199.5), (299.5, 350)]
+    # the gap holds no power
+    assert s.band_power_w(50, 250) == pytest.approx(50.0 + 50.0, rel=1e-12)
+
+
+def test_stitch_prefers_the_narrower_rbw_and_leaves_no_gap_or_overlap():
+    # Common practice, no published source: a zoom span replaces the overview where they overlap
+    n0 = 1e-15
+    wide = Spectrum(np.arange(0.0, 1e6, 5e3), np.full(200, n0 * 10e3), 10e3, reference={"source": "wide"})
+    zoom = Spectrum(np.arange(4.0e5, 6.0e5, 50.0), np.full(4000, n0 * 100.0), 100.0, reference={"source": "zoom"})
+    s = stitch([wide, zoom])
+    assert s.uncovered_hz(0, 9.9e5) == []
+    cov = s.coverage_hz
+    for (a0, a1), (b0, b1) in zip(cov, cov[1:]):
+        assert a1 == pytest.approx(b0)
+    # flat density survives stitching: no power counted twice or lost
+    assert s.band_power_w(1e5, 9e5) == pytest.approx(n0 * 8e5, rel=1e-9)
+    assert "trimmed" in s.reference["notes"][0]
+
+
+def test_stitch_refuses_ambiguous_overlap_and_mixed_detectors():
+    a = Spectrum(np.arange(0.0, 100.0), np.ones(100), 1.0)
+    b = Spectrum(np.arange(50.0, 150.0), np.ones(100), 1.0)
+    with pytest.raises(SpectrumError, match="ambiguous"):
+        stitch([a, b])
+    c = Spectrum(np.arange(200.0, 300.0), np.ones(100), 1.0, detector="peak")
+    with pytest.raises(SpectrumError, match="detectors"):
+        stitch([a, c])
+
+
+def test_between_keeps_metadata_and_rejects_empty():
+    s = Spectrum(np.arange(10.0), np.ones(10), 1.0, detector="rms", reference={"source": "x"})
+    t = s.between(2, 5)
+    assert list(t.freq_hz) == [2, 3, 4, 5] and t.detector == "rms" and t.reference["source"] == "x"
+    with pytest.raises(SpectrumError, match="no points"):
+        s.between(20, 30)
+
+
+def test_scaling_moves_levels_exactly():
+    # Closed form: scaling power by x dB adds x dB to every level
+    s = Spectrum(np.arange(10.0), np.linspace(1, 2, 10), 1.0)
+    np.testing.assert_allclose(s.scaled(7.5).level_dbm - s.level_dbm, 7.5, atol=1e-12)
