@@ -158,6 +158,7 @@ class Spectrum:
             if all(e == (None, None) for e in edges):
                 edges = ()
         object.__setattr__(self, "span_edges_hz", edges)
+
         for arr in (f, p, rbw, enbw):
             arr.flags.writeable = False
         object.__setattr__(self, "freq_hz", f)
@@ -166,6 +167,14 @@ class Spectrum:
         object.__setattr__(self, "enbw_hz", enbw)
         object.__setattr__(self, "segments", segs)
         object.__setattr__(self, "reference", MappingProxyType(dict(self.reference)))
+        if segs:
+            lo, hi = self.cell_edges_hz
+            for k in segs:
+                if hi[k - 1] > lo[k] + 1e-9 * max(1.0, abs(lo[k])):
+                    raise SpectrumError(
+                        f"spans overlap: the cell of {f[k - 1]:g} Hz reaches {hi[k - 1]:g} Hz, past the start "
+                        f"{lo[k]:g} Hz of the next span (join spans with stitch())"
+                    )
 
     # -- basic views ---------------------------------------------------------
     def __len__(self) -> int:
@@ -413,6 +422,26 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
         for a, b in s.coverage_hz:
             taken.append((a, b, rbw))
     pieces.sort(key=lambda t: t[0].freq_hz[t[1]])
+    # neighbouring pieces whose outer cells overlap meet at one edge: the
+    # narrower-RBW piece keeps its cell, the other yields (equal RBW: midway)
+    pieces = [list(t) for t in pieces]
+    for left, right in zip(pieces, pieces[1:]):
+        ls, la, lb, _, l_hi = left
+        rs, ra, rb, r_lo, _ = right
+        lh = l_hi if l_hi is not None else float(ls.cell_edges_hz[1][lb - 1])
+        rl = r_lo if r_lo is not None else float(rs.cell_edges_hz[0][ra])
+        if lh <= rl:
+            continue
+        l_rbw, r_rbw = float(ls.rbw_hz[lb - 1]), float(rs.rbw_hz[ra])
+        if l_rbw < r_rbw:
+            meet = lh
+        elif r_rbw < l_rbw:
+            meet = rl
+        else:
+            meet = (float(ls.freq_hz[lb - 1]) + float(rs.freq_hz[ra])) / 2.0
+        meet = min(max(meet, float(ls.freq_hz[lb - 1])), float(rs.freq_hz[ra]))
+        left[4] = meet
+        right[3] = meet
     segs, offset, edges = [], 0, []
     arrays = {k: [] for k in ("f", "p", "r", "e")}
     for s, a, b, e_lo, e_hi in pieces:
