@@ -1,0 +1,51 @@
+"""Mask files: their schema, the safe limit expressions, the library, evaluation.
+
+A mask is one TOML file per rule set (``docs/mask-format.md`` describes the
+format).  This package reads and validates those files and evaluates a mask
+for one station into plain numbers; comparing a spectrum with them is the
+check's job.
+
+============================  ================================================
+``load_mask``                 a mask by id (built-in or user folders) or by path
+``list_masks``                every mask on the search path, sorted by id
+``validate_mask_file``        read and validate one file (all problems at once)
+``mask_json_schema``          JSON Schema of the mask-file format
+``Mask``                      the validated model of one mask file
+``evaluate_mask``             a mask for one station -> ``RegionLimits`` per region
+``RegionLimits``              range, detector, reference bandwidths, limit in W
+``reference_power_w``         the power relative limits are below, with its note
+``applies_to``                is a carrier inside the mask's range, and why
+``fundamental_exclusion_hz``  the default half-width skipped around the carrier
+``compile_expression``        the whitelisted expression compiler
+``Expression``                a compiled expression (``evaluate``, ``names``)
+``MASK_SCHEMA_VERSION``       newest ``schema_version`` this release reads
+============================  ================================================
+"""
+
+from .._version import MASK_SCHEMA_VERSION
+from .evaluate import (
+    RegionLimits,
+    applies_to,
+    evaluate_mask,
+    fundamental_exclusion_hz,
+    reference_power_w,
+)
+from .expr import Expression, compile_expression
+from .library import list_masks, load_mask, validate_mask_file
+from .schema import Mask, mask_json_schema
+
+__all__ = [
+    "MASK_SCHEMA_VERSION",
+    "load_mask",
+    "list_masks",
+    "validate_mask_file",
+    "mask_json_schema",
+    "Mask",
+    "evaluate_mask",
+    "RegionLimits",
+    "reference_power_w",
+    "applies_to",
+    "fundamental_exclusion_hz",
+    "compile_expression",
+    "Expression",
+]

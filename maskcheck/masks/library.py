@@ -1,0 +1,275 @@
+"""Finding, reading and validating mask files.
+
+The built-in library is the package data of ``maskcheck.mask_library`` (the
+``masks/`` folder of the repository), found with :mod:`importlib.resources`.
+People add their own folders with ``extra_dirs`` (a command-line option) or
+the environment variable ``MASKCHECK_MASK_PATH`` (folders separated by
+``os.pathsep``).  Every ``*.toml`` file directly inside a folder is a mask.
+
+Every problem of a mask file is reported at once: one
+:class:`~maskcheck.errors.MaskError` whose ``problems`` list has one line per
+problem, each naming the file and the TOML key path::
+
+    my.toml: regions[0].limit.attenuation_db: in expression ...
+    my.toml: regions[0].limt: unknown key 'limt'; this table takes: name, kind, ...
+
+References
+----------
+.. [1] Python standard library: ``tomllib`` (TOML 1.0), ``hashlib.sha256``,
+   ``importlib.resources.files``.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import os
+import re
+import tomllib
+from collections.abc import Iterable
+from importlib import resources
+from pathlib import Path
+
+from pydantic import ValidationError
+
+from ..errors import MaskError
+from .schema import Mask, keys_at
+
+__all__ = [
+    "ENV_VAR",
+    "builtin_dir",
+    "search_dirs",
+    "validate_mask_file",
+    "list_masks",
+    "load_mask",
+]
+
+#: Environment variable with extra mask folders (``os.pathsep``-separated).
+ENV_VAR = "MASKCHECK_MASK_PATH"
+
+_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
+_TOML_EOF = re.compile(r"\s*\(at end of document\)\s*$")
+
+
+def builtin_dir():
+    """The folder of the built-in mask library (a Traversable)."""
+    return resources.files("maskcheck.mask_library")
+
+
+def search_dirs(extra_dirs: Iterable[os.PathLike | str] = ()) -> list:
+    """Folders searched for masks: built-in first, then ``extra_dirs``, then the environment.
+
+    Raises
+    ------
+    MaskError
+        If a folder given by the caller or by ``MASKCHECK_MASK_PATH`` does not
+        exist (a typo would otherwise hide a mask silently).
+    """
+    dirs: list = [builtin_dir()]
+    problems = []
+    given = [(Path(d), "a mask folder option") for d in extra_dirs]
+    env = os.environ.get(ENV_VAR, "")
+    given += [(Path(p), ENV_VAR) for p in env.split(os.pathsep) if p.strip()]
+    for path, origin in given:
+        if not path.is_dir():
+            problems.append(f"{path}: the mask folder named by {origin} is not a folder that exists")
+        elif path not in dirs:
+            dirs.append(path)
+    if problems:
+        raise _combined(problems, path=None)
+    return dirs
+
+
+def _combined(problems: list[str], path) -> MaskError:
+    if len(problems) == 1:
+        only = problems[0]
+        message = only[len(str(path)) + 2 :] if path is not None and only.startswith(f"{path}: ") else only
+        return MaskError(message, path=path, problems=problems)
+    header = f"{len(problems)} problems in mask files:" if path is None else f"{len(problems)} problems:"
+    return MaskError(header + "\n" + "\n".join(problems), path=path, problems=problems)
+
+
+def _single(message: str, *, path, where=None) -> MaskError:
+    error = MaskError(message, path=path, where=where)
+    error.problems = [str(error)]
+    return error
+
+
+def _key_path(loc: tuple) -> str:
+    out = ""
+    for part in loc:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += f".{part}" if out else str(part)
+    return out or "(top level)"
+
+
+def _message(error: dict) -> str:
+    kind = error.get("type")
+    loc = tuple(error.get("loc", ()))
+    if kind == "extra_forbidden":
+        keys = keys_at(loc[:-1])
+        allowed = f"; this table takes: {', '.join(keys)}" if keys else ""
+        return f"unknown key {loc[-1]!r}{allowed}"
+    if kind == "missing":
+        return "required key is missing"
+    if kind in ("model_type", "dataclass_type") or kind == "model_attributes_type":
+        return f"expected a table, found {type(error.get('input')).__name__} {error.get('input')!r}"
+    msg = error.get("msg", "")
+    if kind not in ("mask_value", "mask_rule") and "input" in error and not isinstance(error["input"], (dict, list)):
+        msg = f"{msg} (found {error['input']!r})"
+    return msg
+
+
+def _validation_problems(exc: ValidationError, label: str) -> list[str]:
+    errors = exc.errors(include_url=False)
+    locs = [tuple(e.get("loc", ())) for e in errors]
+    problems = []
+    for error, loc in zip(errors, locs):
+        # A list that lost an invalid item then reports "too short": noise, drop it.
+        if error.get("type") == "too_short" and any(other[: len(loc)] == loc and other != loc for other in locs):
+            continue
+        problems.append(f"{label}: {_key_path(loc)}: {_message(error)}")
+    return problems
+
+
+def _read(source) -> tuple[bytes, str]:
+    label = str(source)
+    try:
+        data = source.read_bytes()
+    except OSError as exc:
+        raise _single(f"cannot read the mask file ({exc.strerror or exc})", path=label) from None
+    return data, label
+
+
+def _parse(data: bytes, label: str) -> Mask:
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise _single(f"byte {exc.start} is not UTF-8; mask files are UTF-8 text", path=label) from None
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        message = str(exc)
+        m = _TOML_POSITION.search(message)
+        if m:
+            where = f"line {m.group(1)}, column {m.group(2)}"
+            message = message[: m.start()]
+        elif _TOML_EOF.search(message):
+            where = f"line {text.count(chr(10)) + 1} (end of file)"
+            message = _TOML_EOF.sub("", message)
+        else:
+            where = None
+        raise _single(f"TOML syntax error: {message}", path=label, where=where) from None
+    try:
+        mask = Mask.model_validate(raw)
+    except ValidationError as exc:
+        raise _combined(_validation_problems(exc, label), path=label) from None
+    mask._path = label
+    mask._sha256 = hashlib.sha256(data).hexdigest()
+    return mask
+
+
+def validate_mask_file(path: os.PathLike | str) -> Mask:
+    """Read and validate one mask file.
+
+    Parameters
+    ----------
+    path : path-like
+        A TOML mask file.
+
+    Returns
+    -------
+    Mask
+        With :attr:`~maskcheck.masks.schema.Mask.path` and
+        :attr:`~maskcheck.masks.schema.Mask.sha256` recorded.
+
+    Raises
+    ------
+    MaskError
+        Naming the file and the line (TOML syntax) or key path of every problem.
+    """
+    source = Path(path)
+    data, label = _read(source)
+    return _parse(data, label)
+
+
+def _files(folder) -> list:
+    return sorted((f for f in folder.iterdir() if f.name.endswith(".toml") and f.is_file()), key=lambda f: f.name)
+
+
+def list_masks(extra_dirs: Iterable[os.PathLike | str] = ()) -> list[Mask]:
+    """Every mask in the built-in library and the user folders, sorted by id.
+
+    Raises
+    ------
+    MaskError
+        With every problem of every file at once, including an id used by two
+        files (both files named).
+    """
+    problems: list[str] = []
+    masks: list[Mask] = []
+    first_file: dict[str, str] = {}
+    for folder in search_dirs(extra_dirs):
+        for source in _files(folder):
+            try:
+                data, label = _read(source)
+                mask = _parse(data, label)
+            except MaskError as exc:
+                problems.extend(_as_lines(exc))
+                continue
+            if mask.id in first_file:
+                problems.append(
+                    f"{label}: id: the id {mask.id!r} is already used by {first_file[mask.id]}; "
+                    "mask ids must be unique across all mask folders"
+                )
+                continue
+            first_file[mask.id] = label
+            masks.append(mask)
+    if problems:
+        raise _combined(problems, path=None)
+    return sorted(masks, key=lambda m: m.id)
+
+
+def _as_lines(exc: MaskError) -> list[str]:
+    return list(exc.problems) if exc.problems else [str(exc)]
+
+
+def _looks_like_path(text: str) -> bool:
+    return text.endswith(".toml") or os.sep in text or "/" in text or (os.altsep or "/") in text
+
+
+def load_mask(id_or_path: os.PathLike | str, *, extra_dirs: Iterable[os.PathLike | str] = ()) -> Mask:
+    """Load a mask by id (searched in all mask folders) or by file path.
+
+    Parameters
+    ----------
+    id_or_path : str or path-like
+        A mask id such as ``"us-amateur-hf-2003"``, or the path of a TOML file.
+    extra_dirs : iterable of path-like
+        Folders searched after the built-in library (before
+        ``MASKCHECK_MASK_PATH``).
+
+    Raises
+    ------
+    MaskError
+        If the id is unknown (the closest ids are suggested), or any mask file
+        on the search path is invalid, or two files share an id.
+
+    Examples
+    --------
+    >>> load_mask("us-amateur-hf-2003").provenance.citation
+    '47 CFR 97.307(d)'
+    """
+    if isinstance(id_or_path, os.PathLike) or _looks_like_path(str(id_or_path)):
+        return validate_mask_file(id_or_path)
+    wanted = str(id_or_path)
+    masks = list_masks(extra_dirs)
+    for mask in masks:
+        if mask.id == wanted:
+            return mask
+    ids = [m.id for m in masks]
+    close = difflib.get_close_matches(wanted, ids, n=3)
+    hint = f" (did you mean {', '.join(close)}?)" if close else ""
+    raise MaskError(f"no mask with id {wanted!r}{hint}; known ids: {', '.join(ids) or '(none)'}")

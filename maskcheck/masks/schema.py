@@ -1,0 +1,517 @@
+"""The mask-file format (``schema_version = 1``) as pydantic models.
+
+A mask file is TOML; :mod:`maskcheck.masks.library` reads it and validates it
+with :class:`Mask`.  Every table forbids unknown keys, so a misspelt key is an
+error, not a silently ignored line.  The prose description for people who
+write masks is ``docs/mask-format.md``; :func:`mask_json_schema` gives the same
+structure as JSON Schema.
+
+Values that people type
+-----------------------
+Frequencies, powers and attenuations are :class:`Value` objects.  A file may
+give each one as
+
+* a number in SI units (Hz, W, dB, dBm): ``start = 9000``;
+* a quantity string: ``start = "9 kHz"``, ``level_w = "50 mW"``,
+  ``attenuation_db = "43 dB"``;
+* an expression (see :mod:`maskcheck.masks.expr`) in the same SI unit, using
+  the variables of :data:`VARIABLES`: ``stop = "min(10 * carrier_hz, 40e9)"``.
+
+Quantities and constants are checked when the file loads; expressions are
+compiled when the file loads and evaluated when a station is known
+(:mod:`maskcheck.masks.evaluate`).
+
+References
+----------
+.. [1] TOML v1.0.0 specification (tables, arrays of tables).
+.. [2] pydantic v2 documentation, "Models", "Validators" and "JSON Schema".
+"""
+
+from __future__ import annotations
+
+import re
+import typing
+from dataclasses import dataclass
+from typing import Annotated, Literal
+
+import numpy as np
+from pydantic import (
+    BaseModel,
+    ConfigDict,
+    Field,
+    PlainSerializer,
+    PlainValidator,
+    PrivateAttr,
+    StrictBool,
+    StrictInt,
+    WithJsonSchema,
+    field_validator,
+    model_validator,
+)
+from pydantic_core import PydanticCustomError
+
+from .._version import MASK_SCHEMA_VERSION
+from ..core.result import MaskInfo
+from ..core.units import format_frequency, parse_db, parse_frequency, parse_power, w_to_dbm
+from ..errors import MaskcheckError, MaskError
+from .expr import Expression, compile_expression
+
+__all__ = [
+    "VARIABLES",
+    "REGION_KINDS",
+    "DETECTORS",
+    "REFERENCE_POWER_KINDS",
+    "Value",
+    "parse_value",
+    "Provenance",
+    "Applies",
+    "ReferencePowerSpec",
+    "Fundamental",
+    "ReferenceBand",
+    "Limit",
+    "Region",
+    "Mask",
+    "keys_at",
+    "mask_json_schema",
+]
+
+#: Variables a v1 expression may use: mean power and PEP at the antenna port
+#: (W), and the carrier (assigned) frequency (Hz).
+VARIABLES: tuple[str, ...] = ("power_w", "pep_w", "carrier_hz")
+
+#: Region kinds known to schema v1.
+REGION_KINDS: tuple[str, ...] = ("spurious",)
+
+#: Detectors a region may call for ("any": the rule names none).
+DETECTORS: tuple[str, ...] = ("rms", "average", "peak", "any")
+
+#: What relative limits are taken below.
+REFERENCE_POWER_KINDS: tuple[str, ...] = ("mean", "pep")
+
+_ID_PATTERN = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
+_QUANTITY_SHAPE = re.compile(r"^\s*[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?\s*[^\W\d_]+\s*$")
+# First three classification symbols of an emission designator (RR Appendix 1 / 47 CFR 2.201).
+_EMISSION_CLASS = re.compile(r"^[NAHRJBCFGDPKLMQVWX][0123789X][NABCDEFWX]$")
+
+_FAMILIES = {
+    # family: (SI unit, what a person should write)
+    "frequency": ("Hz", "a frequency such as '9 kHz', a number in Hz, or an expression in Hz"),
+    "fixed_frequency": ("Hz", "a fixed frequency such as '1.8 MHz' or a number in Hz"),
+    "power_w": ("W", "a power such as '50 mW', a number in W, or an expression in W"),
+    "power_dbm": ("dBm", "a level such as '-13 dBm', a number in dBm, or an expression in dBm"),
+    "db": ("dB", "an attenuation such as '43', '43 dB' or an expression in dB"),
+}
+
+
+@dataclass(frozen=True, eq=False)
+class Value:
+    """One number, quantity or expression of a mask file, checked and compiled.
+
+    Attributes
+    ----------
+    raw : int, float or str
+        What the file says, unchanged (kept for reports and round trips).
+    unit : str
+        The SI unit the value is in once evaluated: ``"Hz"``, ``"W"``,
+        ``"dB"`` or ``"dBm"``.
+    expression : Expression
+        The compiled form; for a quantity string this is its SI number.
+    """
+
+    raw: int | float | str
+    unit: str
+    expression: Expression
+
+    @property
+    def text(self) -> str:
+        """The value as written in the file."""
+        return str(self.raw)
+
+    @property
+    def names(self) -> frozenset[str]:
+        """Variables the value depends on."""
+        return self.expression.names
+
+    @property
+    def is_constant(self) -> bool:
+        """True when the value depends on no variable."""
+        return self.expression.is_constant
+
+    def constant(self) -> float:
+        """The value of a constant; raises ``ValueError`` if it has variables."""
+        if not self.is_constant:
+            raise ValueError(f"{self.text!r} depends on {sorted(self.names)}")
+        return float(self.expression.evaluate({}))
+
+    def evaluate(self, variables):
+        """Evaluate in :attr:`unit` (a float, or an array for array variables)."""
+        return self.expression.evaluate(variables)
+
+    def __repr__(self) -> str:
+        return f"Value({self.raw!r} [{self.unit}])"
+
+
+def parse_value(raw, family: str, *, allowed_names=VARIABLES) -> Value:
+    """Check one value of a mask file and compile it.
+
+    Parameters
+    ----------
+    raw : int, float or str
+        The value from the file.
+    family : {"frequency", "fixed_frequency", "power_w", "power_dbm", "db"}
+        What the key holds.  ``fixed_frequency`` allows no variables.
+    allowed_names : iterable of str
+        Variables an expression may use (ignored for ``fixed_frequency``).
+
+    Returns
+    -------
+    Value
+
+    Raises
+    ------
+    MaskcheckError
+        A :class:`~maskcheck.errors.MaskError` or
+        :class:`~maskcheck.errors.UnitError` whose message says what was found
+        and what was expected.
+
+    Examples
+    --------
+    >>> parse_value("9 kHz", "frequency").constant()
+    9000.0
+    >>> parse_value("min(10 * carrier_hz, 40e9)", "frequency").evaluate({"carrier_hz": 7.1e6})
+    71000000.0
+    """
+    unit, expected = _FAMILIES[family]
+    if family == "fixed_frequency":
+        allowed_names = ()
+    if isinstance(raw, bool) or not isinstance(raw, (int, float, str)):
+        raise MaskError(f"found {type(raw).__name__} {raw!r}; expected {expected}")
+    if isinstance(raw, (int, float)):
+        number = float(raw)
+        if not np.isfinite(number):
+            raise MaskError(f"found {raw!r}; expected a finite number ({expected})")
+        return Value(raw, unit, compile_expression(repr(number), ()))
+    if _QUANTITY_SHAPE.match(raw):
+        if family in ("frequency", "fixed_frequency"):
+            number = parse_frequency(raw)
+        elif family == "power_w":
+            number = parse_power(raw)
+        elif family == "power_dbm":
+            number = w_to_dbm(parse_power(raw))
+        else:
+            number = parse_db(raw)
+        return Value(raw, unit, compile_expression(repr(float(number)), ()))
+    return Value(raw, unit, compile_expression(raw, allowed_names))
+
+
+def _value_type(family: str, description: str):
+    def validate(raw):
+        if isinstance(raw, Value):
+            return raw
+        try:
+            return parse_value(raw, family)
+        except MaskcheckError as exc:
+            raise PydanticCustomError("mask_value", "{message}", {"message": exc.message}) from None
+
+    return Annotated[
+        Value,
+        PlainValidator(validate),
+        PlainSerializer(lambda v: v.raw),
+        WithJsonSchema(
+            {
+                "anyOf": [{"type": "number"}, {"type": "string"}],
+                "description": f"{description}: {_FAMILIES[family][1]}",
+            }
+        ),
+    ]
+
+
+Frequency = _value_type("frequency", "frequency")
+FixedFrequency = _value_type("fixed_frequency", "frequency")
+PowerW = _value_type("power_w", "absolute limit")
+PowerDbm = _value_type("power_dbm", "absolute limit")
+AttenuationDb = _value_type("db", "attenuation below the reference power")
+Text = Annotated[str, Field(min_length=1)]
+
+
+def _problem(message: str, **context) -> PydanticCustomError:
+    return PydanticCustomError("mask_rule", "{message}", {"message": message, **context})
+
+
+def _span_text(start: Value, stop: Value) -> str:
+    if start.is_constant and stop.is_constant:
+        return f"{format_frequency(start.constant())} – {format_frequency(stop.constant())}"
+    return f"{start.text} – {stop.text}"
+
+
+class _Table(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+
+
+class Provenance(_Table):
+    """Where the rule comes from and whether its values were checked."""
+
+    authority: Text = Field(description="who makes the rule, e.g. 'FCC', 'ITU'")
+    citation: Text = Field(description="the clause, e.g. '47 CFR 97.307(d)'")
+    edition: Text = Field(description="which text was read (and when), or 'not checked'")
+    verified: StrictBool = Field(description="true only when checked against the official text")
+    measurement_note: str = Field("", description="short note on how to measure")
+
+
+class Applies(_Table):
+    """Which transmissions the mask is for."""
+
+    fundamental: tuple[FixedFrequency, FixedFrequency] = Field(
+        description="carrier range [low, high], inclusive"
+    )
+    emission_classes: tuple[str, ...] = Field(
+        (), description="first three classification symbols, e.g. 'J3E'; empty = any"
+    )
+
+    @field_validator("fundamental")
+    @classmethod
+    def _ordered(cls, value):
+        lo, hi = value[0].constant(), value[1].constant()
+        if not (0 < lo < hi):
+            raise _problem(
+                f"the carrier range {format_frequency(lo)} – {format_frequency(hi)} must have "
+                "0 < low < high"
+            )
+        return value
+
+    @field_validator("emission_classes")
+    @classmethod
+    def _classes(cls, value):
+        for i, item in enumerate(value):
+            if not _EMISSION_CLASS.match(item):
+                raise _problem(
+                    f"[{i}] {item!r} is not an emission class; expected the three classification "
+                    "symbols of an emission designator, e.g. 'J3E', 'F3E', 'A1A'"
+                )
+        return value
+
+
+class ReferencePowerSpec(_Table):
+    """The power relative limits are taken below."""
+
+    kind: Literal["mean", "pep"] = Field(description="'mean' or 'pep' (peak envelope power)")
+
+
+class Fundamental(_Table):
+    """How the checker treats the carrier itself."""
+
+    exclusion: Frequency = Field(
+        description="half-width around the carrier that spurious-region checks skip"
+    )
+    rationale: Text = Field(description="why this width")
+
+
+class ReferenceBand(_Table):
+    """The reference bandwidth the limit is stated in, over one frequency range."""
+
+    start: Frequency
+    stop: Frequency
+    bandwidth: Frequency
+
+    @model_validator(mode="after")
+    def _check(self):
+        if self.start.is_constant and self.stop.is_constant:
+            if not self.start.constant() < self.stop.constant():
+                raise _problem(f"start must be below stop, found {_span_text(self.start, self.stop)}")
+        if self.bandwidth.is_constant and not self.bandwidth.constant() > 0:
+            raise _problem(f"bandwidth must be > 0 Hz, found {self.bandwidth.text!r}")
+        return self
+
+
+class Limit(_Table):
+    """The limit of a region: an attenuation, an absolute level, or both (both must hold)."""
+
+    attenuation_db: AttenuationDb | None = None
+    level_w: PowerW | None = None
+    level_dbm: PowerDbm | None = None
+    description: str | None = Field(None, description="how a report words the limit")
+
+    @model_validator(mode="after")
+    def _check(self):
+        if self.attenuation_db is None and self.level_w is None and self.level_dbm is None:
+            raise _problem("give attenuation_db, level_w or level_dbm (none found)")
+        if self.level_w is not None and self.level_dbm is not None:
+            raise _problem("give level_w or level_dbm, not both")
+        if self.level_w is not None and self.level_w.is_constant and not self.level_w.constant() > 0:
+            raise _problem(f"level_w must be > 0 W, found {self.level_w.text!r}")
+        return self
+
+    @property
+    def level(self) -> Value | None:
+        """The absolute level, whichever key gave it."""
+        return self.level_w if self.level_w is not None else self.level_dbm
+
+
+class Region(_Table):
+    """A frequency range with one limit, detector and reference bandwidths."""
+
+    name: Text
+    kind: Literal["spurious"]
+    start: Frequency
+    stop: Frequency
+    detector: Literal["rms", "average", "peak", "any"]
+    limit: Limit
+    reference_bandwidth: tuple[ReferenceBand, ...] = Field(min_length=1)
+
+    @field_validator("stop")
+    @classmethod
+    def _after_start(cls, stop, info):
+        start = info.data.get("start")
+        if start is not None and start.is_constant and stop.is_constant:
+            if not start.constant() < stop.constant():
+                raise _problem(f"stop must be above start, found {_span_text(start, stop)}")
+        return stop
+
+    @field_validator("reference_bandwidth")
+    @classmethod
+    def _no_overlap(cls, bands):
+        fixed = [
+            (b.start.constant(), b.stop.constant(), i)
+            for i, b in enumerate(bands)
+            if b.start.is_constant and b.stop.is_constant
+        ]
+        fixed.sort()
+        for (a0, a1, i), (b0, b1, j) in zip(fixed, fixed[1:]):
+            if b0 < a1:
+                raise _problem(
+                    f"[{j}] ({format_frequency(b0)} – {format_frequency(b1)}) overlaps "
+                    f"[{i}] ({format_frequency(a0)} – {format_frequency(a1)}); "
+                    "reference-bandwidth ranges may touch but not overlap"
+                )
+        return bands
+
+
+class Mask(_Table):
+    """One validated mask file (schema v1).
+
+    Load it with :func:`maskcheck.masks.load_mask`; the loader records the
+    file's path and SHA-256 (:attr:`path`, :attr:`sha256`).
+    """
+
+    schema_version: StrictInt = Field(description=f"format version; this release reads 1..{MASK_SCHEMA_VERSION}")
+    id: str = Field(description="our own id: lowercase letters, digits and '-'")
+    title: Text
+    service: Text
+    provenance: Provenance
+    applies: Applies
+    reference_power: ReferencePowerSpec
+    fundamental: Fundamental
+    regions: tuple[Region, ...] = Field(min_length=1)
+
+    _path: str = PrivateAttr("")
+    _sha256: str = PrivateAttr("")
+
+    @field_validator("schema_version")
+    @classmethod
+    def _version(cls, value):
+        if value < 1:
+            raise _problem(f"schema_version must be >= 1, found {value}")
+        if value > MASK_SCHEMA_VERSION:
+            raise _problem(
+                f"schema_version {value} is newer than this maskcheck reads "
+                f"(up to {MASK_SCHEMA_VERSION}); upgrade maskcheck"
+            )
+        return value
+
+    @field_validator("id")
+    @classmethod
+    def _id(cls, value):
+        if not _ID_PATTERN.match(value) or len(value) > 80:
+            raise _problem(
+                f"{value!r} is not a mask id; expected lowercase letters, digits and single '-' "
+                "(at most 80 characters), e.g. 'us-amateur-hf-2003'"
+            )
+        return value
+
+    @field_validator("regions")
+    @classmethod
+    def _unique_names(cls, regions):
+        seen: dict[str, int] = {}
+        for i, region in enumerate(regions):
+            if region.name in seen:
+                raise _problem(f"[{i}] repeats the region name {region.name!r} of [{seen[region.name]}]")
+            seen[region.name] = i
+        return regions
+
+    @property
+    def path(self) -> str:
+        """The file the mask was read from ('' if built in memory)."""
+        return self._path
+
+    @property
+    def source_path(self) -> str:
+        """Same as :attr:`path` (the name the result objects use)."""
+        return self._path
+
+    @property
+    def sha256(self) -> str:
+        """SHA-256 (hex) of the file's bytes ('' if built in memory)."""
+        return self._sha256
+
+    def region(self, name: str) -> Region:
+        """The region called ``name``."""
+        for region in self.regions:
+            if region.name == name:
+                return region
+        raise KeyError(f"mask {self.id!r} has no region {name!r}; it has {[r.name for r in self.regions]}")
+
+    def to_info(self, note: str = "") -> MaskInfo:
+        """Provenance of this mask as the result object carries it."""
+        p = self.provenance
+        return MaskInfo(
+            id=self.id,
+            title=self.title,
+            authority=p.authority,
+            citation=p.citation,
+            edition=p.edition,
+            verified=p.verified,
+            path=self.path,
+            sha256=self.sha256,
+            note=note,
+        )
+
+
+def _unwrap_model(annotation):
+    """The pydantic model inside ``annotation`` (through Optional, tuple, list)."""
+    if isinstance(annotation, type) and issubclass(annotation, BaseModel):
+        return annotation
+    for arg in typing.get_args(annotation):
+        found = _unwrap_model(arg)
+        if found is not None:
+            return found
+    return None
+
+
+def keys_at(loc: tuple) -> list[str] | None:
+    """The keys the table at TOML key path ``loc`` accepts (None if unknown)."""
+    model = Mask
+    for part in loc:
+        if isinstance(part, int):
+            continue
+        info = model.model_fields.get(part)
+        if info is None:
+            return None
+        inner = _unwrap_model(info.annotation)
+        if inner is None:
+            return None
+        model = inner
+    return list(model.model_fields)
+
+
+def mask_json_schema() -> dict:
+    """JSON Schema of the mask-file format (for a ``masks schema`` command).
+
+    Examples
+    --------
+    >>> schema = mask_json_schema()
+    >>> sorted(schema["properties"])[:3]
+    ['applies', 'fundamental', 'id']
+    """
+    schema = Mask.model_json_schema(mode="validation")
+    schema["$comment"] = f"maskcheck mask-file format, schema_version {MASK_SCHEMA_VERSION}"
+    return schema
