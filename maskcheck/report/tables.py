@@ -1,0 +1,338 @@
+"""A :class:`~maskcheck.core.result.CheckResult` as JSON, and as rows of text.
+
+- :func:`result_to_json` -- the JSON form (keys of ``CheckResult.to_dict()``);
+  a NaN or infinity anywhere is an error, never written.
+- :func:`write_json` -- the JSON to a file (atomically) or to ``"-"``.
+- :func:`verdict_sentence`, :func:`worst_point_text`, :func:`reference_text`,
+  :func:`region_rows`, :func:`emission_rows`, :func:`station_rows`,
+  :func:`bandwidth_rows`, :func:`spectrum_rows` -- the strings the terminal
+  and the PDF show, made in one place so both say the same thing.
+
+Nothing here computes a bandwidth or a margin: every number comes from the
+result and is only formatted.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+
+from ..core.result import BandwidthFigure, CheckResult, RegionResult
+from ..core.units import dbm_to_w, format_frequency, format_power
+from ..io.output import write_text
+
+__all__ = [
+    "result_to_json",
+    "write_json",
+    "find_non_finite",
+    "verdict_sentence",
+    "worst_point_text",
+    "reference_text",
+    "region_rows",
+    "region_notes",
+    "REGION_HEADER",
+    "emission_rows",
+    "EMISSION_HEADER",
+    "station_rows",
+    "spectrum_rows",
+    "bandwidth_rows",
+    "BANDWIDTH_HEADER",
+    "fmt_db",
+    "fmt_dbm",
+    "fmt_range",
+]
+
+DASH = "\u2013"  # en dash, for ranges and empty cells
+
+
+# ----------------------------------------------------------------------------- JSON
+
+
+def _json_default(obj):
+    if isinstance(obj, np.bool_):
+        return bool(obj)
+    if isinstance(obj, np.integer):
+        return int(obj)
+    if isinstance(obj, np.floating):
+        return float(obj)
+    if isinstance(obj, np.ndarray):
+        return obj.tolist()
+    if isinstance(obj, tuple):
+        return list(obj)
+    raise TypeError(f"{type(obj).__name__} is not JSON-able")
+
+
+def find_non_finite(obj, where: str = "$") -> str | None:
+    """Key path of the first NaN or infinity inside ``obj``, or None.
+
+    Examples
+    --------
+    >>> find_non_finite({"a": [1.0, {"b": float("nan")}]})
+    '$.a[1].b'
+    """
+    if isinstance(obj, (float, np.floating)):
+        return None if math.isfinite(float(obj)) else where
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            hit = find_non_finite(v, f"{where}.{k}")
+            if hit:
+                return hit
+    elif isinstance(obj, (list, tuple)):
+        for i, v in enumerate(obj):
+            hit = find_non_finite(v, f"{where}[{i}]")
+            if hit:
+                return hit
+    elif isinstance(obj, np.ndarray) and obj.dtype.kind in "fc":
+        bad = np.flatnonzero(~np.isfinite(obj.ravel()))
+        if bad.size:
+            return f"{where}[{int(bad[0])}]"
+    return None
+
+
+def result_to_json(result: CheckResult) -> str:
+    """The result as indented JSON text.
+
+    Parameters
+    ----------
+    result : CheckResult
+
+    Returns
+    -------
+    str
+        ``json.dumps(result.to_dict(), indent=2, allow_nan=False)``.
+
+    Raises
+    ------
+    ValueError
+        If any number in the result is NaN or infinite.  The core never
+        produces one, so this is a bug to surface, not to hide; the message
+        names the key path.
+    """
+    data = result.to_dict()
+    bad = find_non_finite(data)
+    if bad is not None:
+        raise ValueError(f"result holds a non-finite number at {bad}; refusing to write it as JSON")
+    return json.dumps(data, indent=2, allow_nan=False, ensure_ascii=False, default=_json_default)
+
+
+def write_json(result: CheckResult, path, *, force: bool = False):
+    """Write :func:`result_to_json` to ``path`` (``"-"`` for standard output)."""
+    return write_text(path, result_to_json(result) + "\n", force=force)
+
+
+# ----------------------------------------------------------------------------- formatting
+
+
+def fmt_db(value_db: float | None, signed: bool = True) -> str:
+    """``-12.25`` -> ``'-12.3 dB'``; None -> an en dash."""
+    if value_db is None:
+        return DASH
+    return f"{value_db:+.1f} dB" if signed else f"{value_db:.1f} dB"
+
+
+def fmt_dbm(level_dbm: float | None) -> str:
+    """``-20.04`` -> ``'-20.0 dBm'``; None -> an en dash."""
+    if level_dbm is None:
+        return DASH
+    return f"{level_dbm:.1f} dBm"
+
+
+def fmt_range(start_hz: float, stop_hz: float) -> str:
+    """``(9e3, 71e6)`` -> ``'9 kHz – 71 MHz'``."""
+    return f"{format_frequency(start_hz)} {DASH} {format_frequency(stop_hz)}"
+
+
+_MEANING = {
+    "pass": "every required region was evaluated and every margin is at least the {g} dB guard band",
+    "marginal": "no limit is exceeded, but the worst margin is inside the {g} dB guard band",
+    "fail": "at least one measured level is above its limit",
+    "incomplete": (
+        "at least one required region could not be judged (no data there, or the data "
+        "cannot show compliance); this is not a pass"
+    ),
+}
+
+
+def verdict_sentence(result: CheckResult) -> str:
+    """The verdict in words, e.g. ``'FAIL: at least one measured level is above its limit.'``."""
+    meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{result.guard_db:g}")
+    return f"{result.verdict.upper()}: {meaning}."
+
+
+def worst_point_text(result: CheckResult) -> str:
+    """Where the smallest margin is, in one line."""
+    r = result.worst_region
+    if r is None:
+        return "no region could be judged, so there is no worst margin"
+    text = f"{fmt_db(r.worst_margin_db)} in region '{r.name}'"
+    if r.worst_freq_hz is not None:
+        text += f" at {format_frequency(r.worst_freq_hz, 7)}"
+    if r.worst_level_dbm is not None and r.worst_limit_dbm is not None:
+        text += f" (measured {fmt_dbm(r.worst_level_dbm)}, limit {fmt_dbm(r.worst_limit_dbm)})"
+    return text
+
+
+def reference_text(result: CheckResult) -> str:
+    """The reference power, its kind and where it came from."""
+    ref = result.reference_power
+    kind = {"mean": "mean power", "pep": "peak envelope power (PEP)"}.get(ref.kind, ref.kind)
+    text = f"{format_power(dbm_to_w(ref.dbm))}, {kind}, {ref.source}"
+    if ref.measured_dbm is not None:
+        text += f"; measured {fmt_dbm(ref.measured_dbm)}"
+    return text
+
+
+def _ref_bandwidths(region: RegionResult) -> str:
+    widths = []
+    for _a, _b, w in region.reference_bandwidths:
+        if w not in widths:
+            widths.append(w)
+    if len(widths) > 2:
+        return "see notes"
+    return " / ".join(format_frequency(w) for w in widths) if widths else DASH
+
+
+REGION_HEADER = ("#", "Region", "Frequency range", "Ref. bandwidth", "Verdict", "Worst margin", "At")
+
+
+def region_rows(result: CheckResult) -> list[tuple[str, ...]]:
+    """One row per region, in :data:`REGION_HEADER` order (``#`` counts from 1)."""
+    rows = []
+    for i, r in enumerate(result.regions, 1):
+        rows.append(
+            (
+                str(i),
+                r.name if not r.kind or r.kind == r.name else f"{r.name} ({r.kind})",
+                fmt_range(r.start_hz, r.stop_hz),
+                _ref_bandwidths(r),
+                r.verdict,
+                fmt_db(r.worst_margin_db),
+                DASH if r.worst_freq_hz is None else format_frequency(r.worst_freq_hz, 7),
+            )
+        )
+    return rows
+
+
+def region_notes(result: CheckResult) -> list[str]:
+    """Reasons, uncovered and excluded ranges of each region, one line each."""
+    notes = []
+    for i, r in enumerate(result.regions, 1):
+        for reason in r.reasons:
+            notes.append(f"[{i}] {r.name}: {reason}")
+        for a, b in r.uncovered_hz:
+            notes.append(f"[{i}] {r.name}: no data over {fmt_range(a, b)}")
+        for a, b in r.excluded_hz:
+            notes.append(f"[{i}] {r.name}: excluded from the check over {fmt_range(a, b)}")
+        if len(r.reference_bandwidths) > 1:
+            bands = "; ".join(f"{format_frequency(w)} over {fmt_range(a, b)}" for a, b, w in r.reference_bandwidths)
+            notes.append(f"[{i}] {r.name}: reference bandwidth {bands}")
+        if r.limit_text:
+            notes.append(f"[{i}] {r.name}: limit {r.limit_text}; detector {r.detector_required}")
+    return notes
+
+
+EMISSION_HEADER = ("Frequency", "Level", "Limit", "Margin", "Region")
+
+
+def emission_rows(result: CheckResult) -> list[tuple[str, ...]]:
+    """One row per listed emission, in :data:`EMISSION_HEADER` order."""
+    return [
+        (format_frequency(e.freq_hz, 7), fmt_dbm(e.level_dbm), fmt_dbm(e.limit_dbm), fmt_db(e.margin_db), e.region or DASH)
+        for e in result.emissions
+    ]
+
+
+_STATION_ORDER = (
+    "carrier_hz",
+    "assigned_hz",
+    "power_w",
+    "mean_power_w",
+    "pep_w",
+    "designator",
+    "authorised_bandwidth_hz",
+    "necessary_bandwidth_hz",
+    "service",
+)
+
+
+_UNIT_TOKENS = ("hz", "w", "dbm", "db", "s")
+_WORDS = {"pep": "PEP", "rbw": "RBW", "vbw": "VBW", "designator": "emission designator"}
+
+
+def _split_key(key: str) -> tuple[str, str]:
+    """``'rbw_hz_min'`` -> (``'RBW min'``, ``'hz'``); ``'carrier_hz'`` -> (``'carrier'``, ``'hz'``)."""
+    tokens = key.split("_")
+    unit = ""
+    if len(tokens) > 1 and tokens[-1] in _UNIT_TOKENS:
+        unit = tokens.pop()
+    elif len(tokens) > 2 and tokens[-1] in ("min", "max") and tokens[-2] in _UNIT_TOKENS:
+        unit = tokens.pop(-2)
+    text = " ".join(_WORDS.get(t, t) for t in tokens if t)
+    return text, unit
+
+
+def _label(key: str) -> str:
+    return _split_key(key)[0]
+
+
+def _value(key: str, value) -> str:
+    if value is None:
+        return "not stated"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    unit = _split_key(key)[1]
+    if isinstance(value, (int, float, np.integer, np.floating)):
+        v = float(value)
+        if unit == "hz":
+            return format_frequency(v, 7)
+        if unit == "w":
+            return format_power(v) if v > 0 else f"{v:g} W"
+        if unit == "dbm":
+            return fmt_dbm(v)
+        if unit == "db":
+            return fmt_db(v, signed=False)
+        if unit == "s":
+            return f"{v:g} s"
+        return f"{v:g}"
+    if isinstance(value, (list, tuple)):
+        return ", ".join(_value(key, v) for v in value)
+    return str(value)
+
+
+def _dict_rows(data: dict, order=()) -> list[tuple[str, str]]:
+    keys = [k for k in order if k in data] + sorted(k for k in data if k not in order)
+    # empty text and empty lists say nothing; None is shown as "not stated"
+    keys = [k for k in keys if not (isinstance(data[k], (str, list, tuple, dict)) and len(data[k]) == 0)]
+    return [(_label(k), _value(k, data[k])) for k in keys]
+
+
+def station_rows(result: CheckResult) -> list[tuple[str, str]]:
+    """(label, value) pairs of the station; units come from the key suffixes."""
+    return _dict_rows(result.station, _STATION_ORDER)
+
+
+def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
+    """(label, value) pairs describing the measured spectrum."""
+    return _dict_rows(result.spectrum_summary, ("start_hz", "stop_hz", "points", "rbw_hz", "detector"))
+
+
+BANDWIDTH_HEADER = ("Method", "Width", "Lower edge", "Upper edge")
+
+
+def _method_text(fig: BandwidthFigure) -> str:
+    if fig.method == "occupied":
+        outside = 100.0 * fig.parameter
+        return f"occupied, {100.0 - outside:g} % power ({outside / 2:g} % outside each edge)"
+    if fig.method == "x-dB":
+        return f"{fig.parameter:g} dB down from the peak"
+    return f"{fig.method} ({fig.parameter:g})"
+
+
+def bandwidth_rows(figures) -> list[tuple[str, str, str, str]]:
+    """One row per bandwidth figure, in :data:`BANDWIDTH_HEADER` order."""
+    return [
+        (_method_text(f), format_frequency(f.width_hz, 5), format_frequency(f.lower_hz, 8), format_frequency(f.upper_hz, 8))
+        for f in figures
+    ]

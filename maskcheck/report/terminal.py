@@ -1,0 +1,210 @@
+"""The terminal summary of a check (rich).
+
+- :func:`render_check` -- a whole :class:`~maskcheck.core.result.CheckResult`.
+- :func:`render_bandwidth` -- a list of bandwidth figures under a title.
+- :func:`render_mask` -- one mask definition (``maskcheck masks show``).
+
+Everything is said in words first; colour only repeats what the words say, so
+the output reads the same in a plain 80-column terminal without colour.
+"""
+
+from __future__ import annotations
+
+from rich import box
+from rich.console import Console
+from rich.padding import Padding
+from rich.rule import Rule
+from rich.table import Table
+from rich.text import Text
+
+from ..core.result import BandwidthFigure, CheckResult
+from ..core.units import format_frequency
+from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+from .tables import (
+    BANDWIDTH_HEADER,
+    EMISSION_HEADER,
+    bandwidth_rows,
+    emission_rows,
+    reference_text,
+    region_notes,
+    region_rows,
+    station_rows,
+    verdict_sentence,
+    worst_point_text,
+)
+
+__all__ = ["render_check", "render_bandwidth", "render_mask", "VERDICT_STYLES"]
+
+#: Style of each verdict word (the word itself always carries the meaning).
+VERDICT_STYLES = {
+    "pass": "bold green",
+    "marginal": "bold yellow",
+    "incomplete": "bold magenta",
+    "fail": "bold red",
+}
+
+
+def _facts(pairs) -> Table:
+    t = Table(box=None, show_header=False, padding=(0, 1, 0, 0), expand=False)
+    t.add_column(style="bold", no_wrap=True)
+    t.add_column(overflow="fold")
+    for label, value in pairs:
+        t.add_row(label, value)
+    return t
+
+
+def _grid(title: str, header, rows, right=(), no_wrap=()) -> Table:
+    t = Table(title=title, title_justify="left", title_style="bold", box=box.SIMPLE_HEAD, padding=(0, 1))
+    for i, h in enumerate(header):
+        t.add_column(h, justify="right" if i in right else "left", overflow="fold", no_wrap=i in no_wrap)
+    for row in rows:
+        t.add_row(*row)
+    return t
+
+
+#: Shorter names for the columns of :data:`~maskcheck.report.tables.REGION_HEADER`, to fit 80 columns.
+_SHORT_REGION_HEADER = ("#", "Region", "Range", "Ref. BW", "Verdict", "Margin", "At")
+
+
+def _indented(text: str) -> Padding:
+    return Padding(Text(text, overflow="fold"), (0, 0, 0, 2))
+
+
+def render_check(result: CheckResult, console: Console | None = None) -> None:
+    """Print the summary of one check.
+
+    Parameters
+    ----------
+    result : CheckResult
+        What the check concluded.
+    console : rich.console.Console, optional
+        Where to print (a new default console when omitted).
+    """
+    console = console or Console()
+    mask = result.mask
+    console.print(Rule(f"maskcheck {result.tool.get('version', '')}".strip() + f" | mask {mask.id}", style="dim"))
+
+    verdict = Text()
+    verdict.append("Outcome  ", style="bold")
+    word, _, meaning = verdict_sentence(result).partition(":")
+    verdict.append(word, style=VERDICT_STYLES.get(result.verdict, "bold"))
+    verdict.append(":" + meaning)
+    console.print(verdict)
+
+    facts = [("Worst margin", worst_point_text(result)), ("Reference", reference_text(result))]
+    obw = result.occupied_bandwidth
+    if obw is not None:
+        row = bandwidth_rows([obw])[0]
+        facts.append(("Occupied BW", f"{row[1]} ({row[2]} to {row[3]})"))
+    facts += [(label[:1].upper() + label[1:], value) for label, value in station_rows(result)]
+    mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
+    facts.append(("Mask", mask_line))
+    facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
+    console.print(_facts(facts))
+    if not mask.verified:
+        console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
+
+    header = _SHORT_REGION_HEADER
+    console.print(_grid("Regions (worst margin of each)", header, region_rows(result), right=(0, 5), no_wrap=(2, 5, 6)))
+    for note in region_notes(result):
+        console.print(_indented(note))
+
+    if result.emissions:
+        console.print(_grid("Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3)))
+    else:
+        console.print(Text("Listed emissions: none within the reporting threshold."))
+
+    if result.warnings:
+        console.print(Text("Warnings", style="bold"))
+        for w in result.warnings:
+            console.print(_indented(f"* {w}"))
+
+    console.print(Text(SHORT_CAUTION, style="italic"))
+
+
+def render_bandwidth(
+    figures: list[BandwidthFigure], console: Console | None = None, title: str = "Measured bandwidths"
+) -> None:
+    """Print bandwidth figures (occupied and x-dB) with their edges.
+
+    Parameters
+    ----------
+    figures : list of BandwidthFigure
+        The figures to show, in order.
+    console : rich.console.Console, optional
+        Where to print.
+    title : str
+        Heading of the table.
+    """
+    console = console or Console()
+    if not figures:
+        console.print(Text(f"{title}: none."))
+    else:
+        console.print(_grid(title, BANDWIDTH_HEADER, bandwidth_rows(figures), right=(1, 2, 3)))
+        for f in figures:
+            for note in f.notes:
+                console.print(_indented(f"* {note}"))
+    console.print(Text(SHORT_CAUTION, style="italic"))
+
+
+def _value_text(value, unit: str = "Hz") -> str:
+    """A mask-file value as a person reads it: constants formatted, expressions as written."""
+    if value is None:
+        return ""
+    if getattr(value, "is_constant", False):
+        number = value.constant()
+        if unit == "Hz":
+            return format_frequency(number)
+        return f"{number:g} {unit}"
+    return getattr(value, "text", str(value))
+
+
+def render_mask(mask, console: Console | None = None) -> None:
+    """Print one mask definition: provenance, applicability and regions.
+
+    Parameters
+    ----------
+    mask : maskcheck.masks.schema.Mask
+        A validated mask (read through its attributes only).
+    console : rich.console.Console, optional
+        Where to print.
+    """
+    console = console or Console()
+    prov = mask.provenance
+    console.print(Rule(f"mask {mask.id}", style="dim"))
+    lo, hi = mask.applies.fundamental
+    facts = [
+        ("Title", mask.title),
+        ("Service", mask.service),
+        ("Rule", f"{prov.authority} {prov.citation}"),
+        ("Edition", prov.edition),
+        ("Verified", "yes" if prov.verified else "no"),
+        ("Carrier range", f"{_value_text(lo)} to {_value_text(hi)}"),
+        ("Emission classes", ", ".join(mask.applies.emission_classes) or "any"),
+        ("Reference power", mask.reference_power.kind),
+        ("Carrier exclusion", f"+/- {_value_text(mask.fundamental.exclusion)} ({mask.fundamental.rationale})"),
+    ]
+    if prov.measurement_note:
+        facts.append(("Measuring", prov.measurement_note))
+    if getattr(mask, "path", ""):
+        facts.append(("File", mask.path))
+    if getattr(mask, "sha256", ""):
+        facts.append(("SHA-256", mask.sha256))
+    console.print(_facts(facts))
+    if not prov.verified:
+        console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
+    rows = []
+    for reg in mask.regions:
+        lim = reg.limit
+        parts = []
+        if lim.attenuation_db is not None:
+            parts.append(f"{_value_text(lim.attenuation_db, 'dB')} below reference")
+        if lim.level is not None:
+            parts.append(f"at most {_value_text(lim.level, 'W' if lim.level_w is not None else 'dBm')}")
+        limit = lim.description or " and ".join(parts)
+        bands = "; ".join(
+            f"{_value_text(b.bandwidth)} ({_value_text(b.start)}-{_value_text(b.stop)})" for b in reg.reference_bandwidth
+        )
+        rows.append((reg.name, f"{_value_text(reg.start)} to {_value_text(reg.stop)}", limit, reg.detector, bands))
+    console.print(_grid("Regions", ("Region", "Range", "Limit", "Detector", "Ref. BW (range)"), rows))
+    console.print(Text(SHORT_CAUTION, style="italic"))
