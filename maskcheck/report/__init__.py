@@ -1,0 +1,64 @@
+"""Renderers: everything that turns a :class:`~maskcheck.core.result.CheckResult`
+into something a person or a machine reads.  They format and lay out; they
+never compute a bandwidth or a margin.
+
+=========================  ==================================================
+``render_check``           terminal summary of a check (rich)
+``render_bandwidth``       terminal table of bandwidth figures (rich)
+``result_to_json``         the JSON form; NaN or infinity is an error
+``write_json``             JSON to a file (atomically) or to ``"-"``
+``build_report``           the PDF report as bytes (reportlab)
+``write_report``           the PDF report, written atomically
+``spectrum_drawing``       vector plot of trace and limit lines
+``envelope``               min/max decimation of a curve per drawing column
+``DISCLAIMER``             what a result is and is not
+``SAFETY``                 bench-safety cautions
+``SHORT_CAUTION``          the one-line caution
+=========================  ==================================================
+
+Submodules are imported on first use, so writing JSON does not load
+reportlab and the PDF does not load rich.
+"""
+
+from __future__ import annotations
+
+import importlib
+
+__all__ = [
+    "render_check",
+    "render_bandwidth",
+    "result_to_json",
+    "write_json",
+    "build_report",
+    "write_report",
+    "spectrum_drawing",
+    "envelope",
+    "DISCLAIMER",
+    "SAFETY",
+    "SHORT_CAUTION",
+]
+
+_WHERE = {
+    "render_check": "terminal",
+    "render_bandwidth": "terminal",
+    "result_to_json": "tables",
+    "write_json": "tables",
+    "build_report": "pdf",
+    "write_report": "pdf",
+    "spectrum_drawing": "plots",
+    "envelope": "plots",
+    "DISCLAIMER": "cautions",
+    "SAFETY": "cautions",
+    "SHORT_CAUTION": "cautions",
+}
+
+
+def __getattr__(name: str):
+    module = _WHERE.get(name)
+    if module is None:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    return getattr(importlib.import_module(f"{__name__}.{module}"), name)
+
+
+def __dir__():
+    return sorted(set(globals()) | set(__all__))
