@@ -117,6 +117,8 @@ def _message(error: dict) -> str:
     if kind in ("model_type", "dataclass_type") or kind == "model_attributes_type":
         return f"expected a table, found {type(error.get('input')).__name__} {error.get('input')!r}"
     msg = error.get("msg", "")
+    if kind in ("too_long", "too_short"):
+        msg = msg.replace("Tuple should", "The list should").replace(" after validation", "")
     if kind not in ("mask_value", "mask_rule") and "input" in error and not isinstance(error["input"], (dict, list)):
         msg = f"{msg} (found {error['input']!r})"
     return msg
