@@ -354,3 +354,9 @@ def test_hostile_code_does_not_run(tmp_path):
         with pytest.raises(MaskError):
             compile_expression(text, NAMES)
     assert not os.path.exists(target)
+
+
+def test_arrays_that_do_not_broadcast_are_a_clear_error():
+    e = compile_expression("power_w * carrier_hz", NAMES)
+    with pytest.raises(MaskError, match="shapes do not match"):
+        e.evaluate({"power_w": np.ones(2), "carrier_hz": np.ones(3)})

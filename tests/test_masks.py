@@ -592,3 +592,31 @@ def test_json_schema_describes_the_format():
     region = schema["$defs"]["Region"]
     assert region["additionalProperties"] is False
     assert set(region["properties"]) == {"name", "kind", "start", "stop", "detector", "limit", "reference_bandwidth"}
+
+
+def test_the_example_in_the_format_guide_loads(tmp_path):
+    # The guide for mask writers must show a file that this release accepts.
+    guide = Path(__file__).resolve().parents[1] / "docs" / "mask-format.md"
+    if not guide.exists():
+        pytest.skip("docs/ not present in this installation")
+    blocks = re.findall(r"```toml\n(.*?)```", guide.read_text(encoding="utf-8"), re.DOTALL)
+    assert blocks, "the guide has no TOML example"
+    path = tmp_path / "example.toml"
+    path.write_text(blocks[0], encoding="utf-8")
+    mask = validate_mask_file(path)
+    # Closed form: 100 W - 50 dB = 1 mW (0 dBm) vs -20 dBm: both must hold, so -20 dBm.
+    (region,) = evaluate_mask(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
+    assert w_to_dbm(region.constant_limit_w) == pytest.approx(-20.0)
+
+
+def test_the_masks_package_loads_no_renderer():
+    # House layering rule: maskcheck.masks imports core, errors, numpy, pydantic, tomllib only.
+    import subprocess
+    import sys
+
+    code = (
+        "import sys, maskcheck.masks as m; m.list_masks(); "
+        "print(sorted({k.split('.')[0] for k in sys.modules} & {'rich', 'reportlab'}))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"

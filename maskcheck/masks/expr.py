@@ -482,7 +482,11 @@ class Expression:
             if not np.all(np.isfinite(arr)):
                 raise MaskError(f"expression {self.text!r}: {name} has a value that is not finite")
             values[name] = arr
-        shape = np.broadcast_shapes(*(v.shape for v in values.values())) if values else ()
+        try:
+            shape = np.broadcast_shapes(*(v.shape for v in values.values())) if values else ()
+        except ValueError:
+            shapes = ", ".join(f"{n}: {v.shape}" for n, v in sorted(values.items()))
+            raise MaskError(f"expression {self.text!r}: the variables' array shapes do not match ({shapes})") from None
         active = np.ones(shape, dtype=bool)
         try:
             out = self._root(values, active)
