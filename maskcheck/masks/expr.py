@@ -47,6 +47,7 @@ from __future__ import annotations
 import ast
 import math
 import re
+import warnings
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Callable
@@ -551,7 +552,10 @@ def compile_expression(text, allowed_names: Iterable[str]) -> Expression:
     if not text:
         raise MaskError("expression is empty; expected a number or a formula such as '43 + 10 * log10(power_w)'")
     try:
-        tree = ast.parse(text, mode="eval")
+        with warnings.catch_warnings():
+            # "1abc" and the like warn before they fail; the error below says it all
+            warnings.simplefilter("ignore", SyntaxWarning)
+            tree = ast.parse(text, mode="eval")
     except SyntaxError as exc:
         col = f", column {exc.offset}" if exc.offset else ""
         hint = ""
