@@ -16,7 +16,9 @@ How a region is judged
    measured power is integrated over the full required measurement
    bandwidth"); where B is only partly covered by data (the ends of a span),
    the integral is scaled up to B, which over-reads a discrete line and reads
-   noise right.  Where the RBW is at least B, the reading is used as it is:
+   noise right.  A band reaching into an excluded window (the fundamental)
+   integrates only the part outside it, scaled the same way.  Where the RBW
+   is at least B, the reading is used as it is:
    exact for a discrete emission, conservative for noise-like ones (methods
    sheet 1.5).
 3. Margin = limit - level, dB; positive is good.
@@ -117,7 +119,9 @@ def judge_region(
         verdict="incomplete",
         limit_text=limits.limit_text,
         detector_required=limits.detector,
-        reference_bandwidths=[tuple(map(float, b)) for b in limits.bands],
+        reference_bandwidths=[
+            (max(float(a), start), min(float(b), stop), float(w)) for a, b, w in limits.bands if b > start and a < stop
+        ],
         excluded_hz=[(float(a), float(b)) for a, b in excluded_hz if b > start and a < stop],
     )
 
@@ -170,6 +174,17 @@ def judge_region(
         b_int = bw[integrate]
         got = spectrum.band_powers_w(f[sub], b_int)
         cov = spectrum.band_coverages_hz(f[sub], b_int)
+        # the part of a band that reaches into an excluded window (the
+        # fundamental) is left out: that power belongs to the fundamental
+        for ea, eb in res.excluded_hz:
+            a = np.maximum(f[sub] - b_int / 2.0, ea)
+            b = np.minimum(f[sub] + b_int / 2.0, eb)
+            hit = b > a
+            if hit.any():
+                mid, width = (a[hit] + b[hit]) / 2.0, b[hit] - a[hit]
+                got[hit] -= spectrum.band_powers_w(mid, width)
+                cov[hit] -= spectrum.band_coverages_hz(mid, width)
+        got = np.maximum(got, 0.0)
         # scale a partly covered band up to the full bandwidth (see step 2)
         got = np.where(cov > 0, got * b_int / np.where(cov > 0, cov, 1.0), spectrum.power_w[sub])
         level_w[integrate] = got

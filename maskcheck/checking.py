@@ -1,0 +1,215 @@
+"""``check(spectrum, mask, station) -> CheckResult``: the whole job in one call.
+
+This module joins the layers below it: the mask is evaluated for the station
+(:mod:`maskcheck.masks.evaluate`), the fundamental window is set, the
+occupied bandwidth and the channel power are measured there
+(:mod:`maskcheck.core.bandwidth`), every region is judged
+(:mod:`maskcheck.core.verdict`), and the verdicts are combined.  It does no
+I/O: the CLI reads files and writes outputs.
+
+Decisions written down
+----------------------
+* The fundamental window (excluded from the spurious limits) is
+  ``carrier +- half-width``; the half-width is the ``exclude_hz`` argument
+  (the ``--exclude`` option) or, failing that, the mask's own default with
+  its rationale.  A later release derives it from the necessary bandwidth.
+* The reference power is the stated mean power (or PEP, as the mask asks);
+  without a stated power the channel power measured in the fundamental
+  window is used, and the result says so.  Stated and measured powers that
+  differ by more than 1 dB raise a warning.
+* A carrier outside the mask's stated range of fundamentals cannot pass:
+  the verdict is at best ``incomplete``.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import time
+
+from ._version import __version__
+from .core.bandwidth import occupied_bandwidth
+from .core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, combine_verdicts
+from .core.spectrum import Spectrum
+from .core.station import Station
+from .core.units import format_frequency, w_to_dbm
+from .core.verdict import judge_region
+from .errors import SpectrumError, StationError
+from .masks.evaluate import applies_to, evaluate_mask, fundamental_exclusion_hz, reference_power_w
+
+__all__ = ["check", "utc_now"]
+
+#: stated and measured reference power may differ this much before a warning, dB
+POWER_MISMATCH_DB = 1.0
+
+
+def utc_now() -> str:
+    """UTC time as ISO 8601, honouring ``SOURCE_DATE_EPOCH`` for reproducible output."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    t = float(epoch) if epoch and epoch.strip().isdigit() else time.time()
+    return time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime(t))
+
+
+def check(
+    spectrum: Spectrum,
+    mask,
+    station: Station,
+    *,
+    guard_db: float = 0.0,
+    exclude_hz: float | None = None,
+    report_threshold_db: float = 20.0,
+    obw_beta: float = 0.01,
+    inputs: list[InputFile] | None = None,
+) -> CheckResult:
+    """Check a spectrum against a mask for a station.
+
+    Parameters
+    ----------
+    spectrum : Spectrum
+        The measured (or simulated) spectrum at the transmitter output.
+    mask : maskcheck.masks.schema.Mask
+        A loaded mask (:func:`maskcheck.load_mask`).
+    station : Station
+        Carrier frequency and powers.
+    guard_db : float
+        Guard band, dB: margins in ``[0, guard_db)`` make the verdict
+        ``marginal``.
+    exclude_hz : float, optional
+        Half-width of the fundamental window around the carrier, Hz,
+        overriding the mask's default.
+    report_threshold_db : float
+        Discrete emissions within this many dB of the limit are listed
+        (20 dB after 47 CFR 2.1057(c)).
+    obw_beta : float
+        Fraction outside the occupied bandwidth (0.01: the 99 % bandwidth).
+    inputs : list of InputFile, optional
+        Input files with their hashes, for the provenance record; by default
+        taken from the spectrum's metadata.
+
+    Returns
+    -------
+    CheckResult
+    """
+    if not (math.isfinite(guard_db) and guard_db >= 0):
+        raise StationError(f"guard band {guard_db!r} dB must be >= 0", where="--guard")
+    warnings: list[str] = []
+    fc = float(station.carrier_hz)
+
+    # fundamental window
+    if exclude_hz is not None:
+        if not (math.isfinite(exclude_hz) and exclude_hz > 0):
+            raise StationError(f"exclusion half-width {exclude_hz!r} Hz must be > 0", where="--exclude")
+        half, window_source = float(exclude_hz), f"--exclude (+- {format_frequency(exclude_hz)})"
+    else:
+        half, why = fundamental_exclusion_hz(mask, fc)
+        window_source = f"mask default (+- {format_frequency(half)}){': ' + why if why else ''}"
+        if not half > 0:
+            raise StationError(f"mask {mask.id!r} gives no fundamental window; state one with --exclude", where="--exclude")
+    window = (fc - half, fc + half)
+
+    # occupied bandwidth and channel power in the window
+    obw_fig = None
+    measured_w = None
+    if spectrum.uncovered_hz(*window):
+        warnings.append(
+            f"the trace does not cover the whole fundamental window {format_frequency(window[0])} to "
+            f"{format_frequency(window[1])}: no occupied bandwidth or channel power measured"
+        )
+    else:
+        measured_w = spectrum.band_power_w(*window)
+        try:
+            obw = occupied_bandwidth(spectrum.between(*window), obw_beta)
+        except SpectrumError as exc:
+            warnings.append(f"occupied bandwidth not measured: {exc}")
+        else:
+            notes = list(obw.warnings)
+            margin_hz = 0.1 * half
+            if obw.lower_hz < window[0] + margin_hz or obw.upper_hz > window[1] - margin_hz:
+                notes.append(
+                    "an edge of the occupied bandwidth lies near the edge of the fundamental window: the emission "
+                    "may be wider than the window (widen --exclude)"
+                )
+            warnings.extend(f"occupied bandwidth: {n}" for n in notes)
+            obw_fig = BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, obw.beta, notes)
+
+    # reference power
+    power_w = station.power_w
+    source = "stated"
+    if power_w is None:
+        if measured_w is None:
+            raise StationError(
+                "no transmitter power given and none can be measured (the trace does not cover the fundamental); "
+                "give the mean power at the antenna port with --power",
+                where="--power",
+            )
+        power_w, source = measured_w, "measured: channel power in the fundamental window"
+        warnings.append(
+            f"no power stated: the channel power measured around the carrier ({w_to_dbm(measured_w):.2f} dBm) is used "
+            "as the mean power; this is right only if the trace is corrected to the transmitter output"
+        )
+    elif measured_w is not None and abs(w_to_dbm(measured_w) - w_to_dbm(power_w)) > POWER_MISMATCH_DB:
+        warnings.append(
+            f"the stated mean power ({w_to_dbm(power_w):.2f} dBm) and the channel power measured around the carrier "
+            f"({w_to_dbm(measured_w):.2f} dBm) differ by {abs(w_to_dbm(measured_w) - w_to_dbm(power_w)):.1f} dB: "
+            "check the attenuation between transmitter and analyser, or the stated power"
+        )
+    ref_w, ref_note = reference_power_w(mask, power_w=power_w, pep_w=station.pep_w)
+    kind = mask.reference_power.kind
+    if kind == "pep" and station.pep_w is None:
+        source = f"{source}; {ref_note}"
+        warnings.append(ref_note)
+    reference = ReferencePower(kind, float(w_to_dbm(ref_w)), source, None if measured_w is None else float(w_to_dbm(measured_w)))
+
+    # applicability
+    ok, why = applies_to(mask, fc)
+    if not ok:
+        warnings.append(f"the mask does not apply to this carrier: {why}; the result cannot be a pass")
+
+    # regions
+    regions, emissions = [], []
+    for lim in evaluate_mask(mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc):
+        res, ems, w = judge_region(
+            spectrum, lim, excluded_hz=[window], guard_db=guard_db, report_threshold_db=report_threshold_db
+        )
+        regions.append(res)
+        emissions.extend(ems)
+        warnings.extend(w)
+    verdict = combine_verdicts([r.verdict for r in regions])
+    if not ok and verdict in ("pass", "marginal"):
+        verdict = "incomplete"
+    if not mask.provenance.verified:
+        warnings.append("rule data not verified against the official text: check the mask against the current rule")
+    # one warning per text, order kept
+    warnings = list(dict.fromkeys(warnings))
+
+    if inputs is None:
+        src = spectrum.reference.get("source")
+        inputs = [InputFile(str(src), str(spectrum.reference.get("sha256", "")))] if src else []
+    trace = Curve(spectrum.freq_hz, spectrum.level_dbm)
+    summary = {
+        "points": len(spectrum),
+        "start_hz": spectrum.start_hz,
+        "stop_hz": spectrum.stop_hz,
+        "spans": len(spectrum.segments) + 1,
+        "rbw_hz_min": float(spectrum.rbw_hz.min()),
+        "rbw_hz_max": float(spectrum.rbw_hz.max()),
+        "detector": spectrum.detector,
+    }
+    return CheckResult(
+        verdict=verdict,
+        mask=mask.to_info(note=mask.provenance.measurement_note or ""),
+        reference_power=reference,
+        regions=regions,
+        emissions=sorted(emissions, key=lambda e: e.freq_hz),
+        station=station.to_dict(),
+        occupied_bandwidth=obw_fig,
+        guard_db=float(guard_db),
+        fundamental_window_hz=window,
+        fundamental_window_source=window_source,
+        spectrum_summary=summary,
+        inputs=list(inputs),
+        warnings=warnings,
+        tool={"name": "maskcheck", "version": __version__},
+        created_utc=utc_now(),
+        trace=trace,
+    )
