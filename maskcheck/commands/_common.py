@@ -1,0 +1,44 @@
+"""Pieces every command shares: the console and the trace options."""
+
+from __future__ import annotations
+
+import argparse
+
+__all__ = ["Parser", "EXIT_USAGE", "console", "add_trace_options", "read_traces"]
+
+#: exit code for invalid input or usage
+EXIT_USAGE = 2
+
+
+class Parser(argparse.ArgumentParser):
+    """argparse with a one-line usage error and exit code 2."""
+
+    def error(self, message):
+        self.exit(EXIT_USAGE, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
+
+
+def console(stderr: bool = False):
+    """A rich console on standard output (or error), without syntax highlighting."""
+    from rich.console import Console
+
+    return Console(stderr=stderr, highlight=False)
+
+
+def add_trace_options(sp) -> None:
+    """Options for trace files that do not describe themselves."""
+    sp.add_argument("--rbw", metavar="BW", help="RBW of traces that do not state it, e.g. 10kHz")
+    sp.add_argument("--freq-unit", choices=["hz", "khz", "mhz", "ghz"], help="frequency unit of traces whose header does not say")
+    sp.add_argument("--level-unit", choices=["dbm", "dbw", "dbuv", "w", "mw"], help="level unit of traces whose header does not say")
+    sp.add_argument("--detector", choices=["rms", "average", "peak", "sample", "quasi-peak"], help="detector of traces that do not state it")
+
+
+def read_traces(paths, args):
+    """Read every trace file named on the command line (not yet stitched)."""
+    from ..core.units import parse_frequency
+    from ..io.trace_text import read_trace
+
+    rbw = parse_frequency(args.rbw, what="--rbw", default_unit="Hz") if args.rbw else None
+    return [
+        read_trace(p, rbw_hz=rbw, freq_unit=args.freq_unit, level_unit=args.level_unit, detector=args.detector)
+        for p in paths
+    ]

@@ -1,0 +1,84 @@
+"""``maskcheck check``: judge one or more trace spans against a mask."""
+
+from __future__ import annotations
+
+from ._common import add_trace_options, console, read_traces
+
+__all__ = ["register", "run"]
+
+
+def register(sub) -> None:
+    c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
+    c.add_argument("traces", nargs="+", metavar="TRACE", help="trace file(s); several spans are stitched, a narrower RBW wins where they overlap")
+    c.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
+    c.add_argument("--carrier", required=True, metavar="F", help="carrier (assigned) frequency, e.g. 7.1MHz")
+    c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
+    c.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules")
+    c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier (default: the mask's)")
+    c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
+    c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
+    c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
+    add_trace_options(c)
+    c.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
+    c.add_argument("--report", metavar="PDF", help="write the PDF evidence report")
+    c.add_argument("--force", action="store_true", help="overwrite existing output files")
+    c.add_argument("--quiet", action="store_true", help="print no summary")
+
+    c.set_defaults(run=run)
+
+
+def run(args) -> int:
+    from ..core.result import InputFile
+    from ..core.spectrum import stitch
+    from ..core.station import Station
+    from ..core.units import parse_db, parse_frequency, parse_power
+    from ..errors import SpectrumError, TraceError
+    from ..io.output import check_writable
+    from ..masks.library import load_mask
+
+    # refuse before any work when an output exists
+    if args.json and args.json != "-":
+        check_writable(args.json, args.force)
+    if args.report:
+        check_writable(args.report, args.force)
+    carrier = parse_frequency(args.carrier, what="--carrier")
+    power = parse_power(args.power, what="--power") if args.power else None
+    pep = parse_power(args.pep, what="--pep") if args.pep else None
+    exclude = parse_frequency(args.exclude, what="--exclude") if args.exclude else None
+    guard = parse_db(args.guard, what="--guard")
+    within = parse_db(args.list_within, what="--list-within")
+    station = Station(carrier_hz=carrier, power_w=power, pep_w=pep)
+    mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    spectra = read_traces(args.traces, args)
+    try:
+        spectrum = stitch(spectra)
+    except SpectrumError as exc:
+        raise TraceError(f"cannot join the traces: {exc.message}", path=" + ".join(args.traces)) from None
+    inputs = [InputFile(str(s.reference.get("source")), str(s.reference.get("sha256", ""))) for s in spectra]
+    from ..checking import check
+
+    result = check(spectrum, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs)
+    _write_outputs(result, args)
+    return result.exit_code
+
+
+def _write_outputs(result, args) -> None:
+    to_stdout = args.json == "-"
+    if not args.quiet:
+        from ..report.terminal import render_check
+
+        render_check(result, console(stderr=to_stdout))
+    if args.json:
+        from ..report.tables import write_json
+
+        write_json(result, args.json, force=args.force)
+    if args.report:
+        from ..report.pdf import write_report
+
+        write_report(result, args.report, force=args.force)
+    if not args.quiet and not to_stdout:
+        written = [p for p in (args.json, args.report) if p]
+        if written:
+            console().print("written: " + ", ".join(written))
+
+
