@@ -103,3 +103,16 @@ def test_scaling_moves_levels_exactly():
     # Closed form: scaling power by x dB adds x dB to every level
     s = Spectrum(np.arange(10.0), np.linspace(1, 2, 10), 1.0)
     np.testing.assert_allclose(s.scaled(7.5).level_dbm - s.level_dbm, 7.5, atol=1e-12)
+
+
+def test_band_power_keeps_a_weak_floor_beside_a_strong_carrier():
+    # Closed form: 200 dB between a 100 W carrier and a floor of 1e-18 W per 1 Hz cell;
+    # a band far from the carrier holds exactly (width x 1e-18) W.  A single prefix sum
+    # in float64 (about 16 digits) would lose the floor entirely.
+    f = np.arange(0.0, 200_000.0)
+    p = np.full(f.size, 1e-18)
+    p[1000] = 100.0
+    s = Spectrum(f, p, 1.0)
+    got = s.band_powers_w(np.array([150_000.0, 180_000.5]), 1000.0)
+    np.testing.assert_allclose(got, 1000 * 1e-18, rtol=1e-9)
+    assert s.band_power_w(999.5, 1000.5) == pytest.approx(100.0, rel=1e-12)

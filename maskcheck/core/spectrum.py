@@ -39,6 +39,7 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from types import MappingProxyType
 from typing import Mapping, Sequence
 
@@ -189,9 +190,9 @@ class Spectrum:
         bounds = (0, *self.segments, len(self))
         return [(bounds[i], bounds[i + 1]) for i in range(len(bounds) - 1)]
 
-    @property
+    @cached_property
     def cell_edges_hz(self) -> tuple[np.ndarray, np.ndarray]:
-        """Lower and upper edge of each point's cell, Hz (two arrays of len n)."""
+        """Lower and upper edge of each point's cell, Hz (two read-only arrays of len n)."""
         lo = np.empty(len(self))
         hi = np.empty(len(self))
         for k, (a, b) in enumerate(self._spans()):
@@ -211,13 +212,17 @@ class Spectrum:
                     lo[a] = e_lo
                 if e_hi is not None:
                     hi[b - 1] = e_hi
+        lo.flags.writeable = False
+        hi.flags.writeable = False
         return lo, hi
 
-    @property
+    @cached_property
     def cell_power_w(self) -> np.ndarray:
         """Power of each point's cell, W: ``power_w * cell_width / enbw_hz``."""
         lo, hi = self.cell_edges_hz
-        return self.power_w * (hi - lo) / self.enbw_hz
+        out = self.power_w * (hi - lo) / self.enbw_hz
+        out.flags.writeable = False
+        return out
 
     @property
     def coverage_hz(self) -> list[tuple[float, float]]:
@@ -252,19 +257,55 @@ class Spectrum:
         return missing
 
     # -- power in bands --------------------------------------------------------
-    def _cumulative(self, weight=None):
+    #: width of one magnitude class of the band integrals, decades of power
+    _CLASS_DECADES = 6.0
+
+    @cached_property
+    def _power_classes(self) -> list[np.ndarray]:
+        """Prefix sums of the cell powers, one per 60 dB class of magnitude.
+
+        A band's power is a difference of prefix sums.  One prefix sum over a
+        trace holding a 100 W carrier and a -150 dBm floor would lose the
+        floor in round-off (float64 keeps about 16 digits, 160 dB); split by
+        magnitude, the prefix sums of the classes absent from a band are
+        constant across it and cancel exactly, and each class keeps its own
+        precision.
+        """
+        cp = self.cell_power_w
+        top = float(cp.max())
+        cls = np.floor((np.log10(top) - np.log10(cp)) / self._CLASS_DECADES).astype(np.int64)
+        sums = []
+        for k in range(int(cls.max()) + 1):
+            w = np.where(cls == k, cp, 0.0)
+            if not w.any():
+                continue
+            sums.append(np.concatenate(([0.0], np.cumsum(w))))
+        return sums
+
+    @cached_property
+    def _width_prefix(self) -> np.ndarray:
         lo, hi = self.cell_edges_hz
-        cp = self.power_w * (hi - lo) / self.enbw_hz if weight is None else weight(lo, hi)
-        # piecewise-linear cumulative power over the concatenated cells; a gap
-        # between spans adds no power.
-        x = np.empty(2 * len(self))
-        x[0::2] = lo
-        x[1::2] = hi
-        c = np.empty(2 * len(self))
-        csum = np.cumsum(cp)
-        c[1::2] = csum
-        c[0::2] = csum - cp
-        return x, c
+        return np.concatenate(([0.0], np.cumsum(hi - lo)))
+
+    def _locate(self, q: np.ndarray):
+        """Cell index and fraction of the cell below each frequency ``q``."""
+        lo, hi = self.cell_edges_hz
+        i = np.searchsorted(lo, q, side="right") - 1
+        inside = i >= 0
+        i = np.clip(i, 0, len(self) - 1)
+        frac = np.clip((q - lo[i]) / (hi[i] - lo[i]), 0.0, 1.0)
+        frac = np.where(inside, frac, 0.0)
+        return i, frac, inside
+
+    def _integrate(self, a: np.ndarray, b: np.ndarray, prefixes, cells, located=None) -> np.ndarray:
+        """Sum of ``cells`` over [a, b] per query (cells prorated), with ``prefixes``."""
+        ia, fa, ina, ib, fb, inb = located if located is not None else (*self._locate(a), *self._locate(b))
+        # F(q) = prefix[i] + cell[i] * frac, and 0 below the first cell
+        out = np.zeros(np.shape(a))
+        for pre in prefixes:
+            out += np.where(inb, pre[ib], 0.0) - np.where(ina, pre[ia], 0.0)
+        out += cells[ib] * fb * inb - cells[ia] * fa * ina
+        return np.maximum(out, 0.0)
 
     def band_power_w(self, start_hz: float, stop_hz: float) -> float:
         """Power in ``[start_hz, stop_hz]``, W, prorating the edge cells.
@@ -274,8 +315,8 @@ class Spectrum:
         """
         if not stop_hz > start_hz:
             raise SpectrumError(f"band [{start_hz}, {stop_hz}] Hz is empty; stop must exceed start")
-        x, c = self._cumulative()
-        return float(np.interp(stop_hz, x, c) - np.interp(start_hz, x, c))
+        a, b = np.array([float(start_hz)]), np.array([float(stop_hz)])
+        return float(self._integrate(a, b, self._power_classes, self.cell_power_w)[0])
 
     @property
     def total_power_w(self) -> float:
@@ -287,11 +328,12 @@ class Spectrum:
 
         This is the integration that rules allow when the measurement RBW is
         narrower than the reference bandwidth.  Parts of a band without data
-        contribute nothing (see :meth:`band_coverages_hz`).
+        contribute nothing (see :meth:`band_coverages_hz`).  Each band keeps
+        its own precision whatever else the spectrum holds (see
+        :attr:`_power_classes`).
         """
         c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
-        x, c = self._cumulative()
-        return np.interp(c0 + bw / 2.0, x, c) - np.interp(c0 - bw / 2.0, x, c)
+        return self._integrate(c0 - bw / 2.0, c0 + bw / 2.0, self._power_classes, self.cell_power_w)
 
     def band_coverages_hz(self, centre_hz, bandwidth_hz) -> np.ndarray:
         """How much of each band of :meth:`band_powers_w` has data, Hz.
@@ -300,8 +342,18 @@ class Spectrum:
         band that was only partly measured.
         """
         c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
-        x, c = self._cumulative(lambda lo, hi: hi - lo)
-        return np.interp(c0 + bw / 2.0, x, c) - np.interp(c0 - bw / 2.0, x, c)
+        lo, hi = self.cell_edges_hz
+        return self._integrate(c0 - bw / 2.0, c0 + bw / 2.0, [self._width_prefix], hi - lo)
+
+    def band_powers_and_coverages(self, centre_hz, bandwidth_hz) -> tuple[np.ndarray, np.ndarray]:
+        """:meth:`band_powers_w` and :meth:`band_coverages_hz` at once (one search)."""
+        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
+        a, b = c0 - bw / 2.0, c0 + bw / 2.0
+        located = (*self._locate(a), *self._locate(b))
+        lo, hi = self.cell_edges_hz
+        power = self._integrate(a, b, self._power_classes, self.cell_power_w, located)
+        cover = self._integrate(a, b, [self._width_prefix], hi - lo, located)
+        return power, cover
 
     def sliding_power_w(self, bandwidth_hz) -> np.ndarray:
         """Power in a band of ``bandwidth_hz`` centred on each point, W."""

@@ -27,8 +27,8 @@ How a region is judged
    highest reading of each point's bucket): such points are not evaluated
    and make the region ``incomplete``.
 5. A limit below the noise floor cannot be shown to be met.  The floor is
-   estimated per reference-bandwidth band as the 20th percentile of the
-   levels there (common practice, no published source).  A point above the
+   estimated over each run of points sharing one reference bandwidth as
+   the 20th percentile of the levels there (common practice, no published source).  A point above the
    limit that does not stand at least 6 dB above a floor which is itself
    above the limit makes the region ``incomplete`` (the trace cannot tell
    emission from floor there); any other point above the limit makes it
@@ -36,8 +36,9 @@ How a region is judged
 6. Otherwise the region is ``marginal`` when its worst margin is inside the
    guard band, else ``pass``.
 
-Discrete emissions -- local peaks of the level standing at least 3 dB above
-their surroundings -- within ``report_threshold_db`` of the limit are listed;
+Discrete emissions -- local peaks of the level relative to the limit,
+standing at least 3 dB above their surroundings -- within
+``report_threshold_db`` of the limit are listed;
 47 CFR 2.1057(c) lets emissions more than 20 dB below the limit go
 unreported, hence the default of 20 dB.
 """
@@ -172,8 +173,7 @@ def judge_region(
     if integrate.any():
         sub = idx[integrate]
         b_int = bw[integrate]
-        got = spectrum.band_powers_w(f[sub], b_int)
-        cov = spectrum.band_coverages_hz(f[sub], b_int)
+        got, cov = spectrum.band_powers_and_coverages(f[sub], b_int)
         # the part of a band that reaches into an excluded window (the
         # fundamental) is left out: that power belongs to the fundamental
         for ea, eb in res.excluded_hz:
@@ -182,8 +182,9 @@ def judge_region(
             hit = b > a
             if hit.any():
                 mid, width = (a[hit] + b[hit]) / 2.0, b[hit] - a[hit]
-                got[hit] -= spectrum.band_powers_w(mid, width)
-                cov[hit] -= spectrum.band_coverages_hz(mid, width)
+                p_in, c_in = spectrum.band_powers_and_coverages(mid, width)
+                got[hit] -= p_in
+                cov[hit] -= c_in
         got = np.maximum(got, 0.0)
         # scale a partly covered band up to the full bandwidth (see step 2)
         got = np.where(cov > 0, got * b_int / np.where(cov > 0, cov, 1.0), spectrum.power_w[sub])
@@ -226,9 +227,9 @@ def judge_region(
 
     # 5. noise floor per reference-bandwidth band
     floor_dbm = np.empty(idx.size)
-    for b in np.unique(bw):
-        m = bw == b
-        floor_dbm[m] = np.percentile(level_dbm[m], FLOOR_PERCENTILE)
+    runs = np.concatenate(([0], np.flatnonzero(np.diff(bw)) + 1, [idx.size]))
+    for a, b in zip(runs[:-1], runs[1:]):
+        floor_dbm[a:b] = np.percentile(level_dbm[a:b], FLOOR_PERCENTILE)
     over = (margin < 0) & evaluable
     floor_limited = over & (floor_dbm > limit_dbm) & (level_dbm < floor_dbm + FLOOR_CLEARANCE_DB)
     genuine = over & ~floor_limited
@@ -263,7 +264,9 @@ def judge_region(
 
     # discrete emissions near the limit
     emissions: list[Emission] = []
-    peaks, _ = find_peaks(level_dbm, prominence=PEAK_PROMINENCE_DB)
+    # peaks of (level - limit): the height filter runs before the costly
+    # prominence computation in scipy, so only peaks near the limit pay for it
+    peaks, _ = find_peaks(-margin, height=-report_threshold_db, prominence=PEAK_PROMINENCE_DB)
     peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db)] if peaks.size else peaks
     if genuine.any() and ev.size:
         # the worst point is always listed when the region fails
