@@ -354,7 +354,8 @@ def test_fast_path_never_accepts_a_bad_block(converter, body):
 @settings(max_examples=150, deadline=None)
 @given(
     freqs=st.lists(st.floats(allow_nan=False, allow_infinity=False), min_size=1, max_size=40),
-    levels=st.lists(st.floats(min_value=-300, max_value=300), min_size=40, max_size=40),
+    # plausible levels only: below -250 dBm a reading is refused as a placeholder
+    levels=st.lists(st.floats(min_value=-250, max_value=300), min_size=40, max_size=40),
     delim=st.sampled_from([",", ";", "\t", " "]),
 )
 def test_property_repr_round_trip(conv, freqs, levels, delim):
@@ -373,7 +374,7 @@ def test_property_repr_round_trip(conv, freqs, levels, delim):
 
 @pytest.mark.parametrize("conv", CONVERTERS)
 @settings(max_examples=100, deadline=None)
-@given(powers=st.lists(st.floats(min_value=1e-300, max_value=1e300), min_size=1, max_size=30))
+@given(powers=st.lists(st.floats(min_value=1e-28, max_value=1e300), min_size=1, max_size=30))
 def test_property_linear_watts_exact(conv, powers):
     body = "".join(f"{i + 1},{p!r}\n" for i, p in enumerate(powers))
     with converter_in_use(conv), tempfile.TemporaryDirectory() as folder:
@@ -414,3 +415,13 @@ def test_integers_and_huge_integers_in_cells(tmp_path, converter):
     spec = read_trace(write(tmp_path, HEAD + "100,-20\n200,3\n", name="ints.csv"))
     assert spec.freq_hz.tolist() == [100.0, 200.0]
     np.testing.assert_allclose(spec.power_w, [1e-5, 10 ** (-27 / 10)], rtol=1e-12)  # Closed form: dBm to W
+
+
+def test_placeholder_levels_are_refused_with_their_line(tmp_path):
+    # Closed form: thermal noise is -174 dBm/Hz (kT at 290 K); a -999 dBm reading is a
+    # "no data" placeholder, and a placeholder would pass any mask.
+    path = tmp_path / "placeholder.txt"
+    path.write_text("# rbw_hz: 1000\nfrequency_hz,level_dbm\n1,-50\n2,-999\n3,-50\n")
+    with pytest.raises(TraceError, match="placeholder") as e:
+        read_trace(path)
+    assert "line 4" in str(e.value) and "placeholder.txt" in str(e.value)

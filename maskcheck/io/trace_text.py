@@ -73,6 +73,11 @@ FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 #: Level units a header or ``level_unit`` may name.
 LEVEL_UNITS = ("dbm", "dbw", "dbuv", "w", "mw")
 
+#: Levels below this are no reading: thermal noise is -174 dBm in 1 Hz, and a
+#: trace point this low can only be a "no data" placeholder such as -999 dBm.
+MIN_PLAUSIBLE_DBM = -250.0
+_MIN_PLAUSIBLE_W = 10.0 ** ((MIN_PLAUSIBLE_DBM - 30.0) / 10.0)
+
 _META_KEYS = ("rbw_hz", "enbw_hz", "detector", "centre_hz", "reference_level_dbm")
 _DETECTOR_ALIASES = {"avg": "average", "qp": "quasi-peak", "quasi peak": "quasi-peak",
                      "quasipeak": "quasi-peak", "pos peak": "peak", "positive peak": "peak"}
@@ -450,19 +455,22 @@ def _first_problem(values: np.ndarray, layout: _Layout) -> tuple[int, str] | Non
     freq_hz, power_w, rbw_hz = _to_si(values, layout)
     unit, f_unit = _SHOW[layout.level_unit], _SHOW[layout.freq_unit]
     checks = [
-        (~np.isfinite(freq_hz), lambda i: f"frequency {values[i, layout.freq]!r} {f_unit} "
+        (~np.isfinite(freq_hz), lambda i: f"frequency {float(values[i, layout.freq])!r} {f_unit} "
                                           "is too large to express in Hz"),
         (np.concatenate(([False], ~(np.diff(freq_hz) > 0))),
-         lambda i: f"frequency {values[i, layout.freq]!r} {f_unit} does not increase once "
+         lambda i: f"frequency {float(values[i, layout.freq])!r} {f_unit} does not increase once "
                    "converted to Hz; frequencies must strictly increase"),
-        (~np.isfinite(power_w), lambda i: f"level {values[i, layout.level]!r} {unit} is too large: "
+        (~np.isfinite(power_w), lambda i: f"level {float(values[i, layout.level])!r} {unit} is too large: "
                                           "in watts it is not finite"),
-        (~(power_w > 0), lambda i: f"level {values[i, layout.level]!r} {unit} is too small: "
+        (~(power_w > 0), lambda i: f"level {float(values[i, layout.level])!r} {unit} is too small: "
                                    "in watts it rounds to 0"),
+        (power_w < _MIN_PLAUSIBLE_W, lambda i: f"level {float(values[i, layout.level])!r} {unit} is below "
+                                               f"{MIN_PLAUSIBLE_DBM:g} dBm, far under any noise floor: it looks like a "
+                                               "'no reading' placeholder, which cannot be judged against a mask"),
     ]
     if rbw_hz is not None:
         checks.append((~(np.isfinite(rbw_hz) & (rbw_hz > 0)),
-                       lambda i: f"rbw {values[i, layout.rbw]!r} is not a finite bandwidth > 0 in Hz"))
+                       lambda i: f"rbw {float(values[i, layout.rbw])!r} is not a finite bandwidth > 0 in Hz"))
     for bad, why in checks:
         if bad.any():
             i = int(np.flatnonzero(bad)[0])
@@ -619,6 +627,8 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
         freq_hz, power_w, rbw_col_hz = _to_si(values, layout)
         if rbw_col_hz is not None and not np.all(np.isfinite(rbw_col_hz) & (rbw_col_hz > 0)):
             raise SpectrumError("the rbw column holds a value that is not a bandwidth > 0")
+        if not np.all(power_w >= _MIN_PLAUSIBLE_W):
+            raise SpectrumError("a level lies below the plausible floor")
         rbw = rbw_opt if rbw_opt is not None else rbw_col_hz if has_rbw_col else rbw_file
         if hasher is not None:
             hasher.join()
