@@ -45,7 +45,7 @@ __all__ = [
 ]
 
 _NUMBER = r"[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?"
-_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\s\d].*?)?\s*$")
+_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([A-Za-zµμ].*?)?\s*$")
 
 # unit text (case-sensitive where case matters: mW vs MW) -> (family, kind, factor)
 # kind "lin": value * factor in SI;  kind "db": the value is a level in that dB unit.

@@ -1,0 +1,32 @@
+"""The layer rules of the architecture note, checked on the real imports."""
+
+import subprocess
+import sys
+
+
+def _loaded_after(statement: str) -> set[str]:
+    code = f"import sys; {statement}; print(' '.join(sorted(sys.modules)))"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    return set(out.split())
+
+
+def test_core_loads_no_renderer_and_no_schema_library():
+    # STYLE.md principle 1: the numeric core imports numpy and scipy only
+    mods = _loaded_after("import maskcheck.core.spectrum, maskcheck.core.bandwidth, maskcheck.core.verdict, maskcheck.core.units, maskcheck.core.result, maskcheck.core.station")
+    for heavy in ("reportlab", "rich", "pydantic"):
+        assert not any(m == heavy or m.startswith(heavy + ".") for m in mods), heavy
+
+
+def test_version_starts_without_numpy():
+    # Issue 2 benchmark goal: `maskcheck --version` loads no numerics
+    mods = _loaded_after("import maskcheck.cli; maskcheck.cli.build_parser()")
+    for heavy in ("numpy", "scipy", "pydantic", "reportlab", "rich"):
+        assert heavy not in mods, heavy
+
+
+def test_public_api_names_resolve():
+    import maskcheck
+
+    for name in maskcheck.__all__:
+        assert getattr(maskcheck, name) is not None
+    assert callable(maskcheck.check)
