@@ -591,7 +591,8 @@ def test_json_schema_describes_the_format():
     assert schema["additionalProperties"] is False
     region = schema["$defs"]["Region"]
     assert region["additionalProperties"] is False
-    assert set(region["properties"]) == {"name", "kind", "start", "stop", "detector", "limit", "reference_bandwidth"}
+    # schema v2 adds the domain and offset anchors
+    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "detector", "limit", "reference_bandwidth"}
 
 
 def test_the_example_in_the_format_guide_loads(tmp_path):

@@ -6,6 +6,26 @@ frequency range, the reference bandwidths and the limit as numbers in SI
 units.  Comparing a spectrum with those limits is the check's job, not this
 module's.
 
+Regions anchored on the emission (schema v2)
+--------------------------------------------
+Given the emission's :class:`~maskcheck.core.domains.Domains`:
+
+* a ``spurious`` region skips ``carrier +- boundary`` (the necessary band
+  and the out-of-band domain); without domains it skips the mask's
+  ``fundamental.exclusion`` as in v1; an explicit ``exclusion_hz``
+  (``--exclude``) overrides both;
+* ``domain = "out-of-band"`` is ``carrier +- boundary`` without the
+  necessary band; ``domain = "necessary"`` is the necessary band;
+* ``[regions.offset]`` is ``carrier +- to`` without ``carrier +- from``
+  (more than ``from``, up to and including ``to``), in Hz or as a percentage
+  of the necessary or authorised bandwidth;
+* an ``occupied-bandwidth`` region carries the widest bandwidth allowed.
+
+A region that needs a bandwidth the station did not give (the necessary
+bandwidth without a designator, the authorised bandwidth without
+``--authorized-bw``) comes back with ``unevaluated`` saying what is missing:
+the check reports it ``incomplete``, never a pass.
+
 Conventions
 -----------
 * A limit is the power allowed **in the reference bandwidth** at a frequency,
@@ -94,6 +114,12 @@ class RegionLimits:
     level_w: float | None = None
     excluded_hz: tuple[tuple[float, float], ...] = ()
     key_path: str = ""
+    #: occupied-bandwidth regions: the widest occupied bandwidth allowed, Hz
+    max_bandwidth_hz: float | None = None
+    #: why the region cannot be evaluated for this station ("" when it can)
+    unevaluated: str = ""
+    #: how the range was found ("", "out-of-band domain", "offset 50-100 % of the authorised bandwidth", ...)
+    anchor: str = ""
 
     @property
     def constant_limit_w(self) -> float:
@@ -272,8 +298,29 @@ def _limit_text(region, kind: str, attenuation_db, level_w, limit_w) -> str:
     return f"{base} = {format_power(limit_w)}"
 
 
+_NEEDS = {
+    "necessary_bw_hz": "the necessary bandwidth (give --designator, --necessary-bw or the formula inputs)",
+    "authorized_bw_hz": "the authorised bandwidth (give --authorized-bw)",
+    "necessary": "the necessary bandwidth (give --designator, --necessary-bw or the formula inputs)",
+    "authorized": "the authorised bandwidth (give --authorized-bw)",
+}
+
+
+def _missing(value: Value | None, known: dict) -> list[str]:
+    if value is None:
+        return []
+    return sorted(n for n in value.names if n not in known)
+
+
 def evaluate_mask(
-    mask: Mask, *, power_w: float, pep_w: float | None, carrier_hz: float
+    mask: Mask,
+    *,
+    power_w: float,
+    pep_w: float | None,
+    carrier_hz: float,
+    domains=None,
+    authorized_bw_hz: float | None = None,
+    exclusion_hz: float | None = None,
 ) -> list[RegionLimits]:
     """Evaluate every region of ``mask`` for one station.
 
@@ -287,6 +334,14 @@ def evaluate_mask(
         :func:`reference_power_w`).
     carrier_hz : float
         Carrier (assigned) frequency, Hz.
+    domains : maskcheck.core.domains.Domains, optional
+        The emission's domains (necessary bandwidth and boundary); without
+        them regions anchored on the emission are returned unevaluated.
+    authorized_bw_hz : float, optional
+        The authorised bandwidth, Hz (the ``authorized_bw_hz`` variable).
+    exclusion_hz : float, optional
+        Half-width around the carrier that spurious regions skip, overriding
+        the boundary and the mask's default (``--exclude``).
 
     Returns
     -------
@@ -316,15 +371,104 @@ def evaluate_mask(
         "pep_w": float(pep_w if pep_w is not None else power_w),
         "carrier_hz": float(carrier_hz),
     }
+    if domains is not None:
+        variables["necessary_bw_hz"] = float(domains.necessary_bw_hz)
+    if authorized_bw_hz is not None:
+        variables["authorized_bw_hz"] = float(authorized_bw_hz)
+    fc = float(carrier_hz)
     problems: list[str] = []
     exclusion = _evaluate(mask.fundamental.exclusion, variables, "fundamental.exclusion", problems)
     if exclusion is not None and exclusion < 0:
         problems.append(f"fundamental.exclusion: is {exclusion:g} Hz for this station; expected >= 0")
     out = []
+    if exclusion_hz is not None:
+        spurious_half, spurious_anchor = float(exclusion_hz), "spurious limits outside the --exclude window"
+    elif domains is not None:
+        spurious_half, spurious_anchor = domains.boundary.offset_hz, "spurious domain (beyond the out-of-band boundary)"
+    else:
+        spurious_half, spurious_anchor = exclusion, "outside the mask's default fundamental window"
     for i, region in enumerate(mask.regions):
         key = f"regions[{i}]"
-        start = _evaluate(region.start, variables, f"{key}.start", problems)
-        stop = _evaluate(region.stop, variables, f"{key}.stop", problems)
+        base = dict(name=region.name, kind=region.kind, detector=region.detector or "any", key_path=key,
+                    reference_power_w=ref_w, reference_kind=mask.reference_power.kind)
+
+        def unevaluated(what: str, anchor: str = ""):
+            out.append(RegionLimits(start_hz=math.nan, stop_hz=math.nan, bands=(),
+                                    limit_text=region.limit.description or "", unevaluated=f"needs {what}",
+                                    anchor=anchor, **base))
+
+        if region.kind == "occupied-bandwidth":
+            miss = _missing(region.limit.bandwidth, variables)
+            if miss:
+                unevaluated(_NEEDS[miss[0]])
+                continue
+            bw = _evaluate(region.limit.bandwidth, variables, f"{key}.limit.bandwidth", problems)
+            if bw is None:
+                continue
+            if not bw > 0:
+                problems.append(f"{key}.limit.bandwidth: is {bw:g} Hz for this station; expected > 0")
+                continue
+            text = region.limit.description or f"occupied bandwidth at most {format_frequency(bw)}"
+            out.append(RegionLimits(start_hz=math.nan, stop_hz=math.nan, bands=(), limit_text=text,
+                                    max_bandwidth_hz=bw, anchor="occupied bandwidth", **base))
+            continue
+        excluded: list[tuple[float, float]] = []
+        anchor = ""
+        if region.offset is not None:
+            off = region.offset
+            if off.of is not None:
+                bw_known = variables.get("necessary_bw_hz" if off.of == "necessary" else "authorized_bw_hz")
+                label = "necessary" if off.of == "necessary" else "authorised"
+                if bw_known is None:
+                    unevaluated(_NEEDS[off.of], f"offset {off.from_percent:g}-{off.to_percent:g} % of the {label} bandwidth")
+                    continue
+                lo_off, hi_off = off.from_percent / 100.0 * bw_known, off.to_percent / 100.0 * bw_known
+                anchor = f"offset more than {off.from_percent:g} % up to {off.to_percent:g} % of the {label} bandwidth"
+            else:
+                miss = _missing(off.from_, variables) + _missing(off.to, variables)
+                if miss:
+                    unevaluated(_NEEDS[miss[0]])
+                    continue
+                lo_off = _evaluate(off.from_, variables, f"{key}.offset.from", problems)
+                hi_off = _evaluate(off.to, variables, f"{key}.offset.to", problems)
+                if lo_off is None or hi_off is None:
+                    continue
+                anchor = f"offset more than {format_frequency(lo_off)} up to {format_frequency(hi_off)} from the carrier"
+            if not 0 <= lo_off < hi_off:
+                problems.append(f"{key}.offset: expected 0 <= from < to, found {lo_off:g} Hz and {hi_off:g} Hz")
+                continue
+            start, stop = max(fc - hi_off, 0.0), fc + hi_off
+            if lo_off > 0:
+                excluded.append((fc - lo_off, fc + lo_off))
+        elif region.domain in ("out-of-band", "necessary"):
+            if domains is None:
+                unevaluated(_NEEDS["necessary"], f"{region.domain} domain")
+                continue
+            if region.domain == "out-of-band":
+                start, stop = domains.boundary_hz
+                excluded.append(domains.necessary_band_hz)
+                anchor = "out-of-band domain"
+            else:
+                start, stop = domains.necessary_band_hz
+                anchor = "within the necessary bandwidth"
+            start = max(start, 0.0)
+        else:
+            miss = _missing(region.start, variables) + _missing(region.stop, variables)
+            if miss:
+                unevaluated(_NEEDS[miss[0]])
+                continue
+            start = _evaluate(region.start, variables, f"{key}.start", problems)
+            stop = _evaluate(region.stop, variables, f"{key}.stop", problems)
+            if region.kind == "spurious":
+                if spurious_half:
+                    excluded.append((fc - spurious_half, fc + spurious_half))
+                anchor = spurious_anchor
+            elif domains is None:
+                unevaluated(_NEEDS["necessary"])
+                continue
+            else:
+                excluded.append(domains.necessary_band_hz)
+                anchor = "outside the necessary band"
         if start is not None and stop is not None and not (0 <= start < stop):
             problems.append(
                 f"{key}: start {format_frequency(start)} is not below stop {format_frequency(stop)} "
@@ -367,23 +511,15 @@ def evaluate_mask(
         if attenuation is None and level_w is None:
             continue
         limits = RegionLimits(
-            name=region.name,
-            kind=region.kind,
             start_hz=start if start is not None else math.nan,
             stop_hz=stop if stop is not None else math.nan,
-            detector=region.detector,
             bands=tuple((b0, b1, bw) for b0, b1, bw, _ in bands),
             limit_text="",
-            reference_power_w=ref_w,
-            reference_kind=mask.reference_power.kind,
             attenuation_db=attenuation,
             level_w=level_w,
-            excluded_hz=(
-                ((carrier_hz - exclusion, carrier_hz + exclusion),)
-                if region.kind == "spurious" and exclusion
-                else ()
-            ),
-            key_path=key,
+            excluded_hz=tuple(excluded),
+            anchor=anchor,
+            **base,
         )
         text = _limit_text(region, mask.reference_power.kind, attenuation, level_w, limits.constant_limit_w)
         out.append(replace(limits, limit_text=text))

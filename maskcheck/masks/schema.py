@@ -1,4 +1,4 @@
-"""The mask-file format (``schema_version = 1``) as pydantic models.
+"""The mask-file format (``schema_version`` 1 and 2) as pydantic models.
 
 A mask file is TOML; :mod:`maskcheck.masks.library` reads it and validates it
 with :class:`Mask`.  Every table forbids unknown keys, so a misspelt key is an
@@ -16,6 +16,14 @@ give each one as
   ``attenuation_db = "43 dB"``;
 * an expression (see :mod:`maskcheck.masks.expr`) in the same SI unit, using
   the variables of :data:`VARIABLES`: ``stop = "min(10 * carrier_hz, 40e9)"``.
+
+Version 2 adds the ``[domains]`` table (which out-of-band / spurious
+boundary rule the mask follows), region kinds ``out-of-band`` and
+``occupied-bandwidth``, regions anchored on a domain (``domain = ...``) or on
+offsets from the carrier (``[regions.offset]``, in Hz or as a percentage of
+the necessary or authorised bandwidth), and the variables
+``necessary_bw_hz`` and ``authorized_bw_hz``.  Version-1 files load
+unchanged.
 
 Quantities and constants are checked when the file loads; expressions are
 compiled when the file loads and evaluated when a station is known
@@ -58,7 +66,9 @@ from .expr import Expression, compile_expression
 
 __all__ = [
     "VARIABLES",
+    "BANDWIDTH_VARIABLES",
     "REGION_KINDS",
+    "DOMAIN_ANCHORS",
     "DETECTORS",
     "REFERENCE_POWER_KINDS",
     "Value",
@@ -67,6 +77,8 @@ __all__ = [
     "Applies",
     "ReferencePowerSpec",
     "Fundamental",
+    "DomainsSpec",
+    "Offset",
     "ReferenceBand",
     "Limit",
     "Region",
@@ -75,12 +87,19 @@ __all__ = [
     "mask_json_schema",
 ]
 
-#: Variables a v1 expression may use: mean power and PEP at the antenna port
-#: (W), and the carrier (assigned) frequency (Hz).
-VARIABLES: tuple[str, ...] = ("power_w", "pep_w", "carrier_hz")
+#: Variables an expression may use: mean power and PEP at the antenna port
+#: (W), the carrier (assigned) frequency (Hz), and (from v2) the necessary and
+#: the authorised bandwidth (Hz; known only when the station states them).
+VARIABLES: tuple[str, ...] = ("power_w", "pep_w", "carrier_hz", "necessary_bw_hz", "authorized_bw_hz")
 
-#: Region kinds known to schema v1.
-REGION_KINDS: tuple[str, ...] = ("spurious",)
+#: Variables that are known only when the station gives them.
+BANDWIDTH_VARIABLES: tuple[str, ...] = ("necessary_bw_hz", "authorized_bw_hz")
+
+#: Region kinds (``out-of-band`` and ``occupied-bandwidth`` from v2).
+REGION_KINDS: tuple[str, ...] = ("spurious", "out-of-band", "occupied-bandwidth")
+
+#: What a region may be anchored on (v2): a domain of the emission.
+DOMAIN_ANCHORS: tuple[str, ...] = ("spurious", "out-of-band", "necessary")
 
 #: Detectors a region may call for ("any": the rule names none).
 DETECTORS: tuple[str, ...] = ("rms", "average", "peak", "any")
@@ -306,6 +325,66 @@ class Fundamental(_Table):
     rationale: Text = Field(description="why this width")
 
 
+class DomainsSpec(_Table):
+    """Which out-of-band / spurious boundary rule the mask follows (v2)."""
+
+    boundary: Literal["sm1539", "percent"] = Field(
+        description="'sm1539' (ITU-R SM.1539: 250 % of Bn with its narrow/wide cases) or 'percent'"
+    )
+    percent: float | None = Field(None, description="for 'percent': the boundary's distance from the carrier, % of the bandwidth")
+    of: Literal["necessary", "authorized"] | None = Field(None, description="for 'percent': which bandwidth")
+
+    @model_validator(mode="after")
+    def _check(self):
+        if self.boundary == "percent":
+            if self.percent is None or self.of is None:
+                raise _problem("boundary = 'percent' needs percent (e.g. 250) and of ('necessary' or 'authorized')")
+            if not (np.isfinite(self.percent) and self.percent > 0):
+                raise _problem(f"percent must be a number > 0, found {self.percent!r}")
+        elif self.percent is not None or self.of is not None:
+            raise _problem("percent and of belong to boundary = 'percent'; SM.1539 fixes its own boundary")
+        return self
+
+
+class Offset(_Table):
+    """A region as offsets from the carrier, on both sides (v2).
+
+    The region holds the frequencies more than ``from`` and up to and
+    including ``to`` away from the carrier.  Give ``from``/``to`` as
+    frequencies, or ``from_percent``/``to_percent`` with ``of``.
+    """
+
+    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True, populate_by_name=True)
+
+    from_: Frequency | None = Field(None, alias="from", description="inner offset from the carrier")
+    to: Frequency | None = Field(None, description="outer offset from the carrier")
+    from_percent: float | None = Field(None, description="inner offset, % of the bandwidth named by 'of'")
+    to_percent: float | None = Field(None, description="outer offset, % of the bandwidth named by 'of'")
+    of: Literal["necessary", "authorized"] | None = Field(None, description="for percentages: which bandwidth")
+
+    @model_validator(mode="after")
+    def _check(self):
+        hz = self.from_ is not None or self.to is not None
+        pct = self.from_percent is not None or self.to_percent is not None
+        if hz and pct:
+            raise _problem("give from/to (frequencies) or from_percent/to_percent, not both")
+        if hz:
+            if self.from_ is None or self.to is None:
+                raise _problem("give both from and to")
+            if self.of is not None:
+                raise _problem("of belongs to from_percent/to_percent")
+            if self.from_.is_constant and self.to.is_constant and not 0 <= self.from_.constant() < self.to.constant():
+                raise _problem(f"expected 0 <= from < to, found {self.from_.text!r} and {self.to.text!r}")
+        elif pct:
+            if self.from_percent is None or self.to_percent is None or self.of is None:
+                raise _problem("give from_percent, to_percent and of ('necessary' or 'authorized')")
+            if not (np.isfinite(self.from_percent) and np.isfinite(self.to_percent) and 0 <= self.from_percent < self.to_percent):
+                raise _problem(f"expected 0 <= from_percent < to_percent, found {self.from_percent!r} and {self.to_percent!r}")
+        else:
+            raise _problem("give from and to, or from_percent, to_percent and of")
+        return self
+
+
 class ReferenceBand(_Table):
     """The reference bandwidth the limit is stated in, over one frequency range."""
 
@@ -329,10 +408,19 @@ class Limit(_Table):
     attenuation_db: AttenuationDb | None = None
     level_w: PowerW | None = None
     level_dbm: PowerDbm | None = None
+    bandwidth: Frequency | None = Field(
+        None, description="occupied-bandwidth regions (v2): the widest occupied bandwidth allowed"
+    )
     description: str | None = Field(None, description="how a report words the limit")
 
     @model_validator(mode="after")
     def _check(self):
+        if self.bandwidth is not None:
+            if self.attenuation_db is not None or self.level_w is not None or self.level_dbm is not None:
+                raise _problem("bandwidth (an occupied-bandwidth limit) goes alone, without attenuation_db or a level")
+            if self.bandwidth.is_constant and not self.bandwidth.constant() > 0:
+                raise _problem(f"bandwidth must be > 0 Hz, found {self.bandwidth.text!r}")
+            return self
         if self.attenuation_db is None and self.level_w is None and self.level_dbm is None:
             raise _problem("give attenuation_db, level_w or level_dbm (none found)")
         if self.level_w is not None and self.level_dbm is not None:
@@ -351,18 +439,49 @@ class Region(_Table):
     """A frequency range with one limit, detector and reference bandwidths."""
 
     name: Text
-    kind: Literal["spurious"]
-    start: Frequency
-    stop: Frequency
-    detector: Literal["rms", "average", "peak", "any"]
+    kind: Literal["spurious", "out-of-band", "occupied-bandwidth"]
+    domain: Literal["spurious", "out-of-band", "necessary"] | None = Field(
+        None, description="v2: anchor the region on a domain of the emission"
+    )
+    offset: Offset | None = Field(None, description="v2: the region as offsets from the carrier")
+    start: Frequency | None = None
+    stop: Frequency | None = None
+    detector: Literal["rms", "average", "peak", "any"] | None = None
     limit: Limit
-    reference_bandwidth: tuple[ReferenceBand, ...] = Field(min_length=1)
+    reference_bandwidth: tuple[ReferenceBand, ...] = ()
+
+    @model_validator(mode="after")
+    def _shape(self):
+        where = (self.start is not None) + (self.stop is not None)
+        if self.kind == "occupied-bandwidth":
+            if self.limit.bandwidth is None:
+                raise _problem("an occupied-bandwidth region needs limit.bandwidth (the widest bandwidth allowed)")
+            if where or self.domain or self.offset or self.reference_bandwidth:
+                raise _problem("an occupied-bandwidth region takes only name, kind and limit.bandwidth")
+            return self
+        if self.limit.bandwidth is not None:
+            raise _problem(f"limit.bandwidth belongs to occupied-bandwidth regions, not to kind {self.kind!r}")
+        if self.detector is None:
+            raise _problem("detector is missing; expected rms, average, peak or any")
+        if not self.reference_bandwidth:
+            raise _problem("reference_bandwidth is missing; give at least one [[regions.reference_bandwidth]] table")
+        if self.domain is not None and self.offset is not None:
+            raise _problem("anchor a region on a domain or on offsets, not both")
+        if self.offset is not None or self.domain in ("out-of-band", "necessary"):
+            if where:
+                raise _problem("start/stop do not go with an offset or a domain other than 'spurious' (the anchor sets the range)")
+        elif where != 2:
+            what = "the spurious domain's search range" if self.domain == "spurious" else "the frequency range"
+            raise _problem(f"give start and stop ({what})")
+        if self.kind == "spurious" and self.domain in ("out-of-band", "necessary"):
+            raise _problem(f"a spurious region cannot be anchored on the {self.domain} domain")
+        return self
 
     @field_validator("stop")
     @classmethod
     def _after_start(cls, stop, info):
         start = info.data.get("start")
-        if start is not None and start.is_constant and stop.is_constant:
+        if stop is not None and start is not None and start.is_constant and stop.is_constant:
             if not start.constant() < stop.constant():
                 raise _problem(f"stop must be above start, found {_span_text(start, stop)}")
         return stop
@@ -401,6 +520,7 @@ class Mask(_Table):
     applies: Applies
     reference_power: ReferencePowerSpec
     fundamental: Fundamental
+    domains: DomainsSpec | None = Field(None, description="v2: the out-of-band / spurious boundary rule (default: SM.1539)")
     regions: tuple[Region, ...] = Field(min_length=1)
 
     _path: str = PrivateAttr("")
@@ -427,6 +547,26 @@ class Mask(_Table):
                 "(at most 80 characters), e.g. 'us-amateur-hf-2003'"
             )
         return value
+
+    @model_validator(mode="after")
+    def _v2_keys(self):
+        if self.schema_version >= 2:
+            return self
+        used = []
+        if self.domains is not None:
+            used.append("domains")
+        for i, r in enumerate(self.regions):
+            if r.kind != "spurious":
+                used.append(f"regions[{i}].kind = {r.kind!r}")
+            for key in ("domain", "offset"):
+                if getattr(r, key) is not None:
+                    used.append(f"regions[{i}].{key}")
+            for key, v in (("start", r.start), ("stop", r.stop), ("limit.attenuation_db", r.limit.attenuation_db), ("limit.level_w", r.limit.level_w), ("limit.level_dbm", r.limit.level_dbm)):
+                if v is not None and v.names & set(BANDWIDTH_VARIABLES):
+                    used.append(f"regions[{i}].{key} uses {sorted(v.names & set(BANDWIDTH_VARIABLES))}")
+        if used:
+            raise _problem("schema_version 1 does not know " + "; ".join(used) + "; set schema_version = 2")
+        return self
 
     @field_validator("regions")
     @classmethod
@@ -510,7 +650,7 @@ def mask_json_schema() -> dict:
     --------
     >>> schema = mask_json_schema()
     >>> sorted(schema["properties"])[:3]
-    ['applies', 'fundamental', 'id']
+    ['applies', 'domains', 'fundamental']
     """
     schema = Mask.model_json_schema(mode="validation")
     schema["$comment"] = f"maskcheck mask-file format, schema_version {MASK_SCHEMA_VERSION}"
