@@ -29,7 +29,7 @@ import time
 
 from ._version import __version__
 from .core.bandwidth import occupied_bandwidth
-from .core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, combine_verdicts
+from .core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, RegionResult, combine_verdicts
 from .core.spectrum import Spectrum
 from .core.station import Station
 from .core.units import format_frequency, w_to_dbm
@@ -133,6 +133,13 @@ def check(
             obw_fig = BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, obw.beta, notes)
 
     # reference power
+    relative = _level_scale(spectrum) == "dBFS"  # an uncalibrated recording (issue 5)
+    if relative and station.power_w is None:
+        raise StationError(
+            "the recording is not calibrated (levels in dBFS), so the transmitter power cannot be measured from it; "
+            "give the mean power at the antenna port with --power, or calibrate with --full-scale or --ref-tone",
+            where="--power",
+        )
     power_w = station.power_w
     source = "stated"
     if power_w is None:
@@ -147,7 +154,7 @@ def check(
             f"no power stated: the channel power measured around the carrier ({w_to_dbm(measured_w):.2f} dBm) is used "
             "as the mean power; this is right only if the trace is corrected to the transmitter output"
         )
-    elif measured_w is not None and abs(w_to_dbm(measured_w) - w_to_dbm(power_w)) > POWER_MISMATCH_DB:
+    elif not relative and measured_w is not None and abs(w_to_dbm(measured_w) - w_to_dbm(power_w)) > POWER_MISMATCH_DB:
         warnings.append(
             f"the stated mean power ({w_to_dbm(power_w):.2f} dBm) and the channel power measured around the carrier "
             f"({w_to_dbm(measured_w):.2f} dBm) differ by {abs(w_to_dbm(measured_w) - w_to_dbm(power_w)):.1f} dB: "
@@ -159,6 +166,11 @@ def check(
         source = f"{source}; {ref_note}"
         warnings.append(ref_note)
     reference = ReferencePower(kind, float(w_to_dbm(ref_w)), source, None if measured_w is None else float(w_to_dbm(measured_w)))
+    ref_fs = None
+    if relative:
+        ref_fs, note = _relative_reference(measured_w, power_w, ref_w, window)
+        reference = ReferencePower(kind, float(w_to_dbm(ref_w)), f"{source}; {note}", None)
+        warnings.append(note)
 
     # applicability
     ok, why = applies_to(mask, fc)
@@ -168,9 +180,19 @@ def check(
     # regions
     regions, emissions = [], []
     for lim in evaluate_mask(mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc):
+        absolute_note = None
+        if ref_fs is not None:
+            lim, absolute_note = _relative_limits(lim, ref_fs)
+            if lim is None:
+                regions.append(absolute_note)
+                continue
         res, ems, w = judge_region(
             spectrum, lim, excluded_hz=[window], guard_db=guard_db, report_threshold_db=report_threshold_db
         )
+        if absolute_note:
+            res.reasons.append(absolute_note)
+            if res.verdict != "fail":
+                res.verdict = "incomplete"
         regions.append(res)
         emissions.extend(ems)
         warnings.extend(w)
@@ -195,6 +217,7 @@ def check(
         "rbw_hz_max": float(spectrum.rbw_hz.max()),
         "detector": spectrum.detector,
     }
+    summary.update(_estimation_summary(spectrum))
     return CheckResult(
         verdict=verdict,
         mask=mask.to_info(note=mask.provenance.measurement_note or ""),
@@ -213,3 +236,64 @@ def check(
         created_utc=utc_now(),
         trace=trace,
     )
+
+
+# -- spectra estimated from IQ recordings (issue 5) ------------------------------------
+def _level_scale(spectrum: Spectrum) -> str:
+    """``"dBFS"`` for an uncalibrated recording, else ``"dBm"``."""
+    return str(spectrum.reference.get("level_scale", "dBm"))
+
+
+def _relative_reference(measured_w, power_w, ref_w, window):
+    """The reference power on the scale of an uncalibrated spectrum, and a note saying so.
+
+    The channel power measured in the fundamental window stands for the
+    stated mean power; a PEP reference keeps its stated ratio to the mean.
+    """
+    if measured_w is None:
+        raise StationError(
+            f"the recording is not calibrated (dBFS) and does not cover the fundamental window "
+            f"{format_frequency(window[0])} to {format_frequency(window[1])}: relative limits need the channel power "
+            "measured there; calibrate with --full-scale or --ref-tone",
+            where="--power",
+        )
+    ref_fs = measured_w * (ref_w / power_w)
+    note = (
+        f"levels are relative (uncalibrated recording, dBFS): relative limits are taken below the channel power "
+        f"measured around the carrier ({w_to_dbm(measured_w):.2f} dBFS), which stands for the stated mean "
+        "power; absolute limits cannot be judged, and level and limit figures are in dBFS, not dBm"
+    )
+    return ref_fs, note
+
+
+def _relative_limits(lim, ref_fs):
+    """A region's limits on the dBFS scale: the relative part only.
+
+    Returns ``(limits, note)``: ``note`` says an absolute part was left
+    unjudged (the region is then at best incomplete).  A region with an
+    absolute limit only cannot be judged at all: ``(None, RegionResult)``.
+    """
+    from dataclasses import replace
+
+    absolute = getattr(lim, "level_w", None) is not None
+    text = (
+        f"the absolute limit ({lim.limit_text}) cannot be judged on an uncalibrated recording (levels in dBFS): "
+        "calibrate with --full-scale or --ref-tone"
+    )
+    if getattr(lim, "attenuation_db", None) is None:
+        return None, RegionResult(lim.name, lim.kind, lim.start_hz, lim.stop_hz, "incomplete", limit_text=lim.limit_text,
+                                  detector_required=lim.detector, reasons=[text])
+    return replace(lim, reference_power_w=ref_fs, level_w=None), (text if absolute else None)
+
+
+def _estimation_summary(spectrum: Spectrum) -> dict:
+    """The estimation parameters and calibration of a spectrum made from IQ, for the result."""
+    ref = spectrum.reference
+    out = {}
+    if "level_scale" in ref:
+        out["level_scale"] = ref["level_scale"]
+    for key in ("estimation", "calibration", "recording"):
+        if key in ref:
+            out[key] = {k: v for k, v in dict(ref[key]).items() if not str(k).startswith("_")}
+    return out
+

@@ -19,6 +19,8 @@ __all__ = [
     "UnitError",
     "SpectrumError",
     "TraceError",
+    "RecordingError",
+    "CorrectionError",
     "MaskError",
     "StationError",
     "OutputError",
@@ -64,6 +66,14 @@ class SpectrumError(MaskcheckError, ValueError):
 
 class TraceError(MaskcheckError, ValueError):
     """A malformed trace file."""
+
+
+class RecordingError(MaskcheckError, ValueError):
+    """A malformed IQ recording (SigMF, WAV or raw) or its missing description."""
+
+
+class CorrectionError(MaskcheckError, ValueError):
+    """A malformed correction table, or one that does not cover the spectrum."""
 
 
 class MaskError(MaskcheckError, ValueError):

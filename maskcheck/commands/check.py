@@ -2,14 +2,15 @@
 
 from __future__ import annotations
 
-from ._common import add_trace_options, console, read_traces
+from ._common import add_trace_options, console
+from ._recording import add_recording_options
 
 __all__ = ["register", "run"]
 
 
 def register(sub) -> None:
     c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
-    c.add_argument("traces", nargs="+", metavar="TRACE", help="trace file(s); several spans are stitched, a narrower RBW wins where they overlap")
+    c.add_argument("traces", nargs="+", metavar="INPUT", help="trace file(s) or IQ recording(s); several spans are stitched, a narrower RBW wins where they overlap")
     c.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
     c.add_argument("--carrier", required=True, metavar="F", help="carrier (assigned) frequency, e.g. 7.1MHz")
     c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
@@ -19,6 +20,7 @@ def register(sub) -> None:
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
     add_trace_options(c)
+    add_recording_options(c)
     c.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
     c.add_argument("--report", metavar="PDF", help="write the PDF evidence report")
     c.add_argument("--force", action="store_true", help="overwrite existing output files")
@@ -49,15 +51,23 @@ def run(args) -> int:
     within = parse_db(args.list_within, what="--list-within")
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
-    spectra = read_traces(args.traces, args)
+    from ._recording import choose_trace, read_input, worst_frame_check
+
+    got = read_input(args.traces, args, trace=choose_trace(args, mask))
+    spectra = got.spectra
     try:
         spectrum = stitch(spectra)
     except SpectrumError as exc:
         raise TraceError(f"cannot join the traces: {exc.message}", path=" + ".join(args.traces)) from None
-    inputs = [InputFile(str(s.reference.get("source")), str(s.reference.get("sha256", ""))) for s in spectra]
+    inputs = got.inputs
     from ..checking import check
 
-    result = check(spectrum, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs)
+    def judge(s):
+        return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs)
+
+    result = judge(spectrum)
+    # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)
+    result = worst_frame_check(result, got, judge)
     _write_outputs(result, args)
     return result.exit_code
 

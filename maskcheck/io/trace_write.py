@@ -17,8 +17,15 @@ from .output import write_atomic
 __all__ = ["format_trace", "write_trace"]
 
 
-def format_trace(spectrum: Spectrum, notes=()) -> str:
-    """The trace file text for one span of ``spectrum`` (one RBW)."""
+def format_trace(spectrum: Spectrum, notes=(), *, level_column: str = "level_dbm") -> str:
+    """The trace file text for one span of ``spectrum`` (one RBW).
+
+    ``level_column="level_dbfs"`` labels the levels of an uncalibrated
+    recording as relative to full scale (the reader then refuses to take
+    them for dBm).
+    """
+    if level_column not in ("level_dbm", "level_dbfs"):
+        raise ValueError(f"{level_column=} is not level_dbm or level_dbfs")
     if spectrum.segments:
         raise SpectrumError("a trace file holds one span; write each span of a stitched spectrum to its own file")
     rbw = np.unique(spectrum.rbw_hz)
@@ -34,13 +41,13 @@ def format_trace(spectrum: Spectrum, notes=()) -> str:
         out.write(f"# centre_hz: {float(spectrum.reference['centre_hz'])!r}\n")
     for n in notes:
         out.write(f"# {' '.join(str(n).split())}\n")
-    out.write("frequency_hz,level_dbm\n")
+    out.write(f"frequency_hz,{level_column}\n")
     lev = spectrum.level_dbm
     for f, l in zip(spectrum.freq_hz.tolist(), lev.tolist()):
         out.write(f"{f!r},{l!r}\n")
     return out.getvalue()
 
 
-def write_trace(path, spectrum: Spectrum, *, notes=(), force: bool = False):
+def write_trace(path, spectrum: Spectrum, *, notes=(), force: bool = False, level_column: str = "level_dbm"):
     """Write ``spectrum`` (one span) to ``path`` atomically; see :func:`format_trace`."""
-    return write_atomic(path, format_trace(spectrum, notes), force=force)
+    return write_atomic(path, format_trace(spectrum, notes, level_column=level_column), force=force)

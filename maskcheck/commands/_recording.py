@@ -1,0 +1,279 @@
+"""IQ recordings on the command line: their options, and reading any input.
+
+:func:`read_input` is what ``maskcheck check`` and ``maskcheck spectrum``
+call: SigMF and WAV files are recognised by their extension, any other file
+is a recording when ``--format`` is given (raw I/Q) and a trace otherwise.
+Recordings are estimated (:mod:`maskcheck.io.iq_spectrum`) with a progress
+bar once the work takes more than a couple of seconds.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import time
+from dataclasses import dataclass, field
+
+__all__ = ["add_recording_options", "read_input", "InputSet", "is_recording"]
+
+#: seconds of work before a progress bar appears
+PROGRESS_AFTER_S = 2.0
+
+
+def add_recording_options(sp, *, time_resolved: bool = True) -> None:
+    """Options for IQ recordings (SigMF, WAV, raw)."""
+    g = sp.add_argument_group(
+        "IQ recordings",
+        "SigMF (.sigmf-meta/.sigmf-data/.sigmf), two-channel WAV (.wav) or raw I/Q (with --format). "
+        "--rbw chooses the segment length whose noise bandwidth is that RBW.",
+    )
+    g.add_argument("--format", metavar="TYPE", help="datatype of a raw file: cf32_le, ci16_le, ci8, cu8, ... (SigMF names)")
+    g.add_argument("--rate", metavar="F", help="sample rate of a raw file, e.g. 2.4MHz")
+    g.add_argument("--centre", "--center", dest="centre", metavar="F", help="centre frequency of a raw or WAV file, e.g. 7.1MHz")
+    g.add_argument("--i-channel", choices=["left", "right"], default="left", help="WAV channel holding I (default left)")
+    g.add_argument("--window", default="blackmanharris", metavar="NAME",
+                   help="hann, blackmanharris (default), flattop, or kaiser:BETA (e.g. kaiser:14)")
+    g.add_argument("--overlap", default="50%", metavar="PCT", help="segment overlap, e.g. 50%% (default) or 0.75")
+    g.add_argument("--segment", type=int, metavar="N", help="segment length in samples (instead of --rbw; default 4096)")
+    g.add_argument("--trace", choices=["auto", "average", "max-hold"], default="auto",
+                   help="average (rms detector) or max-hold (peak-detector emulation); auto: max-hold only if the mask asks for peak")
+    if time_resolved:
+        g.add_argument("--frame", metavar="T", help="time-resolved: judge frames of this duration (e.g. 50ms) and report the worst")
+    g.add_argument("--full-scale", metavar="P", help="calibration: a full-scale tone reads this power, e.g. 0dBm")
+    g.add_argument("--ref-tone", metavar="F=P", help="calibration: a tone of known power in the recording, e.g. 7.1MHz=-10dBm")
+    g.add_argument("--correction", metavar="FILE", help="correction table of the setup (dB added per frequency)")
+    g.add_argument("--workers", type=int, metavar="N", help="estimation threads (default: all CPUs)")
+
+
+def is_recording(path, args) -> bool:
+    from ..io.iq import recording_kind
+
+    return recording_kind(path) is not None or getattr(args, "format", None) is not None
+
+
+@dataclass
+class InputSet:
+    """What was read: the spectra (one per input) and their provenance."""
+
+    spectra: list
+    inputs: list  # InputFile
+    recordings: list = field(default_factory=list)  # RecordingSpectrum, for the time-resolved mode
+
+
+def _overlap(text: str) -> float:
+    from ..errors import UnitError
+
+    s = str(text).strip()
+    try:
+        v = float(s[:-1]) / 100.0 if s.endswith("%") else float(s)
+    except ValueError:
+        raise UnitError(f"{text!r} is not an overlap; expected a percentage such as 50% or a fraction such as 0.5", where="--overlap") from None
+    return v
+
+
+def _window(text: str):
+    from ..errors import UnitError
+
+    name, _, beta = str(text).partition(":")
+    name = name.strip().lower().replace("-", "").replace("_", "")
+    if name in ("blackmanharris4", "bh"):
+        name = "blackmanharris"
+    if beta:
+        try:
+            return name, float(beta)
+        except ValueError:
+            raise UnitError(f"{text!r}: {beta!r} is not a number; expected e.g. kaiser:14", where="--window") from None
+    return name, None
+
+
+def _calibration(args):
+    from ..core.units import parse_frequency, parse_power
+    from ..errors import UnitError
+    from ..io.correction import read_correction
+    from ..io.iq_spectrum import Calibration
+
+    full = parse_power(args.full_scale, what="--full-scale") if args.full_scale else None
+    tone_hz = tone_w = None
+    if args.ref_tone:
+        f, sep, p = args.ref_tone.partition("=")
+        if not sep:
+            raise UnitError(f"{args.ref_tone!r}; expected FREQUENCY=POWER, e.g. 7.1MHz=-10dBm", where="--ref-tone")
+        tone_hz = parse_frequency(f, what="--ref-tone")
+        tone_w = parse_power(p, what="--ref-tone")
+    if full is not None and tone_hz is not None:
+        raise UnitError("give --full-scale or --ref-tone, not both", where="--ref-tone")
+    corr = read_correction(args.correction) if args.correction else None
+    return Calibration(full, tone_hz, tone_w, corr)
+
+
+class _Progress:
+    """A rich progress bar that appears only when the work lasts."""
+
+    def __init__(self, label: str):
+        self.label = label
+        self.t0 = time.monotonic()
+        self.bar = None
+        self.task = None
+
+    def __call__(self, done: int, total: int) -> None:
+        if self.bar is None:
+            if time.monotonic() - self.t0 < PROGRESS_AFTER_S:
+                return
+            from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+            from ._common import console
+
+            self.bar = Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.percentage:>3.0f}%"),
+                                TimeRemainingColumn(), console=console(stderr=True), transient=True)
+            self.bar.start()
+            self.task = self.bar.add_task(self.label, total=total)
+        self.bar.update(self.task, completed=done)
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.stop()
+
+
+def estimate_args(args, trace: str):
+    """Keyword arguments of :func:`maskcheck.io.iq_spectrum.estimate_recording` from the options."""
+    from ..core.units import parse_frequency, parse_quantity
+
+    window, beta = _window(args.window)
+    rbw = parse_frequency(args.rbw, what="--rbw", default_unit="Hz") if args.rbw else None
+    frame = getattr(args, "frame", None)
+    frame_s = None
+    if frame:
+        frame_s = _duration(frame)
+    return dict(window=window, kaiser_beta=beta, rbw_hz=rbw, segment_samples=args.segment, overlap=_overlap(args.overlap),
+                trace=trace, frame_s=frame_s, calibration=_calibration(args), workers=args.workers)
+
+
+def _duration(text: str) -> float:
+    from ..errors import UnitError
+
+    s = str(text).strip().lower()
+    for unit, k in (("ms", 1e-3), ("us", 1e-6), ("µs", 1e-6), ("s", 1.0)):
+        if s.endswith(unit):
+            try:
+                v = float(s[: -len(unit)]) * k
+            except ValueError:
+                break
+            if v > 0:
+                return v
+            break
+    raise UnitError(f"{text!r} is not a duration; expected e.g. 50ms or 0.2s", where="--frame")
+
+
+def read_recording(path, args, trace: str = "average"):
+    """Open and estimate one recording; return (RecordingSpectrum, [InputFile])."""
+    from ..core.result import InputFile
+    from ..core.units import parse_frequency
+    from ..io.hashing import sha256_file
+    from ..io.iq import open_recording
+    from ..io.iq_spectrum import estimate_recording, reads_file_in_order
+
+    rate = parse_frequency(args.rate, what="--rate") if args.rate else None
+    centre = parse_frequency(args.centre, what="--centre") if args.centre else None
+    rec = open_recording(path, datatype=args.format, sample_rate_hz=rate, centre_hz=centre, i_channel=args.i_channel)
+    kw = estimate_args(args, trace)
+    in_order = reads_file_in_order(rec)
+    hasher = hashlib.sha256() if in_order else None
+    bar = _Progress(f"estimating {rec.path}")
+    try:
+        rs = estimate_recording(rec, progress=bar, hasher=hasher, **kw)
+    finally:
+        bar.close()
+    files = []
+    if rec.meta_path and rec.meta_path != rec.data_path:
+        files.append(InputFile(rec.meta_path, sha256_file(rec.meta_path)))
+    digest = hasher.hexdigest() if in_order else sha256_file(rec.data_path)
+    files.append(InputFile(rec.data_path, digest))
+    return rs, files
+
+
+def read_input(paths, args, *, trace: str = "average") -> InputSet:
+    """Read traces and recordings named on the command line (not yet stitched)."""
+    from ..core.result import InputFile
+    from ._common import read_traces
+
+    spectra, inputs, recs = [], [], []
+    traces = [p for p in paths if not is_recording(p, args)]
+    for p in paths:
+        if is_recording(p, args):
+            rs, files = read_recording(p, args, trace)
+            spectra.append(rs.spectrum)
+            inputs.extend(files)
+            recs.append(rs)
+        else:
+            (s,) = read_traces([p], args)
+            spectra.append(s)
+            inputs.append(InputFile(str(s.reference.get("source")), str(s.reference.get("sha256", ""))))
+    if recs and traces:
+        scales = {s.reference.get("level_scale", "dBm") for s in spectra}
+        if "dBFS" in scales:
+            from ..errors import TraceError
+
+            raise TraceError("an uncalibrated recording (dBFS) cannot be joined with traces in dBm; "
+                             "calibrate it with --full-scale or --ref-tone", path=" + ".join(map(str, paths)))
+    return InputSet(spectra, inputs, recs)
+
+
+def choose_trace(args, mask) -> str:
+    """The trace of a recording to judge: ``--trace``, or for ``auto`` what the mask asks for."""
+    choice = getattr(args, "trace", None) or "auto"
+    if choice != "auto":
+        return choice
+    wants_peak = any(getattr(r, "detector", "") == "peak" for r in getattr(mask, "regions", ()))
+    return "max-hold" if wants_peak else "average"
+
+
+def _score(result) -> float:
+    """Worst margin of a result over its regions, dB (+inf when none was evaluated)."""
+    margins = [r.worst_margin_db for r in result.regions if r.worst_margin_db is not None]
+    return min(margins) if margins else float("inf")
+
+
+def worst_frame_check(result, got: InputSet, judge):
+    """In the time-resolved mode (``--frame``), judge every frame and keep the worst.
+
+    The result of the whole-recording trace stands unless some frame has a
+    lower worst margin; then that frame's result is returned.  Either way the
+    spectrum summary gains a ``time_resolved`` entry (frames, the worst frame
+    and its start, both margins) and a warning says which was judged.
+    """
+    from ..errors import RecordingError
+
+    if not getattr(got, "recordings", None) or not any(rs.frames for rs in got.recordings):
+        return result
+    if len(got.spectra) != 1:
+        raise RecordingError("the time-resolved mode (--frame) takes one recording and no other input", where="--frame")
+    (rs,) = got.recordings
+    (fc, est) = rs.estimates[0]
+    scores = []
+    results = []
+    for i in range(rs.frames):
+        r = judge(rs.frame_spectrum(i))
+        scores.append(_score(r))
+        results.append(r)
+    worst = min(range(len(scores)), key=lambda i: scores[i])
+    whole = _score(result)
+    info = {
+        "frames": rs.frames,
+        "frame_s": float(est.frame_averages[0] * est.plan.hop_samples / est.plan.sample_rate_hz),
+        "worst_frame": worst,
+        "worst_frame_start_s": float(est.frame_start_s[worst]),
+        "worst_frame_margin_db": None if scores[worst] == float("inf") else scores[worst],
+        "worst_frame_averages": int(est.frame_averages[worst]),
+        "whole_recording_margin_db": None if whole == float("inf") else whole,
+    }
+    chosen = result
+    if scores[worst] < whole:
+        chosen = results[worst]
+        chosen.warnings.insert(0, (
+            f"time-resolved: frame {worst} (from {info['worst_frame_start_s']:.6g} s, {info['worst_frame_averages']} "
+            f"averages) is judged: its worst margin {scores[worst]:.2f} dB is below the whole recording's "
+            f"{'none' if whole == float('inf') else f'{whole:.2f} dB'} (verdict of the whole recording: {result.verdict})"
+        ))
+    else:
+        chosen.warnings.insert(0, f"time-resolved: no frame of {rs.frames} does worse than the whole recording")
+    chosen.spectrum_summary["time_resolved"] = info
+    return chosen

@@ -1,0 +1,82 @@
+"""``maskcheck spectrum``: the estimated spectrum of an IQ recording, as a trace file."""
+
+from __future__ import annotations
+
+from ._recording import add_recording_options
+
+__all__ = ["register", "run", "estimation_notes"]
+
+
+def register(sub) -> None:
+    s = sub.add_parser(
+        "spectrum",
+        help="estimate the spectrum of an IQ recording (and write it as a trace)",
+        description="Estimate the power spectrum of an IQ recording (Welch, linear power averaging) and print or write it "
+        "in the trace text format, with every estimation parameter in its header.",
+    )
+    s.add_argument("recording", metavar="RECORDING", help="SigMF, WAV, or raw I/Q file (raw needs --format, --rate, --centre)")
+    s.add_argument("--rbw", metavar="BW", help="resolution (noise) bandwidth, e.g. 1kHz: sets the segment length for the window")
+    add_recording_options(s, time_resolved=False)
+    s.add_argument("--out", metavar="PATH", help="write the spectrum as a trace text file")
+    s.add_argument("--force", action="store_true", help="overwrite an existing output file")
+    s.add_argument("--quiet", action="store_true", help="print no summary")
+    s.set_defaults(run=run)
+
+
+def estimation_notes(spectrum, files) -> list[str]:
+    """Header lines for the trace file: how the spectrum was made."""
+    ref = spectrum.reference
+    est = dict(ref.get("estimation", {}))
+    cal = {k: v for k, v in dict(ref.get("calibration", {})).items() if not str(k).startswith("_")}
+    lines = ["estimated by maskcheck from an IQ recording (pre-compliance aid, not a certified measurement)"]
+    lines.append("estimation: " + " ".join(f"{k}={_fmt(v)}" for k, v in est.items()))
+    lines.append("calibration: " + " ".join(f"{k}={_fmt(v)}" for k, v in cal.items()))
+    rec = dict(ref.get("recording", {}))
+    if rec:
+        lines.append("recording: " + " ".join(f"{k}={_fmt(v)}" for k, v in rec.items()))
+    for f in files:
+        lines.append(f"input: {f.path} sha256={f.sha256}")
+    lines.extend(str(n) for n in ref.get("notes", ()))
+    return lines
+
+
+def _fmt(v) -> str:
+    if isinstance(v, float):
+        return f"{v:.10g}"
+    return str(v).replace(" ", "_")
+
+
+def run(args) -> int:
+    from ..io.output import check_writable
+    from ..io.trace_write import write_trace
+    from ._common import console
+    from ._recording import read_recording
+
+    if args.out:
+        check_writable(args.out, args.force)
+    trace = "average" if args.trace == "auto" else args.trace
+    rs, files = read_recording(args.recording, args, trace)
+    spectrum = rs.spectrum
+    scale = spectrum.reference.get("level_scale", "dBm")
+    if args.out:
+        write_trace(args.out, spectrum, notes=estimation_notes(spectrum, files), force=args.force,
+                    level_column="level_dbfs" if scale == "dBFS" else "level_dbm")
+    if not args.quiet:
+        est = spectrum.reference["estimation"]
+        cal = spectrum.reference["calibration"]
+        out = console()
+        out.print(f"[bold]{args.recording}[/bold]: {len(spectrum)} points, {spectrum.start_hz:,.1f} to {spectrum.stop_hz:,.1f} Hz")
+        out.print(
+            f"RBW (noise bandwidth) {est['enbw_hz']:.6g} Hz: {est['window']} window, {est['segment_samples']} samples per segment, "
+            f"{100 * est['overlap_fraction']:.0f} % overlap, {est['averages']} averages "
+            f"(uncertainty of the average +-{est['uncertainty_db']:.2f} dB, 1 sigma); trace: {est['trace']} ({est['detector']})"
+        )
+        if scale == "dBFS":
+            out.print("levels in dBFS: not calibrated (give --full-scale or --ref-tone for dBm)")
+        else:
+            out.print(f"levels in dBm: {cal['method']}, full scale = {cal['full_scale_dbm']:.2f} dBm")
+        peak = int(spectrum.power_w.argmax())
+        out.print(f"strongest point: {spectrum.level_dbm[peak]:.2f} {scale} at {spectrum.freq_hz[peak]:,.1f} Hz")
+        if args.out:
+            out.print(f"written: {args.out}")
+    return 0

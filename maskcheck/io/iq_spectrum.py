@@ -1,0 +1,329 @@
+"""From an IQ recording to a calibrated :class:`~maskcheck.core.spectrum.Spectrum`.
+
+This joins the readers of :mod:`maskcheck.io.iq` and the estimator of
+:mod:`maskcheck.core.estimate`:
+
+1. the captures are grouped by centre frequency; each group is one Welch
+   estimate (segments never straddle a capture boundary);
+2. each estimate becomes a span at radio frequency, and spans that overlap
+   are cut where their overlap is halved (common practice, no published
+   source);
+3. the levels are put on an absolute scale when a calibration is given:
+
+   * ``full_scale_w``: the power a full-scale complex tone reads (0 dBFS);
+   * ``ref_tone``: a tone of known power in the recording; its measured
+     power (integrated over four noise bandwidths either side, minus the
+     floor there) fixes the scale;
+   * a correction table (:mod:`maskcheck.io.correction`) adds a
+     frequency-dependent gain on top (attenuators, cables, the receiver's
+     response).
+
+   Without a calibration the spectrum stays relative to full scale: its
+   ``reference["level_scale"]`` is ``"dBFS"``, and 0 dBFS is stored as 1 mW
+   so that ``level_dbm`` reads dBFS; a check may then judge it only against
+   relative limits.
+
+Everything used -- window, ENBW, segment length, overlap, averages, the
+4.34/sqrt(K) dB uncertainty and the calibration -- is written into
+``reference["estimation"]`` and ``reference["calibration"]``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..core.estimate import WelchAccumulator, WelchEstimate, plan_welch
+from ..core.spectrum import Spectrum
+from ..errors import RecordingError, SpectrumError
+from .iq import BLOCK_SAMPLES, Recording
+
+__all__ = ["Calibration", "RecordingSpectrum", "estimate_recording", "reads_file_in_order", "TONE_HALF_WIDTH_ENBW", "TONE_MIN_SNR_DB"]
+
+#: what 0 dBFS is stored as in an uncalibrated spectrum, W (so that level_dbm reads dBFS)
+UNCALIBRATED_FULL_SCALE_W = 1e-3
+#: the reference tone is integrated over this many noise bandwidths either side
+TONE_HALF_WIDTH_ENBW = 4.0
+#: how far a reference tone must stand above the floor in that band, dB
+TONE_MIN_SNR_DB = 20.0
+
+
+@dataclass(frozen=True)
+class Calibration:
+    """How levels are put on an absolute scale (all optional).
+
+    Attributes
+    ----------
+    full_scale_w : float or None
+        Power of a full-scale tone, W (``--full-scale 0dBm``).
+    ref_tone_hz, ref_tone_w : float or None
+        A tone in the recording at this frequency with this known power.
+    correction : object or None
+        A correction table with ``gain_db(freq_hz)`` and ``path``.
+    """
+
+    full_scale_w: float | None = None
+    ref_tone_hz: float | None = None
+    ref_tone_w: float | None = None
+    correction: object = None
+
+    @property
+    def absolute(self) -> bool:
+        return self.full_scale_w is not None or self.ref_tone_hz is not None
+
+
+@dataclass(frozen=True, eq=False)
+class RecordingSpectrum:
+    """The result: the spectrum to check, and what it was made from."""
+
+    spectrum: Spectrum
+    estimates: tuple[tuple[float, WelchEstimate], ...]  # (centre_hz, estimate) per span
+    scale_w: float
+    calibration: dict
+
+    def frame_spectrum(self, i: int) -> Spectrum:
+        """Frame ``i`` of a time-resolved single-span estimate, on the same scale."""
+        (fc, est), = self.estimates
+        return self._finish(est.to_spectrum(fc, trace="frame", frame=i, reference=dict(self.spectrum.reference)))
+
+    @property
+    def frames(self) -> int:
+        if len(self.estimates) != 1 or self.estimates[0][1].frames_fs is None:
+            return 0
+        return int(self.estimates[0][1].frames_fs.shape[0])
+
+    def _finish(self, s: Spectrum) -> Spectrum:
+        gain = _gain(s.freq_hz, self.scale_w, self.calibration.get("_correction"))
+        ref = dict(s.reference)
+        return Spectrum(s.freq_hz, s.power_w * gain, s.rbw_hz, s.enbw_hz, detector=s.detector, reference=ref)
+
+
+def _gain(freq_hz, scale_w, correction):
+    g = np.full(np.shape(freq_hz), float(scale_w))
+    if correction is not None:
+        g = g * 10.0 ** (np.asarray(correction.gain_db(freq_hz)) / 10.0)
+    return g
+
+
+def reads_file_in_order(rec: Recording) -> bool:
+    """Whether :func:`estimate_recording` reads every byte of the data file once, in order."""
+    if not rec.covers_whole_file or len(_group_captures(rec)) != 1:
+        return False
+    pos = 0
+    for c in rec.captures:
+        if c.sample_start != pos:
+            return False
+        pos += c.sample_count
+    return pos == rec.num_samples
+
+
+def _group_captures(rec: Recording):
+    groups: dict[float, list] = {}
+    for c in rec.captures:
+        if c.sample_count > 0:
+            groups.setdefault(c.centre_hz, []).append(c)
+    return groups
+
+
+def estimate_recording(
+    rec: Recording,
+    *,
+    window: str = "blackmanharris",
+    kaiser_beta: float | None = None,
+    rbw_hz: float | None = None,
+    segment_samples: int | None = None,
+    overlap: float = 0.5,
+    trace: str = "average",
+    frame_s: float | None = None,
+    calibration: Calibration = Calibration(),
+    workers: int | None = None,
+    block_samples: int = BLOCK_SAMPLES,
+    progress=None,
+    hasher=None,
+) -> RecordingSpectrum:
+    """Estimate the spectrum of a recording and calibrate it.
+
+    Parameters
+    ----------
+    rec : Recording
+        From :func:`maskcheck.io.iq.open_recording`.
+    window, kaiser_beta, rbw_hz, segment_samples, overlap
+        See :func:`maskcheck.core.estimate.plan_welch`.
+    trace : {"average", "max-hold"}
+        The trace the spectrum holds: RMS average or max-hold (peak-detector
+        emulation).
+    frame_s : float, optional
+        Keep per-frame averages of this duration (time-resolved mode; one
+        centre frequency only).
+    calibration : Calibration
+    workers : int, optional
+        Threads of the estimator.
+    block_samples : int
+        Samples read at a time.
+    progress : callable, optional
+        ``progress(samples_done, samples_total)`` after every block.
+    hasher : hashlib object, optional
+        Updated with the sample bytes in the order read; used only when
+        :func:`reads_file_in_order` says the read covers the data file from
+        start to end (then its digest is the file's).
+
+    Returns
+    -------
+    RecordingSpectrum
+    """
+    plan = plan_welch(rec.sample_rate_hz, window=window, kaiser_beta=kaiser_beta, rbw_hz=rbw_hz,
+                      segment_samples=segment_samples, overlap=overlap)
+    groups = _group_captures(rec)
+    frame_segments = None
+    if frame_s is not None:
+        if not (math.isfinite(frame_s) and frame_s > 0):
+            raise RecordingError(f"frame duration {frame_s!r} s must be > 0", path=rec.path, where="--frame")
+        if len(groups) > 1:
+            raise RecordingError(
+                f"holds captures at {len(groups)} centre frequencies; the time-resolved mode needs one",
+                path=rec.path, where="--frame")
+        frame_segments = max(1, round(frame_s * rec.sample_rate_hz / plan.hop_samples))
+    total = sum(c.sample_count for cs in groups.values() for c in cs)
+    done = 0
+    estimates = []
+    for fc, caps in sorted(groups.items()):
+        acc = WelchAccumulator(plan, frame_segments=frame_segments, workers=workers)
+        try:
+            for c in caps:
+                acc.skip(c.sample_start - acc.position)
+                for blk in rec.blocks(c.sample_start, c.sample_count, block_samples=block_samples, hasher=hasher):
+                    acc.feed(blk)
+                    done += blk.size
+                    if progress is not None:
+                        progress(done, total)
+            try:
+                est = acc.result()
+            except SpectrumError as exc:
+                raise RecordingError(exc.message, path=rec.path) from None
+        finally:
+            acc.close()
+        estimates.append((fc, est))
+
+    # calibration scale
+    cal: dict = {"level_scale": "dBFS", "method": "none (levels relative to full scale)"}
+    scale_w = UNCALIBRATED_FULL_SCALE_W
+    if calibration.full_scale_w is not None and calibration.ref_tone_hz is not None:
+        raise RecordingError("give --full-scale or --ref-tone, not both", path=rec.path, where="--ref-tone")
+    if calibration.full_scale_w is not None:
+        scale_w = float(calibration.full_scale_w)
+        cal = {"level_scale": "dBm", "method": "full scale", "full_scale_dbm": 10 * math.log10(scale_w) + 30}
+    correction = calibration.correction
+    reference = {
+        "source": rec.path,
+        "recording": {
+            "kind": rec.kind,
+            "datatype": rec.datatype,
+            "sample_rate_hz": rec.sample_rate_hz,
+            "samples": rec.num_samples,
+            "duration_s": rec.duration_s,
+            "captures": len(rec.captures),
+        },
+        "notes": list(rec.notes),
+    }
+    spans = []
+    for fc, est in estimates:
+        s = est.to_spectrum(fc, trace=trace, reference=reference, source=rec.path)
+        spans.append(s)
+    if calibration.ref_tone_hz is not None:
+        tone = _measure_tone(rec, spans, estimates, calibration.ref_tone_hz, correction)
+        scale_w = float(calibration.ref_tone_w) / tone
+        cal = {
+            "level_scale": "dBm",
+            "method": "reference tone",
+            "tone_hz": calibration.ref_tone_hz,
+            "tone_dbm": 10 * math.log10(calibration.ref_tone_w) + 30,
+            "tone_measured_dbfs": 10 * math.log10(tone),
+            "full_scale_dbm": 10 * math.log10(scale_w) + 30,
+        }
+    if correction is not None:
+        cal["correction_table"] = str(getattr(correction, "path", ""))
+    cal["calibrated"] = cal["level_scale"] == "dBm"
+    finished = []
+    for s in spans:
+        try:
+            gain = _gain(s.freq_hz, scale_w, correction)
+        except RecordingError:
+            raise
+        ref = dict(s.reference)
+        ref["calibration"] = {k: v for k, v in cal.items()}
+        ref["level_scale"] = cal["level_scale"]
+        finished.append(Spectrum(s.freq_hz, s.power_w * gain, s.rbw_hz, s.enbw_hz, detector=s.detector, reference=ref))
+    spectrum = _join_spans(finished)
+    cal_private = dict(cal)
+    cal_private["_correction"] = correction
+    return RecordingSpectrum(spectrum, tuple(estimates), scale_w, cal_private)
+
+
+def _measure_tone(rec, spans, estimates, f_hz, correction) -> float:
+    """Power of the reference tone in full-scale units (corrections applied)."""
+    for s, (fc, est) in zip(spans, estimates):
+        lo, hi = s.coverage_hz[0]
+        half = TONE_HALF_WIDTH_ENBW * est.plan.enbw_hz
+        if lo <= f_hz - half and f_hz + half <= hi:
+            break
+    else:
+        raise RecordingError(
+            f"the reference tone at {f_hz:g} Hz (with {TONE_HALF_WIDTH_ENBW:g} RBW either side) lies outside the "
+            "recorded band; expected a tone inside it",
+            path=rec.path,
+            where="--ref-tone",
+        )
+    g = _gain(s.freq_hz, 1.0, correction)
+    s = Spectrum(s.freq_hz, s.power_w * g, s.rbw_hz, s.enbw_hz, detector=s.detector)
+    # the tone is measured on the average, whatever trace is asked for
+    if s.detector != "rms":
+        avg = est.to_spectrum(fc, trace="average")
+        s = Spectrum(avg.freq_hz, avg.power_w * g, avg.rbw_hz, avg.enbw_hz, detector="rms")
+    band = s.band_power_w(f_hz - half, f_hz + half)
+    density = np.median(s.power_w / s.enbw_hz)  # floor: median density across the span
+    floor = float(density * 2 * half)
+    if not band > floor * 10 ** (TONE_MIN_SNR_DB / 10):
+        raise RecordingError(
+            f"the reference tone at {f_hz:g} Hz stands only {10 * math.log10(max(band, 1e-300) / floor):.1f} dB above "
+            f"the floor; expected at least {TONE_MIN_SNR_DB:g} dB (is the frequency right?)",
+            path=rec.path,
+            where="--ref-tone",
+        )
+    return band - floor
+
+
+def _join_spans(spectra: list[Spectrum]) -> Spectrum:
+    """One Spectrum from spans at different centres; overlaps are cut in the middle."""
+    spectra = sorted(spectra, key=lambda s: s.freq_hz[0])
+    if len(spectra) == 1:
+        return spectra[0]
+    keep = [[float("-inf"), float("inf")] for _ in spectra]
+    for i in range(len(spectra) - 1):
+        a, b = spectra[i], spectra[i + 1]
+        a_hi, b_lo = a.coverage_hz[-1][1], b.coverage_hz[0][0]
+        if b_lo < a_hi:
+            mid = (a_hi + b_lo) / 2.0
+            keep[i][1] = mid
+            keep[i + 1][0] = mid
+    f, p, r, e, segs, edges = [], [], [], [], [], []
+    n = 0
+    for s, (lo, hi) in zip(spectra, keep):
+        sel = (s.freq_hz >= lo) & (s.freq_hz < hi)
+        if not sel.any():
+            continue
+        if n:
+            segs.append(n)
+        f.append(s.freq_hz[sel])
+        p.append(s.power_w[sel])
+        r.append(s.rbw_hz[sel])
+        e.append(s.enbw_hz[sel])
+        fs = s.freq_hz[sel]
+        edges.append((lo if math.isfinite(lo) and lo <= fs[0] else None, hi if math.isfinite(hi) and hi >= fs[-1] else None))
+        n += int(sel.sum())
+    ref = dict(spectra[0].reference)
+    ref["spans"] = len(f)
+    ref.pop("centre_hz", None)
+    return Spectrum(np.concatenate(f), np.concatenate(p), np.concatenate(r), np.concatenate(e),
+                    detector=spectra[0].detector, reference=ref, segments=tuple(segs), span_edges_hz=tuple(edges))
