@@ -9,10 +9,24 @@ I/O: the CLI reads files and writes outputs.
 
 Decisions written down
 ----------------------
-* The fundamental window (excluded from the spurious limits) is
-  ``carrier +- half-width``; the half-width is the ``exclude_hz`` argument
-  (the ``--exclude`` option) or, failing that, the mask's own default with
-  its rationale.  A later release derives it from the necessary bandwidth.
+* The fundamental window (excluded from the spurious limits, and where the
+  occupied bandwidth and the channel power are measured) is
+  ``carrier +- half-width``.  With a necessary bandwidth (``necessary``) the
+  half-width is the out-of-band / spurious boundary of the emission under
+  the mask's boundary rule (:mod:`maskcheck.core.domains`; ITU-R SM.1539
+  when the mask names none), so the spurious limits start at the domain
+  boundary and out-of-band regions skip only the necessary band.  Without
+  one it is the mask's own default with its rationale.  ``exclude_hz``
+  (``--exclude``) overrides both.
+* ``necessary="measured"`` takes the occupied bandwidth, measured in the
+  mask's default window (or ``--exclude``), as the necessary bandwidth (RR
+  Appendix 1 allows measurement where no formula fits); the result says so.
+* The occupied bandwidth is judged against the authorised bandwidth when the
+  user gives one (``authorized_bw_hz``; ``"necessary"`` takes the necessary
+  bandwidth for it) and against every ``occupied-bandwidth`` region of the
+  mask.  It is not judged against the necessary bandwidth unless asked: the
+  99 % bandwidth of a lawful emission often exceeds its necessary bandwidth
+  a little, and the rules that cap it name the authorised bandwidth.
 * The reference power is the stated mean power (or PEP, as the mask asks);
   without a stated power the channel power measured in the fundamental
   window is used, and the result says so.  Stated and measured powers that
@@ -28,7 +42,12 @@ import os
 import time
 
 from ._version import __version__
+from dataclasses import replace as _replace
+
 from .core.bandwidth import occupied_bandwidth
+from .core.designator import parse_designator
+from .core.domains import NORMAL_PERCENT, SM1539_TABLE_NOTE, domains as _domains
+from .core.necessary import NecessaryBandwidth, from_measurement, resolve_necessary
 from .core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, RegionResult, combine_verdicts
 from .core.spectrum import Spectrum
 from .core.station import Station
@@ -60,6 +79,8 @@ def check(
     report_threshold_db: float = 20.0,
     obw_beta: float = 0.01,
     inputs: list[InputFile] | None = None,
+    necessary: NecessaryBandwidth | str | None = None,
+    authorized_bw_hz: float | str | None = None,
 ) -> CheckResult:
     """Check a spectrum against a mask for a station.
 
@@ -85,6 +106,13 @@ def check(
     inputs : list of InputFile, optional
         Input files with their hashes, for the provenance record; by default
         taken from the spectrum's metadata.
+    necessary : NecessaryBandwidth or "measured", optional
+        The emission's necessary bandwidth
+        (:func:`maskcheck.core.necessary.resolve_necessary`), or
+        ``"measured"`` to use the occupied bandwidth in its place.
+    authorized_bw_hz : float or "necessary", optional
+        The authorised bandwidth, Hz: the occupied bandwidth is judged
+        against it, and masks may refer to it.
 
     Returns
     -------
@@ -95,11 +123,21 @@ def check(
     warnings: list[str] = []
     fc = float(station.carrier_hz)
 
+    # necessary bandwidth and domains (issue 3)
+    nb, dom, auth, rule_source = _emission(spectrum, mask, station, necessary, authorized_bw_hz, exclude_hz, obw_beta, warnings)
+    if nb is not None:
+        warnings.extend(nb.warnings)
+        if station.designator is None:
+            station = _replace(station, designator=nb.designator)
+
     # fundamental window
     if exclude_hz is not None:
         if not (math.isfinite(exclude_hz) and exclude_hz > 0):
             raise StationError(f"exclusion half-width {exclude_hz!r} Hz must be > 0", where="--exclude")
         half, window_source = float(exclude_hz), f"--exclude (+- {format_frequency(exclude_hz)})"
+    elif dom is not None:
+        half = dom.boundary.offset_hz
+        window_source = f"necessary band and out-of-band domain (+- {format_frequency(half)}): {dom.boundary.text} ({rule_source})"
     else:
         half, why = fundamental_exclusion_hz(mask, fc)
         window_source = f"mask default (+- {format_frequency(half)}){': ' + why if why else ''}"
@@ -179,7 +217,17 @@ def check(
 
     # regions
     regions, emissions = [], []
-    for lim in evaluate_mask(mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc):
+    limits = evaluate_mask(
+        mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom, authorized_bw_hz=auth, exclusion_hz=exclude_hz
+    )
+    for lim in limits:
+        if lim.unevaluated:
+            regions.append(RegionResult(lim.name, lim.kind, fc, fc, "incomplete", limit_text=lim.limit_text,
+                                        detector_required=lim.detector, reasons=[f"not evaluated: it {lim.unevaluated}"], anchor=lim.anchor))
+            continue
+        if lim.kind == "occupied-bandwidth":
+            regions.append(_judge_obw(lim.name, lim.max_bandwidth_hz, lim.limit_text, obw_fig, fc))
+            continue
         absolute_note = None
         if ref_fs is not None:
             lim, absolute_note = _relative_limits(lim, ref_fs)
@@ -187,15 +235,25 @@ def check(
                 regions.append(absolute_note)
                 continue
         res, ems, w = judge_region(
-            spectrum, lim, excluded_hz=[window], guard_db=guard_db, report_threshold_db=report_threshold_db
+            spectrum, lim, excluded_hz=list(lim.excluded_hz), guard_db=guard_db, report_threshold_db=report_threshold_db
         )
         if absolute_note:
             res.reasons.append(absolute_note)
             if res.verdict != "fail":
                 res.verdict = "incomplete"
+        res.anchor = lim.anchor
         regions.append(res)
         emissions.extend(ems)
         warnings.extend(w)
+    if auth is not None and not any(lim.kind == "occupied-bandwidth" for lim in limits):
+        text = f"occupied bandwidth at most the authorised bandwidth {format_frequency(auth)}"
+        regions.append(_judge_obw("occupied bandwidth", auth, text, obw_fig, fc))
+    if nb is not None and mask.applies.emission_classes and nb.emission_class and nb.emission_class not in mask.applies.emission_classes:
+        ok = False
+        warnings.append(
+            f"the mask is for emission classes {', '.join(mask.applies.emission_classes)}, the emission is "
+            f"{nb.emission_class}; the result cannot be a pass"
+        )
     verdict = combine_verdicts([r.verdict for r in regions])
     if not ok and verdict in ("pass", "marginal"):
         verdict = "incomplete"
@@ -235,7 +293,96 @@ def check(
         tool={"name": "maskcheck", "version": __version__},
         created_utc=utc_now(),
         trace=trace,
+        necessary_bandwidth=None if nb is None else nb.to_dict(),
+        domains=[] if dom is None else [d.to_dict() for d in dom.spans(*_domain_extent(spectrum, regions, dom))],
+        domain_boundary=None if dom is None else {**dom.boundary.to_dict(), "source": rule_source, "notes": list(dom.notes)},
     )
+
+
+def _emission(spectrum, mask, station, necessary, authorized, exclude_hz, obw_beta, warnings):
+    """Necessary bandwidth, domains, authorised bandwidth and the boundary rule's source."""
+    fc = float(station.carrier_hz)
+    spec = mask.domains
+    rule = spec.boundary if spec is not None else "sm1539"
+    rule_source = f"boundary rule of mask {mask.id}" if spec is not None else "ITU-R SM.1539, the default: the mask names no boundary rule"
+    nb = necessary
+    if nb is None and station.designator:
+        des = parse_designator(station.designator, where="designator")
+        if des.bandwidth_hz is not None:
+            nb, _ = resolve_necessary(des.text)
+        else:
+            warnings.append(
+                f"the designator {des.text} has no bandwidth code: no necessary bandwidth, so no domains "
+                "(give the formula inputs or --necessary-bw)"
+            )
+    if isinstance(necessary, str):
+        if necessary != "measured":
+            raise StationError(f"necessary bandwidth {necessary!r}: expected a bandwidth or 'measured'", where="--necessary-bw")
+        half = exclude_hz if exclude_hz is not None else fundamental_exclusion_hz(mask, fc)[0]
+        lo, hi = fc - half, fc + half
+        if spectrum.uncovered_hz(lo, hi):
+            raise StationError(
+                f"the necessary bandwidth cannot be measured: the trace does not cover {format_frequency(lo)} to {format_frequency(hi)}",
+                where="--necessary-bw",
+            )
+        try:
+            obw = occupied_bandwidth(spectrum.between(lo, hi), obw_beta)
+        except SpectrumError as exc:
+            raise StationError(f"the necessary bandwidth cannot be measured: {exc.message}", where="--necessary-bw") from None
+        symbols = parse_designator(station.designator).symbols if station.designator else None
+        nb = from_measurement(obw.width_hz, symbols)
+        warnings.append(
+            f"necessary bandwidth not known from a formula: the occupied bandwidth measured within +- {format_frequency(half)} "
+            f"({format_frequency(obw.width_hz)}) is used in its place"
+        )
+    auth = authorized
+    if isinstance(authorized, str):
+        if authorized != "necessary":
+            raise StationError(f"authorised bandwidth {authorized!r}: expected a bandwidth or 'necessary'", where="--authorized-bw")
+        if nb is None:
+            raise StationError("--authorized-bw necessary needs a necessary bandwidth (--designator or --necessary-bw)", where="--authorized-bw")
+        auth = nb.bandwidth_hz
+    if auth is not None and not (math.isfinite(auth) and auth > 0):
+        raise StationError(f"authorised bandwidth {auth!r} Hz must be > 0", where="--authorized-bw")
+    dom = None
+    if nb is not None:
+        dom = _domains(
+            fc, nb.bandwidth_hz, rule=rule,
+            percent=spec.percent if spec is not None and spec.percent is not None else NORMAL_PERCENT,
+            of=spec.of if spec is not None and spec.of is not None else "necessary",
+            authorized_bw_hz=auth,
+        )
+        if not dom.boundary.verified:
+            warnings.append(f"domain boundary: {SM1539_TABLE_NOTE}; it decided the boundary here ({dom.boundary.text})")
+        warnings.extend(f"domains: {n}" for n in dom.notes if n != SM1539_TABLE_NOTE)
+    return nb, dom, auth, rule_source
+
+
+def _judge_obw(name, max_bw_hz, limit_text, obw_fig, fc) -> RegionResult:
+    """The occupied bandwidth against the widest allowed: over the limit fails."""
+    res = RegionResult(name, "occupied-bandwidth", fc, fc, "incomplete", limit_text=limit_text, limit_bandwidth_hz=float(max_bw_hz), anchor="occupied bandwidth")
+    if obw_fig is None:
+        res.reasons = ["the occupied bandwidth was not measured (see the warnings)"]
+        return res
+    res.start_hz, res.stop_hz = obw_fig.lower_hz, obw_fig.upper_hz
+    res.measured_bandwidth_hz = obw_fig.width_hz
+    spare = max_bw_hz - obw_fig.width_hz
+    if spare < 0:
+        res.verdict = "fail"
+        res.reasons = [f"occupied bandwidth {format_frequency(obw_fig.width_hz)} exceeds {format_frequency(max_bw_hz)} by {format_frequency(-spare)}"]
+    else:
+        res.verdict = "pass"
+        res.reasons = [f"occupied bandwidth {format_frequency(obw_fig.width_hz)} is within {format_frequency(max_bw_hz)} ({format_frequency(spare)} to spare)"]
+    res.points_evaluated = 1
+    return res
+
+
+def _domain_extent(spectrum, regions, dom) -> tuple[float, float]:
+    """Frequency extent over which the domains are listed: the trace and the judged regions."""
+    lo = [spectrum.start_hz] + [r.start_hz for r in regions if r.points_evaluated]
+    hi = [spectrum.stop_hz] + [r.stop_hz for r in regions if r.points_evaluated]
+    b0, b1 = dom.boundary_hz
+    return max(0.0, min(min(lo), b0)), max(max(hi), b1)
 
 
 # -- spectra estimated from IQ recordings (issue 5) ------------------------------------

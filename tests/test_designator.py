@@ -147,3 +147,36 @@ def test_core_stays_pure():
     code = "import sys, maskcheck.core.designator, maskcheck.core.necessary, maskcheck.core.domains; print(sorted(m for m in ('rich','reportlab','pydantic') if m in sys.modules))"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"
+
+
+# ----------------------------------------------------------------------------- command line
+
+
+def _cli(*argv):
+    return subprocess.run([sys.executable, "-m", "maskcheck.cli", *argv], capture_output=True, text=True)
+
+
+def test_cli_computes_16k0f3e_with_the_arithmetic():
+    # From memory, not checked against the text (fact sheet 8.3): 2 x 3 kHz + 2 x 5 kHz = 16 kHz -> 16K0F3E
+    out = _cli("designator", "--emission", "F3E", "--max-mod", "3kHz", "--deviation", "5kHz")
+    assert out.returncode == 0, out.stderr
+    assert "16K0F3E" in out.stdout and "2 x 3000 Hz + 2 x 5000 Hz x 1 = 16000 Hz" in out.stdout
+
+
+def test_cli_decodes_with_domains_as_json():
+    import json
+
+    out = _cli("designator", "16K0F3EJN", "--carrier", "450MHz", "--json")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    assert data["necessary_bandwidth"]["bandwidth_hz"] == 16000.0
+    # From memory, not checked against the text: SM.1539 narrowband case at 450 MHz -> +- 62.5 kHz
+    assert data["domains"]["boundary"]["offset_hz"] == 62500.0
+    assert data["domains"]["boundary"]["verified"] is False
+
+
+def test_cli_bad_designator_is_one_line_exit_2():
+    out = _cli("designator", "2K7OJ3E")
+    assert out.returncode == 2
+    assert out.stderr.count("\n") == 1 and "Traceback" not in out.stderr
+    assert "character 4" in out.stderr

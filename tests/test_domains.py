@@ -51,3 +51,122 @@ def test_domain_spans_and_percent_rule():
         domains(450e6, 16e3, rule="somewhere")
     with pytest.raises(StationError):
         domains(450e6, 0.0)
+
+
+# ----------------------------------------------------------------------------- into the check
+
+import tomllib
+from pathlib import Path
+
+import numpy as np
+
+from maskcheck.checking import check
+from maskcheck.core.necessary import resolve_necessary
+from maskcheck.core.spectrum import Spectrum
+from maskcheck.core.station import Station
+from maskcheck.errors import MaskError
+from maskcheck.masks import evaluate_mask, load_mask
+from maskcheck.masks.schema import Mask
+
+FC = 7.1e6
+
+
+def _trace(spur_hz):
+    # Invented test trace: 1 kHz RBW every 500 Hz around an HF carrier, 50 W carrier, one +20 dBm spur.
+    f = np.arange(FC - 50e3, FC + 50e3 + 1, 500.0)
+    p = np.full(f.size, 1e-13)
+    p[np.argmin(abs(f - FC))] = 50.0
+    p[np.argmin(abs(f - spur_hz))] = 0.1
+    return Spectrum(f, p, 1e3, detector="rms", reference={"source": "invented"})
+
+
+def _hf_mask(**changes):
+    raw = tomllib.loads((Path(__file__).resolve().parents[1] / "masks" / "us-amateur-hf-2003.toml").read_text())
+    raw.update(changes)
+    return Mask.model_validate(raw)
+
+
+def _spurious(result):
+    return next(r for r in result.regions if r.kind == "spurious")
+
+
+def test_spur_inside_the_oob_domain_is_not_judged_by_the_spurious_limit():
+    # From memory, not checked against the text: SM.1539 narrowband case, 2K70J3E at 7.1 MHz -> boundary +- 10 kHz
+    station = Station(carrier_hz=FC, power_w=50.0, designator="2K70J3E")
+    inside = check(_trace(FC + 9.5e3), load_mask("us-amateur-hf-2003"), station)
+    assert inside.domain_boundary["offset_hz"] == pytest.approx(10e3)
+    assert _spurious(inside).verdict != "fail"
+    assert not any(abs(e.freq_hz - (FC + 9.5e3)) < 1 for e in inside.emissions)
+    outside = check(_trace(FC + 10.5e3), load_mask("us-amateur-hf-2003"), station)
+    assert _spurious(outside).verdict == "fail"
+    assert _spurious(outside).worst_freq_hz == pytest.approx(FC + 10.5e3)
+    d = outside.to_dict()
+    assert d["necessary_bandwidth_hz"] == 2700.0 and d["designator"] == "2K70J3E"
+    assert {"name", "start_hz", "stop_hz"} <= set(d["domains"][0])
+    assert any("from memory" in w for w in outside.warnings)  # the unverified table is shown
+
+
+def test_the_mask_names_its_boundary_rule():
+    # Source: fact sheet 5.4 (FCC usage: 250 % of the authorised bandwidth from the centre): 2.5 x 2.7 kHz = 6.75 kHz
+    mask = _hf_mask(schema_version=2, domains={"boundary": "percent", "percent": 250, "of": "authorized"})
+    station = Station(carrier_hz=FC, power_w=50.0)
+    nb, _ = resolve_necessary("2K70J3E")
+    r = check(_trace(FC + 9.5e3), mask, station, necessary=nb, authorized_bw_hz=2.7e3)
+    assert r.domain_boundary["offset_hz"] == pytest.approx(6750.0) and r.domain_boundary["rule"] == "percent"
+    assert _spurious(r).verdict == "fail"  # the same spur is now in the spurious domain
+
+
+def test_exclude_stays_an_explicit_override():
+    station = Station(carrier_hz=FC, power_w=50.0, designator="2K70J3E")
+    r = check(_trace(FC + 10.5e3), load_mask("us-amateur-hf-2003"), station, exclude_hz=20e3)
+    assert _spurious(r).verdict != "fail" and r.fundamental_window_source.startswith("--exclude")
+
+
+def test_occupied_bandwidth_over_the_authorised_fails():
+    station = Station(carrier_hz=FC, power_w=50.0, designator="2K70J3E")
+    f = np.arange(FC - 50e3, FC + 50e3 + 1, 100.0)
+    p = np.where(abs(f - FC) <= 1.5e3, 1e-3, 1e-15)  # Closed form: 31 flat 100 Hz cells = a 3.1 kHz block -> 99 % OBW = 0.99 x 3.1 kHz = 3069 Hz
+    s = Spectrum(f, p, 100.0, detector="rms", reference={"source": "invented"})
+    ok = check(s, load_mask("us-amateur-hf-2003"), station, authorized_bw_hz=3.2e3)
+    bad = check(s, load_mask("us-amateur-hf-2003"), station, authorized_bw_hz=2.8e3)
+    obw = [x for x in bad.regions if x.kind == "occupied-bandwidth"]
+    assert obw and obw[0].verdict == "fail" and bad.verdict == "fail"
+    assert obw[0].measured_bandwidth_hz == pytest.approx(3069.0, rel=1e-3)
+    assert [x.verdict for x in ok.regions if x.kind == "occupied-bandwidth"] == ["pass"]
+
+
+def test_v2_regions_anchored_on_domains_and_offsets():
+    mask = _hf_mask(
+        schema_version=2,
+        regions=[
+            {"name": "oob", "kind": "out-of-band", "domain": "out-of-band", "detector": "rms",
+             "limit": {"attenuation_db": 25}, "reference_bandwidth": [{"start": "150 kHz", "stop": "30 MHz", "bandwidth": "100 Hz"}]},
+            {"name": "50-150 %", "kind": "out-of-band", "offset": {"from_percent": 50, "to_percent": 150, "of": "authorized"},
+             "detector": "rms", "limit": {"attenuation_db": 25}, "reference_bandwidth": [{"start": "150 kHz", "stop": "30 MHz", "bandwidth": "100 Hz"}]},
+            {"name": "obw", "kind": "occupied-bandwidth", "limit": {"bandwidth": "authorized_bw_hz"}},
+        ],
+    )
+    nb, _ = resolve_necessary("2K70J3E")
+    from maskcheck.core.domains import domains
+
+    lims = evaluate_mask(mask, power_w=50.0, pep_w=None, carrier_hz=FC, domains=domains(FC, 2700.0), authorized_bw_hz=2.7e3)
+    oob, pct, obw = lims
+    assert (oob.start_hz, oob.stop_hz) == pytest.approx((FC - 10e3, FC + 10e3))
+    assert oob.excluded_hz[0] == pytest.approx((FC - 1350.0, FC + 1350.0))  # Closed form: +- Bn/2
+    # Source: fact sheet 8.1 (90.210 Mask A pattern): 50 % -> 1.35 kHz, 150 % -> 4.05 kHz of 2.7 kHz
+    assert (pct.start_hz, pct.stop_hz) == pytest.approx((FC - 4050.0, FC + 4050.0))
+    assert pct.excluded_hz[0] == pytest.approx((FC - 1350.0, FC + 1350.0))
+    assert obw.max_bandwidth_hz == 2700.0
+    # without the bandwidths the regions are not evaluated -- never a pass
+    bare = evaluate_mask(mask, power_w=50.0, pep_w=None, carrier_hz=FC)
+    assert all(b.unevaluated for b in bare)
+    r = check(_trace(FC + 20e3), mask, Station(carrier_hz=FC, power_w=50.0))
+    assert r.verdict == "incomplete"
+
+
+def test_v1_file_with_v2_keys_is_refused():
+    with pytest.raises(Exception) as info:
+        _hf_mask(domains={"boundary": "sm1539"})
+    assert "schema_version = 2" in str(info.value)
+    with pytest.raises(Exception):
+        _hf_mask(schema_version=2, domains={"boundary": "percent"})  # percent needs percent and of

@@ -5,6 +5,8 @@ from __future__ import annotations
 from ._common import add_trace_options, console
 from ._recording import add_recording_options
 
+from .designator import add_emission_options
+
 __all__ = ["register", "run"]
 
 
@@ -15,7 +17,9 @@ def register(sub) -> None:
     c.add_argument("--carrier", required=True, metavar="F", help="carrier (assigned) frequency, e.g. 7.1MHz")
     c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
     c.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules")
-    c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier (default: the mask's)")
+    c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier, an explicit override (default: the out-of-band domain of the emission, else the mask's)")
+    c.add_argument("--authorized-bw", metavar="BW|necessary", help="authorised bandwidth: the occupied bandwidth must not exceed it ('necessary': the necessary bandwidth)")
+    add_emission_options(c)
     c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
@@ -48,8 +52,11 @@ def run(args) -> int:
     pep = parse_power(args.pep, what="--pep") if args.pep else None
     exclude = parse_frequency(args.exclude, what="--exclude") if args.exclude else None
     guard = parse_db(args.guard, what="--guard")
+    from .designator import emission_from_args
+
+    necessary, authorized, _ = emission_from_args(args, args.designator)
     within = parse_db(args.list_within, what="--list-within")
-    station = Station(carrier_hz=carrier, power_w=power, pep_w=pep)
+    station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
     from ._recording import choose_trace, read_input, worst_frame_check
 
@@ -63,7 +70,8 @@ def run(args) -> int:
     from ..checking import check
 
     def judge(s):
-        return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs)
+        return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
+                     necessary=necessary, authorized_bw_hz=authorized)
 
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)

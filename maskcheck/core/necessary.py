@@ -108,6 +108,8 @@ class NecessaryBandwidth:
     source: str = ""
     status: str = "n/a"
     notes: tuple[str, ...] = ()
+    #: disagreements found while resolving it (stated vs code vs formula)
+    warnings: tuple[str, ...] = ()
 
     def to_dict(self) -> dict:
         return {
@@ -121,6 +123,7 @@ class NecessaryBandwidth:
             "source": self.source,
             "status": self.status,
             "notes": list(self.notes),
+            "warnings": list(self.warnings),
         }
 
     @property
@@ -185,7 +188,7 @@ def _need(emission: str, formula: str, inputs: dict, *names) -> list[float]:
     if missing:
         opts = ", ".join(_OPTION.get(n, n) for n in missing)
         raise StationError(
-            f"{emission} ({formula}) needs {opts}; give them, or state the necessary bandwidth (--necessary-bw BW or measured)",
+            f"{emission} ({formula}) needs {opts}: give {'it' if len(missing) == 1 else 'them'}, or state the necessary bandwidth (--necessary-bw BW or measured)",
             where=_OPTION.get(missing[0], missing[0]),
         )
     return [_positive(n, inputs[n]) for n in names]
@@ -443,7 +446,7 @@ def resolve_necessary(
             warnings.append(f"the stated necessary bandwidth ({bn:g} Hz) differs from the designator's code {des.bandwidth_code}; the stated value is used")
         if computed is not None and format_bandwidth_code(computed.bandwidth_hz) != format_bandwidth_code(bn):
             warnings.append(f"the formula gives {computed.designator} ({computed.arithmetic}); the stated value is used")
-        return NecessaryBandwidth(bn, text, symbols[:3], "stated", "stated by the user"), warnings
+        return NecessaryBandwidth(bn, text, symbols[:3], "stated", "stated by the user", warnings=tuple(warnings)), warnings
     if des is None:
         return None, warnings
     if des.bandwidth_hz is not None:
@@ -455,7 +458,8 @@ def resolve_necessary(
                     f"({computed.arithmetic}); the designator's code is used"
                 )
             notes = (f"formula check: {computed.arithmetic}",)
-        return NecessaryBandwidth(des.bandwidth_hz, des.text, des.emission_class, "designator", "the bandwidth code of the designator", notes=notes), warnings
+        nb = NecessaryBandwidth(des.bandwidth_hz, des.text, des.emission_class, "designator", "the bandwidth code of the designator", notes=notes, warnings=tuple(warnings))
+        return nb, warnings
     if computed is None:
         # symbols alone, no inputs: ask for them, naming what the class needs
         necessary_bandwidth(symbols)  # raises with the options to give

@@ -88,6 +88,11 @@ class RegionResult:
     uncovered_hz: list[tuple[float, float]] = field(default_factory=list)
     points_evaluated: int = 0
     reasons: list[str] = field(default_factory=list)
+    #: how the range was anchored on the emission (domain, offset), if it was
+    anchor: str = ""
+    #: occupied-bandwidth regions: the measured and the allowed bandwidth, Hz
+    measured_bandwidth_hz: float | None = None
+    limit_bandwidth_hz: float | None = None
     curve: Curve | None = field(default=None, repr=False)
 
     def to_dict(self) -> dict:
@@ -189,6 +194,12 @@ class CheckResult:
     warnings: list[str] = field(default_factory=list)
     tool: dict = field(default_factory=dict)
     created_utc: str = ""
+    #: the necessary bandwidth used and where it came from (None: not known)
+    necessary_bandwidth: dict | None = None
+    #: the domains of the emission: [{name, start_hz, stop_hz}]
+    domains: list = field(default_factory=list)
+    #: the out-of-band / spurious boundary applied (rule, offset, verified)
+    domain_boundary: dict | None = None
     #: the whole trace as read (for plots; not in the JSON)
     trace: Curve | None = field(default=None, repr=False)
 
@@ -223,4 +234,9 @@ class CheckResult:
             "fundamental_window_source": self.fundamental_window_source,
             "spectrum": dict(self.spectrum_summary),
             "created_utc": self.created_utc,
+            "necessary_bandwidth_hz": None if self.necessary_bandwidth is None else self.necessary_bandwidth["bandwidth_hz"],
+            "designator": None if self.necessary_bandwidth is None else self.necessary_bandwidth["designator"],
+            "necessary_bandwidth": None if self.necessary_bandwidth is None else dict(self.necessary_bandwidth),
+            "domains": [dict(d) for d in self.domains],
+            "domain_boundary": None if self.domain_boundary is None else dict(self.domain_boundary),
         }

@@ -49,6 +49,7 @@ from .tables import (
     station_rows,
     verdict_sentence,
     worst_point_text,
+    emission_facts,
 )
 
 __all__ = ["build_report", "write_report", "pdf_text", "pdf_text_plain"]
@@ -222,6 +223,7 @@ class _Report:
         pairs = [(_cap(k), v) for k, v in station_rows(r)]
         pairs.append(("Reference power", reference_text(r)))
         pairs.append(("Fundamental window", f"{fmt_range(*r.fundamental_window_hz)} ({r.fundamental_window_source})"))
+        pairs += [(_cap(k), v) for k, v in emission_facts(r)]
         meas = [(_cap(k), v) for k, v in spectrum_rows(r)]
         out = [self.heading("Station and measurement")]
         if not meas:

@@ -36,6 +36,7 @@ __all__ = [
     "emission_rows",
     "EMISSION_HEADER",
     "station_rows",
+    "emission_facts",
     "spectrum_rows",
     "bandwidth_rows",
     "BANDWIDTH_HEADER",
@@ -311,6 +312,28 @@ def _dict_rows(data: dict, order=()) -> list[tuple[str, str]]:
 def station_rows(result: CheckResult) -> list[tuple[str, str]]:
     """(label, value) pairs of the station; units come from the key suffixes."""
     return _dict_rows(result.station, _STATION_ORDER)
+
+
+def emission_facts(result: CheckResult) -> list[tuple[str, str]]:
+    """(label, value) pairs on the emission: necessary bandwidth, boundary, domains."""
+    nb = result.necessary_bandwidth
+    if nb is None:
+        return []
+    how = {
+        "formula": f"formula {nb.get('arithmetic', '')} ({nb.get('source', '')})",
+        "designator": "the bandwidth code of the designator",
+        "stated": "stated by the user",
+        "measured": "the measured occupied bandwidth (no formula fits)",
+    }.get(nb.get("method"), nb.get("method", ""))
+    rows = [("necessary bandwidth", f"{format_frequency(nb['bandwidth_hz'])} ({nb['designator']}), from {how}")]
+    b = result.domain_boundary
+    if b is not None:
+        flag = "" if b.get("verified", True) else "; B_L/B_U table from memory, not verified"
+        rows.append(("domain boundary", f"+- {format_frequency(b['offset_hz'])} from the carrier: {b['text']}{flag} ({b.get('source', '')})"))
+    for d in result.domains:
+        if "spurious" not in d["name"]:
+            rows.append((d["name"], fmt_range(d["start_hz"], d["stop_hz"])))
+    return rows
 
 
 def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:

@@ -31,6 +31,7 @@ from .tables import (
     station_rows,
     verdict_sentence,
     worst_point_text,
+    emission_facts,
 )
 
 __all__ = ["render_check", "render_bandwidth", "render_mask", "VERDICT_STYLES"]
@@ -97,6 +98,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
         row = bandwidth_rows([obw])[0]
         facts.append(("Occupied BW", f"{row[1]} ({row[2]} to {row[3]})"))
     facts += [(label[:1].upper() + label[1:], value) for label, value in station_rows(result)]
+    facts += [(label[:1].upper() + label[1:], value) for label, value in emission_facts(result)]
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
     facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
