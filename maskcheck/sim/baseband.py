@@ -1,0 +1,181 @@
+"""The complex baseband signal every simulator stage passes on, and its periodic helpers.
+
+Conventions (the same as :mod:`maskcheck.core.estimate`)
+--------------------------------------------------------
+* ``iq`` is the complex envelope scaled so that ``mean(|iq|**2)`` is the mean
+  power in watts into the reference load: a complex tone of amplitude 1 is
+  1 W.  The real RF signal is ``Re{sqrt(2) * iq * exp(j 2 pi fc t)}`` volts
+  across 1 ohm, so its peak voltage is ``sqrt(2) * |iq|``.
+* PEP is the highest envelope power, ``max(|iq|**2)`` (the RF power averaged
+  over one carrier cycle at the envelope peak).
+* A record is treated as one period of a periodic signal: linear filters are
+  applied as their steady-state frequency response at the DFT bins, and the
+  Hilbert transform, integration (FM) and resampling work on the DFT.  There
+  are no start-up transients; a filter whose impulse response is longer than
+  the record wraps around, so records should be much longer than the
+  filters' ring-down (tens of milliseconds for a narrow IF filter).
+
+References
+----------
+.. [1] A. V. Oppenheim, R. W. Schafer, *Discrete-Time Signal Processing*,
+   3rd ed., 2010, sec. 8.6 (circular convolution as a product of DFTs).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.fft
+
+__all__ = [
+    "Baseband",
+    "require_positive",
+    "require_finite",
+    "sample_count",
+    "bin_frequencies_hz",
+    "apply_response",
+]
+
+
+def require_finite(name: str, value) -> float:
+    """``float(value)``, or a ValueError naming the parameter if it is not a finite number."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name}={value!r} is not a number") from None
+    if not math.isfinite(v):
+        raise ValueError(f"{name}={value!r} is not finite (expected a finite number)")
+    return v
+
+
+def require_positive(name: str, value, *, allow_zero: bool = False) -> float:
+    """``float(value)``, or a ValueError naming the parameter if it is not > 0 (or >= 0)."""
+    v = require_finite(name, value)
+    if v < 0 or (v == 0 and not allow_zero):
+        raise ValueError(f"{name}={value!r} is {'negative' if v < 0 else 'zero'} (expected a number {'>=' if allow_zero else '>'} 0)")
+    return v
+
+
+def sample_count(duration_s, sample_rate_hz) -> int:
+    """Number of samples in ``duration_s`` at ``sample_rate_hz``; it must be a whole number.
+
+    Examples
+    --------
+    >>> sample_count(0.5, 48000.0)
+    24000
+    """
+    d = require_positive("duration_s", duration_s)
+    fs = require_positive("sample_rate_hz", sample_rate_hz)
+    n_float = d * fs
+    n = int(round(n_float))
+    if n < 2 or abs(n_float - n) > 1e-6 * max(1.0, n_float):
+        raise ValueError(f"duration_s={duration_s!r} at sample_rate_hz={sample_rate_hz!r} gives {n_float:g} samples "
+                         "(expected a whole number of at least 2)")
+    return n
+
+
+def bin_frequencies_hz(n: int, sample_rate_hz: float) -> np.ndarray:
+    """Frequency of each DFT bin of an ``n``-sample record, in FFT order (negative half last)."""
+    return scipy.fft.fftfreq(int(n), 1.0 / float(sample_rate_hz))
+
+
+def apply_response(x: np.ndarray, response: np.ndarray) -> np.ndarray:
+    """Filter one period of a periodic record by its complex response at the DFT bins.
+
+    ``response[k]`` multiplies bin ``k`` (FFT order, as :func:`bin_frequencies_hz`).
+    A real ``x`` with a Hermitian response stays real up to rounding; the
+    result is complex in general.
+    """
+    return scipy.fft.ifft(scipy.fft.fft(np.asarray(x, dtype=complex)) * response)
+
+
+@dataclass(frozen=True)
+class Baseband:
+    """Complex baseband IQ around a carrier, with the steps that made it.
+
+    Attributes
+    ----------
+    iq : ndarray of complex
+        Complex envelope, sqrt(W) (``mean(|iq|**2)`` is the mean power, W).
+        Stored as a read-only copy.
+    sample_rate_hz : float
+        Complex sample rate, Hz.
+    carrier_hz : float
+        The RF frequency that baseband 0 Hz stands for, Hz (>= 0).
+    notes : tuple of str
+        One line per stage ("AM, m = 0.8", "Rapp amplifier, p = 2, ..."), in order.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> bb = Baseband(np.exp(2j * np.pi * np.arange(8) / 8), 8000.0, 7.1e6)
+    >>> round(bb.mean_power_w, 12), round(bb.pep_w, 12), bb.duration_s
+    (1.0, 1.0, 0.001)
+    """
+
+    iq: np.ndarray
+    sample_rate_hz: float
+    carrier_hz: float
+    notes: tuple[str, ...] = field(default=())
+
+    def __post_init__(self):
+        iq = np.array(self.iq, dtype=complex, copy=True)
+        if iq.ndim != 1 or iq.size < 2:
+            raise ValueError(f"iq has shape {iq.shape} (expected one dimension of at least 2 samples)")
+        bad = ~np.isfinite(iq)
+        if bad.any():
+            raise ValueError(f"iq[{int(np.flatnonzero(bad)[0])}] is {iq[bad][0]!r} (expected finite samples)")
+        iq.setflags(write=False)
+        object.__setattr__(self, "iq", iq)
+        object.__setattr__(self, "sample_rate_hz", require_positive("sample_rate_hz", self.sample_rate_hz))
+        object.__setattr__(self, "carrier_hz", require_positive("carrier_hz", self.carrier_hz, allow_zero=True))
+        object.__setattr__(self, "notes", tuple(str(n) for n in self.notes))
+
+    def __len__(self) -> int:
+        return int(self.iq.size)
+
+    @property
+    def duration_s(self) -> float:
+        """Record length, s."""
+        return self.iq.size / self.sample_rate_hz
+
+    @property
+    def mean_power_w(self) -> float:
+        """Mean power, W: ``mean(|iq|**2)``."""
+        return float(np.mean(np.abs(self.iq) ** 2))
+
+    @property
+    def pep_w(self) -> float:
+        """Peak envelope power, W: ``max(|iq|**2)`` (between samples the envelope may peak higher)."""
+        return float(np.max(np.abs(self.iq) ** 2))
+
+    def bin_frequencies_hz(self) -> np.ndarray:
+        """Baseband frequency of each DFT bin of the record, Hz (FFT order)."""
+        return bin_frequencies_hz(self.iq.size, self.sample_rate_hz)
+
+    def replace(self, iq, note: str, *, sample_rate_hz: float | None = None, carrier_hz: float | None = None) -> "Baseband":
+        """A new Baseband with other samples and one more note."""
+        return Baseband(iq,
+                        self.sample_rate_hz if sample_rate_hz is None else sample_rate_hz,
+                        self.carrier_hz if carrier_hz is None else carrier_hz,
+                        self.notes + (note,))
+
+    def scaled_to(self, power_w: float, kind: str = "mean") -> "Baseband":
+        """The same signal scaled to a mean power or a PEP of ``power_w`` watts.
+
+        Parameters
+        ----------
+        power_w : float
+            Wanted power, W (> 0).
+        kind : {"mean", "pep"}
+            Which power ``power_w`` is.
+        """
+        p = require_positive("power_w", power_w)
+        if kind not in ("mean", "pep"):
+            raise ValueError(f"kind={kind!r} is not 'mean' or 'pep'")
+        now = self.mean_power_w if kind == "mean" else self.pep_w
+        if not now > 0:
+            raise ValueError("the signal has no power to scale (all samples are zero)")
+        return self.replace(self.iq * math.sqrt(p / now), f"scaled to {p:g} W {kind}")

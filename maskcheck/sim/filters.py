@@ -1,0 +1,225 @@
+"""Filters of the transmitter chain, designed by :mod:`scipy.signal`: the SSB IF filter and the output low-pass.
+
+* :class:`IfFilter` is the crystal filter of a filter-method SSB exciter,
+  seen in complex baseband: a digital low-pass prototype (Butterworth,
+  Chebyshev type I or elliptic) of half the passband width, shifted to the
+  passband centre.  Its response at any baseband frequency comes from
+  :func:`scipy.signal.freqz_sos`.
+* :class:`OutputFilter` is the transmitter's harmonic low-pass at RF, an
+  analog prototype (Butterworth, Chebyshev type I or II, elliptic) from the
+  same designers with ``analog=True``; its response at any RF frequency comes
+  from :func:`scipy.signal.freqs_zpk`, so it can be applied to every
+  harmonic zone at that zone's true frequencies.
+
+Both are applied as steady-state responses at the DFT bins of a periodic
+record (:func:`maskcheck.sim.baseband.apply_response`).
+
+References
+----------
+.. [1] A. I. Zverev, *Handbook of Filter Synthesis*, Wiley, 1967 (the
+   Butterworth, Chebyshev and elliptic (Cauer) low-pass families).
+.. [2] :func:`scipy.signal.butter`, :func:`scipy.signal.cheby1`,
+   :func:`scipy.signal.cheby2`, :func:`scipy.signal.ellip` (scipy 1.17).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.signal
+
+from .baseband import require_finite, require_positive
+
+__all__ = ["IF_FILTER_KINDS", "OUTPUT_FILTER_KINDS", "IfFilter", "OutputFilter"]
+
+#: Low-pass families offered for the IF filter, and what the passband edge means for each.
+IF_FILTER_KINDS = {
+    "butter": "Butterworth; passband edges at the -3 dB points",
+    "cheby1": "Chebyshev type I; passband edges where the ripple band ends",
+    "ellip": "elliptic; passband edges where the ripple band ends",
+}
+
+#: Analog low-pass families offered for the output filter, and what the cut-off means for each.
+OUTPUT_FILTER_KINDS = {
+    "butter": "Butterworth; cut-off at -3 dB",
+    "cheby1": "Chebyshev type I; cut-off where the passband ripple ends",
+    "cheby2": "Chebyshev type II; cut-off where the stop band (stopband_db) begins",
+    "ellip": "elliptic; cut-off where the passband ripple ends",
+}
+
+
+def _order(order) -> int:
+    if isinstance(order, bool) or int(order) != order or not 1 <= int(order) <= 20:
+        raise ValueError(f"order={order!r} is not an integer from 1 to 20")
+    return int(order)
+
+
+def _ripples(kind: str, ripple_db, stopband_db) -> tuple[float | None, float | None]:
+    rp = rs = None
+    if kind in ("cheby1", "ellip"):
+        if ripple_db is None:
+            raise ValueError(f"a {kind} filter needs ripple_db (the passband ripple, dB > 0)")
+        rp = require_positive("ripple_db", ripple_db)
+    elif ripple_db is not None:
+        raise ValueError(f"ripple_db={ripple_db!r} given for a {kind} filter, which has no passband ripple")
+    if kind in ("cheby2", "ellip"):
+        if stopband_db is None:
+            raise ValueError(f"a {kind} filter needs stopband_db (the stop-band attenuation, dB > 0)")
+        rs = require_positive("stopband_db", stopband_db)
+        if rp is not None and rs <= rp:
+            raise ValueError(f"stopband_db={stopband_db!r} is not above ripple_db={ripple_db!r}")
+    elif stopband_db is not None:
+        raise ValueError(f"stopband_db={stopband_db!r} given for a {kind} filter, which has no stop-band parameter")
+    return rp, rs
+
+
+def _design(kind: str, order: int, cutoff, rp, rs, **kw):
+    if kind == "butter":
+        return scipy.signal.butter(order, cutoff, **kw)
+    if kind == "cheby1":
+        return scipy.signal.cheby1(order, rp, cutoff, **kw)
+    if kind == "cheby2":
+        return scipy.signal.cheby2(order, rs, cutoff, **kw)
+    return scipy.signal.ellip(order, rp, rs, cutoff, **kw)
+
+
+@dataclass(frozen=True)
+class IfFilter:
+    """The IF (sideband) filter of a filter-method SSB exciter, in complex baseband.
+
+    Parameters
+    ----------
+    low_hz, high_hz : float
+        Passband edges as audio frequencies above the suppressed carrier, Hz
+        (the filter passes ``low_hz..high_hz`` for the upper sideband and
+        ``-high_hz..-low_hz`` for the lower).  What an edge means depends on
+        ``kind`` (:data:`IF_FILTER_KINDS`).
+    kind : {"butter", "cheby1", "ellip"}
+        Filter family.
+    order : int
+        Order of the low-pass prototype (1..20).
+    ripple_db : float, optional
+        Passband ripple, dB (cheby1, ellip).
+    stopband_db : float, optional
+        Stop-band attenuation, dB (ellip).
+
+    Examples
+    --------
+    >>> f = IfFilter(300.0, 3000.0, "ellip", 8, ripple_db=0.5, stopband_db=70.0)
+    >>> round(float(f.attenuation_db(1650.0, 48000.0, "upper")), 2)
+    0.5
+    """
+
+    low_hz: float = 300.0
+    high_hz: float = 3000.0
+    kind: str = "ellip"
+    order: int = 8
+    ripple_db: float | None = 0.5
+    stopband_db: float | None = 70.0
+
+    def __post_init__(self):
+        lo = require_positive("low_hz", self.low_hz, allow_zero=True)
+        hi = require_positive("high_hz", self.high_hz)
+        if not lo < hi:
+            raise ValueError(f"low_hz={self.low_hz!r} is not below high_hz={self.high_hz!r}")
+        if self.kind not in IF_FILTER_KINDS:
+            raise ValueError(f"kind={self.kind!r} is not one of {', '.join(IF_FILTER_KINDS)}")
+        object.__setattr__(self, "order", _order(self.order))
+        _ripples(self.kind, self.ripple_db, self.stopband_db)
+
+    @property
+    def centre_hz(self) -> float:
+        """Passband centre above the carrier (upper sideband), Hz."""
+        return (float(self.low_hz) + float(self.high_hz)) / 2
+
+    def sos(self, sample_rate_hz: float) -> np.ndarray:
+        """Second-order sections of the low-pass prototype (half the passband width) at ``sample_rate_hz``."""
+        fs = require_positive("sample_rate_hz", sample_rate_hz)
+        half = (float(self.high_hz) - float(self.low_hz)) / 2
+        if not self.centre_hz + half < fs / 2:
+            raise ValueError(f"high_hz={self.high_hz!r} is not below half the sample rate ({fs / 2:g} Hz)")
+        rp, rs = _ripples(self.kind, self.ripple_db, self.stopband_db)
+        return _design(self.kind, self.order, half, rp, rs, fs=fs, output="sos")
+
+    def response(self, freq_hz, sample_rate_hz: float, sideband: str) -> np.ndarray:
+        """Complex response at baseband frequencies ``freq_hz`` (carrier at 0 Hz) for one sideband."""
+        if sideband not in ("upper", "lower"):
+            raise ValueError(f"sideband={sideband!r} is not 'upper' or 'lower'")
+        f = np.asarray(freq_hz, dtype=float)
+        centre = self.centre_hz if sideband == "upper" else -self.centre_hz
+        _, h = scipy.signal.freqz_sos(self.sos(sample_rate_hz), worN=np.atleast_1d(f - centre).ravel(), fs=sample_rate_hz)
+        return h.reshape(f.shape)
+
+    def attenuation_db(self, freq_hz, sample_rate_hz: float, sideband: str) -> np.ndarray:
+        """Attenuation at baseband frequencies ``freq_hz``, dB (positive = loss)."""
+        return -20.0 * np.log10(np.abs(self.response(freq_hz, sample_rate_hz, sideband)))
+
+    def describe(self) -> str:
+        extra = "".join(f", {k} {v:g} dB" for k, v in (("ripple", self.ripple_db), ("stop band", self.stopband_db)) if v is not None)
+        return f"IF filter {self.kind} order {self.order}, {self.low_hz:g}-{self.high_hz:g} Hz{extra}"
+
+
+@dataclass(frozen=True)
+class OutputFilter:
+    """The transmitter's output (harmonic) low-pass filter, an analog design at RF.
+
+    Parameters
+    ----------
+    cutoff_hz : float
+        Cut-off frequency, Hz; its meaning depends on ``kind``
+        (:data:`OUTPUT_FILTER_KINDS`).
+    kind : {"butter", "cheby1", "cheby2", "ellip"}
+        Filter family.
+    order : int
+        Filter order (1..20); a five-pole low-pass is order 5.
+    ripple_db : float, optional
+        Passband ripple, dB (cheby1, ellip).
+    stopband_db : float, optional
+        Stop-band attenuation, dB (cheby2, ellip).
+
+    Examples
+    --------
+    >>> lpf = OutputFilter(8.0e6, "butter", 5)
+    >>> round(float(lpf.attenuation_db(8.0e6)), 4)
+    3.0103
+    """
+
+    cutoff_hz: float
+    kind: str = "butter"
+    order: int = 5
+    ripple_db: float | None = None
+    stopband_db: float | None = None
+
+    def __post_init__(self):
+        require_positive("cutoff_hz", self.cutoff_hz)
+        if self.kind not in OUTPUT_FILTER_KINDS:
+            raise ValueError(f"kind={self.kind!r} is not one of {', '.join(OUTPUT_FILTER_KINDS)}")
+        object.__setattr__(self, "order", _order(self.order))
+        _ripples(self.kind, self.ripple_db, self.stopband_db)
+
+    def zpk(self):
+        """Zeros, poles and gain of the analog design (rad/s)."""
+        rp, rs = _ripples(self.kind, self.ripple_db, self.stopband_db)
+        return _design(self.kind, self.order, 2 * math.pi * float(self.cutoff_hz), rp, rs, analog=True, output="zpk")
+
+    def ba(self):
+        """Numerator and denominator of the analog design (rad/s), for :func:`scipy.signal.freqs`."""
+        rp, rs = _ripples(self.kind, self.ripple_db, self.stopband_db)
+        return _design(self.kind, self.order, 2 * math.pi * float(self.cutoff_hz), rp, rs, analog=True, output="ba")
+
+    def response(self, freq_hz) -> np.ndarray:
+        """Complex response at RF frequencies ``freq_hz`` (Hz, any sign)."""
+        f = np.asarray(freq_hz, dtype=float)
+        z, p, k = self.zpk()
+        _, h = scipy.signal.freqs_zpk(z, p, k, worN=2 * math.pi * np.atleast_1d(f).ravel())
+        return h.reshape(f.shape)
+
+    def attenuation_db(self, freq_hz) -> np.ndarray:
+        """Attenuation at RF frequencies ``freq_hz``, dB (positive = loss)."""
+        return -20.0 * np.log10(np.abs(self.response(freq_hz)))
+
+    def describe(self) -> str:
+        extra = "".join(f", {k} {require_finite(k, v):g} dB" for k, v in (("ripple", self.ripple_db), ("stop band", self.stopband_db)) if v is not None)
+        return f"output low-pass {self.kind} order {self.order}, cut-off {self.cutoff_hz:g} Hz{extra}"
