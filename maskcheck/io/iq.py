@@ -450,6 +450,7 @@ def open_wav(path, *, centre_hz=None, i_channel: str = "left") -> Recording:
 # -- SigMF ---------------------------------------------------------------------------
 def open_sigmf(path, *, centre_hz=None) -> Recording:
     """Open a SigMF recording (metadata through the ``sigmf`` package)."""
+    import jsonschema
     import sigmf
     from sigmf.error import SigMFError
 
@@ -462,6 +463,9 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
     else:
         meta = p
     _file_size(meta)
+    sibling = meta.with_name(meta.name[: -len(".sigmf-meta")] + ".sigmf-data") if meta.name.endswith(".sigmf-meta") else None
+    if sibling is not None and sibling.is_file() and sibling.stat().st_size == 0:
+        raise RecordingError("holds no samples (the dataset is empty); expected a recording", path=sibling)
     caught = []
     try:
         with warnings.catch_warnings(record=True) as caught:
@@ -474,10 +478,11 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
         raise RecordingError(f"is not a readable SigMF recording: {exc}", path=meta) from None
     except OSError as exc:
         raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=meta) from None
-    except Exception as exc:  # jsonschema.ValidationError and the like
-        msg = getattr(exc, "message", None) or str(exc).splitlines()[0]
-        where = "/".join(str(x) for x in getattr(exc, "absolute_path", ())) or None
-        raise RecordingError(f"does not follow the SigMF schema: {msg}", path=meta, where=where) from None
+    except jsonschema.ValidationError as exc:
+        where = "/".join(str(x) for x in exc.absolute_path) or None
+        raise RecordingError(f"does not follow the SigMF schema: {exc.message}", path=meta, where=where) from None
+    except (ValueError, TypeError, KeyError) as exc:  # what the package lets through from numpy and json
+        raise RecordingError(f"cannot be read as SigMF: {str(exc).splitlines()[0] if str(exc) else type(exc).__name__}", path=meta) from None
     if not isinstance(h, sigmf.SigMFFile):
         raise RecordingError("is a SigMF collection; name one of its recordings", path=meta)
     g = h.get_global_info()
