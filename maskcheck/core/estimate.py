@@ -293,8 +293,8 @@ class WelchEstimate:
         Bin frequencies relative to the centre, Hz, increasing.
     mean_fs : ndarray
         Average power in each bin's RBW, full-scale units (1 = 0 dBFS).
-    max_hold_fs : ndarray
-        Highest single-segment power in each bin's RBW.
+    max_hold_fs : ndarray or None
+        Highest single-segment power in each bin's RBW (None if not kept).
     averages : int
         Number of segments averaged (K).
     frames_fs : ndarray or None
@@ -309,7 +309,7 @@ class WelchEstimate:
     plan: WelchPlan
     offset_hz: np.ndarray
     mean_fs: np.ndarray
-    max_hold_fs: np.ndarray
+    max_hold_fs: np.ndarray | None
     averages: int
     frames_fs: np.ndarray | None = None
     frame_averages: np.ndarray | None = None
@@ -365,6 +365,8 @@ class WelchEstimate:
         if trace == "average":
             return self.mean_fs, "rms", self.averages
         if trace == "max-hold":
+            if self.max_hold_fs is None:
+                raise SpectrumError("this estimate kept no max-hold trace (ask for it with trace='max-hold')", where="--trace")
             return self.max_hold_fs, "peak", 1
         if trace == "frame":
             if self.frames_fs is None:
@@ -434,7 +436,7 @@ class _BatchState:
     def __init__(self, rows: int, n: int):
         self.batch = np.empty((rows, n), np.complex64)
         self.power = np.empty((rows, n), np.float32)
-        self.sum = np.zeros(n, np.float64)
+        self.sum = np.zeros(2 * n, np.float64)  # sums of re**2 and im**2, interleaved
         self.max = np.zeros(n, np.float32)
 
 
@@ -452,8 +454,11 @@ class WelchAccumulator:
     workers : int, optional
         Threads that transform batches in parallel (default: all CPUs).
     batch_segments : int, optional
-        Segments transformed per FFT call; by default about 2 MiB of samples
+        Segments transformed per FFT call; by default about 1 MiB of samples
         (cache-sized; common practice, no published source).
+    max_hold : bool
+        Keep the max-hold trace (it costs about a third of the time: the
+        average alone never forms ``|X|**2`` per segment).
 
     Examples
     --------
@@ -467,8 +472,9 @@ class WelchAccumulator:
     """
 
     def __init__(self, plan: WelchPlan, *, frame_segments: int | None = None, max_frames: int = 4096,
-                 workers: int | None = None, batch_segments: int | None = None):
+                 workers: int | None = None, batch_segments: int | None = None, max_hold: bool = True):
         self.plan = plan
+        self._max_hold = bool(max_hold)
         n = plan.segment_samples
         self._n = n
         self._hop = plan.hop_samples
@@ -484,7 +490,7 @@ class WelchAccumulator:
         if threads < 1:
             raise SpectrumError(f"{threads} worker threads; expected at least 1", where="--workers")
         if batch_segments is None:
-            batch_segments = max(1, min(256, (2 << 20) // (8 * n)))
+            batch_segments = max(1, min(256, (1 << 20) // (8 * n)))
         self._batch_segments = int(batch_segments)
         # whole batches go to a thread each (numpy and pocketfft release the GIL);
         # one thread alone lets pocketfft use none of its own
@@ -561,28 +567,31 @@ class WelchAccumulator:
         st = self._states.get()
         try:
             m = segs.shape[0]
-            buf, p = st.batch[:m], st.power[:m]
+            buf = st.batch[:m]
             np.multiply(segs, self._win, out=buf)
             spec = scipy.fft.fft(buf, axis=1, overwrite_x=True, workers=self._fft_workers)
-            v = spec.view(np.float32)
-            np.square(v, out=v)
-            np.add(v[:, 0::2], v[:, 1::2], out=p)
-            # float32 within one batch (at most a few hundred terms), float64 across batches
-            st.sum += p.sum(axis=0)
-            np.maximum(st.max, p.max(axis=0), out=st.max)
+            v = spec.view(np.float32)  # re, im, re, im, ... of each segment
+            # sums of squares of the components, without forming |X|**2: float32 within one
+            # batch (at most a few hundred terms), float64 across batches
+            st.sum += np.einsum("ij,ij->j", v, v)
             if self._frame_segments is not None:
                 with self._lock:
-                    self._add_frames(p, first_segment, stream_pos)
+                    self._add_frames(v, first_segment, stream_pos)
+            if self._max_hold:
+                p = st.power[:m]
+                np.square(v, out=v)
+                np.add(v[:, 0::2], v[:, 1::2], out=p)
+                np.maximum(st.max, p.max(axis=0), out=st.max)
         finally:
             self._states.put(st)
 
-    def _add_frames(self, p: np.ndarray, first_segment: int, stream_pos: int) -> None:
+    def _add_frames(self, v: np.ndarray, first_segment: int, stream_pos: int) -> None:
         f = self._frame_segments
         j0 = first_segment // f
-        j1 = (first_segment + p.shape[0] - 1) // f
+        j1 = (first_segment + v.shape[0] - 1) // f
         for j in range(j0, j1 + 1):
             a = max(0, j * f - first_segment)
-            b = min(p.shape[0], (j + 1) * f - first_segment)
+            b = min(v.shape[0], (j + 1) * f - first_segment)
             while len(self._frames) <= j:
                 if len(self._frames) >= self._max_frames:
                     raise SpectrumError(
@@ -594,7 +603,9 @@ class WelchAccumulator:
                 self._frame_starts.append(math.nan)
             if a == j * f - first_segment:  # the frame begins in this batch
                 self._frame_starts[j] = stream_pos + a * self._hop
-            self._frames[j] += p[a:b].sum(axis=0, dtype=np.float64)
+            e = np.einsum("ij,ij->j", v[a:b], v[a:b])
+            self._frames[j] += e[0::2]
+            self._frames[j] += e[1::2]
             self._frame_counts[j] += b - a
 
     def close(self) -> None:
@@ -617,11 +628,12 @@ class WelchAccumulator:
     def result(self) -> WelchEstimate:
         """The estimate of everything fed so far (the worker threads stop)."""
         self.close()
-        total = np.zeros(self._n, np.float64)
+        both = np.zeros(2 * self._n, np.float64)
         peak = np.zeros(self._n, np.float32)
         for st in self._all_states:
-            total += st.sum
+            both += st.sum
             np.maximum(peak, st.max, out=peak)
+        total = both[0::2] + both[1::2]
         if self._count == 0:
             raise SpectrumError(
                 f"the recording is shorter than one segment ({self._n} samples); expected at least that many "
@@ -639,7 +651,7 @@ class WelchAccumulator:
             plan=self.plan,
             offset_hz=offset,
             mean_fs=shift(total * (norm / self._count)),
-            max_hold_fs=shift(peak.astype(np.float64) * norm),
+            max_hold_fs=shift(peak.astype(np.float64) * norm) if self._max_hold else None,
             averages=self._count,
             frames_fs=frames,
             frame_averages=counts,
@@ -656,6 +668,7 @@ def welch_stream(
     frame_segments: int | None = None,
     workers: int | None = None,
     progress: Callable[[int], None] | None = None,
+    max_hold: bool = True,
 ) -> WelchEstimate:
     """Welch estimate of consecutive blocks of samples (one run).
 
@@ -670,8 +683,10 @@ def welch_stream(
         FFT threads.
     progress : callable, optional
         Called with the number of samples of each block after it is used.
+    max_hold : bool
+        Keep the max-hold trace too.
     """
-    acc = WelchAccumulator(plan, frame_segments=frame_segments, workers=workers)
+    acc = WelchAccumulator(plan, frame_segments=frame_segments, workers=workers, max_hold=max_hold)
     try:
         for b in blocks:
             acc.feed(b)

@@ -41,8 +41,10 @@ from __future__ import annotations
 
 import json
 import math
+import queue
 import re
 import struct
+import threading
 import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -200,13 +202,21 @@ class Recording:
         return self.data_offset == 0 and self.num_samples * self.bytes_per_sample == size
 
     def blocks(self, start: int = 0, count: int | None = None, *, block_samples: int = BLOCK_SAMPLES,
-               hasher=None) -> Iterator[np.ndarray]:
+               hasher=None, prefetch: bool = False) -> Iterator[np.ndarray]:
         """Yield the samples ``start .. start+count`` in blocks of complex64, full scale 1.
 
-        The blocks share one buffer: each is valid only until the next is
+        The blocks share reused buffers: each is valid only until the next is
         asked for (copy what you keep).  ``hasher`` (a :mod:`hashlib`
-        object), if given, is updated with the bytes as they are read.
+        object), if given, is updated with the bytes as they are read.  With
+        ``prefetch`` a background thread reads (and converts) the next block
+        while the caller works on this one.
         """
+        if not prefetch:
+            yield from self._blocks(start, count, block_samples, hasher, 1)
+            return
+        yield from _prefetched(self._blocks(start, count, block_samples, hasher, 3))
+
+    def _blocks(self, start, count, block_samples, hasher, nbuf) -> Iterator[np.ndarray]:
         if count is None:
             count = self.num_samples - start
         if start < 0 or count < 0 or start + count > self.num_samples:
@@ -214,9 +224,10 @@ class Recording:
         fmt = self._fmt
         bps = self.bytes_per_sample
         block_samples = max(1, int(block_samples))
-        out = np.empty(min(block_samples, max(count, 1)), np.complex64)
+        outs = [np.empty(min(block_samples, max(count, 1)), np.complex64) for _ in range(nbuf)]
         direct = np.dtype(fmt.component) == np.dtype("<f4") and not fmt.packed24
-        raw = None if direct else bytearray(out.size * bps)
+        raw = None if direct else bytearray(outs[0].size * bps)
+        turn = 0
         try:
             fh = open(self.data_path, "rb", buffering=0)
         except OSError as exc:
@@ -225,6 +236,8 @@ class Recording:
             fh.seek(self.data_offset + start * bps)
             left = count
             while left > 0:
+                out = outs[turn % nbuf]
+                turn += 1
                 k = min(left, out.size)
                 target = memoryview(out[:k].view(np.uint8)) if direct else memoryview(raw)[: k * bps]
                 got = _read_exactly(fh, target)
@@ -245,6 +258,58 @@ class Recording:
                     blk *= np.complex64(1j)
                 left -= k
                 yield blk
+
+
+def _prefetched(gen: Iterator[np.ndarray]) -> Iterator[np.ndarray]:
+    """Run ``gen`` one block ahead in a thread (``gen`` must rotate three buffers).
+
+    The queue holds one finished block: the consumer holds one, the producer
+    fills the third, so no buffer is overwritten while it is in use.
+    """
+    q: queue.Queue = queue.Queue(maxsize=1)
+    stop = threading.Event()
+    done = object()
+
+    def produce():
+        try:
+            for blk in gen:
+                while not stop.is_set():
+                    try:
+                        q.put((blk, None), timeout=0.1)
+                        break
+                    except queue.Full:
+                        continue
+                if stop.is_set():
+                    return
+            item = (done, None)
+        except BaseException as exc:  # handed to the consumer, raised there
+            item = (None, exc)
+        while not stop.is_set():
+            try:
+                q.put(item, timeout=0.1)
+                return
+            except queue.Full:
+                continue
+
+    t = threading.Thread(target=produce, name="iq-read", daemon=True)
+    t.start()
+    try:
+        while True:
+            blk, exc = q.get()
+            if exc is not None:
+                raise exc
+            if blk is done:
+                return
+            yield blk
+    finally:
+        stop.set()
+        try:
+            while True:
+                q.get_nowait()
+        except queue.Empty:
+            pass
+        t.join()
+        gen.close()
 
 
 def _read_exactly(fh, view: memoryview) -> int:

@@ -189,11 +189,12 @@ def estimate_recording(
     done = 0
     estimates = []
     for fc, caps in sorted(groups.items()):
-        acc = WelchAccumulator(plan, frame_segments=frame_segments, workers=workers)
+        acc = WelchAccumulator(plan, frame_segments=frame_segments, workers=workers, max_hold=trace == "max-hold")
         try:
             for c in caps:
                 acc.skip(c.sample_start - acc.position)
-                for blk in rec.blocks(c.sample_start, c.sample_count, block_samples=block_samples, hasher=hasher):
+                for blk in rec.blocks(c.sample_start, c.sample_count, block_samples=block_samples, hasher=hasher,
+                                      prefetch=True):
                     acc.feed(blk)
                     done += blk.size
                     if progress is not None:
