@@ -127,11 +127,19 @@ class Polynomial:
 
     def zones(self, x: np.ndarray, max_zone: int) -> dict[int, np.ndarray]:
         r, u = _split(x)
+        r_pow = [None, r]  # r**k by repeated multiplication, each power once for all zones
+        for _ in range(2, self.order + 1):
+            r_pow.append(r_pow[-1] * r)
         out = {}
+        u_pow = np.ones_like(u)
         for n in range(0, min(self.order, max_zone) + 1):
-            if any(a and zone_coefficient(k, n) for k, a in enumerate(self.coefficients, start=1)):
-                amp = self.zone_amplitude(r, n)
-                out[n] = amp if n == 0 else amp * u**n
+            if n:
+                u_pow = u_pow * u
+            terms = [(a * zone_coefficient(k, n), k) for k, a in enumerate(self.coefficients, start=1)
+                     if a and zone_coefficient(k, n)]
+            if terms:
+                amp = sum(c * r_pow[k] for c, k in terms)
+                out[n] = amp if n == 0 else amp * u_pow
         return out
 
     @property
