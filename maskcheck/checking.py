@@ -442,5 +442,22 @@ def _estimation_summary(spectrum: Spectrum) -> dict:
     for key in ("estimation", "calibration", "recording"):
         if key in ref:
             out[key] = {k: v for k, v in dict(ref[key]).items() if not str(k).startswith("_")}
+    e, c = out.get("estimation"), out.get("calibration")
+    if e:  # one line each for people (reports); the dicts above are for machines
+        out["estimate"] = (
+            f"Welch, {e['window']} window, {e['segment_samples']}-sample segments, "
+            f"{100 * e['overlap_fraction']:.0f} % overlap, no detrend, ENBW {format_frequency(e['enbw_hz'])}, "
+            f"{e['trace']} ({e['detector']}) of {e['trace_averages']} segment(s), statistical uncertainty "
+            f"+-{e['trace_uncertainty_db']:.2f} dB (1 sigma, 4.34/sqrt(K))"
+        )
+    if c:
+        text = c["method"]
+        if c.get("full_scale_dbm") is not None:
+            text += f", full scale = {c['full_scale_dbm']:.2f} dBm"
+        if c.get("tone_hz") is not None:
+            text += f" (tone {format_frequency(c['tone_hz'])} = {c['tone_dbm']:.2f} dBm, read {c['tone_measured_dbfs']:.2f} dBFS)"
+        if c.get("correction_table"):
+            text += f"; correction table {c['correction_table']}"
+        out["levels"] = text
     return out
 

@@ -268,6 +268,22 @@ def test_check_reads_a_recording_and_states_the_estimation(tmp_path):
     assert est["uncertainty_db"] == pytest.approx(4.343 / np.sqrt(est["averages"]), rel=1e-3)
     assert d["reference_power"]["measured_dbm"] == pytest.approx(50 + 20 * np.log10(0.5), abs=0.05)
     assert len(d["inputs"]) == 2 and all(len(i["sha256"]) == 64 for i in d["inputs"])
+    # one line each for the report: the estimate and how the levels were scaled
+    assert "blackmanharris" in sp["estimate"] and "4.34/sqrt(K)" in sp["estimate"]
+    assert "50.00 dBm" in sp["levels"]
+    from maskcheck.report.tables import spectrum_rows
+
+    labels = [label.lower() for label, _ in spectrum_rows(_result_of(meta))]
+    assert "estimate" in labels and "levels" in labels and "estimation" not in labels
+
+
+def _result_of(meta):
+    from maskcheck.checking import check
+    from maskcheck.core.station import Station
+    from maskcheck.masks.library import load_mask
+
+    s = estimate_recording(open_recording(meta), rbw_hz=1e3, calibration=Calibration(full_scale_w=100.0)).spectrum
+    return check(s, load_mask("us-amateur-hf-pre-2003"), Station(carrier_hz=FC, power_w=100.0))
 
 
 def test_uncalibrated_recording_judges_relative_limits_only(tmp_path):

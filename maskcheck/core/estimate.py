@@ -454,7 +454,7 @@ class WelchAccumulator:
     workers : int, optional
         Threads that transform batches in parallel (default: all CPUs).
     batch_segments : int, optional
-        Segments transformed per FFT call; by default about 1 MiB of samples
+        Segments transformed per FFT call; by default about 2 MiB of samples
         (cache-sized; common practice, no published source).
     max_hold : bool
         Keep the max-hold trace (it costs about a third of the time: the
@@ -490,7 +490,7 @@ class WelchAccumulator:
         if threads < 1:
             raise SpectrumError(f"{threads} worker threads; expected at least 1", where="--workers")
         if batch_segments is None:
-            batch_segments = max(1, min(256, (1 << 20) // (8 * n)))
+            batch_segments = max(1, min(256, (2 << 20) // (8 * n)))
         self._batch_segments = int(batch_segments)
         # whole batches go to a thread each (numpy and pocketfft release the GIL);
         # one thread alone lets pocketfft use none of its own

@@ -338,7 +338,10 @@ def emission_facts(result: CheckResult) -> list[tuple[str, str]]:
 
 def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
     """(label, value) pairs describing the measured spectrum."""
-    return _dict_rows(result.spectrum_summary, ("start_hz", "stop_hz", "points", "rbw_hz", "detector"))
+    # nested records (the estimation and calibration of a recording) are for the JSON; their
+    # one-line texts ("estimate", "levels") are shown instead
+    flat = {k: v for k, v in result.spectrum_summary.items() if not isinstance(v, dict)}
+    return _dict_rows(flat, ("start_hz", "stop_hz", "points", "rbw_hz", "detector", "level_scale", "estimate", "levels"))
 
 
 BANDWIDTH_HEADER = ("Method", "Width", "Lower edge", "Upper edge")
