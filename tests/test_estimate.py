@@ -4,6 +4,7 @@ import tracemalloc
 
 import numpy as np
 import pytest
+import scipy.fft
 import scipy.signal
 from scipy.signal import get_window
 
@@ -85,9 +86,14 @@ def test_window_constants_at_4096(window, beta, enbw_bins):
 @pytest.mark.parametrize("window, n", [("hann", 1500), ("blackmanharris", 2004), ("flattop", 3770)])
 def test_segment_length_from_rbw(window, n):
     # Source: methods sheet 1.4 [C]: nperseg = ENBW_bins * fs / RBW, fs = 1 MHz, RBW 1 kHz
-    plan = plan_welch(1e6, window=window, rbw_hz=1e3)
+    plan = plan_welch(1e6, window=window, rbw_hz=1e3, fast_length=False)
     assert plan.segment_samples == n
     assert plan.enbw_hz == pytest.approx(1e3, rel=1e-3)
+    # by default a nearby FFT-friendly length, its RBW within half a per cent (and stated)
+    fast = plan_welch(1e6, window=window, rbw_hz=1e3)
+    assert fast.enbw_hz == pytest.approx(1e3, rel=0.005)
+    assert abs(fast.segment_samples - n) <= 0.006 * n
+    assert scipy.fft.next_fast_len(fast.segment_samples) == fast.segment_samples
 
 
 def test_white_noise_reads_its_density_within_welch_scatter():
@@ -216,6 +222,10 @@ def test_bad_parameters_are_errors():
         plan_welch(1e6, rbw_hz=5e5)
     with pytest.raises(SpectrumError, match="shorter than one segment"):
         _estimate(np.ones(100, np.complex64), 1.0, "hann", None, 256)
+    acc = WelchAccumulator(plan_welch(1.0, window="hann", segment_samples=64), frame_segments=1, max_frames=3)
+    with pytest.raises(SpectrumError, match="more than 3 frames"):
+        acc.feed(np.ones(64 * 10, np.complex64))
+    acc.close()
     with pytest.raises(SpectrumError, match="digital silence"):
         _estimate(np.zeros(4096, np.complex64), 1.0, "hann", None, 256).to_spectrum(0.0)
 

@@ -26,7 +26,7 @@ def console(stderr: bool = False):
 
 def add_trace_options(sp) -> None:
     """Options for trace files that do not describe themselves."""
-    sp.add_argument("--rbw", metavar="BW", help="RBW of traces that do not state it, e.g. 10kHz")
+    sp.add_argument("--rbw", metavar="BW", help="RBW of traces that do not state it, e.g. 10kHz; for IQ recordings the RBW to estimate with")
     sp.add_argument("--freq-unit", choices=["hz", "khz", "mhz", "ghz"], help="frequency unit of traces whose header does not say")
     sp.add_argument("--level-unit", choices=["dbm", "dbw", "dbuv", "w", "mw"], help="level unit of traces whose header does not say")
     sp.add_argument("--detector", choices=["rms", "average", "peak", "sample", "quasi-peak"], help="detector of traces that do not state it")

@@ -68,8 +68,9 @@ def run(args) -> int:
         out.print(f"[bold]{args.recording}[/bold]: {len(spectrum)} points, {spectrum.start_hz:,.1f} to {spectrum.stop_hz:,.1f} Hz")
         out.print(
             f"RBW (noise bandwidth) {est['enbw_hz']:.6g} Hz: {est['window']} window, {est['segment_samples']} samples per segment, "
-            f"{100 * est['overlap_fraction']:.0f} % overlap, {est['averages']} averages "
-            f"(uncertainty of the average +-{est['uncertainty_db']:.2f} dB, 1 sigma); trace: {est['trace']} ({est['detector']})"
+            f"{100 * est['overlap_fraction']:.0f} % overlap, {est['averages']} segments; trace: {est['trace']} "
+            f"({est['detector']}) of {est['trace_averages']} segment(s), statistical uncertainty "
+            f"+-{est['trace_uncertainty_db']:.2f} dB (1 sigma)"
         )
         if scale == "dBFS":
             out.print("levels in dBFS: not calibrated (give --full-scale or --ref-tone for dBm)")

@@ -68,6 +68,8 @@ __all__ = [
     "welch_stream",
     "welch_uncertainty_db",
     "TRACES",
+    "FRAME_BUDGET_BYTES",
+    "FAST_LENGTH_TOLERANCE",
 ]
 
 #: Windows offered, with their use (methods sheet 1.1; common practice).
@@ -80,6 +82,12 @@ WINDOWS = {
 
 #: Traces an estimate can give as a Spectrum.
 TRACES = ("average", "max-hold", "frame")
+
+#: how far (relative) the RBW may stray from the one asked for to get a fast FFT length
+FAST_LENGTH_TOLERANCE = 0.005
+
+#: memory the per-frame averages of the time-resolved mode may take, bytes
+FRAME_BUDGET_BYTES = 64 << 20
 
 #: 10 / ln(10): dB per unit of relative standard deviation (4.343 dB)
 _DB_PER_REL = 10.0 / math.log(10.0)
@@ -218,6 +226,7 @@ def plan_welch(
     rbw_hz: float | None = None,
     segment_samples: int | None = None,
     overlap: float = 0.5,
+    fast_length: bool = True,
 ) -> WelchPlan:
     """Choose the segment length and overlap of a Welch estimate.
 
@@ -239,6 +248,11 @@ def plan_welch(
         4096.
     overlap : float
         Fraction of a segment shared with the next, ``0 <= overlap < 1``.
+    fast_length : bool
+        With ``rbw_hz``: prefer a nearby length that :func:`scipy.fft.next_fast_len`
+        calls fast (a product of small primes) when its RBW is within
+        :data:`FAST_LENGTH_TOLERANCE` of the one asked for; a length with a
+        large prime factor transforms several times slower.
 
     Examples
     --------
@@ -260,10 +274,17 @@ def plan_welch(
         # ENBW in bins varies slightly with N: settle on the nearest integer
         for _ in range(3):
             n = max(2, round(window_enbw_bins(spec, n) * sample_rate_hz / rbw_hz))
-        best = min(
-            (m for m in (n - 1, n, n + 1) if m >= 2),
-            key=lambda m: abs(window_enbw_bins(spec, m) * sample_rate_hz / m - rbw_hz),
-        )
+        def miss(m):  # relative distance of the RBW obtained from the RBW asked for
+            return abs(window_enbw_bins(spec, m) * sample_rate_hz / m - rbw_hz) / rbw_hz
+
+        best = min((m for m in (n - 1, n, n + 1) if m >= 2), key=miss)
+        if fast_length:
+            near = {scipy.fft.next_fast_len(best)}
+            if hasattr(scipy.fft, "prev_fast_len"):
+                near.add(scipy.fft.prev_fast_len(best))
+            near = [m for m in near if m >= 8 and miss(m) <= FAST_LENGTH_TOLERANCE]
+            if near:
+                best = min(near, key=miss)
         segment_samples = best
     elif segment_samples is None:
         segment_samples = 4096
@@ -449,8 +470,9 @@ class WelchAccumulator:
     frame_segments : int, optional
         Keep per-frame averages of this many consecutive segments (the
         time-resolved mode).
-    max_frames : int
-        Refuse to keep more frames than this (memory stays bounded).
+    max_frames : int, optional
+        Refuse to keep more frames than this; by default as many as fit in
+        :data:`FRAME_BUDGET_BYTES` (memory stays bounded).
     workers : int, optional
         Threads that transform batches in parallel (default: all CPUs).
     batch_segments : int, optional
@@ -471,7 +493,7 @@ class WelchAccumulator:
     (511, 2.0)
     """
 
-    def __init__(self, plan: WelchPlan, *, frame_segments: int | None = None, max_frames: int = 4096,
+    def __init__(self, plan: WelchPlan, *, frame_segments: int | None = None, max_frames: int | None = None,
                  workers: int | None = None, batch_segments: int | None = None, max_hold: bool = True):
         self.plan = plan
         self._max_hold = bool(max_hold)
@@ -504,7 +526,7 @@ class WelchAccumulator:
         if frame_segments is not None and frame_segments < 1:
             raise SpectrumError(f"frame of {frame_segments} segments; expected at least 1", where="--frame")
         self._frame_segments = frame_segments
-        self._max_frames = int(max_frames)
+        self._max_frames = int(max_frames) if max_frames is not None else max(1, FRAME_BUDGET_BYTES // (8 * n))
         self._frames: list[np.ndarray] = []
         self._frame_counts: list[int] = []
         self._frame_starts: list[int] = []

@@ -191,18 +191,18 @@ def estimate_recording(
     for fc, caps in sorted(groups.items()):
         acc = WelchAccumulator(plan, frame_segments=frame_segments, workers=workers, max_hold=trace == "max-hold")
         try:
-            for c in caps:
-                acc.skip(c.sample_start - acc.position)
-                for blk in rec.blocks(c.sample_start, c.sample_count, block_samples=block_samples, hasher=hasher,
-                                      prefetch=True):
-                    acc.feed(blk)
-                    done += blk.size
-                    if progress is not None:
-                        progress(done, total)
             try:
+                for c in caps:
+                    acc.skip(c.sample_start - acc.position)
+                    for blk in rec.blocks(c.sample_start, c.sample_count, block_samples=block_samples, hasher=hasher,
+                                          prefetch=True):
+                        acc.feed(blk)
+                        done += blk.size
+                        if progress is not None:
+                            progress(done, total)
                 est = acc.result()
             except SpectrumError as exc:
-                raise RecordingError(exc.message, path=rec.path) from None
+                raise RecordingError(exc.message, path=rec.path, where=exc.where) from None
         finally:
             acc.close()
         estimates.append((fc, est))
