@@ -41,6 +41,8 @@ import math
 import os
 import time
 
+import numpy as np
+
 from ._version import __version__
 from dataclasses import replace as _replace
 
@@ -54,7 +56,7 @@ from .core.station import Station
 from .core.units import format_frequency, w_to_dbm
 from .core.verdict import judge_region
 from .errors import SpectrumError, StationError
-from .masks.evaluate import applies_to, evaluate_mask, fundamental_exclusion_hz, reference_power_w
+from .masks.evaluate import applies_to, applies_when, evaluate_mask, fundamental_exclusion_hz, reference_power_w, station_variables
 
 __all__ = ["check", "utc_now"]
 
@@ -203,9 +205,23 @@ def check(
     if kind == "pep" and station.pep_w is None:
         source = f"{source}; {ref_note}"
         warnings.append(ref_note)
+    # mask schema v3 reference kinds (issue 4)
+    measured_ref_w = None
+    if kind in ("carrier", "channel", "none"):
+        source = f"{source}; {ref_note}"
+        if kind != "none":
+            warnings.append(f"reference power: {ref_note}")
+    elif kind == "dbsd":
+        measured_ref_w, dbsd_note = _dbsd_reference_w(spectrum, mask, dom, obw_fig, window, fc)
+        ref_w = measured_ref_w
+        source = dbsd_note
+        warnings.append(f"reference power: {dbsd_note}")
     reference = ReferencePower(kind, float(w_to_dbm(ref_w)), source, None if measured_w is None else float(w_to_dbm(measured_w)))
     ref_fs = None
-    if relative:
+    if relative and measured_ref_w is not None:
+        ref_fs, note = measured_ref_w, "levels are relative (uncalibrated recording, dBFS): 0 dBsd is measured on the same scale"
+        reference = ReferencePower(kind, float(w_to_dbm(ref_w)), f"{source}; {note}", None)
+    elif relative:
         ref_fs, note = _relative_reference(measured_w, power_w, ref_w, window)
         reference = ReferencePower(kind, float(w_to_dbm(ref_w)), f"{source}; {note}", None)
         warnings.append(note)
@@ -214,11 +230,18 @@ def check(
     ok, why = applies_to(mask, fc)
     if not ok:
         warnings.append(f"the mask does not apply to this carrier: {why}; the result cannot be a pass")
+    holds, why_when = applies_when(mask, station_variables(
+        power_w=power_w, pep_w=station.pep_w, carrier_hz=fc,
+        necessary_bw_hz=None if dom is None else dom.necessary_bw_hz, authorized_bw_hz=auth))
+    if not holds:
+        ok = False
+        warnings.append(f"the mask may not apply to this station: {why_when}; the result cannot be a pass")
 
     # regions
     regions, emissions = [], []
     limits = evaluate_mask(
-        mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom, authorized_bw_hz=auth, exclusion_hz=exclude_hz
+        mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom, authorized_bw_hz=auth, exclusion_hz=exclude_hz,
+        reference_w=measured_ref_w,
     )
     for lim in limits:
         if lim.unevaluated:
@@ -242,6 +265,8 @@ def check(
             if res.verdict != "fail":
                 res.verdict = "incomplete"
         res.anchor = lim.anchor
+        warnings.extend(getattr(lim, "notes", ()))
+        _refuse_narrower(spectrum, lim, res)
         regions.append(res)
         emissions.extend(ems)
         warnings.extend(w)
@@ -385,6 +410,69 @@ def _domain_extent(spectrum, regions, dom) -> tuple[float, float]:
     return max(0.0, min(min(lo), b0)), max(max(hi), b1)
 
 
+# -- reference kinds and measurement rules of mask schema v3 (issue 4) -----------------
+def _dbsd_reference_w(spectrum, mask, dom, obw_fig, window, fc):
+    """0 dBsd: the highest power in any reference bandwidth inside the necessary band, W, and a note.
+
+    The band is the necessary band when it is known, else the measured
+    occupied bandwidth, else the fundamental window (wider, so the level
+    found is never below the one inside the necessary band: conservative).
+    """
+    ref_bw = mask.reference_power.bandwidth
+    bw = float(ref_bw.evaluate({"carrier_hz": fc})) if not ref_bw.names - {"carrier_hz"} else None
+    if bw is None or not bw > 0:
+        raise StationError(f"mask {mask.id}: reference_power.bandwidth {ref_bw.text!r} cannot be evaluated", where="mask")
+    if dom is not None:
+        lo, hi = dom.necessary_band_hz
+        where = "the necessary band"
+    elif obw_fig is not None:
+        lo, hi = obw_fig.lower_hz, obw_fig.upper_hz
+        where = "the measured occupied bandwidth (no necessary bandwidth given)"
+    else:
+        lo, hi = window
+        where = "the fundamental window (no necessary bandwidth given, no occupied bandwidth measured; conservative)"
+    if spectrum.uncovered_hz(lo, hi):
+        raise StationError(
+            f"0 dBsd cannot be measured: the trace does not cover {where}, {format_frequency(lo)} to {format_frequency(hi)}",
+            where="trace",
+        )
+    f = spectrum.freq_hz
+    if hi - lo <= bw:
+        centres = [0.5 * (lo + hi)]
+    else:
+        centres = f[(f >= lo + bw / 2.0) & (f <= hi - bw / 2.0)]
+        if len(centres) == 0:
+            centres = [0.5 * (lo + hi)]
+    powers = spectrum.band_powers_w(centres, bw)
+    best = float(max(powers))
+    if not best > 0:
+        raise StationError(f"0 dBsd cannot be measured: no power in {where}", where="trace")
+    note = (
+        f"0 dBsd = the highest power in any {format_frequency(bw)} inside {where}, measured from the trace: "
+        f"{w_to_dbm(best):.2f} dBm"
+    )
+    return best, note
+
+
+def _refuse_narrower(spectrum, lim, res) -> None:
+    """A rule that asks for its reference bandwidth itself: a narrower RBW leaves the region incomplete."""
+    if not getattr(lim, "refuse_narrower", False) or not res.points_evaluated:
+        return
+    f = spectrum.freq_hz
+    sel = np.asarray(lim.in_scope(f), dtype=bool)
+    ref = np.asarray(lim.reference_bandwidth_hz(f[sel]), dtype=float)
+    rbw = spectrum.rbw_hz[sel]
+    narrow = np.isfinite(ref) & (rbw < ref * (1 - 1e-9))
+    if narrow.any():
+        res.reasons.append(
+            f"the rule asks for a {format_frequency(float(np.nanmin(ref[narrow])))} measurement bandwidth; the trace's RBW "
+            f"({format_frequency(float(rbw[narrow].min()))}) is narrower at {int(narrow.sum())} point(s) and integrating it is "
+            "not what the rule allows: measure with the rule's bandwidth"
+        )
+        if res.verdict != "fail":
+            res.verdict = "incomplete"
+
+
 # -- spectra estimated from IQ recordings (issue 5) ------------------------------------
 def _level_scale(spectrum: Spectrum) -> str:
     """``"dBFS"`` for an uncalibrated recording, else ``"dBm"``."""
@@ -427,6 +515,13 @@ def _relative_limits(lim, ref_fs):
         f"the absolute limit ({lim.limit_text}) cannot be judged on an uncalibrated recording (levels in dBFS): "
         "calibrate with --full-scale or --ref-tone"
     )
+    terms = getattr(lim, "terms", ())
+    if terms:  # a limit that varies along the axis (mask schema v3): keep its relative term only
+        relative_terms = tuple(t for t in terms if t[0] == "attenuation_db")
+        if not relative_terms:
+            return None, RegionResult(lim.name, lim.kind, lim.start_hz, lim.stop_hz, "incomplete", limit_text=lim.limit_text,
+                                      detector_required=lim.detector, reasons=[text])
+        return replace(lim, reference_power_w=ref_fs, terms=relative_terms), (text if len(relative_terms) < len(terms) else None)
     if getattr(lim, "attenuation_db", None) is None:
         return None, RegionResult(lim.name, lim.kind, lim.start_hz, lim.stop_hz, "incomplete", limit_text=lim.limit_text,
                                   detector_required=lim.detector, reasons=[text])

@@ -24,6 +24,7 @@ __all__ = [
     "MaskError",
     "StationError",
     "OutputError",
+    "ScenarioError",
 ]
 
 
@@ -94,3 +95,15 @@ class StationError(MaskcheckError, ValueError):
 
 class OutputError(MaskcheckError, OSError):
     """An output file that cannot or must not be written."""
+
+
+class ScenarioError(MaskcheckError, ValueError):
+    """A malformed or impossible simulation scenario file.
+
+    ``problems`` holds every problem found, each as ``"key.path: message"``
+    (all are reported at once); the message joins them on one line.
+    """
+
+    def __init__(self, message: str, *, path=None, where=None, problems=None):
+        super().__init__(message, path=path, where=where)
+        self.problems = list(problems) if problems else [message]

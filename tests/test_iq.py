@@ -342,6 +342,11 @@ def test_time_resolved_check_reports_the_worst_frame(tmp_path):
     assert whole["regions"][0]["worst_margin_db"] == pytest.approx(-5.0 + 13.0, abs=0.3)
     assert framed["regions"][0]["verdict"] == "fail" and rc_f == 1
     assert whole["regions"][0]["verdict"] == "incomplete" and rc == 3
+    # the time-resolved mode needs a recording (Common practice, no published source: refused, not ignored)
+    trace = tmp_path / "t.txt"
+    trace.write_text("# rbw_hz: 1000\n# detector: rms\nfrequency_hz,level_dbm\n7.0e6,-50\n7.0005e6,-50\n")
+    assert main(["check", str(trace), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W",
+                 "--frame", "50ms", "--quiet"]) == 2
     # max-hold (peak-detector emulation) sees it too
     rc_p, peak = _check_json(tmp_path, meta, ["--full-scale", "50dBm", "--trace", "max-hold"], "p.json")
     assert peak["spectrum"]["detector"] == "peak" and peak["regions"][0]["verdict"] == "fail"

@@ -214,6 +214,10 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
 
             raise TraceError("an uncalibrated recording (dBFS) cannot be joined with traces in dBm; "
                              "calibrate it with --full-scale or --ref-tone", path=" + ".join(map(str, paths)))
+    if getattr(args, "frame", None) and not recs:
+        from ..errors import UnitError
+
+        raise UnitError("the time-resolved mode applies to IQ recordings; none was given", where="--frame")
     return InputSet(spectra, inputs, recs)
 
 

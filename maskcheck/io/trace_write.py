@@ -14,7 +14,7 @@ from ..core.spectrum import Spectrum
 from ..errors import SpectrumError
 from .output import write_atomic
 
-__all__ = ["format_trace", "write_trace"]
+__all__ = ["format_trace", "write_trace", "split_spans", "write_spans"]
 
 
 def format_trace(spectrum: Spectrum, notes=(), *, level_column: str = "level_dbm") -> str:
@@ -51,3 +51,36 @@ def format_trace(spectrum: Spectrum, notes=(), *, level_column: str = "level_dbm
 def write_trace(path, spectrum: Spectrum, *, notes=(), force: bool = False, level_column: str = "level_dbm"):
     """Write ``spectrum`` (one span) to ``path`` atomically; see :func:`format_trace`."""
     return write_atomic(path, format_trace(spectrum, notes, level_column=level_column), force=force)
+
+
+def split_spans(spectrum: Spectrum) -> list[Spectrum]:
+    """The spans of a stitched spectrum, each as a Spectrum of its own (metadata kept)."""
+    bounds = (0, *spectrum.segments, len(spectrum))
+    out = []
+    for a, b in zip(bounds[:-1], bounds[1:]):
+        out.append(Spectrum(spectrum.freq_hz[a:b], spectrum.power_w[a:b], spectrum.rbw_hz[a:b], spectrum.enbw_hz[a:b],
+                            detector=spectrum.detector, reference=spectrum.reference))
+    return out
+
+
+def write_spans(folder, spectrum: Spectrum, *, stem: str = "trace", notes=(), force: bool = False) -> list:
+    """Write each span of ``spectrum`` to its own trace file ``STEM-NN.txt`` in ``folder``.
+
+    Every target is checked before the first is written, so an existing
+    file (without ``force``) leaves nothing written.  Read the files back
+    together (``maskcheck check FOLDER/STEM-*.txt``) and they stitch to the
+    same spectrum.  Returns the paths written.
+    """
+    from pathlib import Path
+
+    from .output import check_writable
+
+    spans = split_spans(spectrum)
+    width = max(2, len(str(len(spans))))
+    paths = [Path(folder) / f"{stem}-{i + 1:0{width}d}.txt" for i in range(len(spans))]
+    for p in paths:
+        check_writable(p, force)
+    for i, (p, s) in enumerate(zip(paths, spans)):
+        span_note = f"span {i + 1} of {len(spans)}: {float(s.freq_hz[0])!r} to {float(s.freq_hz[-1])!r} Hz"
+        write_trace(p, s, notes=(*notes, span_note), force=force)
+    return paths

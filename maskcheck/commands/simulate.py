@@ -1,0 +1,94 @@
+"""``maskcheck simulate``: run a transmitter scenario file; optionally check the result against a mask."""
+
+from __future__ import annotations
+
+from ._common import console
+
+__all__ = ["register", "run"]
+
+
+def register(sub) -> None:
+    s = sub.add_parser("simulate", help="simulate a transmitter chain from a scenario file",
+                       description="Run a scenario (source, modulator, filters, amplifier, output filter): write the "
+                                   "fundamental as a SigMF recording and the wideband spectrum as trace files, "
+                                   "and with --mask judge it like 'maskcheck check'.")
+    s.add_argument("scenario", metavar="SCENARIO.toml", help="the scenario file")
+    s.add_argument("--out", required=True, metavar="DIR", help="output folder (created if missing)")
+    s.add_argument("--mask", metavar="ID|FILE", help="judge the wideband spectrum against this mask (default: the scenario's [check] mask, if any)")
+    s.add_argument("--designator", metavar="CODE", help="emission designator for the check (default: the scenario's)")
+    s.add_argument("--guard", metavar="DB", help="guard band of the check (default: the scenario's, else 0dB)")
+    s.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files")
+    s.add_argument("--json", metavar="PATH", help="result JSON (default with a mask: DIR/result.json; '-' for standard output)")
+    s.add_argument("--report", metavar="PDF", help="PDF report (default with a mask: DIR/report.pdf)")
+    s.add_argument("--force", action="store_true", help="overwrite existing output files")
+    s.add_argument("--quiet", action="store_true", help="print no summary")
+    s.set_defaults(run=run)
+
+
+def run(args) -> int:
+    from pathlib import Path
+
+    from ..core.result import InputFile
+    from ..core.units import format_frequency, format_power, parse_db
+    from ..io.iq_write import write_sigmf
+    from ..io.output import check_writable
+    from ..io.trace_write import split_spans, write_spans
+    from ..sim.scenario import load_scenario, run_scenario
+    from .check import _write_outputs
+
+    sc, sha = load_scenario(args.scenario)
+    mask_id = args.mask or sc.check.mask
+    out = Path(args.out)
+    if out.exists() and not out.is_dir():
+        from ..errors import OutputError
+
+        raise OutputError("exists and is not a folder", path=out, where="--out")
+    mask = None
+    if mask_id:
+        from ..masks.library import load_mask
+
+        mask = load_mask(mask_id, extra_dirs=args.mask_dir)
+        args.json = args.json or str(out / "result.json")
+        args.report = args.report or str(out / "report.pdf")
+    out.mkdir(parents=True, exist_ok=True)
+    # refuse before any work when an output exists
+    for p in (out / "fundamental.sigmf-meta", out / "fundamental.sigmf-data"):
+        check_writable(p, args.force)
+    for p in (args.json, args.report):
+        if p and p != "-":
+            check_writable(p, args.force)
+    sim = run_scenario(sc, path=args.scenario)
+    notes = [f"SIMULATED by maskcheck from scenario {args.scenario} (sha256 {sha}): {sc.name}",
+             "a simulation, not a measurement of any real equipment"]
+    spans = split_spans(sim.wideband.spectrum)
+    for i in range(len(spans)):
+        check_writable(out / f"wideband-{i + 1:0{max(2, len(str(len(spans))))}d}.txt", args.force)
+    fund = sim.fundamental
+    write_sigmf(out / "fundamental", fund.iq, fund.sample_rate_hz, fund.carrier_hz,
+                description=f"Simulated fundamental zone of scenario {sc.name!r} (maskcheck simulate; not a measurement).",
+                notes=list(fund.notes), force=args.force)
+    paths = write_spans(out, sim.wideband.spectrum, stem="wideband", notes=notes, force=args.force)
+    to_stdout = args.json == "-"
+    if not args.quiet:
+        con = console(stderr=to_stdout)
+        con.print(f"[bold]maskcheck simulate[/bold]: {sc.name} (a simulation, not a measurement)")
+        con.print(f"carrier {format_frequency(sim.carrier_hz)}, mean {format_power(sim.mean_power_w)}, "
+                  f"PEP {format_power(sim.pep_w)} at the antenna port; RBW {sim.plan.enbw_hz:.4g} Hz")
+        for n, p in sorted(sim.wideband.zone_powers_w.items()):
+            if n != 1:
+                rel = "no power" if not p > 0 else f"{10 * __import__('math').log10(p / sim.mean_power_w):.1f} dBc"
+                con.print(f"  zone {n:2d} ({'DC/audio' if n == 0 else format_frequency(n * sim.carrier_hz)}): {rel}")
+        con.print(f"written to {out}/: fundamental.sigmf-meta/-data and {len(paths)} wideband trace files")
+    if mask is None:
+        return 0
+    from ..checking import check
+    from ..core.station import Station
+
+    guard = parse_db(args.guard, what="--guard") if args.guard else (sc.check.guard or 0.0)
+    designator = args.designator or sc.check.designator
+    station = Station(carrier_hz=sim.carrier_hz, power_w=sim.mean_power_w, pep_w=sim.pep_w,
+                      designator=designator.strip().upper() if designator else None,
+                      name=f"simulated: {sc.name}", notes=("simulated scenario, not a measurement",))
+    result = check(sim.wideband.spectrum, mask, station, guard_db=guard, inputs=[InputFile(str(args.scenario), sha)])
+    _write_outputs(result, args)
+    return result.exit_code

@@ -1,0 +1,710 @@
+"""Scenario files: a transmitter chain described in TOML, validated, and run.
+
+A scenario (maskcheck's own format, ``scenario_version = 1``) names one
+chain, source -> modulator -> IF filter -> amplifier -> output filter, the
+power at the antenna port and how the result is analysed::
+
+    scenario_version = 1
+    name = "40 m SSB exciter, filter method (invented)"
+
+    [signal]
+    carrier = "7.1 MHz"
+    sample_rate = "48 kHz"
+    duration = "2 s"
+    seed = 1
+
+    [source]
+    kind = "two-tone"
+    f1 = "400 Hz"
+    f2 = "1800 Hz"
+
+    [modulator]
+    kind = "ssb-filter"
+    sideband = "upper"
+
+    [amplifier]
+    model = "rapp"
+    smoothness = 2.0
+    backoff = "3 dB"
+    harmonics = [1.0, 0.03, 0.01]
+
+    [output_filter]
+    kind = "cheby1"
+    order = 7
+    cutoff = "8 MHz"
+    ripple = "0.1 dB"
+
+    [antenna]
+    power = "100 W"
+    power_kind = "pep"
+
+    [analysis]
+    rbw = "10 Hz"
+
+Quantities are strings with a unit (``"7.1 MHz"``, ``"100 W"``, ``"50 dBm"``,
+``"2 s"``, ``"3 dB"``) or bare numbers in the SI unit (Hz, W, s, dB).  An
+unknown key, a value of the wrong kind or out of range, and a chain that
+cannot work (a filter edge above half the sample rate, harmonics that would
+overlap, a tone the sample rate cannot hold) are all reported at once, each
+with its key path, as one :class:`~maskcheck.errors.ScenarioError`.
+
+References
+----------
+.. [1] TOML v1.0.0 (toml.io), read with :mod:`tomllib`.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Annotated, Literal, Optional, Union
+
+import numpy as np
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError
+from pydantic_core import PydanticCustomError
+
+from ..core.estimate import WINDOWS, WelchPlan, plan_welch
+from ..core.units import parse_db, parse_frequency, parse_power
+from ..errors import MaskcheckError, ScenarioError
+from . import modulate, sources
+from .amplifier import Polynomial, Rapp, Saleh, amplify, drive
+from .baseband import Baseband, sample_count
+from .filters import IfFilter, OutputFilter
+from .wideband import WidebandResult, wideband_spectrum
+
+__all__ = [
+    "SCENARIO_VERSION",
+    "Scenario",
+    "Simulation",
+    "load_scenario",
+    "parse_scenario",
+    "run_scenario",
+]
+
+#: The scenario format version this module reads.
+SCENARIO_VERSION = 1
+
+
+# ------------------------------------------------------------------ quantities
+
+def _unit_value(parse, what: str):
+    def convert(v):
+        if isinstance(v, bool):
+            raise PydanticCustomError("scenario_value", "expected {what}, found {found!r}", {"what": what, "found": v})
+        try:
+            return parse(v)
+        except MaskcheckError as exc:
+            raise PydanticCustomError("scenario_value", "{msg}", {"msg": exc.message}) from None
+    return BeforeValidator(convert)
+
+
+_TIME = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(s|ms|us|µs|ns)?\s*$")
+_TIME_FACTOR = {None: 1.0, "s": 1.0, "ms": 1e-3, "us": 1e-6, "µs": 1e-6, "ns": 1e-9}
+
+
+def _parse_time(v) -> float:
+    if isinstance(v, (int, float)):
+        return float(v)
+    m = _TIME.match(str(v))
+    if not m:
+        raise PydanticCustomError("scenario_value", "{found!r} is not a time (expected e.g. '2 s' or '5 ms')", {"found": v})
+    return float(m.group(1)) * _TIME_FACTOR[m.group(2)]
+
+
+def _freq(v):
+    return parse_frequency(v, default_unit="Hz")
+
+
+def _power(v):
+    return parse_power(v, default_unit="W")
+
+
+Hz = Annotated[float, _unit_value(_freq, "a frequency")]
+PosHz = Annotated[float, _unit_value(_freq, "a frequency"), Field(gt=0, allow_inf_nan=False)]
+NonNegHz = Annotated[float, _unit_value(_freq, "a frequency"), Field(ge=0, allow_inf_nan=False)]
+PosW = Annotated[float, _unit_value(_power, "a power"), Field(gt=0, allow_inf_nan=False)]
+Db = Annotated[float, _unit_value(parse_db, "a level difference in dB"), Field(allow_inf_nan=False)]
+PosDb = Annotated[float, _unit_value(parse_db, "a level difference in dB"), Field(gt=0, allow_inf_nan=False)]
+PosS = Annotated[float, BeforeValidator(_parse_time), Field(gt=0, allow_inf_nan=False)]
+NonNegS = Annotated[float, BeforeValidator(_parse_time), Field(ge=0, allow_inf_nan=False)]
+Finite = Annotated[float, Field(allow_inf_nan=False)]
+Order = Annotated[int, Field(ge=1, le=20, strict=True)]
+
+
+class _Table(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+# ------------------------------------------------------------------ tables
+
+class Signal(_Table):
+    """``[signal]``: carrier, sample rate, record length and random seed."""
+
+    carrier: PosHz
+    sample_rate: PosHz = 48000.0
+    duration: PosS = 1.0
+    seed: Annotated[int, Field(ge=0, strict=True)] = 1
+
+
+class ToneSource(_Table):
+    kind: Literal["tone"]
+    frequency: PosHz = sources.TELEPHONY_TEST_TONE_HZ
+    amplitude: Annotated[float, Field(gt=0, le=1)] = 1.0
+
+
+class TwoToneSource(_Table):
+    kind: Literal["two-tone"]
+    f1: Optional[PosHz] = None
+    f2: Optional[PosHz] = None
+    test_pair: Optional[PosHz] = None  # 47 CFR 2.1049(c)(2) pair for this authorised bandwidth
+
+
+class MultitoneSource(_Table):
+    kind: Literal["multitone"]
+    frequencies: list[PosHz] = Field(min_length=1)
+    amplitudes: Optional[list[Annotated[float, Field(ge=0, allow_inf_nan=False)]]] = None
+
+
+class SpeechSource(_Table):
+    kind: Literal["speech"]
+    low: PosHz = 300.0
+    high: PosHz = 3000.0
+    knee: PosHz = 500.0
+    tilt_db_per_octave: Finite = -6.0
+
+
+class MorseSource(_Table):
+    kind: Literal["morse"]
+    text: str = "PARIS"
+    wpm: Annotated[float, Field(gt=0, allow_inf_nan=False)] = 20.0
+    convention: Literal["paris", "itu_48unit"] = "paris"
+    rise_time: NonNegS = 0.0
+
+
+class DotsSource(_Table):
+    kind: Literal["dots"]
+    dots_per_s: Annotated[float, Field(gt=0, allow_inf_nan=False)] = sources.TEST_DOTS_PER_S
+    rise_time: NonNegS = 0.0
+
+
+class SymbolSource(_Table):
+    kind: Literal["symbols"]
+    rate: PosHz
+    order: Annotated[int, Field(ge=2, strict=True)] = 2
+
+
+Source = Annotated[Union[ToneSource, TwoToneSource, MultitoneSource, SpeechSource, MorseSource, DotsSource, SymbolSource],
+                   Field(discriminator="kind")]
+
+_AUDIO = ("tone", "two-tone", "multitone", "speech")
+_KEYING = ("morse", "dots")
+
+
+class AmMod(_Table):
+    kind: Literal["am"]
+    index: Annotated[float, Field(ge=0, allow_inf_nan=False)] = 0.8
+    overmodulation: Literal["clip", "invert"] = "clip"
+
+
+class DsbMod(_Table):
+    kind: Literal["dsb-sc"]
+    imbalance: Finite = 0.0
+
+
+class SsbPhasingMod(_Table):
+    kind: Literal["ssb-phasing"]
+    sideband: Literal["upper", "lower"] = "upper"
+    gain_error: Db = 0.0
+    phase_error_deg: Finite = 0.0
+    carrier_leak: Optional[Db] = None  # carrier relative to a full-scale tone, dB (negative)
+
+
+class SsbFilterMod(_Table):
+    kind: Literal["ssb-filter"]
+    sideband: Literal["upper", "lower"] = "upper"
+    imbalance: Finite = 0.0
+
+
+class FmMod(_Table):
+    kind: Literal["fm"]
+    deviation: NonNegHz
+    pre_emphasis: Optional[PosS] = None
+
+
+class PmMod(_Table):
+    kind: Literal["pm"]
+    deviation_rad: Annotated[float, Field(ge=0, allow_inf_nan=False)]
+    pre_emphasis: Optional[PosS] = None
+
+
+class CwMod(_Table):
+    kind: Literal["cw"]
+
+
+class FskMod(_Table):
+    kind: Literal["fsk"]
+    deviation: PosHz
+    pulse: Literal["rect", "rrc"] = "rect"
+    roll_off: Annotated[float, Field(gt=0, le=1)] = 0.35
+
+
+class LinearMod(_Table):
+    kind: Literal["psk", "qam"]
+    pulse: Literal["rrc", "rect"] = "rrc"
+    roll_off: Annotated[float, Field(gt=0, le=1)] = 0.35
+
+
+Modulator = Annotated[Union[AmMod, DsbMod, SsbPhasingMod, SsbFilterMod, FmMod, PmMod, CwMod, FskMod, LinearMod],
+                      Field(discriminator="kind")]
+
+
+class IfFilterTable(_Table):
+    """``[if_filter]``: the sideband filter of the filter method (defaults: part 1's 8-pole elliptic)."""
+
+    low: NonNegHz = 300.0
+    high: PosHz = 3000.0
+    kind: Literal["butter", "cheby1", "ellip"] = "ellip"
+    order: Order = 8
+    ripple: Optional[PosDb] = None
+    stopband: Optional[PosDb] = None
+
+
+class AmplifierTable(_Table):
+    """``[amplifier]``: the power amplifier and its drive."""
+
+    model: Literal["linear", "polynomial", "rapp", "saleh"]
+    coefficients: Optional[list[Finite]] = None  # polynomial a1, a2, ...
+    gain: Annotated[float, Field(gt=0, allow_inf_nan=False)] = 1.0  # rapp
+    saturation_v: Annotated[float, Field(gt=0, allow_inf_nan=False)] = 1.0  # rapp
+    smoothness: Annotated[float, Field(gt=0, allow_inf_nan=False)] = 2.0  # rapp
+    alpha_a: Annotated[float, Field(gt=0, allow_inf_nan=False)] = 2.1587  # saleh
+    beta_a: Annotated[float, Field(gt=0, allow_inf_nan=False)] = 1.1517
+    alpha_phi: Finite = 4.0033
+    beta_phi: Annotated[float, Field(ge=0, allow_inf_nan=False)] = 9.1040
+    harmonics: Optional[list[Finite]] = None  # rapp/saleh: a polynomial for zones 0 and 2..
+    backoff: Db = 6.0
+    backoff_reference: Literal["pep", "mean"] = "pep"
+    oversample: Annotated[int, Field(ge=1, le=16, strict=True)] = 1
+
+
+class OutputFilterTable(_Table):
+    """``[output_filter]``: the harmonic low-pass at RF."""
+
+    kind: Literal["butter", "cheby1", "cheby2", "ellip"] = "butter"
+    order: Order = 5
+    cutoff: PosHz
+    ripple: Optional[PosDb] = None
+    stopband: Optional[PosDb] = None
+
+
+class Antenna(_Table):
+    """``[antenna]``: the fundamental's power at the antenna port."""
+
+    power: PosW
+    power_kind: Literal["mean", "pep"] = "mean"
+
+
+class Analysis(_Table):
+    """``[analysis]``: how the wideband spectrum is estimated."""
+
+    rbw: PosHz = 10.0
+    window: Literal[tuple(w for w in WINDOWS if w != "kaiser")] = "blackmanharris"  # type: ignore[valid-type]
+    overlap: Annotated[float, Field(ge=0, lt=1)] = 0.5
+    start: PosHz = 9e3
+    max_harmonic: Annotated[int, Field(ge=1, le=40, strict=True)] = 10
+    floor_dbm_per_hz: Finite = -150.0
+
+
+class CheckDefaults(_Table):
+    """``[check]``: defaults for ``maskcheck simulate --mask`` (all optional)."""
+
+    mask: Optional[str] = None
+    designator: Optional[str] = None
+    guard: Optional[Annotated[float, _unit_value(parse_db, "dB"), Field(ge=0)]] = None
+
+
+class Scenario(_Table):
+    """A whole scenario file, validated."""
+
+    scenario_version: Literal[1]
+    name: str
+    description: str = ""
+    signal: Signal
+    source: Source
+    modulator: Modulator
+    if_filter: Optional[IfFilterTable] = None
+    amplifier: Optional[AmplifierTable] = None
+    output_filter: Optional[OutputFilterTable] = None
+    antenna: Antenna
+    analysis: Analysis = Analysis()
+    check: CheckDefaults = CheckDefaults()
+
+
+# ------------------------------------------------------------------ loading
+
+_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
+
+
+def _key_path(loc) -> str:
+    out = ""
+    for part in loc:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += f".{part}" if out else str(part)
+    return out or "(top level)"
+
+
+def _validation_problems(exc: ValidationError) -> list[str]:
+    problems = []
+    for e in exc.errors(include_url=False):
+        loc = tuple(e.get("loc", ()))
+        # a tagged union puts the member's tag into the path (source.tone.frequency): drop it
+        if len(loc) >= 2 and loc[0] in ("source", "modulator"):
+            loc = loc[:1] + loc[2:]
+        kind = e.get("type")
+        if kind == "extra_forbidden":
+            msg = f"unknown key {loc[-1]!r}"
+        elif kind == "missing":
+            msg = "required key is missing"
+        elif kind == "union_tag_invalid":
+            ctx = e.get("ctx", {})
+            loc = loc + ("kind",)
+            msg = f"{ctx.get('tag')!r} is not one of {ctx.get('expected_tags')}"
+        elif kind == "union_tag_not_found":
+            loc = loc + ("kind",)
+            msg = "required key is missing"
+        else:
+            msg = e.get("msg", "")
+            msg = msg.replace("Input should be", "expected a value").replace("expected a value a valid", "expected a valid")
+            if kind != "scenario_value" and "input" in e and not isinstance(e["input"], (dict, list)):
+                msg = f"{msg} (found {e['input']!r})"
+        problems.append(f"{_key_path(loc)}: {msg}")
+    return problems
+
+
+def _raise(problems: list[str], path) -> None:
+    if len(problems) == 1:
+        raise ScenarioError(problems[0], path=path, problems=problems)
+    raise ScenarioError(f"{len(problems)} problems: " + "; ".join(problems), path=path, problems=problems)
+
+
+def parse_scenario(text: str, *, path=None) -> "Scenario":
+    """Validate scenario TOML ``text``; every problem is reported at once (:class:`ScenarioError`)."""
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        message = str(exc)
+        m = _TOML_POSITION.search(message)
+        where = f"line {m.group(1)}, column {m.group(2)}" if m else None
+        raise ScenarioError(f"TOML syntax error: {message[: m.start()] if m else message}", path=path, where=where) from None
+    try:
+        sc = Scenario.model_validate(raw)
+    except ValidationError as exc:
+        _raise(_validation_problems(exc), path)
+    problems = _chain_problems(sc)
+    if problems:
+        _raise(problems, path)
+    return sc
+
+
+def load_scenario(path) -> tuple["Scenario", str]:
+    """Read and validate a scenario file; returns the scenario and the SHA-256 of its bytes."""
+    p = Path(path)
+    try:
+        data = p.read_bytes()
+    except OSError as exc:
+        raise ScenarioError(f"cannot read the scenario file ({exc.strerror or exc})", path=path) from None
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ScenarioError(f"byte {exc.start} is not UTF-8; scenario files are UTF-8 text", path=path) from None
+    return parse_scenario(text, path=path), hashlib.sha256(data).hexdigest()
+
+
+# ------------------------------------------------------------------ the chain as objects
+
+def _if_filter(sc: Scenario) -> IfFilter:
+    t = sc.if_filter or IfFilterTable()
+    rp, rs = t.ripple, t.stopband
+    if sc.if_filter is None or (t.kind == "ellip" and rp is None and rs is None):
+        rp, rs = (0.5, 70.0) if t.kind == "ellip" else (rp, rs)
+    if t.kind == "cheby1" and rp is None:
+        rp = 0.5
+    return IfFilter(t.low, t.high, t.kind, t.order, ripple_db=rp, stopband_db=rs)
+
+
+def _output_filter(sc: Scenario) -> OutputFilter | None:
+    t = sc.output_filter
+    if t is None:
+        return None
+    return OutputFilter(t.cutoff, t.kind, t.order, ripple_db=t.ripple, stopband_db=t.stopband)
+
+
+def _amplifier(sc: Scenario):
+    """(model, harmonics polynomial or None)."""
+    t = sc.amplifier
+    if t is None or t.model == "linear":
+        return Polynomial((1.0,)), None
+    harm = None if t.harmonics is None else Polynomial(tuple(t.harmonics))
+    if t.model == "polynomial":
+        return Polynomial(tuple(t.coefficients or ())), None
+    if t.model == "rapp":
+        return Rapp(t.gain, t.saturation_v, t.smoothness), harm
+    return Saleh(t.alpha_a, t.beta_a, t.alpha_phi, t.beta_phi), harm
+
+
+# parameter names of the library's messages -> the scenario's keys
+_PARAM_KEYS = {
+    "low_hz": "low", "high_hz": "high", "ripple_db": "ripple", "stopband_db": "stopband", "order": "order",
+    "cutoff_hz": "cutoff", "kind": "kind", "coefficients": "coefficients", "freq_hz": "frequency",
+    "f1_hz": "f1", "f2_hz": "f2", "rise_time_s": "rise_time", "text": "text", "duration_s": "duration",
+    "deviation_hz": "deviation", "symbol_rate_hz": "rate", "authorised_bandwidth_hz": "test_pair",
+}
+
+
+def _where(section: str, exc: Exception) -> str:
+    msg = str(exc)
+    m = re.match(r"^([a-z_0-9]+)(?:\[\d+\])?=", msg)
+    key = _PARAM_KEYS.get(m.group(1)) if m else None
+    return f"{section}.{key}: {msg}" if key else f"{section}: {msg}"
+
+
+def _chain_problems(sc: Scenario) -> list[str]:
+    """Everything the schema alone cannot see: sample rate, filter edges, zone overlap, source/modulator fit."""
+    out = []
+    fs = sc.signal.sample_rate
+    nyq = fs / 2
+    try:
+        sample_count(sc.signal.duration, fs)
+    except ValueError as exc:
+        out.append(f"signal.duration: {exc}")
+    src, mod = sc.source, sc.modulator
+    # the source must suit the modulator
+    if mod.kind == "cw" and src.kind not in _KEYING:
+        out.append(f"modulator.kind: 'cw' needs a keying source (source.kind 'morse' or 'dots'), found {src.kind!r}")
+    elif mod.kind in ("fsk", "psk", "qam") and src.kind != "symbols":
+        out.append(f"modulator.kind: {mod.kind!r} needs source.kind 'symbols', found {src.kind!r}")
+    elif mod.kind not in ("cw", "fsk", "psk", "qam") and src.kind not in _AUDIO:
+        out.append(f"modulator.kind: {mod.kind!r} needs an audio source (source.kind one of {', '.join(_AUDIO)}), found {src.kind!r}")
+    # audio frequencies the sample rate can hold
+    freqs = []
+    if src.kind == "tone":
+        freqs = [("source.frequency", src.frequency)]
+    elif src.kind == "two-tone":
+        if src.test_pair is not None:
+            if src.f1 is not None or src.f2 is not None:
+                out.append("source.test_pair: give test_pair or f1 and f2, not both")
+            elif src.test_pair not in sources.SSB_TEST_PAIRS_HZ:
+                out.append(f"source.test_pair: {src.test_pair:g} Hz has no 47 CFR 2.1049(c)(2) pair (expected "
+                           f"{', '.join(f'{k:g} Hz' for k in sources.SSB_TEST_PAIRS_HZ)})")
+        elif src.f1 is None or src.f2 is None:
+            out.append("source: a two-tone source needs f1 and f2 (or test_pair)")
+        else:
+            freqs = [("source.f1", src.f1), ("source.f2", src.f2)]
+            if src.f1 == src.f2:
+                out.append("source.f2: the two tones are both at {src.f1:g} Hz (expected two different tones)")
+    elif src.kind == "multitone":
+        freqs = [(f"source.frequencies[{i}]", f) for i, f in enumerate(src.frequencies)]
+        if src.amplitudes is not None and len(src.amplitudes) != len(src.frequencies):
+            out.append(f"source.amplitudes: {len(src.amplitudes)} amplitudes for {len(src.frequencies)} frequencies (expected as many)")
+    elif src.kind == "speech":
+        freqs = [("source.high", src.high)]
+        if not src.low < src.high:
+            out.append(f"source.low: {src.low:g} Hz is not below source.high ({src.high:g} Hz)")
+    elif src.kind == "symbols":
+        sps = fs / src.rate
+        if abs(sps - round(sps)) > 1e-9 * sps or round(sps) < 2:
+            out.append(f"source.rate: signal.sample_rate / rate = {sps:g} (expected a whole number of samples per symbol, >= 2)")
+        if mod.kind == "qam" and (round(math.sqrt(src.order)) ** 2 != src.order or round(math.sqrt(src.order)) % 2):
+            out.append(f"source.order: {src.order} is not a square QAM order (expected 4, 16, 64, ...)")
+    for key, f in freqs:
+        if f >= nyq:
+            out.append(f"{key}: {f:g} Hz is not below half the sample rate ({nyq:g} Hz)")
+    if src.kind in _KEYING:
+        try:
+            plan = (sources.morse_keying(src.text, 20.0 if src.kind != "morse" else src.wpm, convention=src.convention)
+                    if src.kind == "morse" else sources.dot_train(src.dots_per_s, 1.0 / src.dots_per_s))
+            edge = sources.rise_time_per_edge(src.rise_time)
+            if edge > plan.unit_s:
+                out.append(f"source.rise_time: {src.rise_time * 1e3:g} ms makes edges longer than one Morse unit "
+                           f"({plan.unit_s * 1e3:g} ms)")
+        except ValueError as exc:
+            out.append(_where("source", exc))
+    # modulator details
+    if mod.kind == "fm" and mod.deviation >= nyq:
+        out.append(f"modulator.deviation: {mod.deviation:g} Hz is not below half the sample rate ({nyq:g} Hz)")
+    if mod.kind == "ssb-filter":
+        try:
+            _if_filter(sc).sos(fs)
+        except ValueError as exc:
+            out.append(_where("if_filter", exc))
+    elif sc.if_filter is not None:
+        out.append(f"if_filter: given, but modulator.kind is {mod.kind!r} (an IF filter belongs to 'ssb-filter')")
+    # amplifier
+    a = sc.amplifier
+    model = harm = None
+    if a is not None:
+        if a.model == "polynomial" and not a.coefficients:
+            out.append("amplifier.coefficients: a polynomial amplifier needs coefficients [a1, a2, ...]")
+        if a.model != "polynomial" and a.coefficients is not None:
+            out.append(f"amplifier.coefficients: given for a {a.model} amplifier (only 'polynomial' takes them)")
+        if a.model in ("polynomial", "linear") and a.harmonics is not None:
+            out.append(f"amplifier.harmonics: given for a {a.model} amplifier (only 'rapp' and 'saleh' take them; "
+                       "a polynomial makes its own harmonics)")
+        try:
+            model, harm = _amplifier(sc)
+        except ValueError as exc:
+            out.append(_where("amplifier", exc))
+        if a.model == "polynomial" and model is not None:
+            try:
+                model.input_reference_v
+            except ValueError as exc:
+                out.append(f"amplifier.coefficients: {exc} (back-off is counted from the 1 dB compression point)")
+    makes_harmonics = model is not None and ((isinstance(model, Polynomial) and model.order >= 2) or harm is not None)
+    zone_fs = fs * (a.oversample if a is not None else 1)
+    if makes_harmonics and sc.signal.carrier < zone_fs:
+        out.append(f"signal.carrier: {sc.signal.carrier:g} Hz is below the zone sample rate {zone_fs:g} Hz, so the "
+                   "harmonic zones would overlap (expected a carrier of at least the sample rate)")
+    if sc.signal.carrier - zone_fs / 2 <= sc.analysis.start:
+        out.append(f"analysis.start: {sc.analysis.start:g} Hz is not below the fundamental zone "
+                   f"({sc.signal.carrier - zone_fs / 2:g} Hz and up)")
+    try:
+        _output_filter(sc)
+    except ValueError as exc:
+        out.append(_where("output_filter", exc))
+    # the estimate must fit the record
+    try:
+        plan = plan_welch(zone_fs, window=sc.analysis.window, rbw_hz=sc.analysis.rbw, overlap=sc.analysis.overlap)
+        n = sc.signal.duration * zone_fs
+        if plan.segment_samples > n:
+            out.append(f"analysis.rbw: {sc.analysis.rbw:g} Hz needs segments of {plan.segment_samples} samples, longer "
+                       f"than the record ({n:g} samples; expected a wider RBW or a longer signal.duration)")
+    except MaskcheckError as exc:
+        out.append(f"analysis.rbw: {exc.message}")
+    return out
+
+
+# ------------------------------------------------------------------ running
+
+@dataclass(frozen=True)
+class Simulation:
+    """A scenario run: its antenna-port signal and what a check needs to know.
+
+    Attributes
+    ----------
+    scenario : Scenario
+    wideband : WidebandResult
+        The wideband spectrum, the fundamental (zone 1) at the antenna port, zone powers.
+    plan : WelchPlan
+        The estimation parameters used for every zone.
+    mean_power_w, pep_w : float
+        Mean power and PEP of the fundamental at the antenna port, W.
+    notes : tuple of str
+        What each stage did.
+    """
+
+    scenario: Scenario
+    wideband: WidebandResult
+    plan: WelchPlan
+    mean_power_w: float
+    pep_w: float
+    notes: tuple[str, ...]
+
+    @property
+    def carrier_hz(self) -> float:
+        return float(self.scenario.signal.carrier)
+
+    @property
+    def fundamental(self) -> Baseband:
+        return self.wideband.fundamental
+
+
+def _source(sc: Scenario, rng: np.random.Generator):
+    s, fs, d = sc.source, sc.signal.sample_rate, sc.signal.duration
+    if s.kind == "tone":
+        return sources.tone(s.frequency, d, fs, amplitude=s.amplitude)
+    if s.kind == "two-tone":
+        f1, f2 = sources.ssb_test_pair(s.test_pair) if s.test_pair is not None else (s.f1, s.f2)
+        return sources.two_tone(f1, f2, d, fs)
+    if s.kind == "multitone":
+        x = sources.multitone(s.frequencies, d, fs, amplitudes=s.amplitudes)
+        peak = float(np.max(np.abs(x)))
+        return x / peak if peak > 0 else x
+    if s.kind == "speech":
+        return sources.speech_noise(d, fs, rng, low_hz=s.low, high_hz=s.high, knee_hz=s.knee,
+                                    tilt_db_per_octave=s.tilt_db_per_octave)
+    if s.kind == "morse":
+        plan = sources.morse_keying(s.text, s.wpm, convention=s.convention, repeat_to_s=d)
+    elif s.kind == "dots":
+        plan = sources.dot_train(s.dots_per_s, d)
+    else:
+        return sources.random_symbols(int(round(d * s.rate)), s.order, rng)
+    env = sources.keying_envelope(plan, fs, rise_time_s=s.rise_time)
+    n = sample_count(d, fs)
+    if env.size < n:  # the pattern is repeated whole; key up for the rest of the record
+        env = np.concatenate((env, np.zeros(n - env.size)))
+    return env[:n]
+
+
+def _modulate(sc: Scenario, signal) -> Baseband:
+    m, fs, fc = sc.modulator, sc.signal.sample_rate, sc.signal.carrier
+    if m.kind == "am":
+        return modulate.am(signal, fs, fc, index=m.index, overmodulation=m.overmodulation)
+    if m.kind == "dsb-sc":
+        return modulate.dsb_sc(signal, fs, fc, imbalance=m.imbalance)
+    if m.kind == "ssb-phasing":
+        leak = 0.0 if m.carrier_leak is None else 10 ** (m.carrier_leak / 20)
+        return modulate.ssb_phasing(signal, fs, fc, sideband=m.sideband, gain_ratio=10 ** (m.gain_error / 20),
+                                    phase_error_deg=m.phase_error_deg, carrier_leak=leak)
+    if m.kind == "ssb-filter":
+        return modulate.ssb_filter(signal, fs, fc, sideband=m.sideband, if_filter=_if_filter(sc), imbalance=m.imbalance)
+    if m.kind == "fm":
+        return modulate.fm(signal, fs, fc, deviation_hz=m.deviation, pre_emphasis_s=m.pre_emphasis)
+    if m.kind == "pm":
+        return modulate.pm(signal, fs, fc, deviation_rad=m.deviation_rad, pre_emphasis_s=m.pre_emphasis)
+    if m.kind == "cw":
+        return modulate.cw(signal, fs, fc)
+    src = sc.source
+    if m.kind == "fsk":
+        return modulate.fsk(signal, src.order, src.rate, fs, fc, deviation_hz=m.deviation, pulse=m.pulse, alpha=m.roll_off)
+    pts = modulate.psk_constellation(src.order) if m.kind == "psk" else modulate.qam_constellation(src.order)
+    return modulate.linear(signal, pts, src.rate, fs, fc, pulse=m.pulse, alpha=m.roll_off)
+
+
+def run_scenario(sc: Scenario, *, path=None, workers: int | None = None) -> Simulation:
+    """Run a validated scenario: the chain, the amplifier's zones and the wideband spectrum.
+
+    A problem only the run can find (e.g. a signal with no power) is a
+    :class:`ScenarioError` naming the stage's table.
+    """
+    stage = "source"
+    try:
+        rng = np.random.default_rng(sc.signal.seed)
+        signal = _source(sc, rng)
+        stage = "modulator"
+        bb = _modulate(sc, signal)
+        stage = "amplifier"
+        model, harm = _amplifier(sc)
+        a = sc.amplifier
+        if a is not None and a.model != "linear":
+            bb = drive(bb, model, a.backoff, reference=a.backoff_reference)
+        zones = amplify(bb, model, max_harmonic=sc.analysis.max_harmonic, oversample=1 if a is None else a.oversample,
+                        harmonics=harm)
+        stage = "analysis"
+        plan = plan_welch(zones[1].sample_rate_hz, window=sc.analysis.window, rbw_hz=sc.analysis.rbw,
+                          overlap=sc.analysis.overlap)
+        wb = wideband_spectrum(zones, plan, power_w=sc.antenna.power, power_kind=sc.antenna.power_kind,
+                               output_filter=_output_filter(sc), start_hz=sc.analysis.start,
+                               max_harmonic=sc.analysis.max_harmonic,
+                               floor_dbm_per_hz=sc.analysis.floor_dbm_per_hz, workers=workers)
+    except ValueError as exc:
+        if isinstance(exc, MaskcheckError):
+            raise ScenarioError(f"{stage}: {exc.message}", path=path) from None
+        raise ScenarioError(_where(stage, exc), path=path) from None
+    fund = wb.fundamental
+    return Simulation(sc, wb, plan, fund.mean_power_w, fund.pep_w, fund.notes)
