@@ -28,12 +28,24 @@ from maskcheck.masks.library import ENV_VAR
 
 LIBRARY = Path(str(resources.files("maskcheck.mask_library")))
 SHIPPED = sorted(LIBRARY.glob("*.toml"))
-SHIPPED_IDS = {
+#: the first masks of the library, written as one spurious region in the RR Appendix 3 bandwidths
+AP3_IDS = {
     "us-amateur-hf-2003",
     "us-amateur-hf-pre-2003",
     "us-amateur-vhf-30-225mhz",
     "itu-rr-ap3-general",
     "itu-rr-ap3-amateur-below-30mhz",
+}
+#: every mask the library ships (issue 4 adds the rule sets of the fact sheet)
+SHIPPED_IDS = AP3_IDS | {
+    "itu-rr-ap3-space", "itu-rr-ap3-radiodetermination", "itu-rr-ap3-broadcast-fm", "itu-rr-ap3-broadcast-mf-hf",
+    "itu-rr-ap3-ssb-mobile", "itu-rr-ap3-other-below-30mhz",
+    "us-90210-mask-a", "us-90210-mask-b", "us-90210-mask-c", "us-90210-mask-d", "us-90210-mask-e", "us-90210-mask-g", "us-90210-mask-h",
+    "us-am-broadcast-7344", "us-fm-broadcast-73317", "us-fm-translator-10w",
+    "us-marine-80211a", "us-marine-80211b", "us-aviation-87139a-aircraft", "us-aviation-87139a-ground", "us-aviation-87139b-ssb",
+    "us-frs-95579", "us-gmrs-951779-filter", "us-gmrs-951779-no-filter", "us-rc-95779-27mhz", "us-rc-95779-72mhz",
+    "us-lprs-952179-narrowband", "us-cellular-22917", "us-part15-209",
+    "cept-erc-7401-category-b", "etsi-en300220-srd-spurious",
 }
 
 
@@ -171,7 +183,7 @@ def test_itu_search_range_follows_sm329_table_1(carrier_hz, start_hz, stop_hz):
     assert (region.start_hz, region.stop_hz) == pytest.approx((start_hz, stop_hz))
 
 
-@pytest.mark.parametrize("mask_id", sorted(SHIPPED_IDS))
+@pytest.mark.parametrize("mask_id", sorted(AP3_IDS))
 def test_reference_bandwidths_are_the_appendix_3_ones(mask_id):
     mask = load_mask(mask_id)
     carrier = mask.applies.fundamental[0].constant() * 1.5
@@ -302,12 +314,18 @@ def test_every_shipped_mask_evaluates_across_its_carrier_range(path):
     lo, hi = (v.constant() for v in mask.applies.fundamental)
     for carrier in np.geomspace(lo, hi, 7):
         for power in (0.01, 1.0, 100.0, 1500.0):
-            for region in evaluate_mask(mask, power_w=power, pep_w=None, carrier_hz=float(carrier)):
-                assert 0 < region.start_hz < region.stop_hz
-                assert np.isfinite(region.constant_limit_w) and region.constant_limit_w > 0
-                # Every frequency of the region has a reference bandwidth.
-                f = np.geomspace(region.start_hz, region.stop_hz, 50)
+            regions = evaluate_mask(mask, power_w=power, pep_w=None, carrier_hz=float(carrier), authorized_bw_hz=12.5e3)
+            assert regions
+            for region in regions:
+                assert not region.unevaluated, region.unevaluated
+                assert 0 <= region.start_hz < region.stop_hz
+                # Every frequency of the region has a reference bandwidth and a finite limit > 0.
+                f = np.geomspace(max(region.start_hz, 1.0), region.stop_hz, 400)
+                f = f[region.in_scope(f)]
+                assert f.size
                 assert np.all(np.isfinite(region.reference_bandwidth_hz(f)))
+                lim = region.limit_w(f)
+                assert np.all(np.isfinite(lim)) and np.all(lim > 0)
 
 
 def _mutations(raw: dict) -> dict[str, tuple[dict, str]]:
@@ -320,18 +338,31 @@ def _mutations(raw: dict) -> dict[str, tuple[dict, str]]:
     out["unknown key"] = (d, "provenance.verifed: unknown key")
     d = copy.deepcopy(raw)
     lim = d["regions"][0]["limit"]
-    key = "attenuation_db" if "attenuation_db" in lim else "level_w"
+    key = next(k for k in ("attenuation_db", "level_w", "level_dbm", "field_uv_per_m") if k in lim)
     lim[key] = "__import__('os').getcwd()"
     out["hostile expression"] = (d, f"regions[0].limit.{key}:")
     d = copy.deepcopy(raw)
-    d["regions"][0]["reference_bandwidth"][1]["start"] = "100 kHz"
-    out["overlapping bands"] = (d, "regions[0].reference_bandwidth: [1]")
+    bands = d["regions"][0]["reference_bandwidth"]
+    if len(bands) > 1:
+        bands[1]["start"] = "100 kHz"
+        out["overlapping bands"] = (d, "regions[0].reference_bandwidth: [1]")
+    else:
+        bands[0]["bandwidth"] = 0
+        out["zero bandwidth"] = (d, "regions[0].reference_bandwidth[0]: bandwidth must be > 0 Hz")
     d = copy.deepcopy(raw)
     d["reference_power"]["kind"] = "peak"
     out["unknown reference kind"] = (d, "reference_power.kind:")
     d = copy.deepcopy(raw)
-    d["regions"][0]["start"], d["regions"][0]["stop"] = "30 MHz", "9 kHz"
-    out["start above stop"] = (d, "regions[0].stop: stop must be above start")
+    region = d["regions"][0]
+    if "start" in region:
+        region["start"], region["stop"] = "30 MHz", "9 kHz"
+        out["start above stop"] = (d, "regions[0].stop: stop must be above start")
+    elif "from_percent" in region["offset"]:
+        region["offset"]["from_percent"], region["offset"]["to_percent"] = 250, 50
+        out["inner offset above outer"] = (d, "regions[0].offset: expected 0 <= from_percent < to_percent")
+    else:
+        region["offset"]["from"], region["offset"]["to"] = "30 kHz", "9 kHz"
+        out["inner offset above outer"] = (d, "regions[0].offset: expected 0 <= from < to")
     d = copy.deepcopy(raw)
     d["schema_version"] = 99
     out["future schema"] = (d, "schema_version: schema_version 99 is newer")
@@ -591,8 +622,8 @@ def test_json_schema_describes_the_format():
     assert schema["additionalProperties"] is False
     region = schema["$defs"]["Region"]
     assert region["additionalProperties"] is False
-    # schema v2 adds the domain and offset anchors
-    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "detector", "limit", "reference_bandwidth"}
+    # schema v2 adds the domain and offset anchors, v3 the interval convention of start and stop
+    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "include_start", "include_stop", "may_be_empty", "detector", "limit", "reference_bandwidth"}
 
 
 def test_the_example_in_the_format_guide_loads(tmp_path):

@@ -149,9 +149,19 @@ def judge_region(
         reasons.append(f"no data from {parts}{more}")
 
     f = spectrum.freq_hz
-    sel = (f >= start) & (f <= stop)
-    for ea, eb in res.excluded_hz:
-        sel &= ~((f >= ea) & (f <= eb))
+    in_scope = getattr(limits, "in_scope", None)
+    if in_scope is not None:
+        # the limits know each boundary's interval convention (mask schema v3); spans the
+        # caller excludes beyond the region's own are still skipped
+        sel = np.asarray(in_scope(f), dtype=bool)
+        own = {(float(a), float(b)) for a, b in getattr(limits, "excluded_hz", ())}
+        for ea, eb in res.excluded_hz:
+            if (ea, eb) not in own:
+                sel &= ~((f >= ea) & (f <= eb))
+    else:
+        sel = (f >= start) & (f <= stop)
+        for ea, eb in res.excluded_hz:
+            sel &= ~((f >= ea) & (f <= eb))
     idx = np.flatnonzero(sel)
     if idx.size == 0:
         reasons.append("no trace point falls inside the region")
@@ -216,6 +226,11 @@ def judge_region(
                 f"({_fmt(float(rbw[~evaluable].min()))}) with a '{spectrum.detector}' detector: an emission between "
                 "them could be missed (use more points, a wider RBW with integration, or a peak detector)"
             )
+    if limits.detector == "quasi-peak" and spectrum.detector not in ("peak", "quasi-peak", "unknown"):
+        reasons.append(
+            f"the rule calls for a quasi-peak detector; the trace was taken with '{spectrum.detector}', which can read "
+            "below quasi-peak (use a peak detector, which emulates quasi-peak conservatively)"
+        )
     if limits.detector == "peak" and spectrum.detector not in ("peak", "unknown"):
         reasons.append(
             f"the rule calls for a peak detector; the trace was taken with '{spectrum.detector}', which reads noise-like emissions low"

@@ -43,6 +43,18 @@ Conventions
   below the mean power, and none of the limits loosens as the reference power
   falls.
 
+Limits that vary along the frequency axis (schema v3)
+-----------------------------------------------------
+A limit may use the frequency ``freq_hz`` and the displacement ``fd_hz`` /
+``fd_khz`` / ``fd_percent`` from the region's origin (the carrier, or the
+edge of the authorised or necessary bandwidth).  Such a limit, a power
+density and a field strength are evaluated point by point, and only where
+the region applies (:meth:`RegionLimits.in_scope`), so a formula such as
+``83 * log10(fd_khz / 5)`` is never evaluated at the carrier.  A field
+strength E at distance d becomes an EIRP with the far-field relation
+E(dBµV/m) = EIRP(dBm) + 104.77 − 20 log10(d / 1 m); an ERP limit becomes
+an EIRP limit 2.15 dB higher (half-wave dipole gain).
+
 References
 ----------
 .. [1] 47 CFR 97.307(d), (e): attenuation below the mean power of the
@@ -54,23 +66,86 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from ..core.units import format_frequency, format_power
 from ..errors import MaskError, StationError
-from .schema import Mask, Value
+from .schema import FREQUENCY_VARIABLES, Mask, Value
 
 __all__ = [
     "RegionLimits",
     "evaluate_mask",
     "reference_power_w",
     "applies_to",
+    "applies_when",
     "fundamental_exclusion_hz",
+    "FIELD_CONSTANT_DB",
+    "DIPOLE_GAIN_DBI",
+    "field_to_eirp_dbm",
+    "station_variables",
+    "sample_points_hz",
 ]
 
-_KIND_TEXT = {"mean": "mean power", "pep": "PEP"}
+_KIND_TEXT = {
+    "mean": "mean power",
+    "pep": "PEP",
+    "carrier": "the unmodulated carrier",
+    "channel": "the total power in the channel bandwidth",
+    "dbsd": "the highest power in any reference bandwidth inside the necessary band (0 dBsd)",
+    "none": "no reference (absolute)",
+}
+
+#: E(dBµV/m) - EIRP(dBm) at 1 m in the far field of an isotropic radiator,
+#: from E = sqrt(30 * EIRP_W) / d: 20 log10(1e6 * sqrt(30 * 1e-3)) = 104.77 dB.
+FIELD_CONSTANT_DB = 120.0 + 10.0 * math.log10(30.0e-3)
+
+#: Gain of a half-wave dipole over an isotropic radiator, dBi (ERP = EIRP - 2.15 dB).
+DIPOLE_GAIN_DBI = 2.15
+
+
+def field_to_eirp_dbm(field_dbuv_per_m, distance_m):
+    """The EIRP that gives a field strength at a distance, far field, dBm.
+
+    Parameters
+    ----------
+    field_dbuv_per_m : float or array_like
+        Field strength, dBµV/m.
+    distance_m : float
+        Measurement distance, m.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        EIRP, dBm: E − 104.77 + 20 log10(d).
+
+    References
+    ----------
+    .. [1] Far-field relation of an isotropic radiator, E = sqrt(30 P) / d
+       (E in V/m, P in W, d in m); the project fact sheet §7.1-7.2.
+
+    Examples
+    --------
+    >>> round(float(field_to_eirp_dbm(54.0, 3.0)), 1)
+    -41.2
+    """
+    return np.asarray(field_dbuv_per_m, dtype=float) - FIELD_CONSTANT_DB + 20.0 * np.log10(float(distance_m))
+
+
+def station_variables(*, power_w, pep_w, carrier_hz, necessary_bw_hz=None, authorized_bw_hz=None) -> dict:
+    """The station's values under the names mask expressions use."""
+    out = {
+        "power_w": float(power_w),
+        "pep_w": float(pep_w if pep_w is not None else power_w),
+        "power_dbw": 10.0 * math.log10(float(power_w)),
+        "carrier_hz": float(carrier_hz),
+    }
+    if necessary_bw_hz is not None:
+        out["necessary_bw_hz"] = float(necessary_bw_hz)
+    if authorized_bw_hz is not None:
+        out["authorized_bw_hz"] = float(authorized_bw_hz)
+    return out
 
 
 @dataclass(frozen=True)
@@ -120,16 +195,89 @@ class RegionLimits:
     unevaluated: str = ""
     #: how the range was found ("", "out-of-band domain", "offset 50-100 % of the authorised bandwidth", ...)
     anchor: str = ""
+    #: v3: the interval convention of start and stop
+    include_start: bool = True
+    include_stop: bool = True
+    #: v3: origin of the displacement frequency fd: the carrier and a half-width subtracted (edge origins)
+    fd_origin_hz: float = math.nan
+    fd_edge_hz: float = 0.0
+    #: v3: (from_hz, to_hz or inf, include_from, include_to) for offset regions
+    offset_band: tuple | None = None
+    #: spans skipped as closed intervals (the fundamental window, the necessary band); the
+    #: offset's inner span is in ``excluded_hz`` for coverage but judged by ``offset_band``
+    hard_excluded_hz: tuple[tuple[float, float], ...] | None = None
+    #: v3: limit terms evaluated point by point: ((key, Value), ...)
+    terms: tuple = ()
+    combine: str = "all"
+    quantity: str = "conducted"
+    distance_m: float | None = None
+    #: the station's values for the terms
+    variables: dict | None = field(default=None, compare=False, repr=False)
+    #: v3: the rule asks for the reference bandwidth itself (no narrower RBW)
+    refuse_narrower: bool = False
+    #: notes for the result (field strength taken as EIRP, quasi-peak by peak, ...)
+    notes: tuple[str, ...] = ()
+    #: the mask file, for errors found while judging
+    mask_path: str = ""
+
+    @property
+    def varies(self) -> bool:
+        """True when the limit changes along the frequency axis."""
+        return bool(self.terms)
 
     @property
     def constant_limit_w(self) -> float:
-        """The limit in W (in v1 a limit does not vary across the region)."""
+        """The limit in W of a region whose limit does not vary (NaN if it does)."""
+        if self.varies:
+            return math.nan
         candidates = []
         if self.attenuation_db is not None:
             candidates.append(self.reference_power_w * 10.0 ** (-self.attenuation_db / 10.0))
         if self.level_w is not None:
             candidates.append(self.level_w)
-        return min(candidates)
+        return min(candidates) if self.combine == "all" else max(candidates)
+
+    def fd_hz(self, freq_hz) -> np.ndarray:
+        """Displacement of each frequency from the region's origin, Hz (negative inside an edge origin)."""
+        f = _freq_array(freq_hz)
+        return np.abs(f - self.fd_origin_hz) - self.fd_edge_hz
+
+    def terms_at(self, freq_hz) -> dict[str, np.ndarray]:
+        """Each limit term as a power in the reference bandwidth, W, at frequencies inside the region."""
+        f = _freq_array(freq_hz)
+        variables = dict(self.variables or {})
+        fd = np.maximum(self.fd_hz(f), 0.0)
+        variables.update(freq_hz=f, fd_hz=fd, fd_khz=fd / 1e3)
+        if "authorized_bw_hz" in variables:
+            variables["fd_percent"] = 100.0 * fd / variables["authorized_bw_hz"]
+        erp = DIPOLE_GAIN_DBI if self.quantity == "erp" else 0.0
+        out = {}
+        for key, value in self.terms:
+            try:
+                v = np.broadcast_to(np.asarray(value.evaluate(variables), dtype=float), f.shape)
+            except MaskError as exc:
+                raise MaskError(f"{self.key_path}.limit.{key}: {exc.message}", path=self.mask_path or None) from None
+            if key == "attenuation_db":
+                w = self.reference_power_w * 10.0 ** (-v / 10.0)
+            elif key == "level_w":
+                if np.any(v <= 0):
+                    raise MaskError(f"{self.key_path}.limit.level_w: {value.text!r} is <= 0 W here; expected > 0", path=self.mask_path or None)
+                w = v * 10.0 ** (erp / 10.0)
+            elif key in ("level_dbm", "level_dbw"):
+                w = 10.0 ** ((v + erp - (30.0 if key == "level_dbm" else 0.0)) / 10.0)
+            elif key == "density_dbm_per_hz":
+                bw = self.reference_bandwidth_hz(f)
+                known = [b for _, _, b in self.bands]
+                bw = np.where(np.isfinite(bw), bw, min(known) if known else 1.0)  # narrowest: conservative
+                w = 10.0 ** ((v + erp + 10.0 * np.log10(bw) - 30.0) / 10.0)
+            else:  # field strength -> EIRP
+                if key == "field_uv_per_m":
+                    if np.any(v <= 0):
+                        raise MaskError(f"{self.key_path}.limit.field_uv_per_m: {value.text!r} is <= 0 here; expected > 0", path=self.mask_path or None)
+                    v = 20.0 * np.log10(v)
+                w = 10.0 ** ((field_to_eirp_dbm(v, self.distance_m) - 30.0) / 10.0)
+            out[key] = np.asarray(w, dtype=float)
+        return out
 
     def reference_bandwidth_hz(self, freq_hz) -> np.ndarray:
         """Reference bandwidth at each frequency, Hz; NaN where no range covers it.
@@ -150,10 +298,25 @@ class RegionLimits:
         return out
 
     def limit_w(self, freq_hz) -> np.ndarray:
-        """Limit in the reference bandwidth at each frequency, W; NaN outside the region."""
+        """Limit in the reference bandwidth at each frequency, W; NaN outside the region.
+
+        A limit that varies along the axis (v3) is evaluated only where the
+        region applies (:meth:`in_scope`) and is NaN elsewhere.
+        """
         f = _freq_array(freq_hz)
-        inside = (f >= self.start_hz) & (f <= self.stop_hz)
-        return np.where(inside, self.constant_limit_w, np.nan)
+        if not self.varies:
+            inside = (f >= self.start_hz) & (f <= self.stop_hz)
+            return np.where(inside, self.constant_limit_w, np.nan)
+        out = np.full(f.shape, np.nan)
+        scope = self.in_scope(f)
+        if np.any(scope):
+            parts = list(self.terms_at(f[scope]).values())
+            reduce = np.minimum if self.combine == "all" else np.maximum
+            value = parts[0]
+            for p in parts[1:]:
+                value = reduce(value, p)
+            out[scope] = value
+        return out
 
     def limit_dbm(self, freq_hz) -> np.ndarray:
         """:meth:`limit_w` in dBm (NaN outside the region)."""
@@ -162,10 +325,22 @@ class RegionLimits:
             return 10.0 * np.log10(w) + 30.0  # NaN stays NaN; w is > 0 elsewhere
 
     def in_scope(self, freq_hz) -> np.ndarray:
-        """True where the region applies: inside its range and outside the excluded spans."""
+        """True where the region applies: inside its range and outside the excluded spans.
+
+        Each boundary follows its interval convention: ``include_start`` /
+        ``include_stop`` for the range, and for an offset region "more than
+        from" / "up to and including to" unless the file says otherwise.
+        """
         f = _freq_array(freq_hz)
-        keep = (f >= self.start_hz) & (f <= self.stop_hz)
-        for lo, hi in self.excluded_hz:
+        keep = (f >= self.start_hz) if self.include_start else (f > self.start_hz)
+        keep &= (f <= self.stop_hz) if self.include_stop else (f < self.stop_hz)
+        if self.offset_band is not None:
+            lo, hi, inc_lo, inc_hi = self.offset_band
+            fd = self.fd_hz(f)
+            keep &= (fd >= lo) if inc_lo else (fd > lo)
+            keep &= (fd <= hi) if inc_hi else (fd < hi)
+        spans = self.excluded_hz if self.hard_excluded_hz is None else self.hard_excluded_hz
+        for lo, hi in spans:
             keep &= ~((f >= lo) & (f <= hi))
         return keep
 
@@ -223,12 +398,53 @@ def reference_power_w(mask: Mask, *, power_w: float, pep_w: float | None) -> tup
     kind = mask.reference_power.kind
     if kind == "mean":
         return float(power_w), "mean power, as stated"
+    if kind == "carrier":
+        return float(power_w), (
+            "the stated power is taken as the unmodulated carrier power (measure it with the modulation "
+            "switched off, and state it as the power)"
+        )
+    if kind == "channel":
+        return float(power_w), "the stated mean power is taken as the total power in the channel bandwidth"
+    if kind == "dbsd":
+        return float(power_w), (
+            "0 dBsd is measured by the check from the trace (the highest power in any "
+            f"{format_frequency(mask.reference_power.bandwidth.constant()) if mask.reference_power.bandwidth.is_constant else mask.reference_power.bandwidth.text} "
+            "inside the necessary band); without a trace the stated mean power stands in for it"
+        )
+    if kind == "none":
+        return float(power_w), "no reference power: the mask's limits are absolute"
     if pep_w is not None:
         return float(pep_w), "PEP, as stated"
     return float(power_w), (
         "PEP not given: the stated mean power stands in for it (conservative: PEP is never "
         "below the mean power and these limits do not loosen as the power falls)"
     )
+
+
+def applies_when(mask: Mask, variables: dict) -> tuple[bool | None, str]:
+    """Whether the mask's ``applies.when`` condition holds for a station.
+
+    Returns ``(True, why)`` when there is no condition or it holds,
+    ``(False, why)`` when it does not, and ``(None, why)`` when it needs a
+    value the station did not give.
+
+    Examples
+    --------
+    >>> from maskcheck.masks import load_mask
+    >>> applies_when(load_mask("us-fm-translator-10w"), {"power_w": 50.0})[0]
+    False
+    """
+    cond = mask.applies.when
+    if cond is None:
+        return True, "the mask states no condition"
+    missing = sorted(n for n in cond.names if n not in variables)
+    if missing:
+        return None, f"the mask's condition '{cond.text}' needs {', '.join(missing)}, which the station does not give"
+    holds = bool(cond.evaluate(variables))
+    variant = f" ({mask.applies.variant})" if mask.applies.variant else ""
+    if holds:
+        return True, f"the mask's condition '{cond.text}'{variant} holds for this station"
+    return False, f"the mask's condition '{cond.text}'{variant} does not hold for this station"
 
 
 def applies_to(mask: Mask, carrier_hz: float) -> tuple[bool, str]:
@@ -279,26 +495,8 @@ def _evaluate(value: Value, variables, key: str, problems: list[str]) -> float |
         return None
 
 
-def _limit_text(region, kind: str, attenuation_db, level_w, limit_w) -> str:
-    limit = region.limit
-    if limit.description:
-        base = limit.description
-    else:
-        parts = []
-        if limit.attenuation_db is not None:
-            a = f"{attenuation_db:g}" if limit.attenuation_db.is_constant else limit.attenuation_db.text
-            parts.append(f"{a} dB below {_KIND_TEXT[kind]}")
-        level = limit.level
-        if level is not None:
-            if level.is_constant:
-                parts.append(f"at most {format_power(level_w).split(' (')[0]}")
-            else:
-                parts.append(f"at most {level.text} {level.unit}")
-        base = " and ".join(parts)
-    return f"{base} = {format_power(limit_w)}"
-
-
 _NEEDS = {
+    "power_w": "the transmitter power",
     "necessary_bw_hz": "the necessary bandwidth (give --designator, --necessary-bw or the formula inputs)",
     "authorized_bw_hz": "the authorised bandwidth (give --authorized-bw)",
     "necessary": "the necessary bandwidth (give --designator, --necessary-bw or the formula inputs)",
@@ -321,6 +519,7 @@ def evaluate_mask(
     domains=None,
     authorized_bw_hz: float | None = None,
     exclusion_hz: float | None = None,
+    reference_w: float | None = None,
 ) -> list[RegionLimits]:
     """Evaluate every region of ``mask`` for one station.
 
@@ -342,6 +541,9 @@ def evaluate_mask(
     exclusion_hz : float, optional
         Half-width around the carrier that spurious regions skip, overriding
         the boundary and the mask's default (``--exclude``).
+    reference_w : float, optional
+        The reference power, W, when the check measured it (0 dBsd); by
+        default :func:`reference_power_w`.
 
     Returns
     -------
@@ -366,16 +568,16 @@ def evaluate_mask(
     """
     _check_station(power_w, pep_w, carrier_hz)
     ref_w, _note = reference_power_w(mask, power_w=power_w, pep_w=pep_w)
-    variables = {
-        "power_w": float(power_w),
-        "pep_w": float(pep_w if pep_w is not None else power_w),
-        "carrier_hz": float(carrier_hz),
-    }
-    if domains is not None:
-        variables["necessary_bw_hz"] = float(domains.necessary_bw_hz)
-    if authorized_bw_hz is not None:
-        variables["authorized_bw_hz"] = float(authorized_bw_hz)
+    if reference_w is not None:
+        if not (math.isfinite(reference_w) and reference_w > 0):
+            raise StationError(f"reference power {reference_w!r} W must be finite and > 0", where="reference power")
+        ref_w = float(reference_w)
+    variables = station_variables(
+        power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz,
+        necessary_bw_hz=None if domains is None else domains.necessary_bw_hz, authorized_bw_hz=authorized_bw_hz,
+    )
     fc = float(carrier_hz)
+    label = mask.path or f"mask {mask.id}"
     problems: list[str] = []
     exclusion = _evaluate(mask.fundamental.exclusion, variables, "fundamental.exclusion", problems)
     if exclusion is not None and exclusion < 0:
@@ -390,7 +592,7 @@ def evaluate_mask(
     for i, region in enumerate(mask.regions):
         key = f"regions[{i}]"
         base = dict(name=region.name, kind=region.kind, detector=region.detector or "any", key_path=key,
-                    reference_power_w=ref_w, reference_kind=mask.reference_power.kind)
+                    reference_power_w=ref_w, reference_kind=mask.reference_power.kind, mask_path=mask.path)
 
         def unevaluated(what: str, anchor: str = ""):
             out.append(RegionLimits(start_hz=math.nan, stop_hz=math.nan, bands=(),
@@ -412,34 +614,68 @@ def evaluate_mask(
             out.append(RegionLimits(start_hz=math.nan, stop_hz=math.nan, bands=(), limit_text=text,
                                     max_bandwidth_hz=bw, anchor="occupied bandwidth", **base))
             continue
+        limit = region.limit
+        miss = [n for k in limit.terms for n in _missing(getattr(limit, k), variables) if n not in FREQUENCY_VARIABLES]
+        if "fd_percent" in {n for k in limit.terms for n in getattr(limit, k).names} and "authorized_bw_hz" not in variables:
+            miss.append("authorized_bw_hz")
+        if miss:
+            unevaluated(_NEEDS[sorted(miss)[0]])
+            continue
         excluded: list[tuple[float, float]] = []
+        hard: list[tuple[float, float]] = []
         anchor = ""
+        origin_edge = 0.0
+        offset_band = None
+        start = stop = None
         if region.offset is not None:
             off = region.offset
+            if off.origin != "carrier":
+                which = "authorized_bw_hz" if off.origin == "authorized-edge" else "necessary_bw_hz"
+                if which not in variables:
+                    unevaluated(_NEEDS[which], f"offset from the {off.origin.replace('-', ' ')}")
+                    continue
+                origin_edge = variables[which] / 2.0
+            origin_text = "the carrier" if off.origin == "carrier" else f"the edge of the {'authorised' if off.origin == 'authorized-edge' else 'necessary'} bandwidth"
             if off.of is not None:
                 bw_known = variables.get("necessary_bw_hz" if off.of == "necessary" else "authorized_bw_hz")
-                label = "necessary" if off.of == "necessary" else "authorised"
+                blabel = "necessary" if off.of == "necessary" else "authorised"
+                span = f"{off.from_percent:g}-{off.to_percent:g} %" if off.to_percent is not None else f"beyond {off.from_percent:g} %"
                 if bw_known is None:
-                    unevaluated(_NEEDS[off.of], f"offset {off.from_percent:g}-{off.to_percent:g} % of the {label} bandwidth")
+                    unevaluated(_NEEDS[off.of], f"offset {span} of the {blabel} bandwidth")
                     continue
-                lo_off, hi_off = off.from_percent / 100.0 * bw_known, off.to_percent / 100.0 * bw_known
-                anchor = f"offset more than {off.from_percent:g} % up to {off.to_percent:g} % of the {label} bandwidth"
+                lo_off = off.from_percent / 100.0 * bw_known
+                hi_off = math.inf if off.to_percent is None else off.to_percent / 100.0 * bw_known
+                anchor = f"offset {_interval_text(off, f'{off.from_percent:g} %', None if off.to_percent is None else f'{off.to_percent:g} %')} of the {blabel} bandwidth from {origin_text}"
             else:
                 miss = _missing(off.from_, variables) + _missing(off.to, variables)
                 if miss:
                     unevaluated(_NEEDS[miss[0]])
                     continue
                 lo_off = _evaluate(off.from_, variables, f"{key}.offset.from", problems)
-                hi_off = _evaluate(off.to, variables, f"{key}.offset.to", problems)
+                hi_off = math.inf if off.to is None else _evaluate(off.to, variables, f"{key}.offset.to", problems)
                 if lo_off is None or hi_off is None:
                     continue
-                anchor = f"offset more than {format_frequency(lo_off)} up to {format_frequency(hi_off)} from the carrier"
+                anchor = f"offset {_interval_text(off, format_frequency(lo_off), None if off.to is None else format_frequency(hi_off))} from {origin_text}"
             if not 0 <= lo_off < hi_off:
                 problems.append(f"{key}.offset: expected 0 <= from < to, found {lo_off:g} Hz and {hi_off:g} Hz")
                 continue
-            start, stop = max(fc - hi_off, 0.0), fc + hi_off
-            if lo_off > 0:
-                excluded.append((fc - lo_off, fc + lo_off))
+            offset_band = (lo_off, hi_off, off.include_from, off.include_to)
+            inner = origin_edge + lo_off
+            if math.isfinite(hi_off):
+                start, stop = max(fc - origin_edge - hi_off, 0.0), fc + origin_edge + hi_off
+            if region.start is not None:
+                miss = _missing(region.start, variables) + _missing(region.stop, variables)
+                if miss:
+                    unevaluated(_NEEDS[miss[0]])
+                    continue
+                s0 = _evaluate(region.start, variables, f"{key}.start", problems)
+                s1 = _evaluate(region.stop, variables, f"{key}.stop", problems)
+                if s0 is None or s1 is None:
+                    continue
+                start = s0 if start is None else max(start, s0)
+                stop = s1 if stop is None else min(stop, s1)
+            if inner > 0:
+                excluded.append((fc - inner, fc + inner))
         elif region.domain in ("out-of-band", "necessary"):
             if domains is None:
                 unevaluated(_NEEDS["necessary"], f"{region.domain} domain")
@@ -452,6 +688,7 @@ def evaluate_mask(
                 start, stop = domains.necessary_band_hz
                 anchor = "within the necessary bandwidth"
             start = max(start, 0.0)
+            hard = list(excluded)
         else:
             miss = _missing(region.start, variables) + _missing(region.stop, variables)
             if miss:
@@ -469,16 +706,25 @@ def evaluate_mask(
             else:
                 excluded.append(domains.necessary_band_hz)
                 anchor = "outside the necessary band"
+            hard = list(excluded)
+        if start is not None and stop is not None and not (0 <= start < stop) and region.may_be_empty:
+            continue  # outside the search range for this station (the file allows it)
         if start is not None and stop is not None and not (0 <= start < stop):
             problems.append(
                 f"{key}: start {format_frequency(start)} is not below stop {format_frequency(stop)} "
                 f"for carrier {format_frequency(carrier_hz)} (expected 0 <= start < stop)"
             )
+            continue
         bands = []
+        refuse = False
         for j, band in enumerate(region.reference_bandwidth):
             bkey = f"{key}.reference_bandwidth[{j}]"
-            b0 = _evaluate(band.start, variables, f"{bkey}.start", problems)
-            b1 = _evaluate(band.stop, variables, f"{bkey}.stop", problems)
+            refuse = refuse or band.narrower_rbw == "refuse"
+            if band.whole_region:
+                b0, b1 = start, stop
+            else:
+                b0 = _evaluate(band.start, variables, f"{bkey}.start", problems)
+                b1 = _evaluate(band.stop, variables, f"{bkey}.stop", problems)
             bw = _evaluate(band.bandwidth, variables, f"{bkey}.bandwidth", problems)
             if None in (b0, b1, bw):
                 continue
@@ -495,21 +741,42 @@ def evaluate_mask(
                     f"{key}.reference_bandwidth: [{ic}] ({format_frequency(c0)} – {format_frequency(c1)}) "
                     f"overlaps [{ia}] ({format_frequency(a0)} – {format_frequency(a1)})"
                 )
-        limit = region.limit
+        variable = bool(
+            {n for k in limit.terms for n in getattr(limit, k).names} & set(FREQUENCY_VARIABLES)
+            or limit.density_dbm_per_hz is not None
+            or limit.field_uv_per_m is not None
+            or limit.field_dbuv_per_m is not None
+            or limit.quantity == "erp"
+        )
         attenuation = level_w = None
-        if limit.attenuation_db is not None:
-            attenuation = _evaluate(limit.attenuation_db, variables, f"{key}.limit.attenuation_db", problems)
-        if limit.level_w is not None:
-            level_w = _evaluate(limit.level_w, variables, f"{key}.limit.level_w", problems)
-            if level_w is not None and not level_w > 0:
-                problems.append(f"{key}.limit.level_w: is {level_w:g} W for this station; expected > 0")
-                level_w = None
-        elif limit.level_dbm is not None:
-            level_dbm = _evaluate(limit.level_dbm, variables, f"{key}.limit.level_dbm", problems)
-            if level_dbm is not None:
-                level_w = 10.0 ** ((level_dbm - 30.0) / 10.0)
-        if attenuation is None and level_w is None:
-            continue
+        if not variable:
+            if limit.attenuation_db is not None:
+                attenuation = _evaluate(limit.attenuation_db, variables, f"{key}.limit.attenuation_db", problems)
+            if limit.level_w is not None:
+                level_w = _evaluate(limit.level_w, variables, f"{key}.limit.level_w", problems)
+                if level_w is not None and not level_w > 0:
+                    problems.append(f"{key}.limit.level_w: is {level_w:g} W for this station; expected > 0")
+                    level_w = None
+            elif limit.level_dbm is not None or limit.level_dbw is not None:
+                which = "level_dbm" if limit.level_dbm is not None else "level_dbw"
+                level_db = _evaluate(getattr(limit, which), variables, f"{key}.limit.{which}", problems)
+                if level_db is not None:
+                    level_w = 10.0 ** ((level_db - (30.0 if which == "level_dbm" else 0.0)) / 10.0)
+            if attenuation is None and level_w is None:
+                continue
+        notes = []
+        if limit.field_uv_per_m is not None or limit.field_dbuv_per_m is not None:
+            notes.append(
+                f"{region.name}: the field-strength limit at {limit.distance_m:g} m is converted to EIRP with "
+                f"E(dBµV/m) = EIRP(dBm) + {FIELD_CONSTANT_DB:.2f} - 20 log10(d/m) (far field, isotropic); the trace is "
+                "taken as EIRP, so antenna gain and cable loss must already be in it"
+            )
+        elif limit.quantity in ("eirp", "erp") and (limit.level is not None or limit.density_dbm_per_hz is not None):
+            extra = f" (an ERP limit is an EIRP limit {DIPOLE_GAIN_DBI} dB higher)" if limit.quantity == "erp" else ""
+            notes.append(f"{region.name}: the absolute limit is an {limit.quantity.upper()}; the trace is taken as EIRP{extra}")
+        if region.detector == "quasi-peak":
+            notes.append(f"{region.name}: the rule calls for a CISPR quasi-peak detector; a peak-detector trace emulates it "
+                         "conservatively (peak never reads below quasi-peak)")
         limits = RegionLimits(
             start_hz=start if start is not None else math.nan,
             stop_hz=stop if stop is not None else math.nan,
@@ -519,12 +786,31 @@ def evaluate_mask(
             level_w=level_w,
             excluded_hz=tuple(excluded),
             anchor=anchor,
+            include_start=region.include_start,
+            include_stop=region.include_stop,
+            fd_origin_hz=fc,
+            fd_edge_hz=origin_edge,
+            offset_band=offset_band,
+            hard_excluded_hz=tuple(hard),
+            terms=tuple((k, getattr(limit, k)) for k in limit.terms) if variable else (),
+            combine=limit.combine,
+            quantity=limit.quantity,
+            distance_m=limit.distance_m,
+            variables=variables,
+            refuse_narrower=refuse,
+            notes=tuple(notes),
             **base,
         )
-        text = _limit_text(region, mask.reference_power.kind, attenuation, level_w, limits.constant_limit_w)
+        if variable:
+            try:
+                text = _variable_limit_text(region, mask.reference_power.kind, limits)
+            except MaskError as exc:
+                problems.append(exc.message)
+                continue
+        else:
+            text = _limit_text(region, mask.reference_power.kind, attenuation, level_w, limits.constant_limit_w)
         out.append(replace(limits, limit_text=text))
     if problems:
-        label = mask.path or f"mask {mask.id}"
         lines = [f"{label}: {p}" for p in problems]
         if len(lines) == 1:
             error = MaskError(problems[0], path=label)
@@ -534,3 +820,77 @@ def evaluate_mask(
         raise error
     return out
 
+
+def _interval_text(off, lo: str, hi: str | None) -> str:
+    first = "from" if off.include_from else "more than"
+    if hi is None:
+        return f"{'from' if off.include_from else 'beyond'} {lo}"
+    last = "up to and including" if off.include_to else "up to but not including"
+    return f"{first} {lo} {last} {hi}"
+
+
+def sample_points_hz(limits: RegionLimits, n: int = 2) -> np.ndarray:
+    """Frequencies inside a region where its limit is shown: the inner and outer edge of its upper side.
+
+    For an offset region these are the first and last frequencies above the
+    carrier that the region holds (a step at a boundary shows on the side
+    the region owns); otherwise the start and the stop.
+    """
+    if limits.offset_band is not None:
+        lo, hi, _, _ = limits.offset_band
+        a = limits.fd_origin_hz + limits.fd_edge_hz + lo
+        b = limits.fd_origin_hz + limits.fd_edge_hz + hi if math.isfinite(hi) else limits.stop_hz
+        b = min(b, limits.stop_hz)
+    else:
+        a, b = limits.start_hz, limits.stop_hz
+    pts = np.linspace(a, b, max(n, 2))
+    # step inside an open boundary by a tiny amount so the point belongs to the region
+    tiny = max(abs(b - a) * 1e-9, 1e-3)
+    pts[0] += tiny
+    pts[-1] -= tiny if limits.offset_band is not None and not limits.offset_band[3] else 0.0
+    scope = limits.in_scope(pts)
+    return pts[scope]
+
+
+def _variable_limit_text(region, kind: str, limits: RegionLimits) -> str:
+    limit = region.limit
+    parts = []
+    for key, value in limits.terms:
+        at = f" at {limit.distance_m:g} m" if limit.distance_m is not None else ""
+        word = {
+            "attenuation_db": f"{value.text} dB below {_KIND_TEXT[kind]}",
+            "level_w": f"{value.text} W",
+            "level_dbm": f"{value.text} dBm",
+            "level_dbw": f"{value.text} dBW",
+            "density_dbm_per_hz": f"{value.text} dBm/Hz",
+            "field_uv_per_m": f"{value.text} µV/m{at}",
+            "field_dbuv_per_m": f"{value.text} dBµV/m{at}",
+        }[key]
+        parts.append(word)
+    joiner = " and " if limits.combine == "all" else " or, whichever is less stringent, "
+    base = limit.description or joiner.join(parts)
+    pts = sample_points_hz(limits)
+    if pts.size == 0:
+        return base
+    values = limits.limit_w(pts)
+    shown = ", ".join(f"{format_power(float(w)).split(' (')[0]} at {format_frequency(float(f))}" for f, w in zip(pts, values))
+    return f"{base} = {shown}"
+
+
+def _limit_text(region, kind: str, attenuation_db, level_w, limit_w) -> str:
+    limit = region.limit
+    if limit.description:
+        base = limit.description
+    else:
+        parts = []
+        if limit.attenuation_db is not None:
+            a = f"{attenuation_db:g}" if limit.attenuation_db.is_constant else limit.attenuation_db.text
+            parts.append(f"{a} dB below {_KIND_TEXT[kind]}")
+        level = limit.level
+        if level is not None:
+            if level.is_constant:
+                parts.append(f"at most {format_power(level_w).split(' (')[0]}")
+            else:
+                parts.append(f"at most {level.text} {level.unit}")
+        base = " and ".join(parts) if limit.combine == "all" else " or, whichever is less stringent, ".join(parts)
+    return f"{base} = {format_power(limit_w)}"

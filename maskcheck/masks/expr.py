@@ -63,6 +63,7 @@ __all__ = [
     "FUNCTIONS",
     "Expression",
     "compile_expression",
+    "compile_condition",
 ]
 
 #: Longest expression text accepted, in characters.
@@ -511,6 +512,62 @@ class Expression:
         where = ", ".join(parts) if parts else "no variables"
         part = self._compiler._snippet(problem.node)
         return f"expression {self.text!r}: {problem.what} in '{part}', found {found_value:g} with {where}"
+
+
+def _parse(text, what: str):
+    """Length check and ``ast.parse`` with the messages both compilers share."""
+    if not isinstance(text, str):
+        raise MaskError(f"expected {what} as text, found {type(text).__name__} {text!r}")
+    if len(text) > MAX_LENGTH:
+        raise MaskError(f"{what} is {len(text)} characters long; at most {MAX_LENGTH} are allowed")
+    text = text.strip()
+    if not text:
+        raise MaskError(f"{what} is empty")
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", SyntaxWarning)
+            tree = ast.parse(text, mode="eval")
+    except SyntaxError as exc:
+        col = f", column {exc.offset}" if exc.offset else ""
+        raise MaskError(f"in {what} {text!r}{col}: not valid syntax ({exc.msg})") from None
+    except (ValueError, RecursionError, MemoryError) as exc:
+        raise MaskError(f"in {what} {text!r}: cannot be parsed ({type(exc).__name__})") from None
+    if not _depth_ok(tree):
+        raise MaskError(f"in {what} {text!r}: nested more than {MAX_DEPTH} levels deep")
+    return text, tree
+
+
+def compile_condition(text, allowed_names: Iterable[str]) -> Expression:
+    """Parse and whitelist-check a condition such as ``"power_w <= 10"``.
+
+    The same whitelist as :func:`compile_expression`, but the whole text must
+    be a comparison (or comparisons joined with ``and`` / ``or``).  The
+    compiled :class:`Expression` evaluates to 1.0 where the condition holds
+    and 0.0 where it does not.
+
+    Raises
+    ------
+    MaskError
+        One line naming the column and the construct, as for expressions.
+
+    Examples
+    --------
+    >>> c = compile_condition("power_w <= 10", ["power_w"])
+    >>> c.evaluate({"power_w": 5.0}), c.evaluate({"power_w": 50.0})
+    (1.0, 0.0)
+    >>> compile_condition("power_w", ["power_w"])
+    Traceback (most recent call last):
+    ...
+    maskcheck.errors.MaskError: in expression 'power_w', column 1 ('power_w'): the condition of 'a if condition else b' must be a comparison (< <= > >=), possibly joined with 'and'/'or'
+    """
+    allowed = frozenset(str(n) for n in allowed_names)
+    text, tree = _parse(text, "condition")
+    compiler = _Compiler(text, allowed)
+    try:
+        root = compiler.condition(tree.body, 1)
+    except RecursionError:  # pragma: no cover - _depth_ok bounds the recursion
+        raise MaskError(f"in condition {text!r}: nested more than {MAX_DEPTH} levels deep") from None
+    return Expression(text=text, names=frozenset(compiler.names), _root=root, _compiler=compiler)
 
 
 def compile_expression(text, allowed_names: Iterable[str]) -> Expression:

@@ -1,4 +1,4 @@
-"""The mask-file format (``schema_version`` 1 and 2) as pydantic models.
+"""The mask-file format (``schema_version`` 1, 2 and 3) as pydantic models.
 
 A mask file is TOML; :mod:`maskcheck.masks.library` reads it and validates it
 with :class:`Mask`.  Every table forbids unknown keys, so a misspelt key is an
@@ -24,6 +24,30 @@ offsets from the carrier (``[regions.offset]``, in Hz or as a percentage of
 the necessary or authorised bandwidth), and the variables
 ``necessary_bw_hz`` and ``authorized_bw_hz``.  Version-1 files load
 unchanged.
+
+Version 3 grows the language so that real rule sets can be written down:
+
+* **where**: ``[regions.offset]`` measured from the carrier or from the edge
+  of the authorised or necessary bandwidth (``origin``), open ("beyond",
+  no ``to``) or closed, with the interval convention of each boundary
+  (``include_from``, ``include_to``; ``include_start``, ``include_stop`` for
+  absolute ranges), and offsets combined with an absolute ``start``/``stop``;
+* **relative to what**: ``reference_power.kind`` ``carrier`` (unmodulated
+  carrier), ``channel`` (total power in the channel bandwidth), ``dbsd``
+  (highest power in any ``reference_power.bandwidth`` inside the necessary
+  band) or ``none`` (absolute limits only), besides ``mean`` and ``pep``;
+* **what**: ``level_dbw``, ``density_dbm_per_hz``, field strength
+  (``field_uv_per_m`` / ``field_dbuv_per_m`` at ``distance_m``), absolute
+  levels as ``eirp`` or ``erp`` (``quantity``), and ``combine`` (all terms
+  hold, or the least stringent one does);
+* **formulas** may use the displacement frequency ``fd_hz``, ``fd_khz``,
+  ``fd_percent`` (percent of the authorised bandwidth), the frequency
+  ``freq_hz`` and ``power_dbw``;
+* **how to measure**: ``quasi-peak`` detectors, ``narrower_rbw`` per
+  reference bandwidth, reference bandwidths for the whole region;
+* **when**: ``applies.when`` (a condition on the station, e.g. a power
+  class) and ``applies.variant`` (e.g. an installation date) choose between
+  variants of a rule.
 
 Quantities and constants are checked when the file loads; expressions are
 compiled when the file loads and evaluated when a station is known
@@ -62,10 +86,12 @@ from .._version import MASK_SCHEMA_VERSION
 from ..core.result import MaskInfo
 from ..core.units import format_frequency, parse_db, parse_frequency, parse_power, w_to_dbm
 from ..errors import MaskcheckError, MaskError
-from .expr import Expression, compile_expression
+from .expr import Expression, compile_condition, compile_expression
 
 __all__ = [
     "VARIABLES",
+    "FREQUENCY_VARIABLES",
+    "LIMIT_VARIABLES",
     "BANDWIDTH_VARIABLES",
     "REGION_KINDS",
     "DOMAIN_ANCHORS",
@@ -90,7 +116,19 @@ __all__ = [
 #: Variables an expression may use: mean power and PEP at the antenna port
 #: (W), the carrier (assigned) frequency (Hz), and (from v2) the necessary and
 #: the authorised bandwidth (Hz; known only when the station states them).
-VARIABLES: tuple[str, ...] = ("power_w", "pep_w", "carrier_hz", "necessary_bw_hz", "authorized_bw_hz")
+VARIABLES: tuple[str, ...] = ("power_w", "pep_w", "power_dbw", "carrier_hz", "necessary_bw_hz", "authorized_bw_hz")
+
+#: Variables (v3) that change along the frequency axis; only limits may use
+#: them: the frequency, and the displacement from the region's origin (the
+#: carrier, or the edge of the authorised / necessary bandwidth) in Hz, in
+#: kHz and in percent of the authorised bandwidth.
+FREQUENCY_VARIABLES: tuple[str, ...] = ("freq_hz", "fd_hz", "fd_khz", "fd_percent")
+
+#: Everything a limit expression may use.
+LIMIT_VARIABLES: tuple[str, ...] = VARIABLES + FREQUENCY_VARIABLES
+
+#: Variables new in v3 (a file of an older version that uses one is told to upgrade).
+_V3_VARIABLES = frozenset({"power_dbw"} | set(FREQUENCY_VARIABLES))
 
 #: Variables that are known only when the station gives them.
 BANDWIDTH_VARIABLES: tuple[str, ...] = ("necessary_bw_hz", "authorized_bw_hz")
@@ -102,10 +140,13 @@ REGION_KINDS: tuple[str, ...] = ("spurious", "out-of-band", "occupied-bandwidth"
 DOMAIN_ANCHORS: tuple[str, ...] = ("spurious", "out-of-band", "necessary")
 
 #: Detectors a region may call for ("any": the rule names none).
-DETECTORS: tuple[str, ...] = ("rms", "average", "peak", "any")
+DETECTORS: tuple[str, ...] = ("rms", "average", "peak", "quasi-peak", "any")
 
-#: What relative limits are taken below.
-REFERENCE_POWER_KINDS: tuple[str, ...] = ("mean", "pep")
+#: What relative limits are taken below (v3 adds carrier, channel, dbsd, none).
+REFERENCE_POWER_KINDS: tuple[str, ...] = ("mean", "pep", "carrier", "channel", "dbsd", "none")
+
+#: Where offsets (and the displacement frequency fd) are measured from (v3).
+OFFSET_ORIGINS: tuple[str, ...] = ("carrier", "authorized-edge", "necessary-edge")
 
 _ID_PATTERN = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
 _QUANTITY_SHAPE = re.compile(r"^\s*[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?\s*[^\W\d_]+\s*$")
@@ -119,6 +160,18 @@ _FAMILIES = {
     "power_w": ("W", "a power such as '50 mW', a number in W, or an expression in W"),
     "power_dbm": ("dBm", "a level such as '-13 dBm', a number in dBm, or an expression in dBm"),
     "db": ("dB", "an attenuation such as '43', '43 dB' or an expression in dB"),
+    "power_dbw": ("dBW", "a level such as '-43 dBW', a number in dBW, or an expression in dBW"),
+    "dbm_per_hz": ("dBm/Hz", "a density such as '-80 dBm/Hz', a number in dBm/Hz, or an expression"),
+    "uv_per_m": ("µV/m", "a field strength such as '500 uV/m', a number in µV/m, or an expression"),
+    "dbuv_per_m": ("dBµV/m", "a field strength such as '54 dBuV/m', a number in dBµV/m, or an expression"),
+}
+
+# Unit words accepted after a number, per family without a parser in core.units.
+_SUFFIXES = {
+    "power_dbw": re.compile(r"^\s*([+-]?[\d.]+(?:[eE][+-]?\d+)?)\s*dBW\s*$"),
+    "dbm_per_hz": re.compile(r"^\s*([+-]?[\d.]+(?:[eE][+-]?\d+)?)\s*dBm/Hz\s*$"),
+    "uv_per_m": re.compile(r"^\s*([+-]?[\d.]+(?:[eE][+-]?\d+)?)\s*[uµμ]V/m\s*$"),
+    "dbuv_per_m": re.compile(r"^\s*([+-]?[\d.]+(?:[eE][+-]?\d+)?)\s*dB[uµμ]V/m\s*$"),
 }
 
 
@@ -210,6 +263,17 @@ def parse_value(raw, family: str, *, allowed_names=VARIABLES) -> Value:
         if not np.isfinite(number):
             raise MaskError(f"found {raw!r}; expected a finite number ({expected})")
         return Value(raw, unit, compile_expression(repr(number), ()))
+    if family in _SUFFIXES:
+        m = _SUFFIXES[family].match(raw)
+        if m:
+            try:
+                number = float(m.group(1))
+            except ValueError:
+                raise MaskError(f"found {raw!r}; expected {expected}") from None
+            return Value(raw, unit, compile_expression(repr(number), ()))
+        if _QUANTITY_SHAPE.match(raw) or re.search(r"\d\s*[a-zA-Zµμ]+/", raw):
+            raise MaskError(f"found {raw!r}; expected {expected}")
+        return Value(raw, unit, compile_expression(raw, allowed_names))
     if _QUANTITY_SHAPE.match(raw):
         if family in ("frequency", "fixed_frequency"):
             number = parse_frequency(raw)
@@ -223,12 +287,12 @@ def parse_value(raw, family: str, *, allowed_names=VARIABLES) -> Value:
     return Value(raw, unit, compile_expression(raw, allowed_names))
 
 
-def _value_type(family: str, description: str):
+def _value_type(family: str, description: str, names=VARIABLES):
     def validate(raw):
         if isinstance(raw, Value):
             return raw
         try:
-            return parse_value(raw, family)
+            return parse_value(raw, family, allowed_names=names)
         except MaskcheckError as exc:
             raise PydanticCustomError("mask_value", "{message}", {"message": exc.message}) from None
 
@@ -249,7 +313,30 @@ Frequency = _value_type("frequency", "frequency")
 FixedFrequency = _value_type("fixed_frequency", "frequency")
 PowerW = _value_type("power_w", "absolute limit")
 PowerDbm = _value_type("power_dbm", "absolute limit")
-AttenuationDb = _value_type("db", "attenuation below the reference power")
+AttenuationDb = _value_type("db", "attenuation below the reference power", LIMIT_VARIABLES)
+LimitPowerW = _value_type("power_w", "absolute limit", LIMIT_VARIABLES)
+LimitPowerDbm = _value_type("power_dbm", "absolute limit", LIMIT_VARIABLES)
+LimitPowerDbw = _value_type("power_dbw", "absolute limit", LIMIT_VARIABLES)
+DensityDbmHz = _value_type("dbm_per_hz", "power density limit", LIMIT_VARIABLES)
+FieldUvM = _value_type("uv_per_m", "field-strength limit", LIMIT_VARIABLES)
+FieldDbuvM = _value_type("dbuv_per_m", "field-strength limit", LIMIT_VARIABLES)
+
+
+def _condition(raw) -> Expression:
+    if isinstance(raw, Expression):
+        return raw
+    try:
+        return compile_condition(raw, VARIABLES)
+    except MaskcheckError as exc:
+        raise PydanticCustomError("mask_value", "{message}", {"message": exc.message}) from None
+
+
+Condition = Annotated[
+    Expression,
+    PlainValidator(_condition),
+    PlainSerializer(lambda e: e.text),
+    WithJsonSchema({"type": "string", "description": "a condition on the station, e.g. 'power_w <= 10'"}),
+]
 Text = Annotated[str, Field(min_length=1)]
 
 
@@ -286,6 +373,12 @@ class Applies(_Table):
     emission_classes: tuple[str, ...] = Field(
         (), description="first three classification symbols, e.g. 'J3E'; empty = any"
     )
+    when: Condition | None = Field(
+        None, description="v3: a condition on the station that must hold, e.g. 'power_w <= 10' (a power class)"
+    )
+    variant: str = Field(
+        "", description="v3: which variant of the rule this file is, in words (e.g. an installation date)"
+    )
 
     @field_validator("fundamental")
     @classmethod
@@ -313,7 +406,24 @@ class Applies(_Table):
 class ReferencePowerSpec(_Table):
     """The power relative limits are taken below."""
 
-    kind: Literal["mean", "pep"] = Field(description="'mean' or 'pep' (peak envelope power)")
+    kind: Literal["mean", "pep", "carrier", "channel", "dbsd", "none"] = Field(
+        description="'mean', 'pep' (peak envelope power), v3: 'carrier' (unmodulated carrier), "
+        "'channel' (total power in the channel bandwidth), 'dbsd' (highest power in any reference "
+        "bandwidth inside the necessary band), 'none' (absolute limits only)"
+    )
+    bandwidth: Frequency | None = Field(None, description="for 'dbsd': the bandwidth of the 0 dBsd reference, e.g. '4 kHz'")
+    note: str = Field("", description="v3: how the rule words its reference, for reports")
+
+    @model_validator(mode="after")
+    def _check(self):
+        if self.kind == "dbsd":
+            if self.bandwidth is None:
+                raise _problem("kind = 'dbsd' needs bandwidth (the reference bandwidth of 0 dBsd, e.g. '4 kHz')")
+            if self.bandwidth.is_constant and not self.bandwidth.constant() > 0:
+                raise _problem(f"bandwidth must be > 0 Hz, found {self.bandwidth.text!r}")
+        elif self.bandwidth is not None:
+            raise _problem(f"bandwidth belongs to kind = 'dbsd', not to kind = {self.kind!r}")
+        return self
 
 
 class Fundamental(_Table):
@@ -356,11 +466,21 @@ class Offset(_Table):
 
     model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True, populate_by_name=True)
 
-    from_: Frequency | None = Field(None, alias="from", description="inner offset from the carrier")
-    to: Frequency | None = Field(None, description="outer offset from the carrier")
+    from_: Frequency | None = Field(None, alias="from", description="inner offset from the origin")
+    to: Frequency | None = Field(None, description="outer offset from the origin (v3: omit it for 'beyond from')")
     from_percent: float | None = Field(None, description="inner offset, % of the bandwidth named by 'of'")
-    to_percent: float | None = Field(None, description="outer offset, % of the bandwidth named by 'of'")
+    to_percent: float | None = Field(None, description="outer offset, % of the bandwidth named by 'of' (v3: may be omitted)")
     of: Literal["necessary", "authorized"] | None = Field(None, description="for percentages: which bandwidth")
+    origin: Literal["carrier", "authorized-edge", "necessary-edge"] = Field(
+        "carrier", description="v3: offsets (and fd) from the carrier, or from the edge of the authorised / necessary bandwidth"
+    )
+    include_from: StrictBool = Field(False, description="v3: the inner boundary belongs to the region (default: 'more than from')")
+    include_to: StrictBool = Field(True, description="v3: the outer boundary belongs to the region (default: 'up to and including to')")
+
+    @property
+    def unbounded(self) -> bool:
+        """True for a region 'beyond' its inner offset (no outer offset)."""
+        return self.to is None and self.to_percent is None
 
     @model_validator(mode="after")
     def _check(self):
@@ -369,16 +489,20 @@ class Offset(_Table):
         if hz and pct:
             raise _problem("give from/to (frequencies) or from_percent/to_percent, not both")
         if hz:
-            if self.from_ is None or self.to is None:
-                raise _problem("give both from and to")
+            if self.from_ is None:
+                raise _problem("give from (and to, unless the region lies beyond from)")
             if self.of is not None:
                 raise _problem("of belongs to from_percent/to_percent")
-            if self.from_.is_constant and self.to.is_constant and not 0 <= self.from_.constant() < self.to.constant():
+            if self.from_.is_constant and self.from_.constant() < 0:
+                raise _problem(f"expected from >= 0, found {self.from_.text!r}")
+            if self.to is not None and self.from_.is_constant and self.to.is_constant and not 0 <= self.from_.constant() < self.to.constant():
                 raise _problem(f"expected 0 <= from < to, found {self.from_.text!r} and {self.to.text!r}")
         elif pct:
-            if self.from_percent is None or self.to_percent is None or self.of is None:
+            if self.from_percent is None or self.of is None:
                 raise _problem("give from_percent, to_percent and of ('necessary' or 'authorized')")
-            if not (np.isfinite(self.from_percent) and np.isfinite(self.to_percent) and 0 <= self.from_percent < self.to_percent):
+            if not np.isfinite(self.from_percent) or self.from_percent < 0:
+                raise _problem(f"expected from_percent >= 0, found {self.from_percent!r}")
+            if self.to_percent is not None and not (np.isfinite(self.to_percent) and self.from_percent < self.to_percent):
                 raise _problem(f"expected 0 <= from_percent < to_percent, found {self.from_percent!r} and {self.to_percent!r}")
         else:
             raise _problem("give from and to, or from_percent, to_percent and of")
@@ -388,13 +512,25 @@ class Offset(_Table):
 class ReferenceBand(_Table):
     """The reference bandwidth the limit is stated in, over one frequency range."""
 
-    start: Frequency
-    stop: Frequency
+    start: Frequency | None = Field(None, description="from (v3: omit start and stop for the whole region)")
+    stop: Frequency | None = None
     bandwidth: Frequency
+    narrower_rbw: Literal["integrate", "refuse"] = Field(
+        "integrate",
+        description="v3: a narrower RBW may be used and integrated over the bandwidth ('integrate', the usual "
+        "allowance), or the rule asks for this bandwidth itself ('refuse': a narrower RBW leaves the region incomplete)",
+    )
+
+    @property
+    def whole_region(self) -> bool:
+        """True when the band has no start/stop and covers its whole region."""
+        return self.start is None and self.stop is None
 
     @model_validator(mode="after")
     def _check(self):
-        if self.start.is_constant and self.stop.is_constant:
+        if (self.start is None) != (self.stop is None):
+            raise _problem("give both start and stop, or neither (v3: the bandwidth then covers the whole region)")
+        if self.start is not None and self.start.is_constant and self.stop.is_constant:
             if not self.start.constant() < self.stop.constant():
                 raise _problem(f"start must be below stop, found {_span_text(self.start, self.stop)}")
         if self.bandwidth.is_constant and not self.bandwidth.constant() > 0:
@@ -406,33 +542,70 @@ class Limit(_Table):
     """The limit of a region: an attenuation, an absolute level, or both (both must hold)."""
 
     attenuation_db: AttenuationDb | None = None
-    level_w: PowerW | None = None
-    level_dbm: PowerDbm | None = None
+    level_w: LimitPowerW | None = None
+    level_dbm: LimitPowerDbm | None = None
+    level_dbw: LimitPowerDbw | None = Field(None, description="v3: absolute limit in dBW")
+    density_dbm_per_hz: DensityDbmHz | None = Field(
+        None, description="v3: power density limit, dBm/Hz (the limit in the reference bandwidth B is this + 10 log10(B/Hz))"
+    )
+    field_uv_per_m: FieldUvM | None = Field(None, description="v3: field strength limit, µV/m at distance_m")
+    field_dbuv_per_m: FieldDbuvM | None = Field(None, description="v3: field strength limit, dBµV/m at distance_m")
+    distance_m: float | None = Field(None, description="v3: the measurement distance of a field-strength limit, m")
+    quantity: Literal["conducted", "eirp", "erp"] = Field(
+        "conducted", description="v3: what the absolute level is: power at the antenna port, or EIRP / ERP"
+    )
+    combine: Literal["all", "least-stringent"] = Field(
+        "all", description="v3: several limit terms: all must hold (the strictest decides) or the least stringent one does"
+    )
     bandwidth: Frequency | None = Field(
         None, description="occupied-bandwidth regions (v2): the widest occupied bandwidth allowed"
     )
     description: str | None = Field(None, description="how a report words the limit")
 
+    @property
+    def terms(self) -> list[str]:
+        """The limit keys given (attenuation, levels, density, field)."""
+        keys = ("attenuation_db", "level_w", "level_dbm", "level_dbw", "density_dbm_per_hz", "field_uv_per_m", "field_dbuv_per_m")
+        return [k for k in keys if getattr(self, k) is not None]
+
     @model_validator(mode="after")
     def _check(self):
+        terms = self.terms
         if self.bandwidth is not None:
-            if self.attenuation_db is not None or self.level_w is not None or self.level_dbm is not None:
+            if terms:
                 raise _problem("bandwidth (an occupied-bandwidth limit) goes alone, without attenuation_db or a level")
             if self.bandwidth.is_constant and not self.bandwidth.constant() > 0:
                 raise _problem(f"bandwidth must be > 0 Hz, found {self.bandwidth.text!r}")
             return self
-        if self.attenuation_db is None and self.level_w is None and self.level_dbm is None:
+        if not terms:
             raise _problem("give attenuation_db, level_w or level_dbm (none found)")
-        if self.level_w is not None and self.level_dbm is not None:
-            raise _problem("give level_w or level_dbm, not both")
+        levels = [k for k in ("level_w", "level_dbm", "level_dbw") if getattr(self, k) is not None]
+        if len(levels) > 1:
+            raise _problem(f"give one of level_w, level_dbm, level_dbw, not {' and '.join(levels)}")
+        if self.field_uv_per_m is not None and self.field_dbuv_per_m is not None:
+            raise _problem("give field_uv_per_m or field_dbuv_per_m, not both")
+        field = self.field_uv_per_m is not None or self.field_dbuv_per_m is not None
+        if field != (self.distance_m is not None):
+            raise _problem("a field-strength limit needs distance_m (the measurement distance), and distance_m needs one")
+        if self.distance_m is not None and not (np.isfinite(self.distance_m) and self.distance_m > 0):
+            raise _problem(f"distance_m must be > 0, found {self.distance_m!r}")
+        if field and self.quantity == "erp":
+            raise _problem("a field-strength limit converts to EIRP; quantity = 'erp' does not go with it")
         if self.level_w is not None and self.level_w.is_constant and not self.level_w.constant() > 0:
             raise _problem(f"level_w must be > 0 W, found {self.level_w.text!r}")
+        if self.field_uv_per_m is not None and self.field_uv_per_m.is_constant and not self.field_uv_per_m.constant() > 0:
+            raise _problem(f"field_uv_per_m must be > 0, found {self.field_uv_per_m.text!r}")
+        if "combine" in self.model_fields_set and len(terms) < 2:
+            raise _problem("combine says how several limit terms combine; this limit has one")
         return self
 
     @property
     def level(self) -> Value | None:
         """The absolute level, whichever key gave it."""
-        return self.level_w if self.level_w is not None else self.level_dbm
+        for v in (self.level_w, self.level_dbm, self.level_dbw):
+            if v is not None:
+                return v
+        return None
 
 
 class Region(_Table):
@@ -446,7 +619,14 @@ class Region(_Table):
     offset: Offset | None = Field(None, description="v2: the region as offsets from the carrier")
     start: Frequency | None = None
     stop: Frequency | None = None
-    detector: Literal["rms", "average", "peak", "any"] | None = None
+    include_start: StrictBool = Field(True, description="v3: start belongs to the region")
+    include_stop: StrictBool = Field(True, description="v3: stop belongs to the region")
+    may_be_empty: StrictBool = Field(
+        False, description="v3: a region whose start is not below its stop for a station lies outside the search range and is left out"
+    )
+    detector: Literal["rms", "average", "peak", "quasi-peak", "any"] | None = Field(
+        None, description="what the rule calls for; 'quasi-peak' (v3) is judged on a peak trace (conservative)"
+    )
     limit: Limit
     reference_bandwidth: tuple[ReferenceBand, ...] = ()
 
@@ -467,15 +647,49 @@ class Region(_Table):
             raise _problem("reference_bandwidth is missing; give at least one [[regions.reference_bandwidth]] table")
         if self.domain is not None and self.offset is not None:
             raise _problem("anchor a region on a domain or on offsets, not both")
-        if self.offset is not None or self.domain in ("out-of-band", "necessary"):
+        if self.domain in ("out-of-band", "necessary"):
             if where:
-                raise _problem("start/stop do not go with an offset or a domain other than 'spurious' (the anchor sets the range)")
+                raise _problem("start/stop do not go with a domain other than 'spurious' (the anchor sets the range)")
+        elif self.offset is not None:
+            if where == 1:
+                raise _problem("give both start and stop (the search range), or neither")
+            if self.offset.unbounded and where != 2:
+                raise _problem("a region beyond an offset (no 'to') needs start and stop: the search range")
         elif where != 2:
             what = "the spurious domain's search range" if self.domain == "spurious" else "the frequency range"
             raise _problem(f"give start and stop ({what})")
         if self.kind == "spurious" and self.domain in ("out-of-band", "necessary"):
             raise _problem(f"a spurious region cannot be anchored on the {self.domain} domain")
         return self
+
+    def v3_features(self) -> list[str]:
+        """The keys of this region that schema version 3 introduced."""
+        used = []
+        for key in ("include_start", "include_stop", "may_be_empty"):
+            if key in self.model_fields_set:
+                used.append(key)
+        if self.detector == "quasi-peak":
+            used.append("detector = 'quasi-peak'")
+        off = self.offset
+        if off is not None:
+            used += [f"offset.{k}" for k in ("origin", "include_from", "include_to") if k in off.model_fields_set]
+            if off.unbounded:
+                used.append("offset without 'to'")
+            if self.start is not None:
+                used.append("offset with start/stop")
+        lim = self.limit
+        used += [f"limit.{k}" for k in ("level_dbw", "density_dbm_per_hz", "field_uv_per_m", "field_dbuv_per_m",
+                                        "distance_m", "quantity", "combine") if k in lim.model_fields_set]
+        for j, band in enumerate(self.reference_bandwidth):
+            if band.whole_region:
+                used.append(f"reference_bandwidth[{j}] without start/stop")
+            if "narrower_rbw" in band.model_fields_set:
+                used.append(f"reference_bandwidth[{j}].narrower_rbw")
+        for key, v in (("limit.attenuation_db", lim.attenuation_db), ("limit.level_w", lim.level_w),
+                       ("limit.level_dbm", lim.level_dbm), ("start", self.start), ("stop", self.stop)):
+            if v is not None and v.names & _V3_VARIABLES:
+                used.append(f"{key} uses {sorted(v.names & _V3_VARIABLES)}")
+        return used
 
     @field_validator("stop")
     @classmethod
@@ -489,10 +703,12 @@ class Region(_Table):
     @field_validator("reference_bandwidth")
     @classmethod
     def _no_overlap(cls, bands):
+        if any(b.whole_region for b in bands) and len(bands) > 1:
+            raise _problem("a reference bandwidth without start/stop covers the whole region; it goes alone")
         fixed = [
             (b.start.constant(), b.stop.constant(), i)
             for i, b in enumerate(bands)
-            if b.start.is_constant and b.stop.is_constant
+            if not b.whole_region and b.start.is_constant and b.stop.is_constant
         ]
         fixed.sort()
         for (a0, a1, i), (b0, b1, j) in zip(fixed, fixed[1:]):
@@ -506,7 +722,7 @@ class Region(_Table):
 
 
 class Mask(_Table):
-    """One validated mask file (schema v1).
+    """One validated mask file (schema v1 to v3).
 
     Load it with :func:`maskcheck.masks.load_mask`; the loader records the
     file's path and SHA-256 (:attr:`path`, :attr:`sha256`).
@@ -547,6 +763,29 @@ class Mask(_Table):
                 "(at most 80 characters), e.g. 'us-amateur-hf-2003'"
             )
         return value
+
+    @model_validator(mode="after")
+    def _v3_keys(self):
+        if self.reference_power.kind == "none":
+            for i, r in enumerate(self.regions):
+                if r.limit.attenuation_db is not None:
+                    raise _problem(
+                        f"regions[{i}].limit.attenuation_db: reference_power.kind = 'none' has no reference to "
+                        "attenuate below; give an absolute limit, or name the reference power"
+                    )
+        if self.schema_version >= 3:
+            return self
+        used = []
+        rp = self.reference_power
+        if rp.kind not in ("mean", "pep"):
+            used.append(f"reference_power.kind = {rp.kind!r}")
+        used += [f"reference_power.{k}" for k in ("bandwidth", "note") if k in rp.model_fields_set]
+        used += [f"applies.{k}" for k in ("when", "variant") if k in self.applies.model_fields_set]
+        for i, r in enumerate(self.regions):
+            used += [f"regions[{i}].{u}" for u in r.v3_features()]
+        if used:
+            raise _problem(f"schema_version {self.schema_version} does not know " + "; ".join(used) + "; set schema_version = 3")
+        return self
 
     @model_validator(mode="after")
     def _v2_keys(self):
