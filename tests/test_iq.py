@@ -473,3 +473,17 @@ def test_reading_a_large_file_stays_within_bounded_memory(tmp_path):
     assert rs.spectrum.reference["estimation"]["samples_total"] == 256 * block
     assert peak < 16 * 2**20
     assert peak < 256 * block * 8 / 4  # negative control: a quarter of the file as complex64
+
+
+def test_sigmf_archive_reads_like_its_dataset(tmp_path):
+    # Reference library: sigmf (SigMFFile.tofile(..., toarchive=True) writes the tar archive)
+    x = _signal(1 << 15)
+    data = tmp_path / "a.sigmf-data"
+    x.tofile(data)
+    meta = sigmf.SigMFFile(data_file=str(data), global_info={sigmf.DATATYPE_KEY: "cf32_le", sigmf.SAMPLE_RATE_KEY: FS})
+    meta.add_capture(0, metadata={sigmf.FREQUENCY_KEY: FC})
+    meta.tofile(str(tmp_path / "packed"), toarchive=True)
+    rec = open_recording(tmp_path / "packed.sigmf")
+    assert rec.data_offset > 0 and rec.num_samples == x.size  # the samples are read in place inside the tar
+    ours = np.concatenate([b.copy() for b in rec.blocks(block_samples=5000)])
+    np.testing.assert_array_equal(ours, x)
