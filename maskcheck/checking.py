@@ -279,6 +279,8 @@ def check(
             f"the mask is for emission classes {', '.join(mask.applies.emission_classes)}, the emission is "
             f"{nb.emission_class}; the result cannot be a pass"
         )
+    # measurement setup and corrections (issue 7): why corrected-away ranges are missing
+    setup_info, corrections = _setup_record(spectrum, regions, warnings)
     verdict = combine_verdicts([r.verdict for r in regions])
     if not ok and verdict in ("pass", "marginal"):
         verdict = "incomplete"
@@ -321,7 +323,28 @@ def check(
         necessary_bandwidth=None if nb is None else nb.to_dict(),
         domains=[] if dom is None else [d.to_dict() for d in dom.spans(*_domain_extent(spectrum, regions, dom))],
         domain_boundary=None if dom is None else {**dom.boundary.to_dict(), "source": rule_source, "notes": list(dom.notes)},
+        setup=setup_info,
+        corrections=corrections,
     )
+
+
+def _setup_record(spectrum, regions, warnings):
+    """The setup and corrections a corrected spectrum carries (issue 7; see :mod:`maskcheck.io.setup`).
+
+    A range that the corrections left out (a table does not reach it) is
+    already uncovered, so its region is ``incomplete``; here each such
+    region is told why, naming the table and the range it covers.
+    """
+    ref = spectrum.reference
+    if "corrections" not in ref:
+        return (dict(ref["setup"]) if "setup" in ref else None), None
+    corrections = dict(ref["corrections"])
+    for gap in corrections.get("removed_hz", ()):
+        for r in regions:
+            if any(a < gap["stop_hz"] and b > gap["start_hz"] for a, b in r.uncovered_hz) and gap["reason"] not in r.reasons:
+                r.reasons.append(gap["reason"])
+    warnings.extend(corrections.get("warnings", ()))
+    return (dict(ref["setup"]) if "setup" in ref else None), corrections
 
 
 def _emission(spectrum, mask, station, necessary, authorized, exclude_hz, obw_beta, warnings):

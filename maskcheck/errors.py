@@ -21,6 +21,7 @@ __all__ = [
     "TraceError",
     "RecordingError",
     "CorrectionError",
+    "SetupError",
     "MaskError",
     "StationError",
     "OutputError",
@@ -75,6 +76,18 @@ class RecordingError(MaskcheckError, ValueError):
 
 class CorrectionError(MaskcheckError, ValueError):
     """A malformed correction table, or one that does not cover the spectrum."""
+
+
+class SetupError(MaskcheckError, ValueError):
+    """A malformed measurement-setup file (instrument, chain, antenna factors).
+
+    ``problems`` holds every problem found (all are reported at once, each
+    naming the file and the TOML key path); the message joins them.
+    """
+
+    def __init__(self, message: str, *, path=None, where=None, problems=None):
+        super().__init__(message, path=path, where=where)
+        self.problems = list(problems) if problems else [str(self)]
 
 
 class MaskError(MaskcheckError, ValueError):

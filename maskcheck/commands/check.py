@@ -20,6 +20,7 @@ def register(sub) -> None:
     c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier, an explicit override (default: the out-of-band domain of the emission, else the mask's)")
     c.add_argument("--authorized-bw", metavar="BW|necessary", help="authorised bandwidth: the occupied bandwidth must not exceed it ('necessary': the necessary bandwidth)")
     add_emission_options(c)
+    c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
     c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
@@ -58,6 +59,7 @@ def run(args) -> int:
     within = parse_db(args.list_within, what="--list-within")
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    setup = _read_setup(args)
     from ._recording import choose_trace, read_input, worst_frame_check
 
     got = read_input(args.traces, args, trace=choose_trace(args, mask))
@@ -67,9 +69,13 @@ def run(args) -> int:
     except SpectrumError as exc:
         raise TraceError(f"cannot join the traces: {exc.message}", path=" + ".join(args.traces)) from None
     inputs = got.inputs
+    if setup is not None:
+        inputs = [*inputs, InputFile(setup.path, setup.sha256)]
     from ..checking import check
 
     def judge(s):
+        if setup is not None:
+            s = setup.apply(s)
         return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
                      necessary=necessary, authorized_bw_hz=authorized)
 
@@ -78,6 +84,18 @@ def run(args) -> int:
     result = worst_frame_check(result, got, judge)
     _write_outputs(result, args)
     return result.exit_code
+
+
+def _read_setup(args):
+    """The ``--setup`` file, read before any work (issue 7); None without one."""
+    if not getattr(args, "setup", None):
+        return None
+    from ..errors import SetupError
+    from ..io.setup import read_setup
+
+    if getattr(args, "correction", None):
+        raise SetupError("give the chain in --setup or a --correction table, not both (the losses would be added twice)", where="--correction")
+    return read_setup(args.setup)
 
 
 def _write_outputs(result, args) -> None:

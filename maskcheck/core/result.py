@@ -200,6 +200,10 @@ class CheckResult:
     domains: list = field(default_factory=list)
     #: the out-of-band / spurious boundary applied (rule, offset, verified)
     domain_boundary: dict | None = None
+    #: the measurement setup used (issue 7: instrument, chain, antenna), None without one
+    setup: dict | None = None
+    #: the corrections applied to the readings (what, where, what was left out), None without a setup
+    corrections: dict | None = None
     #: the whole trace as read (for plots; not in the JSON)
     trace: Curve | None = field(default=None, repr=False)
 
@@ -239,4 +243,6 @@ class CheckResult:
             "necessary_bandwidth": None if self.necessary_bandwidth is None else dict(self.necessary_bandwidth),
             "domains": [dict(d) for d in self.domains],
             "domain_boundary": None if self.domain_boundary is None else dict(self.domain_boundary),
+            "setup": None if self.setup is None else dict(self.setup),
+            "corrections": None if self.corrections is None else dict(self.corrections),
         }
