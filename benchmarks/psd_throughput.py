@@ -182,7 +182,7 @@ def main(argv=None) -> int:
         _run_child("write", str(rec), str(args.samples))
         print(f"  written in {time.perf_counter() - t0:.1f} s; Hann, segment {NPERSEG}, overlap {NOVERLAP}; {os.cpu_count()} CPUs")
         ours = _run_child("maskcheck", str(rec), str(tmp / "ours.npy"), str(args.repeat), "nohash")
-        hashed = _run_child("maskcheck", str(rec), "", "1", "hash")
+        hashed = _run_child("maskcheck", str(rec), "", str(args.repeat), "hash")
         ref = _run_child("welch", str(rec), str(tmp / "ref.npy"))
         fft = _run_child("fft", str(args.samples), str(args.repeat))
         a, b = np.load(tmp / "ours.npy"), np.load(tmp / "ref.npy")
