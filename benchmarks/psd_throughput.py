@@ -75,6 +75,9 @@ def write_recording(path: Path, samples: int, chunk: int = 1 << 22, seed: int = 
                 phase[i] *= steps[i]
             fh.write(x[:k].tobytes())
             done += k
+        # on disk before anything is timed: write-back running during a measurement slows it
+        fh.flush()
+        os.fsync(fh.fileno())
 
 
 def _peak_rss_mib() -> float:
