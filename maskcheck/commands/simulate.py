@@ -32,7 +32,7 @@ def run(args) -> int:
     from ..core.units import format_frequency, format_power, parse_db
     from ..io.iq_write import write_sigmf
     from ..io.output import check_writable
-    from ..io.trace_write import split_spans, write_spans
+    from ..io.trace_write import write_spans
     from ..sim.scenario import load_scenario, run_scenario
     from .check import _write_outputs
 
@@ -60,14 +60,14 @@ def run(args) -> int:
     sim = run_scenario(sc, path=args.scenario)
     notes = [f"SIMULATED by maskcheck from scenario {args.scenario} (sha256 {sha}): {sc.name}",
              "a simulation, not a measurement of any real equipment"]
-    spans = split_spans(sim.wideband.spectrum)
+    spans = sim.wideband.spans
     for i in range(len(spans)):
         check_writable(out / f"wideband-{i + 1:0{max(2, len(str(len(spans))))}d}.txt", args.force)
     fund = sim.fundamental
     write_sigmf(out / "fundamental", fund.iq, fund.sample_rate_hz, fund.carrier_hz,
                 description=f"Simulated fundamental zone of scenario {sc.name!r} (maskcheck simulate; not a measurement).",
                 notes=list(fund.notes), force=args.force)
-    paths = write_spans(out, sim.wideband.spectrum, stem="wideband", notes=notes, force=args.force)
+    paths = write_spans(out, spans, stem="wideband", notes=notes, force=args.force)
     to_stdout = args.json == "-"
     if not args.quiet:
         con = console(stderr=to_stdout)

@@ -65,14 +65,14 @@ def write_sigmf(stem, iq, sample_rate_hz: float, centre_hz: float, *, full_scale
     text = (f"{description} Full scale (a complex tone of amplitude 1) is {dbm:.6f} dBm at the antenna port: "
             f"read it with --full-scale {dbm:.6f}dBm.").strip()
     meta = sigmf.SigMFFile(global_info={
-        sigmf.SigMFFile.DATATYPE_KEY: "cf32_le",
-        sigmf.SigMFFile.SAMPLE_RATE_KEY: float(sample_rate_hz),
-        sigmf.SigMFFile.DESCRIPTION_KEY: text,
-        sigmf.SigMFFile.RECORDER_KEY: "maskcheck simulate",
+        sigmf.DATATYPE_KEY: "cf32_le",
+        sigmf.SAMPLE_RATE_KEY: float(sample_rate_hz),
+        sigmf.DESCRIPTION_KEY: text,
+        sigmf.RECORDER_KEY: "maskcheck simulate",
     })
-    meta.add_capture(0, metadata={sigmf.SigMFFile.FREQUENCY_KEY: float(centre_hz)})
+    meta.add_capture(0, metadata={sigmf.FREQUENCY_KEY: float(centre_hz)})
     for note in notes:
-        meta.add_annotation(0, samples.size, metadata={sigmf.SigMFFile.COMMENT_KEY: str(note)})
+        meta.add_annotation(0, samples.size, metadata={sigmf.COMMENT_KEY: str(note)})
     meta.validate()
     write_atomic(data_path, samples.tobytes(), force=force)
     write_atomic(meta_path, meta.dumps(pretty=True), force=force)

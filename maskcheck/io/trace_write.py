@@ -63,8 +63,11 @@ def split_spans(spectrum: Spectrum) -> list[Spectrum]:
     return out
 
 
-def write_spans(folder, spectrum: Spectrum, *, stem: str = "trace", notes=(), force: bool = False) -> list:
+def write_spans(folder, spectrum, *, stem: str = "trace", notes=(), force: bool = False) -> list:
     """Write each span of ``spectrum`` to its own trace file ``STEM-NN.txt`` in ``folder``.
+
+    ``spectrum`` is a stitched Spectrum (each of its spans is written) or a
+    sequence of single-span Spectra, e.g. the pieces before stitching.
 
     Every target is checked before the first is written, so an existing
     file (without ``force``) leaves nothing written.  Read the files back
@@ -75,7 +78,7 @@ def write_spans(folder, spectrum: Spectrum, *, stem: str = "trace", notes=(), fo
 
     from .output import check_writable
 
-    spans = split_spans(spectrum)
+    spans = split_spans(spectrum) if isinstance(spectrum, Spectrum) else list(spectrum)
     width = max(2, len(str(len(spans))))
     paths = [Path(folder) / f"{stem}-{i + 1:0{width}d}.txt" for i in range(len(spans))]
     for p in paths:

@@ -577,6 +577,9 @@ def _chain_problems(sc: Scenario) -> list[str]:
         _output_filter(sc)
     except ValueError as exc:
         out.append(_where("output_filter", exc))
+    if sc.analysis.rbw >= 1e3:
+        out.append(f"analysis.rbw: {sc.analysis.rbw:g} Hz is not below 1 kHz, the finest cells of the floor between "
+                   "the zones (expected an RBW under 1 kHz)")
     # the estimate must fit the record
     try:
         plan = plan_welch(zone_fs, window=sc.analysis.window, rbw_hz=sc.analysis.rbw, overlap=sc.analysis.overlap)

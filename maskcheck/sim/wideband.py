@@ -20,12 +20,12 @@ design and a measurement are judged by one ruler:
 4. the DC zone (a real signal) is folded onto positive frequencies;
 5. a noise floor of a stated density is added everywhere (the simulated
    transmitter is noiseless; the floor stands for the analyser's noise
-   referred to the antenna port, so that no reading is zero), and the gaps
-   between the zones are filled with that floor in reference-bandwidth-sized
-   cells, so the spectrum covers the whole range without a hole.
+   referred to the antenna port, so that no reading is zero), and the whole
+   range is also covered by spans of that floor alone in
+   reference-bandwidth-sized cells, so the spectrum has no hole.
 
-The result is stitched with :func:`maskcheck.core.spectrum.stitch`: one span
-per zone and one per gap.
+The pieces are joined by :func:`maskcheck.core.spectrum.stitch`: where a zone
+(fine RBW) lies over the floor spans (coarse cells), the zone wins.
 
 References
 ----------
@@ -76,12 +76,17 @@ class WidebandResult:
         The factor applied to every zone's power to reach the stated power.
     zone_powers_w : dict of int to float
         Power of each zone at the antenna port after the output filter, W.
+    spans : tuple of Spectrum
+        The pieces before stitching (zones and floor), in frequency order:
+        written as trace files and read back together, they stitch to
+        ``spectrum`` exactly.
     """
 
     spectrum: Spectrum
     fundamental: Baseband
     scale_w: float
     zone_powers_w: dict
+    spans: tuple = ()
 
 
 def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, response=None,
@@ -134,33 +139,45 @@ def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, respon
     return Spectrum(f_rf, p, enbw, enbw, detector="rms", reference=ref)
 
 
-def floor_cells(start_hz: float, stop_hz: float, floor_w_per_hz: float) -> list[Spectrum]:
-    """Spectra of the bare floor tiling ``[start_hz, stop_hz]`` exactly, cell widths from :data:`FILL_BANDS_HZ`.
+def floor_cells(start_hz: float, stop_hz: float, floor_w_per_hz: float, *, below_hz: float | None = None,
+                above_hz: float | None = None) -> list[Spectrum]:
+    """Spectra of the bare floor tiling ``[start_hz, stop_hz]``, cell widths from :data:`FILL_BANDS_HZ`.
 
-    One Spectrum per frequency range crossed; within one, the cells are of
-    equal width, no wider than that range's width, and meet end to end.
+    One Spectrum per frequency range crossed, of equal cells no wider than
+    that range's width.  Where two of them meet, the upper (coarser) one
+    carries one extra point just inside the lower one; likewise the first
+    carries a point at ``below_hz`` and the last one at ``above_hz`` (a
+    frequency inside the finer spans that border the gap, if any).
+    :func:`~maskcheck.core.spectrum.stitch` drops those points and makes the
+    cells meet the finer span's edge exactly, so no hair-thin gap is left by
+    rounding -- also after a round trip through trace files.
 
     Examples
     --------
     >>> [len(s) for s in floor_cells(100e3, 200e3, 1e-18)]
-    [50, 5]
+    [50, 6]
     """
     out = []
-    lo = float(start_hz)
+    lo_band = float(start_hz)
+    prev_step = None
     for edge, width in FILL_BANDS_HZ:
-        if lo >= stop_hz:
+        if lo_band >= stop_hz:
             break
-        if lo >= edge:
+        if lo_band >= edge:
             continue
-        hi = min(edge, float(stop_hz))
-        if hi > lo:
-            n = max(1, math.ceil((hi - lo) / width - 1e-9))
-            step = (hi - lo) / n
-            f = lo + step * (np.arange(n) + 0.5)
-            out.append(Spectrum(f, np.full(n, floor_w_per_hz * step), step, step, detector="rms",
-                                reference={"source": f"simulated floor {lo:g}-{hi:g} Hz"},
-                                span_edges_hz=((lo, hi),)))
-        lo = hi
+        hi_band = min(edge, float(stop_hz))
+        n = max(1, math.ceil((hi_band - lo_band) / width - 1e-9))
+        step = (hi_band - lo_band) / n
+        f = lo_band + step * (np.arange(n) + 0.5)
+        extra_lo = (below_hz if prev_step is None else lo_band - prev_step / 2)
+        extra_hi = above_hz if hi_band >= stop_hz else None
+        parts = ([np.array([extra_lo])] if extra_lo is not None else []) + [f]
+        parts += [np.array([extra_hi])] if extra_hi is not None else []
+        f = np.concatenate(parts)
+        out.append(Spectrum(f, np.full(f.size, floor_w_per_hz * step), step, step, detector="rms",
+                            reference={"source": f"simulated floor {lo_band:.9g}-{hi_band:.9g} Hz"}))
+        lo_band = hi_band
+        prev_step = step
     return out
 
 
@@ -231,26 +248,30 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
         else:
             s = zone_spectrum(z, plan, scale_w=scale, response=response, floor_w_per_hz=floor, real=(n == 0),
                               workers=workers)
-            zone_powers[n] = float(np.sum(s.power_w - floor * plan.enbw_hz) / plan.enbw_bins)
+            zone_powers[n] = max(0.0, float(np.sum(s.power_w - floor * plan.enbw_hz) / plan.enbw_bins))
         lo_cov, hi_cov = s.coverage_hz[0]
         if hi_cov <= start or lo_cov >= stop:
             continue
         if lo_cov < start or hi_cov > stop:
-            s = s.between(start, stop)
+            # keep the cells that hold start_hz and stop_hz, so the ends stay covered
+            s = s.between(start - plan.bin_width_hz, stop + plan.bin_width_hz)
         pieces.append(s)
-    # the floor in every gap between the zones
-    cursor = start
-    for s in sorted(pieces, key=lambda s: s.freq_hz[0]):
+    # the floor in every gap between the zones (reaching into them, see floor_cells)
+    zones_sorted = sorted(pieces, key=lambda s: s.freq_hz[0])
+    cursor, below = start, None
+    for s in zones_sorted:
         lo_cov, hi_cov = s.coverage_hz[0]
         if lo_cov > cursor:
-            pieces.extend(floor_cells(cursor, lo_cov, floor))
-        cursor = max(cursor, hi_cov)
+            pieces.extend(floor_cells(cursor, lo_cov, floor, below_hz=below, above_hz=float(s.freq_hz[0])))
+        if hi_cov > cursor:
+            cursor, below = hi_cov, float(s.freq_hz[-1])
     if cursor < stop:
-        pieces.extend(floor_cells(cursor, stop, floor))
+        pieces.extend(floor_cells(cursor, stop, floor, below_hz=below))
     spectrum = stitch(pieces)
     ref = dict(spectrum.reference)
     ref.update(source="simulation", centre_hz=float(zones.carrier_hz), floor_dbm_per_hz=floor_dbm,
                estimation=fundamental_estimation)
     spectrum = Spectrum(spectrum.freq_hz, spectrum.power_w, spectrum.rbw_hz, spectrum.enbw_hz, detector="rms",
                         reference=ref, segments=spectrum.segments, span_edges_hz=spectrum.span_edges_hz)
-    return WidebandResult(spectrum, fund, scale, zone_powers)
+    spans = tuple(sorted(pieces, key=lambda s: float(s.freq_hz[0])))
+    return WidebandResult(spectrum, fund, scale, zone_powers, spans)

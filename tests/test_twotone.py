@@ -1,0 +1,72 @@
+"""The two-tone analysis against the closed forms of a polynomial amplifier."""
+
+import json
+import math
+
+import numpy as np
+import pytest
+
+from maskcheck.cli import main
+from maskcheck.core.estimate import plan_welch
+from maskcheck.core.twotone import ONE_TONE_BELOW_PEP_DB, analyse_two_tone
+from maskcheck.errors import SpectrumError
+from maskcheck.sim import Baseband, Polynomial, amplify
+from maskcheck.sim.wideband import zone_spectrum
+
+FS = 48000.0
+F1, F2 = 400.0, 1800.0  # Source: 47 CFR 2.1049(c)(2), the 3.0 kHz test pair
+
+
+def _two_tone_zone1(coeffs, amp_v, seconds=1.0):
+    t = np.arange(int(FS * seconds)) / FS
+    x = amp_v * (np.exp(2j * np.pi * F1 * t) + np.exp(2j * np.pi * F2 * t))  # peak envelope, V
+    bb = Baseband(x / math.sqrt(2.0), FS, 14.2e6)
+    z = amplify(bb, Polynomial(coeffs), max_harmonic=1)
+    return zone_spectrum(z[1], plan_welch(FS, rbw_hz=10.0), floor_w_per_hz=1e-20)
+
+
+def test_cubic_and_quintic_products_against_the_closed_form():
+    a1, a3, a5, amp = 1.0, -0.05, 0.01, 0.5
+    res = analyse_two_tone(_two_tone_zone1((a1, 0.0, a3, 0.0, a5), amp))
+    # Closed form (methods sheet 3.3, binomial expansion): each tone a1 A + 9/4 a3 A^3 + 25/4 a5 A^5,
+    # IM3 3/4 a3 A^3 + 25/8 a5 A^5, IM5 5/8 a5 A^5
+    tone = a1 * amp + 9 / 4 * a3 * amp**3 + 25 / 4 * a5 * amp**5
+    im3 = 3 / 4 * a3 * amp**3 + 25 / 8 * a5 * amp**5
+    im5 = 5 / 8 * a5 * amp**5
+    assert res.f1_hz == pytest.approx(14.2e6 + F1, abs=0.01)
+    assert res.spacing_hz == pytest.approx(F2 - F1, abs=0.01)
+    for k, want in ((3, im3), (5, im5)):
+        for p in (p for p in res.products if p.order == k):
+            assert p.dbc_tone == pytest.approx(20 * math.log10(abs(want / tone)), abs=0.05)
+    # nothing above the 5th order: the 7th and 9th products sit > 100 dB down (at the estimator's floor)
+    assert res.worst(7).dbc_tone < -100 and res.worst(9).dbc_tone < -100
+
+
+def test_pep_is_twice_the_mean_and_the_references_differ_by_6_02_db():
+    res = analyse_two_tone(_two_tone_zone1((1.0, 0.0, -0.02), 0.3))
+    # Closed form: two equal tones, PEP = (2A)^2/2 = 2 x mean (methods sheet 3.1)
+    assert 10 * math.log10(res.pep_w / res.mean_w) == pytest.approx(10 * math.log10(2.0), abs=0.01)
+    assert ONE_TONE_BELOW_PEP_DB == pytest.approx(6.0206, abs=1e-4)  # Closed form: 20 log10(2)
+    for p in res.products:
+        assert p.dbc_tone - p.dbc_pep == pytest.approx(20 * math.log10(2.0), abs=0.01)
+
+
+def test_a_single_tone_is_refused():
+    t = np.arange(48000) / FS
+    bb = Baseband(np.exp(2j * np.pi * 1000.0 * t), FS, 14.2e6)
+    s = zone_spectrum(bb, plan_welch(FS, rbw_hz=10.0), floor_w_per_hz=1e-20)
+    with pytest.raises(SpectrumError):
+        analyse_two_tone(s)
+
+
+def test_twotone_command_on_a_trace(tmp_path):
+    from maskcheck.io.trace_write import write_trace
+
+    s = _two_tone_zone1((1.0, 0.0, -0.05), 0.5)
+    write_trace(tmp_path / "tt.txt", s)
+    assert main(["twotone", str(tmp_path / "tt.txt"), "--json", str(tmp_path / "tt.json"), "--quiet"]) == 0
+    d = json.loads((tmp_path / "tt.json").read_text())
+    # Closed form: IM3 = 3/4 a3 A^3 against a tone of a1 A + 9/4 a3 A^3
+    want = 20 * math.log10(0.75 * 0.05 * 0.125 / (0.5 - 9 / 4 * 0.05 * 0.125))
+    assert d["worst"]["3"]["db_re_one_tone"] == pytest.approx(want, abs=0.05)
+    assert d["pep_to_mean_db"] == pytest.approx(3.0103, abs=0.01)  # Closed form: 10 log10(2)
