@@ -1,145 +1,194 @@
-"""``maskcheck demo``: an invented bench scenario, checked end to end.
+"""``maskcheck demo``: an invented bench scenario, simulated and checked end to end.
 
 EVERYTHING HERE IS INVENTED for demonstration: the station, the bench, the
-transmitter and every number.  It is no measurement of any real equipment.
+transmitters and every number.  It is no measurement and no model of any
+real equipment.
 
-The scenario: an imaginary home-built 40 m single-sideband transmitter
-("bench unit 7", invented) is keyed with the two-tone test of 47 CFR
-2.1049(c)(2) (400 Hz + 1800 Hz, upper sideband) at 100 W PEP, i.e. 50 W mean.
-Its output is swept through an imaginary 40 dB attenuator in four spans --
-9-150 kHz at 1 kHz RBW, 150 kHz-30 MHz at 10 kHz, 30-75 MHz at 100 kHz, and a
-zoom of +-50 kHz around the carrier at 100 Hz (so the overview's wide
-filter never sits on the carrier's skirt) -- and the levels are already corrected to
-the transmitter output.  The trace files are made by a small model of a swept
-analyser (a Gaussian resolution filter over a list of lines plus a noise
-floor), written in the maskcheck trace format, read back, stitched and judged
-against 47 CFR 97.307(d) (amateur, below 30 MHz).
+The scenario ("bench 7", invented) holds two transmitters, each described by
+a scenario file (see ``examples/`` and the README) and run by the simulator:
+
+* an imaginary home-built 40 m SSB exciter (filter method) and solid-state
+  amplifier, keyed with the 47 CFR 2.1049(c)(2) two-tone test at 100 W PEP,
+  judged against 47 CFR 97.307(d) (amateur, below 30 MHz);
+* an imaginary 2 m FM handheld, 5 W, whose amplifier makes a rather strong
+  second harmonic, judged against 47 CFR 97.307(e) (amateur, 30-225 MHz)
+  with a 1.5 dB guard band: its margin falls inside the guard band, so the
+  demo shows what a *marginal* result looks like.
+
+For each, the folder gets the scenario file, the fundamental as a SigMF
+recording, the wideband spectrum as trace files, a JSON result and a PDF
+report; ``demo-result.json`` sums both up.  The demo's exit code is 1 if a
+check fails and 0 otherwise (a marginal result is shown, not turned into
+exit code 3: the demo is a demonstration, not a compliance check).
 """
 
 from __future__ import annotations
 
-import math
+import json
 from pathlib import Path
 
-import numpy as np
+__all__ = ["DEMO_SCENARIOS", "run_demo"]
 
-from .core.spectrum import Spectrum
+_SSB = """# INVENTED demo scenario: imaginary home-built 40 m SSB transmitter "bench 7 SSB".
+# No real equipment is described; every number is made up.
+scenario_version = 1
+name = "bench 7 SSB: 40 m filter-method exciter and amplifier, two-tone test (invented)"
+description = "Two-tone 400 + 1800 Hz, 8-pole elliptic IF filter, Rapp amplifier 4 dB backed off, 7-pole Chebyshev low-pass, 100 W PEP."
 
-__all__ = ["demo_spans", "run_demo", "DEMO_CARRIER_HZ", "DEMO_MEAN_POWER_W", "DEMO_PEP_W"]
+[signal]
+carrier = "7.1 MHz"
+sample_rate = "48 kHz"
+duration = "1 s"
+seed = 7
 
-DEMO_CARRIER_HZ = 7.1e6
-DEMO_PEP_W = 100.0
-DEMO_MEAN_POWER_W = 50.0  # two equal tones: PEP = 2 x mean (methods sheet 3.1)
-DEMO_MASK = "us-amateur-hf-2003"
+[source]
+kind = "two-tone"
+test_pair = "3 kHz"
 
-#: noise bandwidth of a Gaussian filter per Hz of -3 dB bandwidth (methods sheet 1.4)
-GAUSS_ENBW = math.sqrt(math.pi / (4 * math.log(2)))
+[modulator]
+kind = "ssb-filter"
+sideband = "upper"
+imbalance = 0.004
 
-#: invented analyser floor referred to the transmitter output, dBm/Hz
-_FLOOR_DBM_PER_HZ = -112.0
+[amplifier]
+model = "rapp"
+smoothness = 2.0
+backoff = "4 dB"
+harmonics = [1.0, 0.04, 0.02, 0.004, 0.002]
+
+[output_filter]
+kind = "cheby1"
+order = 7
+cutoff = "8 MHz"
+ripple = "0.1 dB"
+
+[antenna]
+power = "100 W"
+power_kind = "pep"
+
+[check]
+mask = "us-amateur-hf-2003"
+designator = "2K70J3E"
+guard = "1.5 dB"
+"""
+
+_FM = """# INVENTED demo scenario: imaginary 2 m FM handheld "bench 7 FM".
+# No real equipment is described; every number is made up.
+scenario_version = 1
+name = "bench 7 FM: 2 m narrowband FM handheld (invented)"
+description = "1 kHz tone, 2.5 kHz deviation, 750 us pre-emphasis, saturated Rapp amplifier with a strong 2nd harmonic, 5-pole Chebyshev low-pass, 5 W."
+
+[signal]
+carrier = "146.52 MHz"
+sample_rate = "48 kHz"
+duration = "1 s"
+seed = 7
+
+[source]
+kind = "tone"
+frequency = "1 kHz"
+
+[modulator]
+kind = "fm"
+deviation = "2.5 kHz"
+pre_emphasis = "750 us"
+
+[amplifier]
+model = "rapp"
+smoothness = 3.0
+backoff = "-2 dB"
+harmonics = [1.0, 0.08, 0.04, 0.01]
+
+[output_filter]
+kind = "cheby1"
+order = 5
+cutoff = "165 MHz"
+ripple = "0.2 dB"
+
+[antenna]
+power = "5 W"
+power_kind = "mean"
+
+[check]
+mask = "us-amateur-vhf-30-225mhz"
+designator = "11K0F3E"
+guard = "1.5 dB"
+"""
+
+#: The demo's two invented transmitters: folder name -> scenario text.
+DEMO_SCENARIOS = {"ssb": _SSB, "fm": _FM}
+
+_NOTE = "INVENTED DEMO DATA - a simulation of imaginary equipment, not a measurement."
 
 
-def _lines() -> list[tuple[float, float]]:
-    """(frequency_hz, power_w) of every invented discrete emission."""
-    fc = DEMO_CARRIER_HZ
-    f1, f2 = fc + 400.0, fc + 1800.0
-    tone_w = DEMO_MEAN_POWER_W / 2.0
-    d = f2 - f1
-    lines = [(f1, tone_w), (f2, tone_w)]
-
-    def rel(db):
-        return tone_w * 10.0 ** (db / 10.0)
-
-    # odd-order products of the (invented) linear amplifier, dB below one tone
-    for k, db in ((1, -33.0), (2, -43.0), (3, -51.0)):
-        lines += [(f1 - k * d, rel(db)), (f2 + k * d, rel(db))]
-    lines += [(fc, rel(-52.0))]  # carrier leak of the balanced modulator
-    lines += [(fc - 400.0, rel(-56.0)), (fc - 1800.0, rel(-56.0))]  # opposite sideband
-    # harmonics after the (invented) low-pass filter, total dB below the mean power
-    mean_w = DEMO_MEAN_POWER_W
-    for n, db in ((2, -47.5), (3, -54.0), (4, -63.0), (5, -61.0), (6, -70.0), (7, -68.0), (8, -75.0), (9, -74.0), (10, -80.0)):
-        total = mean_w * 10.0 ** (db / 10.0)
-        lines += [(n * f1, total / 2.0), (n * f2, total / 2.0)]
-    # a leak of the (invented) 5.1 MHz VFO and of the 12.2 MHz mixer image
-    lines += [(5.1e6, mean_w * 10 ** (-66.0 / 10)), (12.2e6, mean_w * 10 ** (-58.0 / 10))]
-    return lines
-
-
-def _sweep(start_hz: float, stop_hz: float, rbw_hz: float, step_hz: float, lines, label: str) -> Spectrum:
-    """A model swept-analyser trace: Gaussian RBW over the lines, plus the floor."""
-    f = np.arange(start_hz, stop_hz + step_hz / 2, step_hz)
-    enbw = GAUSS_ENBW * rbw_hz
-    p = np.full(f.size, 10 ** ((_FLOOR_DBM_PER_HZ - 30) / 10) * enbw)
-    # invented transmitter noise: -70 dBm/Hz at the carrier, falling as 1/offset^2
-    p += 10 ** ((-70.0 - 30) / 10) * enbw * (5e3 / (np.abs(f - DEMO_CARRIER_HZ) + 5e3)) ** 2
-    for fl, pw in lines:
-        if start_hz - 5 * rbw_hz <= fl <= stop_hz + 5 * rbw_hz:
-            p += pw * np.exp(-4.0 * math.log(2) * (f - fl) ** 2 / rbw_hz**2)
-    return Spectrum(f, p, rbw_hz, enbw_hz=enbw, detector="rms", reference={"source": label})
-
-
-def demo_spans() -> list[tuple[str, Spectrum]]:
-    """The four invented spans: (file name, Spectrum)."""
-    lines = _lines()
-    fc = DEMO_CARRIER_HZ
-    return [
-        ("span1-9k-150k.txt", _sweep(9e3, 150e3, 1e3, 500.0, lines, "span1")),
-        ("span2-150k-30M.txt", _sweep(150e3, 30e6, 10e3, 5e3, lines, "span2")),
-        ("span3-30M-75M.txt", _sweep(30e6, 75e6, 100e3, 50e3, lines, "span3")),
-        ("span4-zoom-7.1M.txt", _sweep(fc - 50e3, fc + 50e3, 100.0, 50.0, lines, "span4")),
-    ]
+def _targets(out: Path, name: str, spans: int) -> list[Path]:
+    d = out / name
+    width = max(2, len(str(spans)))
+    return ([d / "scenario.toml", d / "fundamental.sigmf-meta", d / "fundamental.sigmf-data"]
+            + [d / f"wideband-{i + 1:0{width}d}.txt" for i in range(spans)]
+            + [out / f"demo-{name}-result.json", out / f"demo-{name}-report.pdf"])
 
 
 def run_demo(out_dir, *, force: bool = False, console=None) -> int:
-    """Write the invented traces into ``out_dir``, check them, write JSON and PDF.
-
-    Returns the exit code of the check (0 pass, 1 fail, 3 marginal/incomplete).
-    """
+    """Simulate and check the two invented transmitters into ``out_dir``; return 1 if one fails, else 0."""
     from .checking import check
     from .core.result import InputFile
-    from .core.spectrum import stitch
     from .core.station import Station
-    from .io.output import check_writable
-    from .io.trace_text import read_trace
-    from .io.trace_write import write_trace
+    from .io.iq_write import write_sigmf
+    from .io.output import check_writable, write_atomic
+    from .io.trace_write import write_spans
     from .masks.library import load_mask
     from .report.pdf import write_report
     from .report.tables import write_json
     from .report.terminal import render_check
+    from .sim.scenario import parse_scenario, run_scenario
+
+    import hashlib
 
     out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
-    spans = demo_spans()
-    targets = [out / name for name, _ in spans] + [out / "demo-result.json", out / "demo-report.pdf"]
-    for t in targets:
-        check_writable(t, force)
-    notes = [
-        "INVENTED DEMO DATA - not a measurement of any real equipment.",
-        "Scenario: imaginary home-built 40 m SSB transmitter 'bench unit 7', two-tone test 400 + 1800 Hz, 100 W PEP.",
-        "Levels corrected to the transmitter output (imaginary 40 dB attenuator).",
-    ]
-    paths = []
-    for (name, spec), path in zip(spans, targets):
-        write_trace(path, spec, notes=notes, force=force)
-        paths.append(path)
-    spectra = [read_trace(p) for p in paths]
-    spectrum = stitch(spectra)
-    station = Station(
-        carrier_hz=DEMO_CARRIER_HZ,
-        power_w=DEMO_MEAN_POWER_W,
-        pep_w=DEMO_PEP_W,
-        designator="2K70J3E",
-        name="bench unit 7 (invented demo station)",
-        notes=("invented scenario for the demo",),
-    )
-    mask = load_mask(DEMO_MASK)
-    inputs = [InputFile(str(s.reference["source"]), str(s.reference["sha256"])) for s in spectra]
-    result = check(spectrum, mask, station, guard_db=1.5, inputs=inputs)
+    sims = {}
+    for name, text in DEMO_SCENARIOS.items():
+        sc = parse_scenario(text, path=f"demo:{name}")
+        sims[name] = (sc, run_scenario(sc, path=f"demo:{name}"), text)
+    summary_path = out / "demo-result.json"
+    targets = [summary_path] + [t for name, (_, sim, _) in sims.items() for t in _targets(out, name, len(sim.wideband.spans))]
+    if out.exists():
+        for t in targets:
+            if t.parent.exists():
+                check_writable(t, force)
     if console is not None:
-        console.print("[bold]maskcheck demo[/bold]: an INVENTED bench scenario (no real equipment was measured)")
-        render_check(result, console)
-    write_json(result, targets[-2], force=force)
-    write_report(result, targets[-1], force=force)
+        console.print("[bold]maskcheck demo[/bold]: an INVENTED bench scenario, simulated (no real equipment was measured)")
+    summary = {"note": _NOTE, "checks": {}}
+    worst = 0
+    for name, (sc, sim, text) in sims.items():
+        d = out / name
+        d.mkdir(parents=True, exist_ok=True)
+        write_atomic(d / "scenario.toml", text, force=force)
+        fund = sim.fundamental
+        write_sigmf(d / "fundamental", fund.iq, fund.sample_rate_hz, fund.carrier_hz,
+                    description=f"{_NOTE} Fundamental zone of {sc.name!r}.", notes=list(fund.notes), force=force)
+        write_spans(d, sim.wideband.spans, stem="wideband", notes=[_NOTE, sc.name], force=force)
+        station = Station(carrier_hz=sim.carrier_hz, power_w=sim.mean_power_w, pep_w=sim.pep_w,
+                          designator=sc.check.designator, name=sc.name, notes=("invented scenario for the demo",))
+        digest = hashlib.sha256(text.encode()).hexdigest()
+        result = check(sim.wideband.spectrum, load_mask(sc.check.mask), station, guard_db=sc.check.guard or 0.0,
+                       inputs=[InputFile(str(d / "scenario.toml"), digest)])
+        if console is not None:
+            console.rule(sc.name)
+            render_check(result, console)
+        write_json(result, out / f"demo-{name}-result.json", force=force)
+        write_report(result, out / f"demo-{name}-report.pdf", force=force)
+        summary["checks"][name] = {"scenario": sc.name, "mask": sc.check.mask, "verdict": result.verdict,
+                                   "exit_code": result.exit_code,
+                                   "worst_margin_db": min((r.worst_margin_db for r in result.regions
+                                                           if r.worst_margin_db is not None), default=None)}
+        if result.verdict == "fail":
+            worst = 1
+    summary["verdict"] = "fail" if worst else "pass"
+    summary["exit_code"] = worst
+    summary["exit_rule"] = "1 if any check fails, else 0; marginal and incomplete results are shown, not turned into exit 3"
+    write_atomic(summary_path, json.dumps(summary, indent=2) + "\n", force=force)
     if console is not None:
-        console.print(f"written to {out}/: {', '.join(t.name for t in targets)}")
-    return result.exit_code
+        verdicts = ", ".join(f"{k}: {v['verdict']}" for k, v in summary["checks"].items())
+        console.print(f"demo: {verdicts}; written to {out}/")
+    return worst

@@ -166,10 +166,14 @@ def test_demo_runs_in_a_temporary_folder(tmp_path):
     out = tmp_path / "demo"
     rc = main(["demo", "--out", str(out)])
     assert rc in (0, 1)
-    assert (out / "demo-result.json").exists() and (out / "demo-report.pdf").exists()
-    assert list(out.glob("span*.txt"))
+    # two invented transmitters, simulated: each with its recording, traces, JSON and PDF
+    for name in ("ssb", "fm"):
+        assert (out / f"demo-{name}-result.json").exists() and (out / f"demo-{name}-report.pdf").exists()
+        assert list((out / name).glob("wideband-*.txt")) and (out / name / "fundamental.sigmf-meta").exists()
     d = json.loads((out / "demo-result.json").read_text())
-    assert d["verdict"] in ("pass", "fail")
+    assert d["verdict"] in ("pass", "fail") and d["exit_code"] == rc
+    # the demo shows a marginal result (the FM handheld inside its guard band)
+    assert "marginal" in {c["verdict"] for c in d["checks"].values()}
     # a second run refuses to overwrite, with --force it runs again
     assert main(["demo", "--out", str(out)]) == 2
     assert main(["demo", "--out", str(out), "--force"]) == rc
