@@ -345,3 +345,16 @@ def test_setup_and_correction_table_together_are_refused(tmp_path, capsys):
     rc = main(["check", str(_cli_trace(tmp_path)), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W",
                "--setup", str(setup), "--correction", str(setup), "--quiet"])
     assert rc == 2 and "not both" in capsys.readouterr().err
+
+
+def test_the_invented_example_setups_read():
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent / "examples" / "setups"
+    conducted = read_setup(root / "bench-hf-conducted.toml")
+    radiated = read_setup(root / "bench-radiated.toml")
+    assert "invented" in conducted.file.name and "invented" in radiated.file.name
+    # Closed form: 40 dB + the cable's 0.15 dB row at 10 MHz
+    off, known = conducted.offset_db([10e6])
+    assert known[0] and off[0] == pytest.approx(40.15, abs=1e-12)
+    assert radiated.radiated and radiated.file.radiated.distance_m == 3.0

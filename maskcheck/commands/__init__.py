@@ -6,4 +6,4 @@ exit code.  Modules import their heavy dependencies inside ``run``.
 """
 
 #: modules in the order ``maskcheck --help`` lists them
-COMMANDS = ("check", "spectrum", "bandwidth", "designator", "simulate", "twotone", "masks", "demo")
+COMMANDS = ("check", "plan", "spectrum", "bandwidth", "designator", "simulate", "twotone", "masks", "demo")
