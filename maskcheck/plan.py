@@ -120,7 +120,7 @@ class PlanRange:
     floor_needed_dbm_per_hz: float | None = None
     #: the instrument's floor in the reference bandwidth (from the setup's noise density)
     instrument_floor_dbm: float | None = None
-    #: sweep points needed so that no two lie farther apart than the RBW
+    #: sweep points needed so that no two lie farther apart than the reference bandwidth (used as the RBW)
     points_needed: int | None = None
     notes: list[str] = field(default_factory=list)
 
@@ -434,9 +434,10 @@ def _range_row(lim, lo, hi, setup, extra_loss_db, floor_margin_db, ins) -> PlanR
         )
     if ins is not None and ins.noise_density is not None and rbw is not None:
         row.instrument_floor_dbm = float(ins.noise_density + 10.0 * math.log10(rbw))
-    sweep_rbw = ins.rbw if ins is not None and ins.rbw is not None else rbw
-    if sweep_rbw:
-        row.points_needed = int(math.ceil((hi - lo) / sweep_rbw)) + 1
+    if rbw:
+        # with the reference bandwidth as the RBW (the setting the plan recommends)
+        row.points_needed = int(math.ceil((hi - lo) / rbw)) + 1
+    if rbw:
         if ins is not None and ins.rbw is not None and rbw is not None and abs(ins.rbw - rbw) > 1e-6 * rbw:
             row.notes.append(
                 f"setup RBW {format_frequency(ins.rbw)} "

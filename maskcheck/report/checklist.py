@@ -187,8 +187,14 @@ class _Checklist:
         checks = ["Transmitter into a dummy load rated for its power; attenuator or sampling tap rated for the power in line."]
         if f.get("peak_at_input_dbm") is not None:
             safe = f.get("max_safe_input_dbm")
-            checks.append(f"Fundamental at the analyser input about {f['peak_at_input_dbm']:.1f} dBm peak"
-                          + (f", below the maximum safe input of {safe:.1f} dBm." if safe is not None else ": compare it with the analyser's rating."))
+            at = f["peak_at_input_dbm"]
+            if safe is None:
+                tail = ": compare it with the analyser's rating."
+            elif at > safe:
+                tail = f", ABOVE the maximum safe input of {safe:.1f} dBm: add attenuation first."
+            else:
+                tail = f", {safe - at:.1f} dB below the maximum safe input of {safe:.1f} dBm."
+            checks.append(f"Fundamental at the analyser input about {at:.1f} dBm peak{tail}")
         checks.append("Reference level above the fundamental at the input; input attenuation set before connecting.")
         checks.append("Every part of the chain in the order the setup lists it; losses measured at the frequencies swept.")
         out = [self.p("Before keying up", "head")]
@@ -219,10 +225,10 @@ class _Checklist:
                 self.p("-" if r.reference_bandwidth_hz is None else format_frequency(r.reference_bandwidth_hz), "cellr"),
                 self.p(r.detector, "cell"), self.p(_num(r.limit_dbm), "cellr"), self.p(loss, "cellr"),
                 self.p(_num(r.limit_at_input_dbm), "cellr"), self.p(_num(r.floor_needed_dbm), "cellr"),
-                self.p("-" if r.points_needed is None else f">= {r.points_needed}", "cellr"), self.p(notes or r.region, "cell"),
+                self.p("-" if r.points_needed is None else f">= {r.points_needed}", "cellr"), self.p(notes or f"{r.region} region", "cell"),
             ])
         w = self.width
-        widths = [6 * mm] + [x * (w - 6 * mm) for x in (0.09, 0.09, 0.08, 0.07, 0.09, 0.08, 0.11, 0.11, 0.08, 0.20)]
+        widths = [6 * mm] + [x * (w - 6 * mm) for x in (0.085, 0.085, 0.075, 0.07, 0.085, 0.11, 0.105, 0.09, 0.085, 0.21)]
         t = Table(data, colWidths=widths, repeatRows=1)
         style = [("VALIGN", (0, 0), (-1, -1), "TOP"), ("LINEBELOW", (0, 0), (-1, 0), 0.8, BAND),
                  ("LINEBELOW", (0, 1), (-1, -1), 0.25, LINE), ("TOPPADDING", (0, 0), (-1, -1), 1.8),
@@ -231,7 +237,7 @@ class _Checklist:
         t.setStyle(TableStyle(style))
         caption = (f"Levels are the {pl.quantity}, in the reference bandwidth. Limit at input = limit - loss (the most stringent "
                    f"value over the range). Floor needed = limit at input - {pl.floor_margin_db:g} dB. Points: sweep points so that "
-                   "no two lie farther apart than the RBW (or use a peak detector).")
+                   "no two lie farther apart than the reference bandwidth used as RBW (or use a peak detector).")
         return [self.p("Ranges to sweep", "head"), t, Spacer(1, 2), self.p(caption, "small")]
 
     def harmonics(self):

@@ -471,6 +471,9 @@ def _where(section: str, exc: Exception) -> str:
     msg = str(exc)
     m = re.match(r"^([a-z_0-9]+)(?:\[\d+\])?=", msg)
     key = _PARAM_KEYS.get(m.group(1)) if m else None
+    if key is None:  # "a cheby2 filter needs stopband_db ...": the first parameter named anywhere
+        names = [n for n in re.findall(r"[a-z_0-9]+", msg) if n in _PARAM_KEYS and "_" in n]
+        key = _PARAM_KEYS[names[0]] if names else None
     return f"{section}.{key}: {msg}" if key else f"{section}: {msg}"
 
 
