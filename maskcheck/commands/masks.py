@@ -1,26 +1,47 @@
-"""``maskcheck masks``: list, show and validate masks."""
+"""``maskcheck masks``: list, show, plot, validate masks, and print the file format's JSON Schema.
+
+``show`` with a station (``--power``, and ``--carrier`` / ``--bandwidth``
+where the mask needs them) prints the evaluated limit of every region: the
+formula as the mask file writes it and its value for that station.
+``plot`` draws the same limits with reportlab graphics, as PDF or SVG.
+"""
 
 from __future__ import annotations
 
+import json
+import math
 import sys
 
 from ..errors import MaskcheckError
 from ._common import Parser, console
 
-__all__ = ["register", "run"]
+__all__ = ["register", "run", "evaluated_rows", "mask_drawing"]
 
 
 def register(sub) -> None:
-    m = sub.add_parser("masks", help="list, show or validate masks")
+    m = sub.add_parser("masks", help="list, show, plot or validate masks; print the mask-file JSON Schema")
     msub = m.add_subparsers(dest="masks_command", metavar="ACTION", parser_class=Parser)
     ml = msub.add_parser("list", help="the masks available")
     ml.add_argument("--mask-dir", action="append", default=[], metavar="DIR")
-    ms = msub.add_parser("show", help="one mask in detail")
-    ms.add_argument("mask", metavar="ID|FILE")
-    ms.add_argument("--mask-dir", action="append", default=[], metavar="DIR")
+    ml.add_argument("--authority", metavar="NAME", help="only masks of this authority (FCC, ITU, CEPT, ETSI, ...)")
+    ml.add_argument("--service", metavar="NAME", help="only masks of this service (amateur, land-mobile, ...)")
+    ml.add_argument("--frequency", metavar="F", help="only masks whose carrier range holds this frequency, e.g. 146MHz")
+    ml.add_argument("--json", action="store_true", help="the list as JSON on standard output")
+    for name, text in (("show", "one mask in detail; with --power, its limits evaluated for that station"),
+                       ("plot", "draw a mask's limits for a station (PDF or SVG)")):
+        sp = msub.add_parser(name, help=text)
+        sp.add_argument("mask", metavar="ID|FILE")
+        sp.add_argument("--mask-dir", action="append", default=[], metavar="DIR")
+        sp.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 5W or 37dBm")
+        sp.add_argument("--pep", metavar="P", help="peak envelope power (PEP-referenced rules)")
+        sp.add_argument("--carrier", metavar="F", help="carrier frequency (default: the middle of the mask's carrier range)")
+        sp.add_argument("--bandwidth", "--authorized-bw", dest="bandwidth", metavar="BW", help="authorised bandwidth, e.g. 12.5kHz (percentage steps need it)")
+        if name == "plot":
+            sp.add_argument("--out", required=True, metavar="FILE.pdf|FILE.svg", help="where to draw (PDF or SVG, by the name's ending)")
+            sp.add_argument("--force", action="store_true", help="replace an existing file")
     mv = msub.add_parser("validate", help="check mask files and report every problem")
     mv.add_argument("files", nargs="+", metavar="FILE")
-
+    msub.add_parser("schema", help="the JSON Schema of mask files (for editors)")
     m.set_defaults(run=run)
 
 
@@ -28,23 +49,24 @@ def run(args) -> int:
     from ..masks.library import list_masks, load_mask, validate_mask_file
 
     con = console()
-    if args.masks_command == "list":
-        from rich.markup import escape
+    cmd = args.masks_command
+    if cmd == "list":
+        return _list(args, con, list_masks)
+    if cmd == "show":
+        mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+        if args.power is None:
+            from ..report.terminal import render_mask
 
-        masks = list_masks(extra_dirs=args.mask_dir)
-        for m in masks:
-            flag = "verified" if m.provenance.verified else "not verified against the official text"
-            con.print(f"[bold]{escape(m.id)}[/bold]  {escape(m.provenance.authority)} {escape(m.provenance.citation)}  ({flag})", soft_wrap=True)
-            con.print(f"    {escape(m.title)}")
-        con.print(f"{len(masks)} masks; 'maskcheck masks show ID' for one in detail")
+            render_mask(mask, con)
+            return 0
+        _show_evaluated(mask, _station(args, mask), con)
         return 0
-    if args.masks_command == "show":
-        m = load_mask(args.mask, extra_dirs=args.mask_dir)
-        from ..report.terminal import render_mask
-
-        render_mask(m, con)
-        return 0
-    if args.masks_command == "validate":
+    if cmd == "plot":
+        mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+        if args.power is None:
+            raise MaskcheckError("plotting a mask needs the station's power: give --power (e.g. --power 5W)", where="--power")
+        return _plot(mask, _station(args, mask), args.out, args.force, con)
+    if cmd == "validate":
         bad = 0
         for f in args.files:
             try:
@@ -53,8 +75,268 @@ def run(args) -> int:
                 bad += 1
                 print(str(exc), file=sys.stderr)
             else:
-                con.print(f"{f}: valid ({m.id}, {m.provenance.citation})")
+                flag = "" if m.provenance.verified else "; rule data not verified against the official text"
+                con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)
         return 2 if bad else 0
-    raise MaskcheckError("say which: 'maskcheck masks list', 'masks show ID' or 'masks validate FILE'", where="masks")
+    if cmd == "schema":
+        from ..masks import mask_json_schema
+
+        print(json.dumps(mask_json_schema(), indent=2, ensure_ascii=False))
+        return 0
+    raise MaskcheckError(
+        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE' or 'masks schema'",
+        where="masks",
+    )
 
 
+# -- list ----------------------------------------------------------------------------------
+def _list(args, con, list_masks) -> int:
+    from rich.markup import escape
+
+    from ..core.units import parse_frequency
+
+    masks = list_masks(extra_dirs=args.mask_dir)
+    if args.authority:
+        masks = [m for m in masks if m.provenance.authority.casefold() == args.authority.casefold()]
+    if args.service:
+        masks = [m for m in masks if m.service.casefold() == args.service.casefold()]
+    if args.frequency:
+        f = parse_frequency(args.frequency, what="--frequency", default_unit="Hz")
+        masks = [m for m in masks if m.applies.fundamental[0].constant() <= f <= m.applies.fundamental[1].constant()]
+    if args.json:
+        rows = [{"id": m.id, "title": m.title, "authority": m.provenance.authority, "citation": m.provenance.citation,
+                 "service": m.service, "verified": m.provenance.verified, "edition": m.provenance.edition,
+                 "variant": m.applies.variant, "path": m.path} for m in masks]
+        print(json.dumps(rows, indent=2, ensure_ascii=False))
+        return 0
+    for m in masks:
+        flag = "verified" if m.provenance.verified else "not verified: rule data not checked against the official text"
+        con.print(f"[bold]{escape(m.id)}[/bold]  {escape(m.provenance.authority)} {escape(m.provenance.citation)}  ({flag})", soft_wrap=True)
+        con.print(f"    {escape(m.title)}" + (f" [{escape(m.applies.variant)}]" if m.applies.variant else ""), soft_wrap=True)
+    con.print(f"{len(masks)} masks; 'maskcheck masks show ID --power 5W' for one evaluated for a station")
+    return 0
+
+
+# -- show with a station ---------------------------------------------------------------------
+def _station(args, mask) -> dict:
+    from ..core.units import parse_frequency, parse_power
+
+    power_w = parse_power(args.power, what="--power", default_unit="W")
+    pep_w = parse_power(args.pep, what="--pep", default_unit="W") if args.pep else None
+    if args.carrier:
+        carrier = parse_frequency(args.carrier, what="--carrier", default_unit="Hz")
+        note = ""
+    else:
+        lo, hi = (v.constant() for v in mask.applies.fundamental)
+        carrier = math.sqrt(lo * hi)
+        note = "no --carrier given: the geometric middle of the mask's carrier range is used"
+    auth = parse_frequency(args.bandwidth, what="--bandwidth", default_unit="Hz") if args.bandwidth else None
+    return {"power_w": power_w, "pep_w": pep_w, "carrier_hz": carrier, "authorized_bw_hz": auth, "note": note}
+
+
+def _evaluate(mask, st):
+    from ..masks import evaluate_mask
+
+    return evaluate_mask(mask, power_w=st["power_w"], pep_w=st["pep_w"], carrier_hz=st["carrier_hz"],
+                         authorized_bw_hz=st["authorized_bw_hz"])
+
+
+def evaluated_rows(mask, st) -> list[dict]:
+    """The evaluated limit of every region, as plain rows (name, where, formula, values, bandwidth, detector).
+
+    Each value is ``(frequency_hz, limit_dbm, dB below the reference or None)``
+    at the inner and the outer edge of the region's upper side.
+    """
+    import numpy as np
+
+    from ..core.units import format_frequency
+    from ..masks.evaluate import sample_points_hz
+
+    rows = []
+    for lim, region in zip(_evaluate(mask, st), mask.regions):
+        formula = region.limit.description or " and ".join(
+            f"{k} = {getattr(region.limit, k).text}" for k in region.limit.terms
+        ) or (region.limit.bandwidth.text if region.limit.bandwidth is not None else "")
+        row = {"name": lim.name, "where": lim.anchor, "formula": formula, "values": [], "detector": lim.detector,
+               "bandwidth": ", ".join(sorted({format_frequency(b) for _, _, b in lim.bands})), "unevaluated": lim.unevaluated}
+        if lim.unevaluated or lim.kind == "occupied-bandwidth":
+            if lim.max_bandwidth_hz is not None:
+                row["values"] = [("occupied bandwidth at most", format_frequency(lim.max_bandwidth_hz))]
+            rows.append(row)
+            continue
+        if not lim.anchor or lim.offset_band is None:
+            row["where"] = f"{format_frequency(lim.start_hz)} to {format_frequency(lim.stop_hz)}" + (f" ({lim.anchor})" if lim.anchor else "")
+        pts = sample_points_hz(lim)
+        w = lim.limit_w(pts)
+        for f, p in zip(pts, w):
+            dbm = 10 * math.log10(p) + 30
+            rel = None if mask.reference_power.kind == "none" else 10 * math.log10(lim.reference_power_w / p)
+            row["values"].append((float(f), dbm, rel))
+        rows.append(row)
+    return rows
+
+
+def _show_evaluated(mask, st, con) -> None:
+    from rich.markup import escape
+
+    from ..core.units import format_frequency, format_power
+    from ..report.cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+
+    p = mask.provenance
+    con.print(f"[bold]{escape(mask.id)}[/bold]: {escape(mask.title)}", soft_wrap=True)
+    con.print(f"{escape(p.authority)} {escape(p.citation)}; edition: {escape(p.edition)}", soft_wrap=True)
+    station = f"power {format_power(st['power_w'])}"
+    if st["pep_w"] is not None:
+        station += f", PEP {format_power(st['pep_w'])}"
+    station += f", carrier {format_frequency(st['carrier_hz'])}"
+    if st["authorized_bw_hz"] is not None:
+        station += f", authorised bandwidth {format_frequency(st['authorized_bw_hz'])}"
+    con.print(f"Station: {escape(station)}" + (f" ({escape(st['note'])})" if st["note"] else ""), soft_wrap=True)
+    ref = mask.reference_power
+    con.print(f"Reference: {escape(ref.kind)}" + (f" ({escape(ref.note)})" if ref.note else ""), soft_wrap=True)
+    if mask.applies.variant:
+        con.print(f"Variant: {escape(mask.applies.variant)}", soft_wrap=True)
+    if not p.verified:
+        con.print(f"[bold yellow]!! {UNVERIFIED_NOTE}[/bold yellow]")
+    con.print("Limits for this station, region by region:")
+    fc = st["carrier_hz"]
+    for i, row in enumerate(evaluated_rows(mask, st)):
+        if row["unevaluated"]:
+            value = f"not evaluated: it {row['unevaluated']}"
+        elif row["values"] and isinstance(row["values"][0][0], str):
+            value = " ".join(row["values"][0])
+        else:
+            parts = []
+            for f, dbm, rel in row["values"]:
+                off = abs(f - fc)
+                off = round(off) if off >= 100 else round(off, 1)  # the sample points sit a hair inside open edges
+                at = f"{'+' if f >= fc else '-'}{format_frequency(off)} from the carrier" if row["where"].startswith("offset") else format_frequency(f)
+                parts.append((f"{rel:.2f} dB below the reference = " if rel is not None else "") + f"{dbm:.2f} dBm at {at}")
+            value = "; ".join(parts)
+        con.print(f"[bold][{i}] {escape(row['name'])}[/bold]" + (f"  ({escape(row['where'])})" if row["where"] else ""), soft_wrap=True)
+        con.print(f"    limit: {escape(row['formula'])}", soft_wrap=True)
+        con.print(f"    value: {escape(value)}", soft_wrap=True)
+        if row["bandwidth"] or row["detector"]:
+            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}, detector {escape(row['detector'])}", soft_wrap=True)
+    con.print(SHORT_CAUTION)
+
+
+# -- plot ------------------------------------------------------------------------------------
+def _curves(mask, st, n: int = 200):
+    """Limit curves per region: (name, [(x, y)]) with x an offset from the carrier (Hz) or a frequency."""
+    import numpy as np
+
+    limits = [lim for lim in _evaluate(mask, st) if not lim.unevaluated and lim.kind != "occupied-bandwidth"]
+    fc = st["carrier_hz"]
+    offsets = any(lim.offset_band is not None for lim in limits)
+    rel = mask.reference_power.kind != "none"
+    if offsets:
+        finite = [lim.fd_edge_hz + lim.offset_band[1] for lim in limits if lim.offset_band is not None and math.isfinite(lim.offset_band[1])]
+        inner = [lim.fd_edge_hz + lim.offset_band[0] for lim in limits if lim.offset_band is not None]
+        span = 1.5 * max(finite + inner + [1.0])
+    curves = []
+    for lim in limits:
+        if offsets:
+            if lim.offset_band is None:
+                continue
+            lo, hi, _, _ = lim.offset_band
+            a, b = lim.fd_edge_hz + lo, min(lim.fd_edge_hz + hi, span)
+            if not b > a:
+                continue
+            x = np.linspace(a, b, n)
+            x[0] += 1e-6 * (b - a)
+            f = fc + x
+        else:
+            a, b = lim.start_hz, lim.stop_hz
+            x = np.geomspace(max(a, 1.0), b, n)
+            x[0] *= 1 + 1e-9
+            f = x
+        keep = lim.in_scope(f)
+        if not keep.any():
+            continue
+        w = lim.limit_w(f[keep])
+        y = 10 * np.log10(w) + 30
+        if rel:
+            y = y - (10 * math.log10(lim.reference_power_w) + 30)
+        curves.append((lim.name, list(zip(x[keep].tolist(), y.tolist()))))
+    return curves, offsets, rel
+
+
+def mask_drawing(mask, st, width: float = 520.0, height: float = 300.0):
+    """A reportlab Drawing of the mask's limits for one station (offset axis or log-frequency axis)."""
+    from reportlab.graphics.shapes import Drawing, Line, PolyLine, String
+    from reportlab.lib import colors
+
+    from ..core.units import format_frequency
+    from ..report.cautions import UNVERIFIED_NOTE
+
+    curves, offsets, rel = _curves(mask, st)
+    if not curves:
+        raise MaskcheckError(f"mask {mask.id}: no region can be drawn for this station (give --bandwidth?)", where="masks plot")
+    xs = [x for _, pts in curves for x, _ in pts]
+    ys = [y for _, pts in curves for _, y in pts]
+    left, bottom, right, top = 60.0, 40.0, width - 15.0, height - 45.0
+    x0, x1 = (-max(xs), max(xs)) if offsets else (min(xs), max(xs))
+    y0, y1 = math.floor(min(ys) / 10.0) * 10.0 - 10.0, math.ceil(max(ys) / 10.0) * 10.0 + 5.0
+
+    def px(x):
+        if offsets:
+            return left + (x - x0) / (x1 - x0) * (right - left)
+        return left + (math.log10(x) - math.log10(x0)) / (math.log10(x1) - math.log10(x0) or 1.0) * (right - left)
+
+    def py(y):
+        return bottom + (y - y0) / (y1 - y0) * (top - bottom)
+
+    d = Drawing(width, height)
+    title = f"{mask.id}: {mask.provenance.citation}"
+    d.add(String(left, height - 15, title[:90], fontName="Helvetica-Bold", fontSize=9))
+    sub = f"limit {'relative to the reference (dB)' if rel else 'absolute (dBm in the reference bandwidth)'}; power {st['power_w']:g} W"
+    if not mask.provenance.verified:
+        sub += f"; {UNVERIFIED_NOTE}"
+    d.add(String(left, height - 28, sub[:110], fontName="Helvetica", fontSize=7, fillColor=colors.darkred if not mask.provenance.verified else colors.black))
+    d.add(Line(left, bottom, right, bottom, strokeColor=colors.black, strokeWidth=0.6))
+    d.add(Line(left, bottom, left, top, strokeColor=colors.black, strokeWidth=0.6))
+    step = 10.0 if (y1 - y0) <= 120 else 20.0
+    y = y0
+    while y <= y1 + 1e-9:
+        d.add(Line(left, py(y), right, py(y), strokeColor=colors.lightgrey, strokeWidth=0.3))
+        d.add(String(left - 5, py(y) - 3, f"{y:g}", fontName="Helvetica", fontSize=6, textAnchor="end"))
+        y += step
+    for k in range(5):
+        xv = x0 + k * (x1 - x0) / 4 if offsets else 10 ** (math.log10(x0) + k * (math.log10(x1) - math.log10(x0)) / 4)
+        label = ("+" if xv > 0 else "-" if xv < 0 else "") + format_frequency(abs(xv)) if offsets else format_frequency(xv)
+        d.add(String(px(xv), bottom - 12, label, fontName="Helvetica", fontSize=6, textAnchor="middle"))
+    d.add(String((left + right) / 2, bottom - 25, "offset from the carrier" if offsets else "frequency",
+                 fontName="Helvetica", fontSize=7, textAnchor="middle"))
+    for _, pts in curves:
+        sides = (1.0, -1.0) if offsets else (1.0,)
+        for s in sides:
+            flat = []
+            for x, yv in pts:
+                flat += [px(s * x), py(yv)]
+            d.add(PolyLine(flat, strokeColor=colors.red, strokeWidth=1.0))
+    return d
+
+
+def _plot(mask, st, out, force, con) -> int:
+    from pathlib import Path
+
+    from ..io.output import check_writable, write_atomic
+
+    path = Path(out)
+    kind = path.suffix.lower()
+    if kind not in (".pdf", ".svg"):
+        raise MaskcheckError(f"{out}: the plot is written as PDF or SVG; name the file .pdf or .svg", where="--out")
+    check_writable(path, force=force)
+    drawing = mask_drawing(mask, st)
+    if kind == ".pdf":
+        from reportlab.graphics import renderPDF
+
+        data = renderPDF.drawToString(drawing)
+    else:
+        from reportlab.graphics import renderSVG
+
+        data = renderSVG.drawToString(drawing)
+    write_atomic(path, data, force=force)
+    con.print(f"{out}: mask {mask.id} drawn for {st['power_w']:g} W")
+    return 0

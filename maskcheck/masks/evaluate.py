@@ -276,7 +276,15 @@ class RegionLimits:
                         raise MaskError(f"{self.key_path}.limit.field_uv_per_m: {value.text!r} is <= 0 here; expected > 0", path=self.mask_path or None)
                     v = 20.0 * np.log10(v)
                 w = 10.0 ** ((field_to_eirp_dbm(v, self.distance_m) - 30.0) / 10.0)
-            out[key] = np.asarray(w, dtype=float)
+            w = np.asarray(w, dtype=float)
+            bad = ~(np.isfinite(w) & (w > 0))
+            if np.any(bad):
+                at = format_frequency(float(f[np.flatnonzero(bad)[0]]))
+                raise MaskError(
+                    f"{self.key_path}.limit.{key}: {value.text!r} gives no finite power > 0 at {at} "
+                    "(the limit underflows or overflows there)", path=self.mask_path or None,
+                )
+            out[key] = w
         return out
 
     def reference_bandwidth_hz(self, freq_hz) -> np.ndarray:

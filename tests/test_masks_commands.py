@@ -1,0 +1,101 @@
+"""``maskcheck masks list/show/plot/validate/schema``."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from maskcheck.cli import main
+from maskcheck.masks.library import ENV_VAR
+
+
+@pytest.fixture(autouse=True)
+def _no_user_mask_path(monkeypatch):
+    monkeypatch.delenv(ENV_VAR, raising=False)
+
+
+def test_list_filters_by_authority_service_and_frequency(capsys):
+    assert main(["masks", "list", "--json", "--authority", "FCC", "--frequency", "150MHz"]) == 0
+    rows = json.loads(capsys.readouterr().out)
+    ids = {r["id"] for r in rows}
+    assert {"us-90210-mask-d", "us-90210-mask-e", "us-amateur-vhf-30-225mhz"} <= ids
+    assert all(r["authority"] == "FCC" for r in rows)
+    assert "us-am-broadcast-7344" not in ids  # 535-1705 kHz carriers only
+    assert main(["masks", "list", "--json", "--service", "personal"]) == 0
+    rows = json.loads(capsys.readouterr().out)
+    assert rows and all(r["service"] == "personal" for r in rows)
+    assert {"verified", "citation", "title"} <= set(rows[0])
+
+
+def test_list_table_says_which_are_verified(capsys):
+    assert main(["masks", "list"]) == 0
+    out = capsys.readouterr().out
+    assert "us-am-broadcast-7344  FCC 47 CFR 73.44(a), (b)  (verified)" in out
+    assert "us-90210-mask-d  FCC 47 CFR 90.210(d) (Emission Mask D)  (not verified: rule data not checked against the official text)" in out
+
+
+def test_show_with_a_station_prints_formula_and_value(capsys):
+    assert main(["masks", "show", "us-90210-mask-d", "--power", "5W", "--carrier", "150MHz"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    # Source: fact sheet §8.5 (90.210(d) at 5 W): 19.96 dB at 5.625 kHz, 69.94 dB at 12.5 kHz, 56.99 dB beyond
+    for text in ("19.96 dB", "69.94 dB", "56.99 dB", "7.27 (fd - 2.88 kHz)", "rule data not verified against the official text"):
+        assert text in out
+
+
+def test_show_says_what_it_cannot_evaluate(capsys):
+    assert main(["masks", "show", "us-90210-mask-b", "--power", "5W", "--carrier", "150MHz"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "not evaluated" in out and "--authorized-bw" in out
+    assert main(["masks", "show", "us-90210-mask-b", "--power", "5W", "--carrier", "150MHz", "--bandwidth", "20kHz"]) == 0
+    assert "35.00 dB" in " ".join(capsys.readouterr().out.split())  # Source: fact sheet §3.1 Mask B, 100-250 %: 35 dB
+
+
+def test_show_without_a_station_keeps_the_static_view(capsys):
+    assert main(["masks", "show", "us-am-broadcast-7344"]) == 0
+    out = capsys.readouterr().out
+    assert "73.44" in out and "rule data not verified" not in out
+
+
+@pytest.mark.parametrize("suffix, magic", [(".pdf", b"%PDF"), (".svg", b"<?xml")])
+def test_plot_writes_pdf_or_svg_and_never_overwrites(tmp_path, capsys, suffix, magic):
+    out = tmp_path / f"mask{suffix}"
+    args = ["masks", "plot", "us-90210-mask-d", "--power", "5W", "--carrier", "150MHz", "--out", str(out)]
+    assert main(args) == 0
+    data = out.read_bytes()
+    assert data.startswith(magic)
+    if suffix == ".svg":
+        assert b"polyline" in data.lower() or b"<path" in data
+        assert b"not verified" in data
+    assert main(args) == 2  # exists: refused
+    assert out.read_bytes() == data
+    assert main(args + ["--force"]) == 0
+
+
+def test_plot_refuses_other_formats_and_needs_power(tmp_path, capsys):
+    assert main(["masks", "plot", "us-90210-mask-d", "--power", "5W", "--out", str(tmp_path / "m.png")]) == 2
+    assert "PDF or SVG" in capsys.readouterr().err
+    assert main(["masks", "plot", "us-90210-mask-d", "--out", str(tmp_path / "m.pdf")]) == 2
+    assert "--power" in capsys.readouterr().err
+    assert not (tmp_path / "m.pdf").exists()
+
+
+def test_validate_reports_every_file_and_problem(tmp_path, capsys):
+    good = tmp_path / "good.toml"
+    good.write_text((__import__("pathlib").Path(__file__).resolve().parents[1] / "masks" / "us-frs-95579.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    bad = tmp_path / "bad.toml"
+    bad.write_text(good.read_text(encoding="utf-8").replace('id = "us-frs-95579"', 'id = "x-frs"').replace('"6.25 kHz", to', '"6.25 kHz", too').replace("detector = \"any\"", "detector = \"qp\"", 1), encoding="utf-8")
+    assert main(["masks", "validate", str(good), str(bad)]) == 2
+    io = capsys.readouterr()
+    assert "good.toml: valid" in io.out and "schema_version 3" in io.out
+    lines = [x for x in io.err.splitlines() if x.startswith(str(bad))]
+    assert any("regions[0].detector" in x for x in lines) and any("regions[0].offset.too" in x for x in lines)
+
+
+def test_schema_is_json_and_knows_version_3_keys(capsys):
+    assert main(["masks", "schema"]) == 0
+    schema = json.loads(capsys.readouterr().out)
+    assert "schema_version 3" in schema["$comment"]
+    limit = schema["$defs"]["Limit"]["properties"]
+    assert {"field_uv_per_m", "distance_m", "density_dbm_per_hz", "combine", "quantity"} <= set(limit)
+    assert set(schema["$defs"]["ReferencePowerSpec"]["properties"]["kind"]["enum"]) == {"mean", "pep", "carrier", "channel", "dbsd", "none"}
