@@ -162,6 +162,8 @@ class MeasurementPlan:
     notes: list[str] = field(default_factory=list)
     tool: dict = field(default_factory=dict)
     created_utc: str = ""
+    #: a fixed loss ahead of the analyser on top of the setup's chain (--attenuator), dB
+    extra_loss_db: float = 0.0
 
     def to_dict(self) -> dict:
         return {
@@ -175,6 +177,7 @@ class MeasurementPlan:
             "harmonics": [h.to_dict() for h in self.harmonics],
             "fundamental": dict(self.fundamental),
             "floor_margin_db": self.floor_margin_db,
+            "extra_loss_db": self.extra_loss_db,
             "report_threshold_db": REPORT_THRESHOLD_DB,
             "setup": None if self.setup is None else dict(self.setup),
             "warnings": list(self.warnings),
@@ -383,6 +386,7 @@ def plan_measurement(
         notes=notes,
         tool={"name": "maskcheck", "version": __version__},
         created_utc=utc_now(),
+        extra_loss_db=float(extra_loss_db),
     )
 
 

@@ -68,6 +68,8 @@ def test_a_fixed_attenuator_option_gives_the_same_limits_as_the_setup():
     plan = _hf_plan(None, extra_loss_db=40.0)
     # Closed form: +7 dBm - 40 dB = -33 dBm
     assert {round(r.limit_at_input_dbm, 9) for r in plan.ranges} == {-33.0}
+    assert plan.to_dict()["extra_loss_db"] == 40.0
+    assert not any("unattenuated" in w for w in plan.warnings)
 
 
 @pytest.mark.parametrize("carrier_hz, stop_hz", [

@@ -112,7 +112,9 @@ def render_plan(plan, con) -> None:
     con.print(f"carrier {format_frequency(st['carrier_hz'])}, mean power {st['power_w']:g} W{pep}"
               f"{', ' + escape(st['designator']) if st.get('designator') else ''}{label}")
     s = plan.setup
-    con.print("setup: " + (escape(f"{s['name'] or s['path']} ({s['measurement']})") if s else "none (limits at the transmitter output)"))
+    extra = f"; a fixed {plan.extra_loss_db:g} dB ahead of the analyser (--attenuator)" if plan.extra_loss_db else ""
+    con.print("setup: " + (escape(f"{s['name'] or s['path']} ({s['measurement']})") if s
+                           else "none" if extra else "none (limits at the transmitter output)") + extra)
     sr = plan.search_range
     con.print(f"47 CFR 2.1057 range: {format_frequency(sr['start_hz'])} to {format_frequency(sr['stop_hz'])} ({escape(sr['rule'])})")
     lo, hi = plan.fundamental_window_hz

@@ -139,8 +139,10 @@ class _Checklist:
         ]
         s = pl.setup
         right = []
+        if pl.extra_loss_db:
+            right.append(("Fixed loss", f"{pl.extra_loss_db:g} dB ahead of the analyser (--attenuator)"))
         if s is None:
-            right.append(("Setup", "none: limits are stated at the transmitter output"))
+            right.append(("Setup", "none" if pl.extra_loss_db else "none: limits are stated at the transmitter output"))
         else:
             right.append(("Setup", f"{s['name'] or s['path']} ({s['measurement']})"))
             ins = s["instrument"]
