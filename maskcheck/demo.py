@@ -10,9 +10,9 @@ a scenario file (see ``examples/`` and the README) and run by the simulator:
 * an imaginary home-built 40 m SSB exciter (filter method) and solid-state
   amplifier, keyed with the 47 CFR 2.1049(c)(2) two-tone test at 100 W PEP,
   judged against 47 CFR 97.307(d) (amateur, below 30 MHz);
-* an imaginary 2 m FM handheld, 5 W, whose amplifier makes a rather strong
-  second harmonic, judged against 47 CFR 97.307(e) (amateur, 30-225 MHz)
-  with a 1.5 dB guard band: its margin falls inside the guard band, so the
+* an imaginary 150 MHz land-mobile FM handheld (12.5 kHz channel), 5 W,
+  whose amplifier makes a rather strong second harmonic, judged against
+  47 CFR 90.210 Emission Mask D with a 1.5 dB guard band: its margin falls inside the guard band, so the
   demo shows what a *marginal* result looks like.
 
 For each, the folder gets the scenario file, the fundamental as a SigMF
@@ -72,14 +72,14 @@ designator = "2K70J3E"
 guard = "1.5 dB"
 """
 
-_FM = """# INVENTED demo scenario: imaginary 2 m FM handheld "bench 7 FM".
+_FM = """# INVENTED demo scenario: imaginary 150 MHz land-mobile FM handheld "bench 7 FM".
 # No real equipment is described; every number is made up.
 scenario_version = 1
-name = "bench 7 FM: 2 m narrowband FM handheld (invented)"
+name = "bench 7 FM: 150 MHz land-mobile FM handheld, 12.5 kHz channel (invented)"
 description = "1 kHz tone, 2.5 kHz deviation, 750 us pre-emphasis, saturated Rapp amplifier with a strong 2nd harmonic, 5-pole Chebyshev low-pass, 5 W."
 
 [signal]
-carrier = "146.52 MHz"
+carrier = "151.625 MHz"
 sample_rate = "48 kHz"
 duration = "1 s"
 seed = 7
@@ -97,12 +97,12 @@ pre_emphasis = "750 us"
 model = "rapp"
 smoothness = 3.0
 backoff = "-2 dB"
-harmonics = [1.0, 0.08, 0.04, 0.01]
+harmonics = [1.0, 0.047, 0.04, 0.01]
 
 [output_filter]
 kind = "cheby1"
 order = 5
-cutoff = "165 MHz"
+cutoff = "170 MHz"
 ripple = "0.2 dB"
 
 [antenna]
@@ -110,7 +110,7 @@ power = "5 W"
 power_kind = "mean"
 
 [check]
-mask = "us-amateur-vhf-30-225mhz"
+mask = "us-90210-mask-d"
 designator = "11K0F3E"
 guard = "1.5 dB"
 """
