@@ -487,3 +487,14 @@ def test_sigmf_archive_reads_like_its_dataset(tmp_path):
     assert rec.data_offset > 0 and rec.num_samples == x.size  # the samples are read in place inside the tar
     ours = np.concatenate([b.copy() for b in rec.blocks(block_samples=5000)])
     np.testing.assert_array_equal(ours, x)
+
+
+def test_correction_table_interpolates_over_log_frequency(tmp_path):
+    # Closed form: on a log-frequency axis 10 MHz lies half-way between 1 MHz and 100 MHz,
+    # so a table of 0 dB and 2 dB there gives 1 dB -- the rule the setup-file tables use too.
+    from maskcheck.io.correction import read_correction
+
+    p = tmp_path / "corr.txt"
+    p.write_text("frequency_mhz,correction_db\n1,0\n100,2\n")
+    table = read_correction(p)
+    assert float(table.gain_db([10e6])[0]) == pytest.approx(1.0, abs=1e-12)

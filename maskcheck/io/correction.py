@@ -15,9 +15,12 @@ format is maskcheck's own, a small text file::
   (``frequency_hz`` / ``_khz`` / ``_mhz`` / ``_ghz``) and ``correction_db``;
 * rows are comma-, semicolon- or blank-separated, frequencies strictly
   increasing; one row means one correction for every frequency;
-* between rows the correction is interpolated linearly in dB over
-  frequency; outside the table's range it is not extrapolated: a spectrum
-  reaching past it is an error (an unknown correction is never assumed).
+* between rows the correction is interpolated linearly in dB over log
+  frequency, the same rule as the tables of a measurement-setup file
+  (:func:`maskcheck.core.corrections.interpolate_log_db`); outside the
+  table's range it is not extrapolated: a recording reaching past it is an
+  error (an unknown correction is never assumed; a setup file instead drops
+  the uncovered readings, which leaves that range incomplete).
 """
 
 from __future__ import annotations
@@ -29,6 +32,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ..core.corrections import interpolate_log_db
 from ..errors import CorrectionError
 
 __all__ = ["CorrectionTable", "read_correction"]
@@ -46,7 +50,7 @@ class CorrectionTable:
     correction_db: np.ndarray
 
     def gain_db(self, freq_hz) -> np.ndarray:
-        """Correction at each frequency, dB (linear interpolation; no extrapolation)."""
+        """Correction at each frequency, dB (linear in dB over log frequency; no extrapolation)."""
         f = np.asarray(freq_hz, dtype=float)
         if self.freq_hz.size == 1:
             return np.full(f.shape, float(self.correction_db[0]))
@@ -57,7 +61,12 @@ class CorrectionTable:
                 "expected a table covering every frequency measured",
                 path=self.path,
             )
-        return np.interp(f, self.freq_hz, self.correction_db)
+        if self.freq_hz[0] <= 0:
+            raise CorrectionError(
+                f"frequency {float(self.freq_hz[0]):g} Hz must be > 0 (the table is interpolated over log frequency)",
+                path=self.path,
+            )
+        return interpolate_log_db(f, self.freq_hz, self.correction_db)
 
 
 def read_correction(path) -> CorrectionTable:
