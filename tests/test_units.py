@@ -96,3 +96,11 @@ def test_formatting_for_people():
     assert u.format_frequency(2700.0) == "2.7 kHz"
     assert u.format_power(100.0) == "100 W (50.0 dBm)"
     assert u.format_power(25e-6).startswith("25 µW")
+
+
+@pytest.mark.parametrize("text, s", [("2 s", 2.0), ("50 ms", 0.05), ("750 us", 750e-6), ("750 µs", 750e-6), ("5ns", 5e-9)])
+def test_durations(text, s):
+    # Closed form: SI prefixes m = 1e-3, u = 1e-6, n = 1e-9
+    assert u.parse_duration(text) == pytest.approx(s, rel=1e-15)
+    with pytest.raises(UnitError):
+        u.parse_duration("5 MHz")

@@ -29,6 +29,7 @@ __all__ = [
     "parse_frequency",
     "parse_power",
     "parse_db",
+    "parse_duration",
     "parse_quantity",
     "power_to_db",
     "db_to_power",
@@ -72,6 +73,12 @@ _UNITS: dict[str, tuple[str, str, float]] = {
     "dbm": ("power", "dbm", 1.0),
     "dBW": ("power", "dbw", 1.0),
     "dbw": ("power", "dbw", 1.0),
+    "s": ("time", "lin", 1.0),
+    "ms": ("time", "lin", 1e-3),
+    "us": ("time", "lin", 1e-6),
+    "µs": ("time", "lin", 1e-6),
+    "μs": ("time", "lin", 1e-6),
+    "ns": ("time", "lin", 1e-9),
     "dB": ("db", "lin", 1.0),
     "db": ("db", "lin", 1.0),
 }
@@ -80,6 +87,7 @@ _EXPECTED = {
     "frequency": "a frequency such as '7.1 MHz', '2.7kHz' or '500 Hz'",
     "power": "a power such as '100 W', '50 dBm', '-13 dBm' or '25 uW'",
     "db": "a level difference such as '1.5 dB'",
+    "time": "a duration such as '2 s', '50 ms' or '5 us'",
 }
 
 
@@ -91,9 +99,9 @@ def parse_quantity(text, family: str, *, default_unit: str | None = None, what: 
     text : str or float
         What the person typed.  A bare number is accepted only when
         ``default_unit`` is given (or, for ``family="db"``, always).
-    family : {"frequency", "power", "db"}
+    family : {"frequency", "power", "db", "time"}
         The unit family expected.  Frequencies come back in Hz, powers in W,
-        level differences in dB.
+        level differences in dB, durations in s.
     default_unit : str, optional
         Unit assumed for a bare number, e.g. ``"Hz"``.
     what : str, optional
@@ -173,6 +181,11 @@ def parse_power(text, *, what: str | None = None, default_unit: str | None = Non
 def parse_db(text, *, what: str | None = None) -> float:
     """Parse a level difference (``"1.5dB"`` or ``"1.5"``) into dB."""
     return parse_quantity(text, "db", what=what)
+
+
+def parse_duration(text, *, what: str | None = None, default_unit: str | None = None) -> float:
+    """Parse a duration (``"2 s"``, ``"50 ms"``, ``"750 us"``) into seconds."""
+    return parse_quantity(text, "time", what=what, default_unit=default_unit)
 
 
 def _check_positive(x, name: str):

@@ -92,8 +92,9 @@ from pydantic_core import PydanticCustomError
 
 from ..core.corrections import FAR_FIELD_CONSTANT_DB, Correction, apply_corrections, correction_db
 from ..core.spectrum import Spectrum
-from ..core.units import format_frequency, parse_db, parse_frequency, parse_power, w_to_dbm
-from ..errors import MaskcheckError, SetupError
+from ..core.units import format_frequency, parse_db, parse_duration, parse_frequency, parse_power, w_to_dbm
+from .._toml import key_path, syntax_error_position
+from ..errors import MaskcheckError, SetupError, UnitError
 
 __all__ = ["SETUP_SCHEMA_VERSION", "CHAIN_KINDS", "SetupFile", "MeasurementSetup", "read_setup", "parse_setup"]
 
@@ -103,8 +104,6 @@ SETUP_SCHEMA_VERSION = 1
 #: kinds of parts in the chain
 CHAIN_KINDS = ("attenuator", "coupler", "cable", "filter", "amplifier", "other")
 
-_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
-_DURATION = re.compile(r"^\s*([+-]?\d+(?:\.\d*)?(?:[eE][+-]?\d+)?)\s*(s|ms|us|µs)\s*$")
 _DENSITY = re.compile(r"^\s*([+-]?\d+(?:\.\d*)?(?:[eE][+-]?\d+)?)\s*dBm\s*/\s*Hz\s*$", re.IGNORECASE)
 
 
@@ -138,10 +137,12 @@ def _db(raw):
 def _duration(raw):
     if isinstance(raw, str) and raw.strip().lower() == "auto":
         return None
-    m = _DURATION.match(str(raw)) if isinstance(raw, str) else None
-    if not m:
+    try:
+        v = parse_duration(raw) if isinstance(raw, str) else None
+    except UnitError:
+        v = None
+    if v is None:
         raise SetupError(f"{raw!r} is not a sweep time; expected 'auto' or a duration such as '2 s' or '50 ms'")
-    v = float(m.group(1)) * {"s": 1.0, "ms": 1e-3, "us": 1e-6, "µs": 1e-6}[m.group(2)]
     if not v > 0:
         raise SetupError(f"{raw!r} must be longer than 0 s")
     return v
@@ -318,15 +319,6 @@ _TABLES = {
     ("radiated", "antenna_factor"): AntennaFactorTable,
 }
 
-
-def _key_path(loc) -> str:
-    out = ""
-    for part in loc:
-        if isinstance(part, int):
-            out += f"[{part}]"
-        else:
-            out += f".{part}" if out else str(part)
-    return out or "(top level)"
 
 
 def _message(error: dict) -> str:
@@ -512,12 +504,7 @@ def parse_setup(text: str, *, path: str = "", sha256: str = "") -> MeasurementSe
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        message = str(exc)
-        m = _TOML_POSITION.search(message)
-        where = None
-        if m:
-            where = f"line {m.group(1)}, column {m.group(2)}"
-            message = message[: m.start()]
+        message, where = syntax_error_position(exc, text)
         raise SetupError(f"TOML syntax error: {message}; expected a setup file (see 'maskcheck plan --help')", path=label, where=where) from None
     if isinstance(raw.get("schema_version"), int) and raw["schema_version"] != SETUP_SCHEMA_VERSION:
         raise SetupError(f"found {raw['schema_version']!r}; this release reads setup files of version {SETUP_SCHEMA_VERSION}",
@@ -525,7 +512,7 @@ def parse_setup(text: str, *, path: str = "", sha256: str = "") -> MeasurementSe
     try:
         model = SetupFile.model_validate(raw)
     except ValidationError as exc:
-        problems = [(_key_path(e.get("loc", ())), _message(e)) for e in exc.errors(include_url=False)]
+        problems = [(key_path(e.get("loc", ())), _message(e)) for e in exc.errors(include_url=False)]
         if len(problems) == 1:
             (where, msg), = problems
             raise SetupError(msg, path=label, where=where) from None

@@ -24,7 +24,6 @@ from __future__ import annotations
 import difflib
 import hashlib
 import os
-import re
 import tomllib
 from collections.abc import Iterable
 from importlib import resources
@@ -32,6 +31,7 @@ from pathlib import Path
 
 from pydantic import ValidationError
 
+from .._toml import key_path, syntax_error_position
 from ..errors import MaskError
 from .schema import Mask, keys_at
 
@@ -47,8 +47,6 @@ __all__ = [
 #: Environment variable with extra mask folders (``os.pathsep``-separated).
 ENV_VAR = "MASKCHECK_MASK_PATH"
 
-_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
-_TOML_EOF = re.compile(r"\s*\(at end of document\)\s*$")
 
 
 def builtin_dir():
@@ -95,15 +93,6 @@ def _single(message: str, *, path, where=None) -> MaskError:
     return error
 
 
-def _key_path(loc: tuple) -> str:
-    out = ""
-    for part in loc:
-        if isinstance(part, int):
-            out += f"[{part}]"
-        else:
-            out += f".{part}" if out else str(part)
-    return out or "(top level)"
-
 
 def _message(error: dict) -> str:
     kind = error.get("type")
@@ -132,7 +121,7 @@ def _validation_problems(exc: ValidationError, label: str) -> list[str]:
         # A list that lost an invalid item then reports "too short": noise, drop it.
         if error.get("type") == "too_short" and any(other[: len(loc)] == loc and other != loc for other in locs):
             continue
-        problems.append(f"{label}: {_key_path(loc)}: {_message(error)}")
+        problems.append(f"{label}: {key_path(loc)}: {_message(error)}")
     return problems
 
 
@@ -153,16 +142,7 @@ def _parse(data: bytes, label: str) -> Mask:
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        message = str(exc)
-        m = _TOML_POSITION.search(message)
-        if m:
-            where = f"line {m.group(1)}, column {m.group(2)}"
-            message = message[: m.start()]
-        elif _TOML_EOF.search(message):
-            where = f"line {text.count(chr(10)) + 1} (end of file)"
-            message = _TOML_EOF.sub("", message)
-        else:
-            where = None
+        message, where = syntax_error_position(exc, text)
         raise _single(f"TOML syntax error: {message}", path=label, where=where) from None
     try:
         mask = Mask.model_validate(raw)

@@ -68,8 +68,9 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationEr
 from pydantic_core import PydanticCustomError
 
 from ..core.estimate import WINDOWS, WelchPlan, plan_welch
-from ..core.units import parse_db, parse_frequency, parse_power
-from ..errors import MaskcheckError, ScenarioError
+from ..core.units import parse_db, parse_duration, parse_frequency, parse_power
+from .._toml import key_path, syntax_error_position
+from ..errors import MaskcheckError, ScenarioError, UnitError
 from . import modulate, sources
 from .amplifier import Polynomial, Rapp, Saleh, amplify, drive
 from .baseband import Baseband, sample_count
@@ -102,17 +103,11 @@ def _unit_value(parse, what: str):
     return BeforeValidator(convert)
 
 
-_TIME = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(s|ms|us|µs|ns)?\s*$")
-_TIME_FACTOR = {None: 1.0, "s": 1.0, "ms": 1e-3, "us": 1e-6, "µs": 1e-6, "ns": 1e-9}
-
-
 def _parse_time(v) -> float:
-    if isinstance(v, (int, float)):
-        return float(v)
-    m = _TIME.match(str(v))
-    if not m:
-        raise PydanticCustomError("scenario_value", "{found!r} is not a time (expected e.g. '2 s' or '5 ms')", {"found": v})
-    return float(m.group(1)) * _TIME_FACTOR[m.group(2)]
+    try:
+        return parse_duration(v, default_unit="s")
+    except UnitError:
+        raise PydanticCustomError("scenario_value", "{found!r} is not a time (expected e.g. '2 s' or '5 ms')", {"found": v}) from None
 
 
 def _freq(v):
@@ -346,17 +341,7 @@ class Scenario(_Table):
 
 # ------------------------------------------------------------------ loading
 
-_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 
-
-def _key_path(loc) -> str:
-    out = ""
-    for part in loc:
-        if isinstance(part, int):
-            out += f"[{part}]"
-        else:
-            out += f".{part}" if out else str(part)
-    return out or "(top level)"
 
 
 def _validation_problems(exc: ValidationError) -> list[str]:
@@ -383,7 +368,7 @@ def _validation_problems(exc: ValidationError) -> list[str]:
             msg = msg.replace("Input should be", "expected a value").replace("expected a value a valid", "expected a valid")
             if kind != "scenario_value" and "input" in e and not isinstance(e["input"], (dict, list)):
                 msg = f"{msg} (found {e['input']!r})"
-        problems.append(f"{_key_path(loc)}: {msg}")
+        problems.append(f"{key_path(loc)}: {msg}")
     return problems
 
 
@@ -398,10 +383,8 @@ def parse_scenario(text: str, *, path=None) -> "Scenario":
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        message = str(exc)
-        m = _TOML_POSITION.search(message)
-        where = f"line {m.group(1)}, column {m.group(2)}" if m else None
-        raise ScenarioError(f"TOML syntax error: {message[: m.start()] if m else message}", path=path, where=where) from None
+        message, where = syntax_error_position(exc, text)
+        raise ScenarioError(f"TOML syntax error: {message}", path=path, where=where) from None
     try:
         sc = Scenario.model_validate(raw)
     except ValidationError as exc:
