@@ -162,3 +162,13 @@ def test_combine_verdicts_precedence_and_empty():
     assert combine_verdicts(["pass", "marginal"]) == "marginal"
     assert combine_verdicts(["pass"]) == "pass"
     assert combine_verdicts([]) == "incomplete"
+
+
+def test_worst_point_is_the_spur_not_the_edge_of_its_integration_band():
+    # Closed form: integrated over 100 kHz, a CW spur gives the same level to every point
+    # within 50 kHz of it; the worst point reported is the spur's own frequency.
+    s = _trace(30e6, 100e6, 1e3, 1e3, -120.0, [(50e6, -20.0)])
+    res, ems, _ = judge_region(s, FlatLimit(-13.0, 100e3, 31e6, 99e6))
+    assert res.worst_freq_hz == pytest.approx(50e6)
+    assert res.worst_margin_db == pytest.approx(7.0, abs=0.01)
+    assert [round(e.freq_hz) for e in ems] == [50_000_000]

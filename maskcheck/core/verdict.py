@@ -260,7 +260,7 @@ def judge_region(
     ev = np.flatnonzero(evaluable)
     res.points_evaluated = int(ev.size)
     if ev.size:
-        w = ev[int(np.argmin(margin[ev]))]
+        w = _worst(ev, margin, spectrum.power_w[idx])
         res.worst_margin_db = float(margin[w])
         res.worst_freq_hz = float(fr[w])
         res.worst_level_dbm = float(level_dbm[w])
@@ -285,7 +285,7 @@ def judge_region(
     peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db)] if peaks.size else peaks
     if genuine.any() and ev.size:
         # the worst point is always listed when the region fails
-        peaks = np.union1d(peaks, [ev[int(np.argmin(margin[ev]))]])
+        peaks = np.union1d(peaks, [_worst(ev, margin, spectrum.power_w[idx])])
     if peaks.size > MAX_LISTED_EMISSIONS:
         keep = peaks[np.argsort(margin[peaks])[:MAX_LISTED_EMISSIONS]]
         warnings.append(
@@ -298,3 +298,15 @@ def judge_region(
             Emission(float(fr[p]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name)
         )
     return res, emissions, warnings
+
+
+def _worst(candidates: np.ndarray, margin: np.ndarray, reading_w: np.ndarray) -> int:
+    """Index of the worst margin; among near-ties the point with the strongest reading.
+
+    Integrated over a reference bandwidth B, a discrete spur gives the same
+    level to every point within B/2 of it; the strongest reading among them
+    is the spur itself, so that is the frequency reported.
+    """
+    m = margin[candidates]
+    near = candidates[m <= m.min() + 0.01]
+    return int(near[np.argmax(reading_w[near])])
