@@ -96,6 +96,7 @@ def _num(v) -> str:
 
 def render_plan(plan, con) -> None:
     """The plan as rich tables on ``con``."""
+    from rich import box
     from rich.markup import escape
     from rich.table import Table
 
@@ -123,10 +124,11 @@ def render_plan(plan, con) -> None:
     if f.get("peak_at_input_dbm") is not None:
         con.print("levels are the " + escape(plan.quantity) + "; 'loss dB' is added to a reading at the analyser input to get it")
         con.print(f"fundamental at the analyser input: {_db(f['mean_at_input_dbm'])} mean, {_db(f['peak_at_input_dbm'])} peak")
-    t = Table(title="Ranges to sweep (levels in dBm in the reference bandwidth)", title_justify="left")
+    t = Table(title="Ranges to sweep (levels in dBm in the reference bandwidth; pts = sweep points needed)",
+              title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
     for h, j in (("range", "left"), ("RBW", "right"), ("det.", "left"), ("limit", "right"), ("loss dB", "right"),
-                 ("at input", "right"), ("floor", "right"), ("points", "right")):
-        t.add_column(h, justify=j, no_wrap=h == "range")
+                 ("input", "right"), ("floor", "right"), ("pts", "right")):
+        t.add_column(h, justify=j, no_wrap=h in ("range", "RBW", "pts"))
     for r in plan.ranges:
         corr = "–" if r.offset_min_db is None else (f"{r.offset_min_db:.1f}" if abs(r.offset_max_db - r.offset_min_db) < 0.05
                                                      else f"{r.offset_min_db:.1f}…{r.offset_max_db:.1f}")
@@ -136,7 +138,7 @@ def render_plan(plan, con) -> None:
                   "–" if r.points_needed is None else f"≥{r.points_needed}")
     con.print(t)
     if plan.harmonics:
-        h = Table(title="Harmonics to look at", title_justify="left")
+        h = Table(title="Harmonics to look at", title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
         for c in ("n", "frequency", "RBW", "limit dBm", "at input dBm"):
             h.add_column(c, justify="right")
         for x in plan.harmonics:
