@@ -70,3 +70,15 @@ def test_twotone_command_on_a_trace(tmp_path):
     want = 20 * math.log10(0.75 * 0.05 * 0.125 / (0.5 - 9 / 4 * 0.05 * 0.125))
     assert d["worst"]["3"]["db_re_one_tone"] == pytest.approx(want, abs=0.05)
     assert d["pep_to_mean_db"] == pytest.approx(3.0103, abs=0.01)  # Closed form: 10 log10(2)
+
+
+def test_speech_like_signal_is_not_taken_for_a_two_tone_test():
+    # Common practice, no published source: noise-like audio has no pair of lines holding
+    # most of the power, so the analysis refuses instead of printing products of noise.
+    from maskcheck.core.spectrum import Spectrum
+
+    rng = np.random.default_rng(5)
+    f = 14.2e6 + np.arange(-3000.0, 3000.0, 5.0)
+    p = rng.exponential(1e-6, f.size) * (np.abs(f - 14.2e6 - 1500) < 1350) + 1e-15
+    with pytest.raises(SpectrumError, match="not a two-tone"):
+        analyse_two_tone(Spectrum(f, p, 5.0))
