@@ -46,7 +46,7 @@ import numpy as np
 from ._version import __version__
 from dataclasses import replace as _replace
 
-from .core.bandwidth import occupied_bandwidth
+from .core.bandwidth import occupied_bandwidth, xdb_bandwidth
 from .core.designator import parse_designator
 from .core.domains import NORMAL_PERCENT, SM1539_TABLE_NOTE, domains as _domains
 from .core.necessary import NecessaryBandwidth, from_measurement, resolve_necessary
@@ -55,6 +55,7 @@ from .core.spectrum import Spectrum
 from .core.station import Station
 from .core.units import format_frequency, w_to_dbm
 from .core.verdict import judge_region
+from .core.uncertainty import decision_rule as _decision_rule
 from .errors import SpectrumError, StationError
 from .masks.evaluate import applies_to, applies_when, evaluate_mask, fundamental_exclusion_hz, reference_power_w, station_variables
 
@@ -83,6 +84,7 @@ def check(
     inputs: list[InputFile] | None = None,
     necessary: NecessaryBandwidth | str | None = None,
     authorized_bw_hz: float | str | None = None,
+    xdb_db: float = 26.0,
 ) -> CheckResult:
     """Check a spectrum against a mask for a station.
 
@@ -115,6 +117,10 @@ def check(
     authorized_bw_hz : float or "necessary", optional
         The authorised bandwidth, Hz: the occupied bandwidth is judged
         against it, and masks may refer to it.
+    xdb_db : float
+        The x of the x-dB bandwidth measured in the fundamental window, dB
+        (26 dB by default, the FCC "emission bandwidth"); it is reported,
+        not judged.
 
     Returns
     -------
@@ -149,6 +155,7 @@ def check(
 
     # occupied bandwidth and channel power in the window
     obw_fig = None
+    xdb_fig = None
     measured_w = None
     if spectrum.uncovered_hz(*window):
         warnings.append(
@@ -171,6 +178,7 @@ def check(
                 )
             warnings.extend(f"occupied bandwidth: {n}" for n in notes)
             obw_fig = BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, obw.beta, notes)
+        xdb_fig = _xdb_figure(spectrum, window, xdb_db, warnings)  # issue 7: reported beside the OBW
 
     # reference power
     relative = _level_scale(spectrum) == "dBFS"  # an uncalibrated recording (issue 5)
@@ -265,6 +273,9 @@ def check(
             if res.verdict != "fail":
                 res.verdict = "incomplete"
         res.anchor = lim.anchor
+        ems = _merge_close_emissions(ems, lim)
+        for e in ems:  # issue 7: each listed emission names the limit applied and its clause
+            e.limit_text, e.clause = lim.limit_text, f"{mask.provenance.citation}, region '{lim.name}'"
         warnings.extend(getattr(lim, "notes", ()))
         _refuse_narrower(spectrum, lim, res)
         regions.append(res)
@@ -325,7 +336,51 @@ def check(
         domain_boundary=None if dom is None else {**dom.boundary.to_dict(), "source": rule_source, "notes": list(dom.notes)},
         setup=setup_info,
         corrections=corrections,
+        xdb_bandwidth=xdb_fig,
+        report_threshold_db=float(report_threshold_db),
+        decision_rule=_decision_rule(
+            float(guard_db), (setup_info or {}).get("measurement"), (summary.get("estimation") or {}).get("trace_uncertainty_db")
+        ),
     )
+
+
+def _merge_close_emissions(ems, lim):
+    """One emission per reference bandwidth (issue 7).
+
+    Two peaks of the level in the reference bandwidth closer together than
+    that bandwidth are one emission seen through one integration window (a
+    narrow spur gives a flat top as wide as the window); the lower margin is
+    kept, the earlier on a tie.
+    """
+    if len(ems) < 2:
+        return ems
+    f = np.array([e.freq_hz for e in ems])
+    try:
+        bw = np.asarray(lim.reference_bandwidth_hz(f), dtype=float)
+    except (AttributeError, TypeError, ValueError):
+        return ems
+    kept = [ems[0]]
+    for e, w in zip(ems[1:], bw[1:]):
+        last = kept[-1]
+        if np.isfinite(w) and e.freq_hz - last.freq_hz < w:
+            if e.margin_db < last.margin_db:
+                kept[-1] = e
+        else:
+            kept.append(e)
+    return kept
+
+
+def _xdb_figure(spectrum, window, xdb_db, warnings):
+    """The x-dB bandwidth in the fundamental window (issue 7), or None with a warning saying why."""
+    if not (math.isfinite(xdb_db) and xdb_db > 0):
+        raise StationError(f"x-dB bandwidth: x = {xdb_db!r} dB must be > 0", where="--xdb")
+    try:
+        x = xdb_bandwidth(spectrum.between(*window), xdb_db)
+    except SpectrumError as exc:
+        warnings.append(f"{xdb_db:g} dB bandwidth not measured: {exc.message}")
+        return None
+    note = f"relative to the highest reading, {x.peak_dbm:.2f} dBm at {format_frequency(x.peak_hz, 7)}, in the trace's own RBW"
+    return BandwidthFigure("x-dB", x.width_hz, x.lower_hz, x.upper_hz, x.x_db, [note])
 
 
 def _setup_record(spectrum, regions, warnings):

@@ -115,6 +115,9 @@ class Emission:
     limit_dbm: float
     margin_db: float
     region: str = ""
+    #: the limit applied to it, in words, and the clause it came from (issue 7)
+    limit_text: str = ""
+    clause: str = ""
 
     def to_dict(self) -> dict:
         return asdict(self)
@@ -204,6 +207,12 @@ class CheckResult:
     setup: dict | None = None
     #: the corrections applied to the readings (what, where, what was left out), None without a setup
     corrections: dict | None = None
+    #: the x-dB bandwidth measured in the fundamental window (issue 7), None if not measured
+    xdb_bandwidth: BandwidthFigure | None = None
+    #: the decision rule applied: shared risk or guarded acceptance (issue 7; see core/uncertainty.py)
+    decision_rule: dict | None = None
+    #: discrete emissions within this many dB of their limit are listed (issue 7: shown with the table)
+    report_threshold_db: float | None = None
     #: the whole trace as read (for plots; not in the JSON)
     trace: Curve | None = field(default=None, repr=False)
 
@@ -245,4 +254,7 @@ class CheckResult:
             "domain_boundary": None if self.domain_boundary is None else dict(self.domain_boundary),
             "setup": None if self.setup is None else dict(self.setup),
             "corrections": None if self.corrections is None else dict(self.corrections),
+            "xdb_bandwidth": None if self.xdb_bandwidth is None else self.xdb_bandwidth.to_dict(),
+            "decision_rule": None if self.decision_rule is None else dict(self.decision_rule),
+            "report_threshold_db": self.report_threshold_db,
         }
