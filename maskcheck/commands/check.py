@@ -23,11 +23,13 @@ def register(sub) -> None:
     c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
     c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
+    c.add_argument("--xdb", metavar="DB", default="26dB", help="x of the x-dB bandwidth reported beside the occupied bandwidth (default 26dB)")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
     add_trace_options(c)
     add_recording_options(c)
     c.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
-    c.add_argument("--report", metavar="PDF", help="write the PDF evidence report")
+    c.add_argument("--report", metavar="PDF", help="write the PDF evidence report (the result JSON and the mask file ride inside it as attachments)")
+    add_output_options(c)
     c.add_argument("--force", action="store_true", help="overwrite existing output files")
     c.add_argument("--quiet", action="store_true", help="print no summary")
 
@@ -48,6 +50,7 @@ def run(args) -> int:
         check_writable(args.json, args.force)
     if args.report:
         check_writable(args.report, args.force)
+    check_output_options(args)
     carrier = parse_frequency(args.carrier, what="--carrier")
     power = parse_power(args.power, what="--power") if args.power else None
     pep = parse_power(args.pep, what="--pep") if args.pep else None
@@ -57,6 +60,7 @@ def run(args) -> int:
 
     necessary, authorized, _ = emission_from_args(args, args.designator)
     within = parse_db(args.list_within, what="--list-within")
+    xdb = parse_db(args.xdb, what="--xdb")
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
     setup = _read_setup(args)
@@ -77,7 +81,7 @@ def run(args) -> int:
         if setup is not None:
             s = setup.apply(s)
         return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
-                     necessary=necessary, authorized_bw_hz=authorized)
+                     necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb)
 
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)
@@ -99,7 +103,7 @@ def _read_setup(args):
 
 
 def _write_outputs(result, args) -> None:
-    to_stdout = args.json == "-"
+    to_stdout = args.json == "-" or getattr(args, "csv", None) == "-"
     if not args.quiet:
         from ..report.terminal import render_check
 
@@ -112,9 +116,47 @@ def _write_outputs(result, args) -> None:
         from ..report.pdf import write_report
 
         write_report(result, args.report, force=args.force)
+    written = [p for p in (args.json, args.report) if p and p != "-"]
+    written += _write_tables_and_figures(result, args)
     if not args.quiet and not to_stdout:
-        written = [p for p in (args.json, args.report) if p]
         if written:
             console().print("written: " + ", ".join(written))
+
+
+# -- issue 7: --csv and --figures (also used by 'maskcheck simulate') --------------------
+def add_output_options(sp) -> None:
+    """``--csv PATH`` and ``--figures DIR``."""
+    sp.add_argument("--csv", metavar="PATH", help="write the margins table as CSV: one row per region, then one per listed emission ('-' for standard output)")
+    sp.add_argument("--figures", metavar="DIR", help="write every plot of the report as an SVG file into this folder (created if missing)")
+
+
+def check_output_options(args) -> None:
+    """Refuse before any work: an existing CSV without --force, a --figures path that is a file."""
+    from ..errors import OutputError
+    from ..io.output import check_writable
+    from pathlib import Path
+
+    if getattr(args, "csv", None) == "-" and getattr(args, "json", None) == "-":
+        raise OutputError("only one of --json and --csv can go to standard output", path="-", where="--csv")
+    if getattr(args, "csv", None) and args.csv != "-":
+        check_writable(args.csv, args.force)
+    fig = getattr(args, "figures", None)
+    if fig and Path(fig).exists() and not Path(fig).is_dir():
+        raise OutputError("exists and is not a folder", path=fig, where="--figures")
+
+
+def _write_tables_and_figures(result, args) -> list[str]:
+    written = []
+    if getattr(args, "csv", None):
+        from ..report.margins_csv import write_csv
+
+        write_csv(result, args.csv, force=args.force)
+        if args.csv != "-":
+            written.append(args.csv)
+    if getattr(args, "figures", None):
+        from ..report.figures import write_figures
+
+        written += [str(p) for p in write_figures(result, args.figures, force=args.force)]
+    return written
 
 

@@ -20,6 +20,9 @@ def register(sub) -> None:
     s.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files")
     s.add_argument("--json", metavar="PATH", help="result JSON (default with a mask: DIR/result.json; '-' for standard output)")
     s.add_argument("--report", metavar="PDF", help="PDF report (default with a mask: DIR/report.pdf)")
+    from .check import add_output_options
+
+    add_output_options(s)  # --csv, --figures (issue 7)
     s.add_argument("--force", action="store_true", help="overwrite existing output files")
     s.add_argument("--quiet", action="store_true", help="print no summary")
     s.set_defaults(run=run)
@@ -34,7 +37,7 @@ def run(args) -> int:
     from ..io.output import check_writable
     from ..io.trace_write import write_spans
     from ..sim.scenario import load_scenario, run_scenario
-    from .check import _write_outputs
+    from .check import _write_outputs, check_output_options
 
     sc, sha = load_scenario(args.scenario)
     mask_id = args.mask or sc.check.mask
@@ -57,6 +60,7 @@ def run(args) -> int:
     for p in (args.json, args.report):
         if p and p != "-":
             check_writable(p, args.force)
+    check_output_options(args)
     sim = run_scenario(sc, path=args.scenario)
     notes = [f"SIMULATED by maskcheck from scenario {args.scenario} (sha256 {sha}): {sc.name}",
              "a simulation, not a measurement of any real equipment"]

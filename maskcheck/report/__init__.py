@@ -9,8 +9,14 @@ never compute a bandwidth or a margin.
 ``write_json``             JSON to a file (atomically) or to ``"-"``
 ``build_report``           the PDF report as bytes (reportlab)
 ``write_report``           the PDF report, written atomically
-``spectrum_drawing``       vector plot of trace and limit lines
+``default_attachments``    the result JSON and the mask file, embedded in the PDF
+``spectrum_drawing``       vector plot of trace and limit lines (whole range or a zoom)
+``zoom_ranges``            where the report draws closer: failing and marginal places
 ``envelope``               min/max decimation of a curve per drawing column
+``report_figures``         every plot of the report, with its title and caption
+``write_figures``          every plot as an SVG file (``--figures DIR``)
+``margins_csv``            the margins table as CSV text
+``write_csv``              the margins table to a file (``--csv PATH``)
 ``DISCLAIMER``             what a result is and is not
 ``SAFETY``                 bench-safety cautions
 ``SHORT_CAUTION``          the one-line caution
@@ -31,8 +37,14 @@ __all__ = [
     "write_json",
     "build_report",
     "write_report",
+    "default_attachments",
     "spectrum_drawing",
+    "zoom_ranges",
     "envelope",
+    "report_figures",
+    "write_figures",
+    "margins_csv",
+    "write_csv",
     "DISCLAIMER",
     "SAFETY",
     "SHORT_CAUTION",
@@ -45,8 +57,14 @@ _WHERE = {
     "write_json": "tables",
     "build_report": "pdf",
     "write_report": "pdf",
+    "default_attachments": "pdf",
     "spectrum_drawing": "plots",
+    "zoom_ranges": "plots",
     "envelope": "plots",
+    "report_figures": "figures",
+    "write_figures": "figures",
+    "margins_csv": "margins_csv",
+    "write_csv": "margins_csv",
     "DISCLAIMER": "cautions",
     "SAFETY": "cautions",
     "SHORT_CAUTION": "cautions",

@@ -1,19 +1,21 @@
-"""Vector plots of a check: the measured trace under the mask's limit lines.
+"""Vector plots of a check: the measured spectrum under the mask's limit lines.
 
-- :func:`envelope` -- reduce a curve of any length to a min/max pair per
-  drawing column, so that no peak is lost however many points there are.
-- :func:`choose_log_axis` -- log frequency axis when the span covers more than
-  about two decades.
 - :func:`spectrum_drawing` -- a :class:`reportlab.graphics.shapes.Drawing`
-  (lines and polylines, no raster image) of a result.
+  (lines and polygons, no raster image) of a result: the readings, the level
+  judged in each rule's reference bandwidth, the limit of each region, the
+  domains of the emission, the fundamental window, ranges without data and
+  the worst point of each region; optionally over a chosen frequency range
+  (a zoom) with marker lines.
+- :func:`zoom_ranges` -- the frequency ranges worth a closer look: around the
+  worst point of every region that failed or is inside the guard band, and
+  around every other listed emission that did.
+- :func:`bandwidth_drawing` -- the fundamental window with the occupied and
+  x-dB bandwidth edges drawn.
+- :func:`envelope`, :func:`choose_log_axis`, :data:`PALETTE` -- from
+  :mod:`maskcheck.report.plot_axes`.
 
 Decimation for drawing is a display matter, not a measurement: the margins
 and worst points shown come from the result, never from the reduced curve.
-
-References
-----------
-.. [1] Min/max ("peak-preserving") decimation per display column is common
-   practice for drawing long traces, no published source.
 """
 
 from __future__ import annotations
@@ -22,12 +24,13 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from reportlab.graphics.shapes import Drawing, Group, Line, PolyLine, Polygon, Rect, String
+from reportlab.graphics.shapes import Drawing, Line, Polygon, Rect, String
 from reportlab.lib import colors
 from reportlab.pdfbase.pdfmetrics import stringWidth
 
 from ..core.result import CheckResult
 from ..core.units import format_frequency
+from .plot_axes import LOG_AXIS_DECADES, PALETTE, Axes, Envelope, choose_log_axis, envelope
 
 __all__ = [
     "Envelope",
@@ -35,365 +38,303 @@ __all__ = [
     "choose_log_axis",
     "LOG_AXIS_DECADES",
     "PALETTE",
+    "Marker",
+    "Zoom",
     "spectrum_drawing",
+    "zoom_ranges",
+    "bandwidth_drawing",
+    "MAX_ZOOMS",
 ]
 
-#: Spans wider than this many decades are drawn on a log frequency axis.
-LOG_AXIS_DECADES = 2.0
+#: At most this many zoomed plots per report.
+MAX_ZOOMS = 8
 
-#: Colours of the plot (a scheme of our own).
-PALETTE = {
-    "ink": colors.HexColor("#1d2b36"),
-    "grid": colors.HexColor("#d5dade"),
-    "frame": colors.HexColor("#5b6770"),
-    "trace": colors.HexColor("#1f5f8b"),
-    "limit": colors.HexColor("#c2571a"),
-    "window": colors.HexColor("#efe3c4"),
-    "nodata": colors.HexColor("#e4e4e4"),
-    "fail": colors.HexColor("#b3261e"),
-    "marginal": colors.HexColor("#b7791f"),
-    "incomplete": colors.HexColor("#6b4fa0"),
-    "pass": colors.HexColor("#2e7d4f"),
-}
+#: A zoom spans this many reference bandwidths either side of its point.
+ZOOM_HALF_SPAN_RBW = 12.0
 
 
 @dataclass(frozen=True)
-class Envelope:
-    """A curve reduced to one (low, high) pair per occupied drawing column.
+class Marker:
+    """A vertical (``freq_hz``) or horizontal (``level_dbm``) line with a legend label."""
 
-    ``runs`` is a list of ``(columns, low, high)`` arrays; a new run starts
-    where the curve has a gap (missing data, or a non-finite value), so a
-    line is never drawn across frequencies that hold no data.
-    """
-
-    n_columns: int
-    runs: list[tuple[np.ndarray, np.ndarray, np.ndarray]]
-
-    @property
-    def high(self) -> np.ndarray:
-        """All column maxima, run after run."""
-        return np.concatenate([r[2] for r in self.runs]) if self.runs else np.empty(0)
-
-    @property
-    def low(self) -> np.ndarray:
-        return np.concatenate([r[1] for r in self.runs]) if self.runs else np.empty(0)
-
-    @property
-    def columns(self) -> np.ndarray:
-        return np.concatenate([r[0] for r in self.runs]) if self.runs else np.empty(0, dtype=int)
+    label: str
+    color: object
+    freq_hz: float | None = None
+    level_dbm: float | None = None
+    dashed: bool = False
 
 
-def _to_unit(x: np.ndarray, lo: float, hi: float, log: bool) -> np.ndarray:
-    if log:
-        return (np.log10(x) - math.log10(lo)) / (math.log10(hi) - math.log10(lo))
-    return (x - lo) / (hi - lo)
+@dataclass(frozen=True)
+class Zoom:
+    """A frequency range to draw closer, and why."""
+
+    start_hz: float
+    stop_hz: float
+    centre_hz: float
+    region_index: int  # 1-based, as in the tables
+    why: str
 
 
-def _gap_breaks(u: np.ndarray, min_gap: float) -> np.ndarray:
-    """Indices ``i`` such that the step ``u[i] -> u[i+1]`` is a gap in the data.
-
-    ``u`` is the position along the drawn axis (0 to 1).  A step is a gap when
-    it is wider than ``min_gap`` (so it would be visible) and more than 8
-    times both of its neighbouring steps (data from different spans may have
-    different spacings; a gap is a step out of line with those beside it).
-    """
-    if u.size < 3:
-        return np.empty(0, dtype=int)
-    du = np.diff(u)
-    prev = np.concatenate(([du[1]], du[:-1]))
-    nxt = np.concatenate((du[1:], [du[-2]]))
-    return np.flatnonzero((du > min_gap) & (du > 8.0 * np.maximum(prev, nxt)))
+def _visible(x, lo, hi):
+    x = np.asarray(x, dtype=float)
+    return (x >= lo) & (x <= hi)
 
 
-def envelope(freq_hz, values, lo_hz: float, hi_hz: float, n_columns: int, *, log: bool = False) -> Envelope:
-    """Min/max of ``values`` in each of ``n_columns`` equal columns of the axis.
-
-    Parameters
-    ----------
-    freq_hz : array_like
-        Frequencies of the curve, Hz.  Sorted or not.
-    values : array_like
-        The curve (e.g. level in dBm), same length.
-    lo_hz, hi_hz : float
-        The axis range, Hz (``lo_hz < hi_hz``; both > 0 when ``log``).
-    n_columns : int
-        Number of drawing columns (one per horizontal drawing unit).
-    log : bool
-        Columns equal in log10 frequency instead of frequency.
-
-    Returns
-    -------
-    Envelope
-        For each run of data: the occupied column indices and the minimum and
-        maximum value in each.  Points outside the axis range are dropped;
-        NaN or infinite values end a run (they are not drawn).
-
-    Examples
-    --------
-    >>> env = envelope([1, 2, 3, 4], [0, 5, 1, 2], 1, 4, 2)
-    >>> env.columns.tolist(), env.low.tolist(), env.high.tolist()
-    ([0, 1], [0.0, 1.0], [5.0, 2.0])
-    """
-    if not (isinstance(n_columns, (int, np.integer)) and n_columns >= 1):
-        raise ValueError(f"{n_columns=} is not an integer >= 1")
-    if not (math.isfinite(lo_hz) and math.isfinite(hi_hz) and hi_hz > lo_hz):
-        raise ValueError(f"axis range {lo_hz=}, {hi_hz=} is not finite and increasing")
-    if log and lo_hz <= 0:
-        raise ValueError(f"{lo_hz=} must be > 0 for a log axis")
-    x = np.asarray(freq_hz, dtype=float).ravel()
-    y = np.asarray(values, dtype=float).ravel()
-    if x.shape != y.shape:
-        raise ValueError(f"freq_hz has {x.size} points but values has {y.size}")
-    if x.size and np.any(np.diff(x) < 0):
-        order = np.argsort(x, kind="stable")
-        x, y = x[order], y[order]
-    keep = np.isfinite(x) & (x >= lo_hz) & (x <= hi_hz)
-    if log:
-        keep &= x > 0
-    finite = np.isfinite(y)
-    # Break at non-finite values and at gaps; then drop what is not drawn.
-    breaks = np.zeros(x.size, dtype=bool)  # breaks[i]: a new run starts at i
-    breaks[1:] |= ~finite[:-1]
-    sel = keep & finite
-    idx = np.flatnonzero(sel)
-    runs = []
-    if idx.size:
-        u = _to_unit(x[idx], lo_hz, hi_hz, log)
-        breaks[idx[_gap_breaks(u, 1.5 / n_columns) + 1]] = True
-        run_id = np.cumsum(breaks)[idx]
-        # also split where selected points are not adjacent in the original curve
-        run_id = run_id + np.concatenate(([0], np.cumsum(np.diff(idx) > 1)))
-        cols_all = np.floor(u * n_columns).astype(np.int64)
-        np.clip(cols_all, 0, n_columns - 1, out=cols_all)
-        y_all = y[idx]
-        starts = np.concatenate(([0], np.flatnonzero(np.diff(run_id)) + 1, [idx.size]))
-        for a, b in zip(starts[:-1], starts[1:]):
-            cols = cols_all[a:b]
-            yy = y_all[a:b]
-            first = np.concatenate(([0], np.flatnonzero(np.diff(cols)) + 1))
-            runs.append((cols[first], np.minimum.reduceat(yy, first), np.maximum.reduceat(yy, first)))
-    return Envelope(n_columns=int(n_columns), runs=runs)
-
-
-def choose_log_axis(lo_hz: float, hi_hz: float) -> bool:
-    """True when ``hi_hz / lo_hz`` spans more than :data:`LOG_AXIS_DECADES` decades."""
-    return lo_hz > 0 and hi_hz > lo_hz and math.log10(hi_hz / lo_hz) > LOG_AXIS_DECADES
-
-
-def _nice_step(span: float, target: int) -> float:
-    raw = span / max(target, 1)
-    mag = 10.0 ** math.floor(math.log10(raw))
-    for m in (1.0, 2.0, 2.5, 5.0, 10.0):
-        if raw <= m * mag:
-            return m * mag
-    return 10.0 * mag
-
-
-def _unit(hz: float) -> tuple[float, str]:
-    for factor, name in ((1e9, "GHz"), (1e6, "MHz"), (1e3, "kHz")):
-        if hz >= factor:
-            return factor, name
-    return 1.0, "Hz"
-
-
-def _fmt_tick(value: float, step: float) -> str:
-    decimals = max(0, -math.floor(math.log10(step) + 1e-9))
-    text = f"{value:.{decimals}f}"
-    return "0" if text.strip("-0.") == "" else text
-
-
-def _ranges(result: CheckResult):
-    xs, ys = [], []
-    if result.trace is not None and result.trace.freq_hz.size:
-        xs += [np.nanmin(result.trace.freq_hz), np.nanmax(result.trace.freq_hz)]
-        lv = result.trace.level_dbm[np.isfinite(result.trace.level_dbm)]
-        if lv.size:
-            ys += [lv.min(), lv.max()]
+def _levels_in(result: CheckResult, lo: float, hi: float) -> list[float]:
+    ys: list[float] = []
+    curves = [result.trace] if result.trace is not None else []
+    curves += [r.curve for r in result.regions if r.curve is not None]
+    for c in curves:
+        sel = _visible(c.freq_hz, lo, hi)
+        for arr in (c.level_dbm, c.limit_dbm):
+            if arr is None:
+                continue
+            a = np.asarray(arr, dtype=float)[sel]
+            a = a[np.isfinite(a)]
+            if a.size:
+                ys += [float(a.min()), float(a.max())]
     for r in result.regions:
-        xs += [r.start_hz, r.stop_hz]
-        if r.curve is not None:
-            for arr in (r.curve.limit_dbm, r.curve.level_dbm):
-                a = np.asarray(arr, dtype=float)
-                a = a[np.isfinite(a)]
-                if a.size:
-                    ys += [a.min(), a.max()]
-        for v in (r.worst_level_dbm, r.worst_limit_dbm):
-            if v is not None:
-                ys.append(v)
-    return xs, ys
+        if r.worst_freq_hz is not None and lo <= r.worst_freq_hz <= hi:
+            ys += [v for v in (r.worst_level_dbm, r.worst_limit_dbm) if v is not None]
+    return ys
+
+
+def _x_extent(result: CheckResult) -> list[float]:
+    xs = []
+    if result.trace is not None and result.trace.freq_hz.size:
+        xs += [float(np.nanmin(result.trace.freq_hz)), float(np.nanmax(result.trace.freq_hz))]
+    for r in result.regions:
+        if r.points_evaluated or r.curve is not None:
+            xs += [r.start_hz, r.stop_hz]
+    return xs
+
+
+def _diamond(d, x, y, s, color, width=1.2):
+    d.add(Polygon([x, y + s, x + s, y, x, y - s, x - s, y], fillColor=colors.white, strokeColor=color, strokeWidth=width))
 
 
 def spectrum_drawing(
-    result: CheckResult, width_pt: float = 495.0, height_pt: float = 290.0, *, log_x: bool | None = None
+    result: CheckResult,
+    width_pt: float = 495.0,
+    height_pt: float = 290.0,
+    *,
+    log_x: bool | None = None,
+    freq_range: tuple[float, float] | None = None,
+    markers: tuple[Marker, ...] | list[Marker] = (),
+    title: str = "",
 ) -> Drawing:
-    """Draw the trace, the limit line of each region and the worst points.
+    """Draw the spectrum, the limit line of each region and the worst points.
 
     Parameters
     ----------
     result : CheckResult
-        Uses ``trace`` (or, without it, each region's measured curve), each
-        region's ``curve.limit_dbm``, ``fundamental_window_hz``, the regions'
-        uncovered ranges and worst points.
+        Uses ``trace`` (the readings), each region's ``curve`` (level in the
+        reference bandwidth and limit), ``domains``, ``fundamental_window_hz``,
+        the regions' uncovered ranges and worst points.
     width_pt, height_pt : float
         Size of the drawing in points.
     log_x : bool, optional
         Force a log (True) or linear (False) frequency axis; by default the
         axis is logarithmic when the span covers more than two decades.
+    freq_range : (float, float), optional
+        Draw only this range, Hz (a zoom); the level axis fits what is visible.
+    markers : sequence of Marker
+        Extra vertical or horizontal lines (bandwidth edges, thresholds).
+    title : str
+        A line of text above the plot.
 
     Returns
     -------
     reportlab.graphics.shapes.Drawing
     """
     d = Drawing(width_pt, height_pt)
-    left, right, bottom, top = 46.0, 10.0, 58.0, 12.0
-    pw, ph = width_pt - left - right, height_pt - bottom - top
-    xs, ys = _ranges(result)
-    if not xs or not ys:
+    left, right, bottom, top = 46.0, 10.0, 58.0, 14.0 + (12.0 if title else 0.0)
+    strip_h = 7.0 if result.domains else 0.0
+    pw, ph = width_pt - left - right, height_pt - bottom - top - strip_h
+    ink = PALETTE["ink"]
+    xs = list(freq_range) if freq_range is not None else _x_extent(result)
+    if title:
+        d.add(String(left, height_pt - 11, title, fontName="Helvetica-Bold", fontSize=8, fillColor=ink))
+    if not xs:
         d.add(String(width_pt / 2, height_pt / 2, "no data to plot", textAnchor="middle", fontName="Helvetica", fontSize=9))
         return d
     lo, hi = float(min(xs)), float(max(xs))
     if hi <= lo:
         lo, hi = lo - 0.5 * max(abs(lo), 1.0) * 1e-3, hi + 0.5 * max(abs(hi), 1.0) * 1e-3
+    ys = _levels_in(result, lo, hi) + [m.level_dbm for m in markers if m.level_dbm is not None]
+    if not ys:
+        d.add(String(width_pt / 2, height_pt / 2, "no data in this range", textAnchor="middle", fontName="Helvetica", fontSize=9))
+        return d
     log = choose_log_axis(lo, hi) if log_x is None else bool(log_x and lo > 0)
-    ymin, ymax = float(min(ys)), float(max(ys))
-    ystep = _nice_step(max(ymax - ymin, 10.0), 7)
-    ystep = max(ystep, 5.0)
-    y0 = math.floor(ymin / ystep) * ystep
-    y1 = math.ceil(ymax / ystep) * ystep
-    if y1 - y0 < ystep:
-        y1 = y0 + ystep
-    ncol = max(int(round(pw)), 1)
+    y0, y1, ystep = Axes.level_range(ys)
+    ax = Axes(d, (left, bottom, pw, ph), (lo, hi), (y0, y1), ystep, log)
 
-    def px(f):
-        u = _to_unit(np.asarray(f, dtype=float), lo, hi, log)
-        return left + np.clip(u, 0.0, 1.0) * pw
-
-    def py(v):
-        return bottom + (np.clip(np.asarray(v, dtype=float), y0, y1) - y0) / (y1 - y0) * ph
-
-    ink = PALETTE["ink"]
     # shaded bands first: no-data ranges, then the fundamental window
     for r in result.regions:
         for a, b in r.uncovered_hz:
-            xa, xb = float(px(max(a, lo))), float(px(min(b, hi)))
-            d.add(Rect(xa, bottom, max(xb - xa, 1.0), ph, fillColor=PALETTE["nodata"], strokeColor=None))
+            ax.band(a, b, PALETTE["nodata"])
     fa, fb = result.fundamental_window_hz
-    if fb > lo and fa < hi:
-        xa, xb = float(px(max(fa, lo))), float(px(min(fb, hi)))
-        wmin = 2.0
-        if xb - xa < wmin:
-            mid = (xa + xb) / 2
-            xa, xb = mid - wmin / 2, mid + wmin / 2
-        d.add(Rect(xa, bottom, xb - xa, ph, fillColor=PALETTE["window"], strokeColor=None))
+    window_shown = fb > lo and fa < hi and not (fa <= lo and fb >= hi)
+    if window_shown:
+        ax.band(fa, fb, PALETTE["window"], min_width=2.0)
+    # the domains of the emission, as a strip above the frame
+    if strip_h:
+        top_y = bottom + ph + 1.0
+        for dom in result.domains:
+            kind = "necessary" if "necessary" in dom["name"] else "out-of-band" if "out-of-band" in dom["name"] else "spurious"
+            ax.band(dom["start_hz"], dom["stop_hz"], PALETTE[kind], min_width=1.0, y=top_y, h=strip_h - 1.0)
+            xa, xb = float(ax.px(max(dom["start_hz"], lo))), float(ax.px(min(dom["stop_hz"], hi)))
+            short = {"necessary": "necessary band", "out-of-band": "out-of-band", "spurious": "spurious domain"}[kind]
+            for text in (short, {"necessary": "Bn", "out-of-band": "OoB", "spurious": "spur."}[kind]):
+                if stringWidth(text, "Helvetica", 5.5) + 4 < xb - xa:
+                    fill = colors.white if kind == "necessary" else ink
+                    d.add(String((xa + xb) / 2, top_y + 1.3, text, textAnchor="middle", fontName="Helvetica", fontSize=5.5, fillColor=fill))
+                    break
+    ax.frame()
 
-    # grid and ticks
-    font, fs = "Helvetica", 7
-    yv = y0
-    while yv <= y1 + 1e-9:
-        yy = float(py(yv))
-        d.add(Line(left, yy, left + pw, yy, strokeColor=PALETTE["grid"], strokeWidth=0.4))
-        d.add(Line(left - 3, yy, left, yy, strokeColor=PALETTE["frame"], strokeWidth=0.6))
-        d.add(String(left - 5, yy - 2.5, _fmt_tick(yv, ystep), textAnchor="end", fontName=font, fontSize=fs, fillColor=ink))
-        yv += ystep
-    if log:
-        k0, k1 = math.floor(math.log10(lo)), math.ceil(math.log10(hi))
-        for k in range(k0, k1 + 1):
-            for m in range(1, 10):
-                f = m * 10.0**k
-                if f < lo or f > hi:
-                    continue
-                xx = float(px(f))
-                if m == 1:
-                    d.add(Line(xx, bottom, xx, bottom + ph, strokeColor=PALETTE["grid"], strokeWidth=0.5))
-                    d.add(Line(xx, bottom - 4, xx, bottom, strokeColor=PALETTE["frame"], strokeWidth=0.6))
-                    d.add(String(xx, bottom - 12, format_frequency(f), textAnchor="middle", fontName=font, fontSize=fs, fillColor=ink))
-                else:
-                    d.add(Line(xx, bottom - 2, xx, bottom, strokeColor=PALETTE["frame"], strokeWidth=0.4))
-        xlabel = "Frequency (logarithmic axis)"
-    else:
-        factor, uname = _unit(max(abs(lo), abs(hi)))
-        step = _nice_step((hi - lo) / factor, 7) * factor
-        f = math.ceil(lo / step) * step
-        while f <= hi + step * 1e-9:
-            xx = float(px(f))
-            d.add(Line(xx, bottom, xx, bottom + ph, strokeColor=PALETTE["grid"], strokeWidth=0.4))
-            d.add(Line(xx, bottom - 4, xx, bottom, strokeColor=PALETTE["frame"], strokeWidth=0.6))
-            d.add(String(xx, bottom - 12, _fmt_tick(f / factor, step / factor), textAnchor="middle", fontName=font, fontSize=fs, fillColor=ink))
-            f += step
-        xlabel = f"Frequency ({uname})"
-    d.add(Rect(left, bottom, pw, ph, fillColor=None, strokeColor=PALETTE["frame"], strokeWidth=0.8))
-    d.add(String(left + pw / 2, bottom - 24, xlabel, textAnchor="middle", fontName=font, fontSize=8, fillColor=ink))
-    ylab = Group(String(0, 0, "Level (dBm)", textAnchor="middle", fontName=font, fontSize=8, fillColor=ink))
-    ylab.transform = (0, 1, -1, 0, 11, bottom + ph / 2)
-    d.add(ylab)
-
-    def add_env(env: Envelope, color, width):
-        for cols, low, high in env.runs:
-            xcol = left + (cols + 0.5) * (pw / ncol)
-            pts = []
-            for xc, a, b in zip(xcol.tolist(), py(low).tolist(), py(high).tolist()):
-                pts += [xc, a]
-                if b != a:
-                    pts += [xc, b]
-            if len(pts) == 2:
-                pts += [pts[0] + 0.01, pts[1]]
-            d.add(PolyLine(pts, strokeColor=color, strokeWidth=width, strokeLineJoin=1))
-
-    # measured level
-    trace_label = "measured trace"
+    # readings in the trace's RBW (light), then the level judged in the reference bandwidth (dark)
     if result.trace is not None:
-        add_env(envelope(result.trace.freq_hz, result.trace.level_dbm, lo, hi, ncol, log=log), PALETTE["trace"], 0.5)
-    else:
-        trace_label = "measured level in the reference bandwidth"
-        for r in result.regions:
-            if r.curve is not None:
-                add_env(envelope(r.curve.freq_hz, r.curve.level_dbm, lo, hi, ncol, log=log), PALETTE["trace"], 0.5)
-    # limit lines
+        ax.curve(result.trace.freq_hz, result.trace.level_dbm, PALETTE["reading"], 0.5)
     for r in result.regions:
         if r.curve is not None:
-            add_env(envelope(r.curve.freq_hz, r.curve.limit_dbm, lo, hi, ncol, log=log), PALETTE["limit"], 1.1)
+            ax.curve(r.curve.freq_hz, r.curve.level_dbm, PALETTE["trace"], 0.6)
+    for r in result.regions:
+        if r.curve is not None and r.curve.limit_dbm is not None:
+            ax.curve(r.curve.freq_hz, r.curve.limit_dbm, PALETTE["limit"], 1.1)
+    for m in markers:
+        dash = [3, 2] if m.dashed else None
+        if m.freq_hz is not None and lo <= m.freq_hz <= hi:
+            xx = float(ax.px(m.freq_hz))
+            d.add(Line(xx, bottom, xx, bottom + ph, strokeColor=m.color, strokeWidth=0.9, strokeDashArray=dash))
+        if m.level_dbm is not None:
+            yy = float(ax.py(m.level_dbm))
+            d.add(Line(left, yy, left + pw, yy, strokeColor=m.color, strokeWidth=0.7, strokeDashArray=dash))
     # worst points: an open diamond with the region's number from the table
     for i, r in enumerate(result.regions, 1):
-        if r.worst_freq_hz is None or r.worst_level_dbm is None:
+        if r.worst_freq_hz is None or r.worst_level_dbm is None or not (lo <= r.worst_freq_hz <= hi):
             continue
-        if not (lo <= r.worst_freq_hz <= hi):
-            continue
-        xx, yy = float(px(r.worst_freq_hz)), float(py(r.worst_level_dbm))
+        xx, yy = float(ax.px(r.worst_freq_hz)), float(ax.py(r.worst_level_dbm))
         c = PALETTE.get(r.verdict, ink)
-        s = 4.0
-        d.add(Polygon([xx, yy + s, xx + s, yy, xx, yy - s, xx - s, yy], fillColor=colors.white, strokeColor=c, strokeWidth=1.2))
-        d.add(String(xx + s + 2, yy + 2, f"[{i}]", fontName="Helvetica-Bold", fontSize=7, fillColor=c))
+        _diamond(d, xx, yy, 4.0, c)
+        label = f"[{i}]"
+        lx = xx + 6 if xx + 6 + stringWidth(label, "Helvetica-Bold", 7) < left + pw else xx - 6 - stringWidth(label, "Helvetica-Bold", 7)
+        d.add(String(lx, min(yy + 2, bottom + ph - 8), label, fontName="Helvetica-Bold", fontSize=7, fillColor=c))
+    _legend(d, result, ax, markers, lo, hi, window_shown)
+    return d
 
-    # legend, under the axis label; wraps onto a second row when too long
-    items = [
-        ("line", PALETTE["trace"], trace_label),
-        ("line", PALETTE["limit"], "limit of each region"),
-        ("box", PALETTE["window"], "fundamental window"),
-        ("diamond", ink, "worst point [region #], coloured by verdict"),
-    ]
-    if any(r.uncovered_hz for r in result.regions):
+
+def _curve_visible(curve, lo, hi) -> bool:
+    return curve is not None and bool(np.any(_visible(curve.freq_hz, lo, hi)))
+
+
+def _legend(d, result, ax, markers, lo, hi, window_shown) -> None:
+    font, ink = "Helvetica", PALETTE["ink"]
+    items = []
+    if _curve_visible(result.trace, lo, hi):
+        items.append(("line", PALETTE["reading"], "reading in the trace's RBW"))
+    if any(_curve_visible(r.curve, lo, hi) for r in result.regions):
+        items.append(("line", PALETTE["trace"], "level in the rule's reference bandwidth (judged)"))
+        items.append(("line", PALETTE["limit"], "limit"))
+    if window_shown:
+        items.append(("box", PALETTE["window"], "fundamental window"))
+    if any(r.worst_freq_hz is not None and lo <= r.worst_freq_hz <= hi for r in result.regions):
+        items.append(("diamond", ink, "worst point [region #]"))
+    if any(a < hi and b > lo for r in result.regions for a, b in r.uncovered_hz):
         items.append(("box", PALETTE["nodata"], "no data"))
+    if result.domains:
+        items.append(("box", PALETTE["out-of-band"], "strip: domains (necessary band, out-of-band, spurious)"))
+    items += [("vline" if m.freq_hz is not None else "line", m.color, m.label) for m in markers]
+    seen, unique = set(), []
+    for it in items:
+        if it[2] not in seen:
+            seen.add(it[2])
+            unique.append(it)
     rows, row, used = [], [], 0.0
-    for item in items:
+    for item in unique:
         w = 18 + stringWidth(item[2], font, 7)
-        if row and used + w > pw:
+        if row and used + w > ax.pw:
             rows.append(row)
             row, used = [], 0.0
         row.append(item)
-        used += w + 14
+        used += w + 12
     rows.append(row)
     ly = 6.0 + 10.0 * (len(rows) - 1)
     for row in rows:
-        lx = left
+        lx = ax.left
         for kind, c, label in row:
             if kind == "line":
                 d.add(Line(lx, ly + 2.5, lx + 14, ly + 2.5, strokeColor=c, strokeWidth=1.4))
+            elif kind == "vline":
+                d.add(Line(lx + 7, ly - 1.5, lx + 7, ly + 6.5, strokeColor=c, strokeWidth=1.2))
             elif kind == "box":
                 d.add(Rect(lx, ly - 1, 14, 7, fillColor=c, strokeColor=PALETTE["frame"], strokeWidth=0.3))
             else:
-                cx, cy, s = lx + 7, ly + 2.5, 3.5
-                d.add(Polygon([cx, cy + s, cx + s, cy, cx, cy - s, cx - s, cy], fillColor=colors.white, strokeColor=c, strokeWidth=1.0))
+                _diamond(d, lx + 7, ly + 2.5, 3.5, c, 1.0)
             d.add(String(lx + 18, ly, label, fontName=font, fontSize=7, fillColor=ink))
-            lx += 18 + stringWidth(label, font, 7) + 14
+            lx += 18 + stringWidth(label, font, 7) + 12
         ly -= 10.0
-    return d
+    del row
+
+
+def _ref_bw_at(region, f_hz: float) -> float | None:
+    for a, b, w in region.reference_bandwidths:
+        if a <= f_hz <= b:
+            return w
+    return region.reference_bandwidths[0][2] if region.reference_bandwidths else None
+
+
+def zoom_ranges(result: CheckResult, max_zooms: int = MAX_ZOOMS) -> list[Zoom]:
+    """Where the report draws closer: every failing or marginal place, worst first.
+
+    A zoom is centred on the worst point of each region whose verdict is
+    ``fail`` or ``marginal`` (worst region first), then on each listed
+    emission whose margin is below the guard band and that no earlier zoom
+    of its region shows.  Each spans
+    :data:`ZOOM_HALF_SPAN_RBW` reference bandwidths either side (at least
+    0.2 % of the frequency), clipped to its region.
+
+    Returns
+    -------
+    list of Zoom
+        At most ``max_zooms``; a display choice, never a measurement.
+    """
+    index = {r.name: i for i, r in enumerate(result.regions, 1)}
+    points = []
+    for i, r in enumerate(result.regions, 1):
+        if r.verdict in ("fail", "marginal") and r.worst_freq_hz is not None:
+            points.append((r.worst_margin_db if r.worst_margin_db is not None else 0.0, 0, r.worst_freq_hz, i, f"worst point of region [{i}] {r.name} ({r.verdict})"))
+    for e in sorted(result.emissions, key=lambda e: e.margin_db):
+        if e.margin_db < result.guard_db and e.region in index:
+            word = "above the limit" if e.margin_db < 0 else "inside the guard band"
+            points.append((e.margin_db, 1, e.freq_hz, index[e.region], f"emission at {format_frequency(e.freq_hz, 7)}, {word}"))
+    zooms: list[Zoom] = []
+    for _m, _order, f, i, why in sorted(points, key=lambda p: (p[1], p[0])):
+        if any(z.start_hz <= f <= z.stop_hz and z.region_index == i for z in zooms):
+            continue
+        region = result.regions[i - 1]
+        rbw = _ref_bw_at(region, f) or 0.0
+        half = max(ZOOM_HALF_SPAN_RBW * rbw, 2e-3 * f)
+        a, b = max(f - half, region.start_hz), min(f + half, region.stop_hz)
+        if not b > a:
+            a, b = f - half, f + half
+        zooms.append(Zoom(a, b, f, i, why))
+        if len(zooms) >= max_zooms:
+            break
+    return zooms
+
+
+def bandwidth_drawing(result: CheckResult, width_pt: float = 495.0, height_pt: float = 230.0) -> Drawing | None:
+    """The fundamental window with the occupied and x-dB bandwidth edges, or None without either."""
+    obw, xdb = result.occupied_bandwidth, result.xdb_bandwidth
+    if obw is None and xdb is None:
+        return None
+    a, b = result.fundamental_window_hz
+    markers = []
+    if obw is not None:
+        label = f"occupied bandwidth edges ({100 * (1 - obw.parameter):g} %)"
+        markers += [Marker(label, PALETTE["edge_obw"], freq_hz=obw.lower_hz), Marker(label, PALETTE["edge_obw"], freq_hz=obw.upper_hz)]
+    if xdb is not None:
+        label = f"{xdb.parameter:g} dB bandwidth edges"
+        markers += [Marker(label, PALETTE["edge_xdb"], freq_hz=xdb.lower_hz, dashed=True),
+                    Marker(label, PALETTE["edge_xdb"], freq_hz=xdb.upper_hz, dashed=True)]
+    return spectrum_drawing(result, width_pt, height_pt, log_x=False, freq_range=(a, b), markers=markers)

@@ -341,7 +341,8 @@ def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
     # nested records (the estimation and calibration of a recording) are for the JSON; their
     # one-line texts ("estimate", "levels") are shown instead
     flat = {k: v for k, v in result.spectrum_summary.items() if not isinstance(v, dict)}
-    return _dict_rows(flat, ("start_hz", "stop_hz", "points", "rbw_hz", "detector", "level_scale", "estimate", "levels"))
+    return _dict_rows(flat, ("start_hz", "stop_hz", "points", "spans", "rbw_hz", "rbw_hz_min", "rbw_hz_max", "detector", "level_scale",
+                             "estimate", "levels"))
 
 
 BANDWIDTH_HEADER = ("Method", "Width", "Lower edge", "Upper edge")
