@@ -161,6 +161,30 @@ def _value_text(value, unit: str = "Hz") -> str:
     return getattr(value, "text", str(value))
 
 
+def _region_range_text(reg) -> str:
+    """Where a region lies, in the words of its file: absolute, offsets, or a domain."""
+    off = getattr(reg, "offset", None)
+    if off is not None:
+        origin = {"carrier": "the carrier", "authorized-edge": "the authorised-band edge",
+                  "necessary-edge": "the necessary-band edge"}.get(off.origin, off.origin)
+        if off.from_percent is not None or off.to_percent is not None:
+            of = f" of the {off.of} bandwidth" if off.of else ""
+            inner = f"{off.from_percent:g} %" if off.from_percent is not None else "0 %"
+            outer = f"{off.to_percent:g} %{of}" if off.to_percent is not None else None
+            inner = inner if outer else f"{inner}{of}"
+        else:
+            inner = _value_text(off.from_) or "0 Hz"
+            outer = _value_text(off.to) or None
+        if outer is None:
+            return f"beyond {inner} from {origin}"
+        return f"{inner} to {outer} from {origin}"
+    dom = getattr(reg, "domain", None)
+    if dom is not None and reg.start is None and reg.stop is None:
+        return f"the {dom} domain"
+    text = f"{_value_text(reg.start)} to {_value_text(reg.stop)}"
+    return f"{text} ({dom} domain)" if dom else text
+
+
 def render_mask(mask, console: Console | None = None) -> None:
     """Print one mask definition: provenance, applicability and regions.
 
@@ -205,8 +229,10 @@ def render_mask(mask, console: Console | None = None) -> None:
             parts.append(f"at most {_value_text(lim.level, 'W' if lim.level_w is not None else 'dBm')}")
         limit = lim.description or " and ".join(parts)
         bands = "; ".join(
-            f"{_value_text(b.bandwidth)} ({_value_text(b.start)}-{_value_text(b.stop)})" for b in reg.reference_bandwidth
+            f"{_value_text(b.bandwidth)} ({_value_text(b.start)}-{_value_text(b.stop)})"
+            if (b.start is not None or b.stop is not None) else _value_text(b.bandwidth)
+            for b in reg.reference_bandwidth
         )
-        rows.append((reg.name, f"{_value_text(reg.start)} to {_value_text(reg.stop)}", limit, reg.detector, bands))
+        rows.append((reg.name, _region_range_text(reg), limit, reg.detector, bands))
     console.print(_grid("Regions", ("Region", "Range", "Limit", "Detector", "Ref. BW (range)"), rows))
     console.print(Text(SHORT_CAUTION, style="italic"))
