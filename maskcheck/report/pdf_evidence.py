@@ -82,20 +82,24 @@ def setup_section(x: Parts, result: CheckResult) -> list:
                        [0.05 * w, 0.27 * w, 0.11 * w, 0.29 * w, 0.14 * w, 0.14 * w])]
     rad = s.get("radiated")
     if rad:
-        out += [x.sub("Radiated measurement"), x.facts(_dict_rows({k: v for k, v in rad.items() if not isinstance(v, dict)}))]
+        pairs = [("Antenna", str(rad["antenna"]))] if rad.get("antenna") else []
+        if rad.get("distance_m") is not None:
+            pairs.append(("Distance", f"{rad['distance_m']:g} m"))
+        pairs += _dict_rows({k: v for k, v in rad.items() if k not in ("antenna", "distance_m") and not isinstance(v, dict)})
+        out += [x.sub("Radiated measurement"), x.facts(pairs)]
         af = rad.get("antenna_factor")
         if isinstance(af, dict):
             out.append(x.p(f"Antenna factor: {_correction_text(af) if ('table' in af or 'fixed_db' in af) else af}", "small"))
     if c:
         pairs = [("Readings corrected to", c.get("quantity", DASH)), ("Interpolation", c.get("interpolation", DASH)),
                  ("Total added", _db_span(c.get("total_db_min"), c.get("total_db_max")))]
-        for k in ("distance_m", "eirp_offset_db"):
+        for k, label, unit in (("distance_m", "Distance", "m"), ("eirp_offset_db", "EIRP offset", "dB")):
             if c.get(k) is not None:
-                pairs.append((_cap(k.replace("_", " ")), f"{c[k]:g}"))
+                pairs.append((label, f"{c[k]:g} {unit}"))
         out += [x.sub("Corrections applied"), x.facts(pairs)]
         removed = c.get("removed_hz") or []
         if removed:
-            out.append(x.p("Readings left out (no table covers them; their regions are incomplete there):", "small"))
+            out.append(x.p("Readings left out (no table covers them; a region that needs them is incomplete there):", "small"))
             out += x.bullets([g["reason"] for g in removed], "small")
         else:
             out.append(x.p("No reading was left out: every table covers the measured range.", "small"))

@@ -139,9 +139,10 @@ def spectrum_section(x: Parts, result: CheckResult, figs) -> list:
     zooms = [f for f in figs if f.stem.startswith("zoom-")]
     out = [CondPageBreak(380), x.heading("Spectrum and limits"), overview.drawing, x.p(overview.caption, "small")]
     if zooms:
-        out.append(x.sub(f"Closer views: {len(zooms)} place{'s' if len(zooms) != 1 else ''} that failed or came within the guard band"))
-        for f in zooms:
-            out.append(KeepTogether([f.drawing, x.p(f"{f.title}. {f.caption}", "small"), Spacer(1, 4)]))
+        head = x.sub(f"Closer views: {len(zooms)} place{'s' if len(zooms) != 1 else ''} that failed or came within the guard band")
+        for n, f in enumerate(zooms):
+            first = [head] if n == 0 else []  # the heading stays with the first view
+            out.append(KeepTogether(first + [f.drawing, x.p(f"{f.title}. {f.caption}", "small"), Spacer(1, 4)]))
     else:
         out.append(x.p("No region failed or came within the guard band, so no closer view is drawn.", "small"))
     return out
@@ -171,7 +172,7 @@ def margins_section(x: Parts, result: CheckResult) -> list:
         tints.append(TINT.get(r.verdict) if r.verdict != "pass" else None)
     out = [CondPageBreak(160), x.heading("Margins by region")]
     if rows:
-        out.append(x.grid(header, rows, [0.04 * w, 0.17 * w, 0.17 * w, 0.15 * w, 0.1 * w, 0.1 * w, 0.12 * w, 0.15 * w], tints=tints))
+        out.append(x.grid(header, rows, [0.04 * w, 0.16 * w, 0.16 * w, 0.15 * w, 0.115 * w, 0.1 * w, 0.12 * w, 0.155 * w], tints=tints))
     else:
         out.append(x.p("No region was judged."))
     out.append(Spacer(1, 3))
