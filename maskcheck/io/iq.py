@@ -531,6 +531,17 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
     sibling = meta.with_name(meta.name[: -len(".sigmf-meta")] + ".sigmf-data") if meta.name.endswith(".sigmf-meta") else None
     if sibling is not None and sibling.is_file() and sibling.stat().st_size == 0:
         raise RecordingError("holds no samples (the dataset is empty); expected a recording", path=sibling)
+    if meta.name.endswith(".sigmf-meta"):
+        # check the JSON first: sigmf.fromfile leaves the file open when the JSON is broken
+        try:
+            with open(meta, "rb") as fh:
+                json.loads(fh.read())
+        except json.JSONDecodeError as exc:
+            raise RecordingError(f"is not valid JSON: {exc.msg} at line {exc.lineno} column {exc.colno}", path=meta) from None
+        except UnicodeDecodeError:
+            raise RecordingError("is not UTF-8 text; a .sigmf-meta file is JSON", path=meta) from None
+        except OSError as exc:
+            raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=meta) from None
     caught = []
     try:
         with warnings.catch_warnings(record=True) as caught:
