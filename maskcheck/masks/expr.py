@@ -526,6 +526,7 @@ def _parse(text, what: str):
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", SyntaxWarning)
+            warnings.simplefilter("ignore", DeprecationWarning)  # '\ ' escapes, before Python 3.12
             tree = ast.parse(text, mode="eval")
     except SyntaxError as exc:
         col = f", column {exc.offset}" if exc.offset else ""
@@ -610,8 +611,9 @@ def compile_expression(text, allowed_names: Iterable[str]) -> Expression:
         raise MaskError("expression is empty; expected a number or a formula such as '43 + 10 * log10(power_w)'")
     try:
         with warnings.catch_warnings():
-            # "1abc" and the like warn before they fail; the error below says it all
+            # "1abc", "'\ '" and the like warn before they fail or are refused; the error says it all
             warnings.simplefilter("ignore", SyntaxWarning)
+            warnings.simplefilter("ignore", DeprecationWarning)  # '\ ' escapes, before Python 3.12
             tree = ast.parse(text, mode="eval")
     except SyntaxError as exc:
         col = f", column {exc.offset}" if exc.offset else ""
