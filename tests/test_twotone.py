@@ -82,3 +82,74 @@ def test_speech_like_signal_is_not_taken_for_a_two_tone_test():
     p = rng.exponential(1e-6, f.size) * (np.abs(f - 14.2e6 - 1500) < 1350) + 1e-15
     with pytest.raises(SpectrumError, match="not a two-tone"):
         analyse_two_tone(Spectrum(f, p, 5.0))
+
+
+def _pdf_text(path) -> str:
+    from pypdf import PdfReader
+
+    return " ".join(" ".join((page.extract_text() or "").split()) for page in PdfReader(str(path)).pages)
+
+
+def test_twotone_report_pdf_holds_the_tones_the_products_and_the_cautions(tmp_path):
+    import hashlib
+
+    from maskcheck.core.units import format_frequency
+    from maskcheck.io.trace_write import write_trace
+    from maskcheck.report.cautions import DISCLAIMER, SAFETY
+
+    a1, a3, a5, amp = 1.0, -0.05, 0.01, 0.5
+    trace = tmp_path / "bench <A&B>.txt"  # a file name with markup characters, printed as written
+    write_trace(trace, _two_tone_zone1((a1, 0.0, a3, 0.0, a5), amp))
+    pdf, js = tmp_path / "tt.pdf", tmp_path / "tt.json"
+    assert main(["twotone", str(trace), "--report", str(pdf), "--json", str(js), "--quiet"]) == 0
+    text = _pdf_text(pdf)
+    d = json.loads(js.read_text())
+    # the tones, as the report prints them; Source: 47 CFR 2.1049(c)(2), the 400 + 1800 Hz pair at 14.2 MHz
+    assert format_frequency(14.2e6 + F1, 9) in text and format_frequency(14.2e6 + F2, 9) in text
+    assert abs(d["f1_hz"] - (14.2e6 + F1)) < 0.01 and abs(d["f2_hz"] - (14.2e6 + F2)) < 0.01
+    # every product level as printed, both references, the same numbers the JSON carries
+    for p in d["products"]:
+        assert f"{p['db_re_one_tone']:.2f}" in text and f"{p['db_re_pep']:.2f}" in text
+    # Closed form (methods sheet 3.3): IM3 = 3/4 a3 A^3 + 25/8 a5 A^5 against a tone of a1 A + 9/4 a3 A^3 + 25/4 a5 A^5
+    tone = a1 * amp + 9 / 4 * a3 * amp**3 + 25 / 4 * a5 * amp**5
+    im3_db = 20 * math.log10(abs((3 / 4 * a3 * amp**3 + 25 / 8 * a5 * amp**5) / tone))
+    printed = [p["db_re_one_tone"] for p in d["products"] if p["order"] == 3]
+    assert all(abs(v - im3_db) < 0.05 for v in printed)
+    assert f"{printed[0]:.2f}" in text
+    # Closed form: dB re PEP = dB re one tone - 20 log10(2) for equal tones
+    assert f"{printed[0] - 20 * math.log10(2):.2f}" in text
+    # provenance and cautions
+    assert "bench <A&B>.txt" in text
+    assert hashlib.sha256(trace.read_bytes()).hexdigest() in text
+    assert " ".join(DISCLAIMER.split()[:12]) in text
+    assert "dummy load" in text and "RF exposure" in text and len(SAFETY) == 3
+
+
+def test_twotone_report_is_not_overwritten_without_force(tmp_path, capsys):
+    from maskcheck.io.trace_write import write_trace
+
+    write_trace(tmp_path / "tt.txt", _two_tone_zone1((1.0, 0.0, -0.05), 0.5))
+    pdf = tmp_path / "tt.pdf"
+    pdf.write_bytes(b"someone else's file")
+    assert main(["twotone", str(tmp_path / "tt.txt"), "--report", str(pdf), "--quiet"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "tt.pdf" in err and "--force" in err
+    assert pdf.read_bytes() == b"someone else's file"
+    assert main(["twotone", str(tmp_path / "tt.txt"), "--report", str(pdf), "--force", "--quiet"]) == 0
+    assert pdf.read_bytes().startswith(b"%PDF-")
+    # the same file for --json and --report is refused before anything is written
+    assert main(["twotone", str(tmp_path / "tt.txt"), "--report", str(tmp_path / "x"), "--json", str(tmp_path / "x"),
+                 "--quiet"]) == 2
+    assert not (tmp_path / "x").exists()
+
+
+def test_twotone_report_not_written_for_a_signal_that_is_not_a_two_tone_test(tmp_path, capsys):
+    # Common practice, no published source: a single carrier has no products to report.
+    from maskcheck.io.trace_write import write_trace
+
+    t = np.arange(48000) / FS
+    write_trace(tmp_path / "one.txt", zone_spectrum(Baseband(np.exp(2j * np.pi * 1000.0 * t), FS, 14.2e6),
+                                                    plan_welch(FS, rbw_hz=10.0), floor_w_per_hz=1e-20))
+    assert main(["twotone", str(tmp_path / "one.txt"), "--report", str(tmp_path / "one.pdf"), "--quiet"]) == 2
+    assert len(capsys.readouterr().err.strip().splitlines()) == 1
+    assert not (tmp_path / "one.pdf").exists()

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from ._common import add_trace_options, console
 from ._recording import add_recording_options
 
@@ -18,7 +20,8 @@ def register(sub) -> None:
     add_trace_options(t)
     add_recording_options(t, time_resolved=False)
     t.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
-    t.add_argument("--force", action="store_true", help="overwrite an existing JSON file")
+    t.add_argument("--report", metavar="PDF", help="write a PDF with the plot around the tones, the products and the cautions")
+    t.add_argument("--force", action="store_true", help="overwrite an existing JSON or PDF file")
     t.add_argument("--quiet", action="store_true", help="print no summary")
     t.set_defaults(run=run)
 
@@ -29,12 +32,16 @@ def run(args) -> int:
     from ..core.spectrum import stitch
     from ..core.twotone import ORDERS, analyse_two_tone
     from ..core.units import format_frequency, parse_frequency
-    from ..errors import SpectrumError, TraceError
-    from ..io.output import check_writable, write_text
+    from ..errors import OutputError, SpectrumError, TraceError
+    from ..io.output import check_writable, write_atomic, write_text
     from ._recording import read_input
 
     if args.json and args.json != "-":
         check_writable(args.json, args.force)
+    if args.report:
+        check_writable(args.report, args.force)
+        if args.json and args.json != "-" and Path(args.json).resolve() == Path(args.report).resolve():
+            raise OutputError("is given for both --json and --report; expected two different files", path=args.report)
     band = parse_frequency(args.band, what="--band", default_unit="Hz") if args.band else None
     got = read_input(args.inputs, args)
     label = " + ".join(args.inputs)
@@ -67,6 +74,14 @@ def run(args) -> int:
         for w in res.warnings:
             con.print(f"[yellow]warning:[/yellow] {w}")
         con.print("Pre-compliance aid: the regulator and accredited laboratories decide.")
+    if args.report:
+        from ..report.twotone_pdf import build_twotone_report
+
+        pdf = build_twotone_report(spectrum, res, got.inputs, level_unit=unit)  # built before anything is written
     if args.json:
         write_text(args.json, json.dumps(data, indent=2) + "\n", force=args.force)
+    if args.report:
+        write_atomic(args.report, pdf, force=args.force)
+        if not args.quiet:
+            console(stderr=to_stdout).print(f"report written to {args.report}")
     return 0
