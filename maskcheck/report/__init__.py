@@ -17,6 +17,8 @@ never compute a bandwidth or a margin.
 ``write_figures``          every plot as an SVG file (``--figures DIR``)
 ``margins_csv``            the margins table as CSV text
 ``write_csv``              the margins table to a file (``--csv PATH``)
+``build_twotone_report``   the two-tone analysis as a PDF (bytes)
+``write_twotone_report``   the two-tone PDF, written atomically (``twotone --report``)
 ``DISCLAIMER``             what a result is and is not
 ``SAFETY``                 bench-safety cautions
 ``SHORT_CAUTION``          the one-line caution
@@ -31,6 +33,8 @@ from __future__ import annotations
 import importlib
 
 __all__ = [
+    "build_twotone_report",
+    "write_twotone_report",
     "render_check",
     "render_bandwidth",
     "result_to_json",
@@ -51,6 +55,8 @@ __all__ = [
 ]
 
 _WHERE = {
+    "build_twotone_report": "twotone_pdf",
+    "write_twotone_report": "twotone_pdf",
     "render_check": "terminal",
     "render_bandwidth": "terminal",
     "result_to_json": "tables",
