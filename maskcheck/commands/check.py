@@ -14,7 +14,7 @@ def register(sub) -> None:
     c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
     c.add_argument("traces", nargs="+", metavar="INPUT", help="trace file(s) or IQ recording(s); several spans are stitched, a narrower RBW wins where they overlap")
     c.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
-    c.add_argument("--carrier", required=True, metavar="F", help="carrier (assigned) frequency, e.g. 7.1MHz")
+    c.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; for SSB not the suppressed carrier), e.g. 7.1MHz")
     c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
     c.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules")
     c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier, an explicit override (default: the out-of-band domain of the emission, else the mask's)")

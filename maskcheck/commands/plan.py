@@ -16,7 +16,7 @@ def register(sub) -> None:
         ),
     )
     p.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
-    p.add_argument("--carrier", required=True, metavar="F", help="carrier (assigned) frequency, e.g. 7.1MHz")
+    p.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; for SSB not the suppressed carrier), e.g. 7.1MHz")
     p.add_argument("--power", required=True, metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm")
     p.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules and the safe-input check")
     p.add_argument("--designator", metavar="D", help="emission designator, e.g. 2K70J3E: its necessary band and domains set the fundamental window")
