@@ -185,3 +185,25 @@ def test_version_and_no_command(capsys):
     assert e.value.code == 0
     assert "maskcheck" in capsys.readouterr().out
     assert main([]) == 2
+
+
+def test_sideband_places_the_emission_centre_above_the_suppressed_carrier(tmp_path, capsys):
+    # Source: 47 CFR 2.202(g) / ITU-R SM.1138 J3E example: 300-3000 Hz audio, Bn = 2700 Hz;
+    # Closed form: an upper-sideband emission then spans carrier + 300 Hz .. + 3000 Hz, centre + 1650 Hz.
+    t = _hf_trace(tmp_path, -30.0)
+    out = tmp_path / "r.json"
+    argv = ["check", str(t), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W",
+            "--designator", "2K70J3E", "--json", str(out), "--quiet"]
+    assert main(argv + ["--sideband", "upper"]) in (0, 1, 3)
+    d = json.loads(out.read_text())
+    assert d["station"]["carrier_hz"] == pytest.approx(7.1e6 + 1650.0)
+    lo, hi = d["fundamental_window_hz"]
+    assert (lo + hi) / 2 == pytest.approx(7.1e6 + 1650.0)
+    assert "suppressed carrier" in d["station"]["notes"][0]
+    assert main(argv + ["--sideband", "lower", "--force"]) in (0, 1, 3)
+    assert json.loads(out.read_text())["station"]["carrier_hz"] == pytest.approx(7.1e6 - 1650.0)
+    # an emission that is not single sideband has no sideband to shift
+    rc = main(["check", str(t), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W",
+               "--designator", "6K00A3E", "--sideband", "upper", "--quiet"])
+    assert rc == 2
+    assert "--sideband" in capsys.readouterr().err

@@ -14,7 +14,7 @@ def register(sub) -> None:
     c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
     c.add_argument("traces", nargs="+", metavar="INPUT", help="trace file(s) or IQ recording(s); several spans are stitched, a narrower RBW wins where they overlap")
     c.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
-    c.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; for SSB not the suppressed carrier), e.g. 7.1MHz")
+    c.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; with --sideband, the suppressed carrier of an SSB emission), e.g. 7.1MHz")
     c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
     c.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules")
     c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier, an explicit override (default: the out-of-band domain of the emission, else the mask's)")
@@ -61,7 +61,14 @@ def run(args) -> int:
     necessary, authorized, _ = emission_from_args(args, args.designator)
     within = parse_db(args.list_within, what="--list-within")
     xdb = parse_db(args.xdb, what="--xdb")
-    station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None)
+    notes = ()
+    if getattr(args, "sideband", None):
+        from .designator import assigned_from_sideband
+
+        carrier, note = assigned_from_sideband(carrier, args.sideband, necessary, args)
+        notes = (note,)
+    station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
+                      notes=notes)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
     setup = _read_setup(args)
     from ._recording import choose_trace, read_input, worst_frame_check
