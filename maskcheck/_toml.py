@@ -1,8 +1,13 @@
 """Small helpers shared by every TOML file maskcheck reads (masks, setups, scenarios).
 
-Only the standard library: the key path of a pydantic error location, and the
-line and column of a ``tomllib`` syntax error, so every reader words its
-errors the same way (``file, line 12, column 5: ...``, ``file: regions[0].limit: ...``).
+Only the standard library: decoding and parsing a TOML file's bytes, the key
+path of a pydantic error location, and the line and column of a ``tomllib``
+syntax error, so every reader words its errors the same way
+(``file, line 12, column 5: ...``, ``file: regions[0].limit: ...``).
+
+The readers pass ``error(message, where) -> Exception``, which builds the
+exception of their own family (MaskError, SetupError, ScenarioError) with
+their file's path; these helpers raise it.
 """
 
 from __future__ import annotations
@@ -10,7 +15,7 @@ from __future__ import annotations
 import re
 import tomllib
 
-__all__ = ["key_path", "syntax_error_position"]
+__all__ = ["key_path", "syntax_error_position", "decode_text", "loads"]
 
 _POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 _AT_EOF = re.compile(r"\s*\(at end of document\)\s*$")
@@ -45,3 +50,20 @@ def syntax_error_position(exc: tomllib.TOMLDecodeError, text: str) -> tuple[str,
     if _AT_EOF.search(message):
         return _AT_EOF.sub("", message), f"line {text.count(chr(10)) + 1} (end of file)"
     return message, None
+
+
+def decode_text(data: bytes, what: str, error) -> str:
+    """UTF-8 text of a file's bytes (a byte-order mark is allowed); else ``raise error(...)``."""
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise error(f"byte {exc.start} is not UTF-8; {what} are UTF-8 text", None) from None
+
+
+def loads(text: str, error, *, hint: str = "") -> dict:
+    """Parse TOML ``text``; a syntax error becomes ``raise error(message, "line L, column C")``."""
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        message, where = syntax_error_position(exc, text)
+        raise error(f"TOML syntax error: {message}{hint}", where) from None

@@ -652,3 +652,13 @@ def test_the_masks_package_loads_no_renderer():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"
+
+
+def test_a_mask_file_saved_with_a_byte_order_mark_loads(tmp_path):
+    # Common practice, no published source: editors on some systems save UTF-8 with a BOM
+    from maskcheck.masks.library import builtin_dir, validate_mask_file
+
+    text = (builtin_dir() / "us-amateur-hf-2003.toml").read_text(encoding="utf-8")
+    path = tmp_path / "bom.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + text.encode("utf-8"))
+    assert validate_mask_file(path).id == "us-amateur-hf-2003"

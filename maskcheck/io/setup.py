@@ -81,7 +81,6 @@ from __future__ import annotations
 import hashlib
 import math
 import re
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Annotated, ClassVar, Literal
@@ -93,7 +92,7 @@ from pydantic_core import PydanticCustomError
 from ..core.corrections import FAR_FIELD_CONSTANT_DB, Correction, apply_corrections, correction_db
 from ..core.spectrum import Spectrum
 from ..core.units import format_frequency, parse_db, parse_duration, parse_frequency, parse_power, w_to_dbm
-from .._toml import key_path, syntax_error_position
+from .._toml import decode_text, key_path, loads
 from ..errors import MaskcheckError, SetupError, UnitError
 
 __all__ = ["SETUP_SCHEMA_VERSION", "CHAIN_KINDS", "SetupFile", "MeasurementSetup", "read_setup", "parse_setup"]
@@ -501,11 +500,8 @@ def parse_setup(text: str, *, path: str = "", sha256: str = "") -> MeasurementSe
         problem, all at once.
     """
     label = path or "setup"
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        message, where = syntax_error_position(exc, text)
-        raise SetupError(f"TOML syntax error: {message}; expected a setup file (see 'maskcheck plan --help')", path=label, where=where) from None
+    raw = loads(text, lambda message, where: SetupError(message, path=label, where=where),
+                hint="; expected a setup file (see 'maskcheck plan --help')")
     if isinstance(raw.get("schema_version"), int) and raw["schema_version"] != SETUP_SCHEMA_VERSION:
         raise SetupError(f"found {raw['schema_version']!r}; this release reads setup files of version {SETUP_SCHEMA_VERSION}",
                          path=label, where="schema_version")
@@ -546,8 +542,5 @@ def read_setup(path) -> MeasurementSetup:
         raise SetupError("does not exist; expected a measurement-setup file (TOML)", path=p) from None
     except OSError as exc:
         raise SetupError(f"cannot be read ({exc.strerror or exc})", path=p) from None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise SetupError(f"byte {exc.start} is not UTF-8; setup files are UTF-8 text", path=p) from None
+    text = decode_text(data, "setup files", lambda message, where: SetupError(message, path=p, where=where))
     return parse_setup(text, path=str(p), sha256=hashlib.sha256(data).hexdigest())

@@ -24,14 +24,13 @@ from __future__ import annotations
 import difflib
 import hashlib
 import os
-import tomllib
 from collections.abc import Iterable
 from importlib import resources
 from pathlib import Path
 
 from pydantic import ValidationError
 
-from .._toml import key_path, syntax_error_position
+from .._toml import decode_text, key_path, loads
 from ..errors import MaskError
 from .schema import Mask, keys_at
 
@@ -135,15 +134,10 @@ def _read(source) -> tuple[bytes, str]:
 
 
 def _parse(data: bytes, label: str) -> Mask:
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise _single(f"byte {exc.start} is not UTF-8; mask files are UTF-8 text", path=label) from None
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        message, where = syntax_error_position(exc, text)
-        raise _single(f"TOML syntax error: {message}", path=label, where=where) from None
+    def error(message, where):
+        return _single(message, path=label, where=where)
+
+    raw = loads(decode_text(data, "mask files", error), error)
     try:
         mask = Mask.model_validate(raw)
     except ValidationError as exc:

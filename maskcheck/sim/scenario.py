@@ -58,7 +58,6 @@ from __future__ import annotations
 import hashlib
 import math
 import re
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Annotated, Literal, Optional, Union
@@ -69,7 +68,7 @@ from pydantic_core import PydanticCustomError
 
 from ..core.estimate import WINDOWS, WelchPlan, plan_welch
 from ..core.units import parse_db, parse_duration, parse_frequency, parse_power
-from .._toml import key_path, syntax_error_position
+from .._toml import decode_text, key_path, loads
 from ..errors import MaskcheckError, ScenarioError, UnitError
 from . import modulate, sources
 from .amplifier import Polynomial, Rapp, Saleh, amplify, drive
@@ -380,11 +379,7 @@ def _raise(problems: list[str], path) -> None:
 
 def parse_scenario(text: str, *, path=None) -> "Scenario":
     """Validate scenario TOML ``text``; every problem is reported at once (:class:`ScenarioError`)."""
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        message, where = syntax_error_position(exc, text)
-        raise ScenarioError(f"TOML syntax error: {message}", path=path, where=where) from None
+    raw = loads(text, lambda message, where: ScenarioError(message, path=path, where=where))
     try:
         sc = Scenario.model_validate(raw)
     except ValidationError as exc:
@@ -402,10 +397,7 @@ def load_scenario(path) -> tuple["Scenario", str]:
         data = p.read_bytes()
     except OSError as exc:
         raise ScenarioError(f"cannot read the scenario file ({exc.strerror or exc})", path=path) from None
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise ScenarioError(f"byte {exc.start} is not UTF-8; scenario files are UTF-8 text", path=path) from None
+    text = decode_text(data, "scenario files", lambda message, where: ScenarioError(message, path=path, where=where))
     return parse_scenario(text, path=path), hashlib.sha256(data).hexdigest()
 
 
