@@ -43,7 +43,7 @@ from reportlab.platypus import KeepTogether, SimpleDocTemplate, Spacer
 from .. import _version
 from ..core.spectrum import Spectrum
 from ..core.twotone import ORDERS, TwoToneResult
-from ..core.units import format_frequency
+from ..core.units import format_frequency, w_to_dbm
 from ..io.output import check_writable, write_atomic
 from .cautions import SHORT_CAUTION
 from .pdf_evidence import closing_page
@@ -68,7 +68,7 @@ _PEP = PALETTE["limit"]
 
 
 def _dbm(power_w: float) -> float:
-    return 10.0 * math.log10(power_w) + 30.0
+    return float(w_to_dbm(power_w))
 
 
 def _signed(v: float, fmt: str) -> str:
@@ -126,7 +126,7 @@ def twotone_drawing(spectrum: Spectrum, res: TwoToneResult, width_pt: float = 49
     lo = max(res.f1_hz - PLOT_HALF_SPAN_SPACINGS * sp, spectrum.start_hz)
     hi = min(res.f2_hz + PLOT_HALF_SPAN_SPACINGS * sp, spectrum.stop_hz)
     sel = (spectrum.freq_hz >= lo) & (spectrum.freq_hz <= hi)
-    level = 10.0 * np.log10(spectrum.power_w[sel]) + 30.0
+    level = spectrum.level_dbm[sel]
     peak = max(float(level.max()), _dbm(res.pep_w))
     measured = [_dbm(pr.power_w) for pr in res.products if pr.power_w is not None and lo <= pr.freq_hz <= hi]
     deepest = min([peak - PLOT_DEPTH_DB] + [v - 10.0 for v in measured])
