@@ -39,14 +39,19 @@ class MaskcheckError(Exception):
     path : str or os.PathLike, optional
         The file the problem is in.
     where : str or int, optional
-        Line number (int) or key path / option name (str) inside ``path``.
+        Line number (int) or key path (str) inside ``path``.
+    param : str, optional
+        The name of the Python parameter the problem is about (``guard_db``).
+        Library code names its parameters, never command-line options; the
+        command layer maps parameter names to its option names.
     """
 
-    def __init__(self, message: str, *, path=None, where=None):
+    def __init__(self, message: str, *, path=None, where=None, param=None):
         super().__init__(message)
         self.message = message
         self.path = None if path is None else str(path)
         self.where = where
+        self.param = param
 
     def __str__(self) -> str:
         prefix = ""
@@ -85,8 +90,8 @@ class SetupError(MaskcheckError, ValueError):
     naming the file and the TOML key path); the message joins them.
     """
 
-    def __init__(self, message: str, *, path=None, where=None, problems=None):
-        super().__init__(message, path=path, where=where)
+    def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
+        super().__init__(message, path=path, where=where, param=param)
         self.problems = list(problems) if problems else [str(self)]
 
 
@@ -97,8 +102,8 @@ class MaskError(MaskcheckError, ValueError):
     message joins them.
     """
 
-    def __init__(self, message: str, *, path=None, where=None, problems=None):
-        super().__init__(message, path=path, where=where)
+    def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
+        super().__init__(message, path=path, where=where, param=param)
         self.problems = list(problems) if problems else [message]
 
 
@@ -117,6 +122,6 @@ class ScenarioError(MaskcheckError, ValueError):
     (all are reported at once); the message joins them on one line.
     """
 
-    def __init__(self, message: str, *, path=None, where=None, problems=None):
-        super().__init__(message, path=path, where=where)
+    def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
+        super().__init__(message, path=path, where=where, param=param)
         self.problems = list(problems) if problems else [message]

@@ -43,21 +43,22 @@ import time
 
 import numpy as np
 
-from ._version import __version__
+from .._version import __version__
 from dataclasses import replace as _replace
 
-from .core.bandwidth import occupied_bandwidth, xdb_bandwidth
-from .core.designator import parse_designator
-from .core.domains import NORMAL_PERCENT, SM1539_TABLE_NOTE, domains as _domains
-from .core.necessary import NecessaryBandwidth, from_measurement, resolve_necessary
-from .core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, RegionResult, combine_verdicts
-from .core.spectrum import Spectrum
-from .core.station import Station
-from .core.units import format_frequency, w_to_dbm
-from .core.verdict import judge_region
-from .core.uncertainty import decision_rule as _decision_rule
-from .errors import SpectrumError, StationError
-from .masks.evaluate import applies_to, applies_when, evaluate_mask, fundamental_exclusion_hz, reference_power_w, station_variables
+from ..core.bandwidth import occupied_bandwidth, xdb_bandwidth
+from ..core.designator import parse_designator
+from ..core.domains import NORMAL_PERCENT, SM1539_TABLE_NOTE, domains as _domains
+from ..core.necessary import NecessaryBandwidth, from_measurement, resolve_necessary
+from ..core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, RegionResult, combine_verdicts
+from ..core.spectrum import Spectrum
+from ..core.station import Station
+from ..core.units import format_frequency, w_to_dbm
+from ..core.verdict import judge_region
+from ..core.uncertainty import decision_rule as _decision_rule
+from ..errors import SpectrumError, StationError
+from ..masks.evaluate import applies_to, applies_when, evaluate_mask, reference_power_w, station_variables
+from .window import fundamental_window
 
 __all__ = ["check", "utc_now"]
 
@@ -138,20 +139,9 @@ def check(
         if station.designator is None:
             station = _replace(station, designator=nb.designator)
 
-    # fundamental window
-    if exclude_hz is not None:
-        if not (math.isfinite(exclude_hz) and exclude_hz > 0):
-            raise StationError(f"exclusion half-width {exclude_hz!r} Hz must be > 0", where="--exclude")
-        half, window_source = float(exclude_hz), f"--exclude (+- {format_frequency(exclude_hz)})"
-    elif dom is not None:
-        half = dom.boundary.offset_hz
-        window_source = f"necessary band and out-of-band domain (+- {format_frequency(half)}): {dom.boundary.text} ({rule_source})"
-    else:
-        half, why = fundamental_exclusion_hz(mask, fc)
-        window_source = f"mask default (+- {format_frequency(half)}){': ' + why if why else ''}"
-        if not half > 0:
-            raise StationError(f"mask {mask.id!r} gives no fundamental window; state one with --exclude", where="--exclude")
-    window = (fc - half, fc + half)
+    # fundamental window: decided once (window.py)
+    fw = fundamental_window(mask, fc, domains=dom, exclude_hz=exclude_hz, rule_source=rule_source)
+    half, window_source, window = fw.half_hz, fw.source, fw.edges_hz
 
     # occupied bandwidth and channel power in the window
     obw_fig = None
@@ -421,7 +411,7 @@ def _emission(spectrum, mask, station, necessary, authorized, exclude_hz, obw_be
     if isinstance(necessary, str):
         if necessary != "measured":
             raise StationError(f"necessary bandwidth {necessary!r}: expected a bandwidth or 'measured'", where="--necessary-bw")
-        half = exclude_hz if exclude_hz is not None else fundamental_exclusion_hz(mask, fc)[0]
+        half = fundamental_window(mask, fc, exclude_hz=exclude_hz).half_hz
         lo, hi = fc - half, fc + half
         if spectrum.uncovered_hz(lo, hi):
             raise StationError(
