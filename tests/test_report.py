@@ -121,7 +121,8 @@ def test_json_round_trips_with_the_to_dict_keys(result):
 
 
 def test_json_refuses_nan_and_names_where(result):
-    result.regions[0].worst_margin_db = float("nan")
+    # RegionResult is frozen: the region is replaced, not patched
+    result.regions[0] = dataclasses.replace(result.regions[0], worst_margin_db=float("nan"))
     with pytest.raises(ValueError, match=r"regions\[0\]\.worst_margin_db"):
         result_to_json(result)
 
@@ -174,8 +175,7 @@ def test_terminal_no_unverified_line_when_verified():
 def test_terminal_says_what_marginal_means():
     r = make_result(n_points=2000)
     r.verdict = "marginal"
-    r.regions[0].verdict = "marginal"
-    r.regions[0].worst_margin_db = 0.7
+    r.regions[0] = dataclasses.replace(r.regions[0], verdict="marginal", worst_margin_db=0.7)
     out = " ".join(_plain(render_check, r).split())
     assert "MARGINAL" in out
     assert "inside the 1.5 dB guard band" in out
@@ -184,8 +184,7 @@ def test_terminal_says_what_marginal_means():
 def test_terminal_incomplete_is_not_called_a_pass():
     r = make_result(n_points=2000)
     r.verdict = "incomplete"
-    r.regions[0].verdict = "incomplete"
-    r.regions[0].uncovered_hz = [(30e6, 71e6)]
+    r.regions[0] = dataclasses.replace(r.regions[0], verdict="incomplete", uncovered_hz=[(30e6, 71e6)])
     out = " ".join(_plain(render_check, r).split())
     assert "INCOMPLETE" in out
     assert "not a pass" in out

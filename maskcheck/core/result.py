@@ -67,9 +67,9 @@ class Curve:
     limit_dbm: np.ndarray | None = None
 
 
-@dataclass
+@dataclass(frozen=True)
 class RegionResult:
-    """One region of the mask, judged."""
+    """One region of the mask, judged (built once and frozen)."""
 
     name: str
     kind: str
@@ -106,7 +106,7 @@ class RegionResult:
         return d
 
 
-@dataclass
+@dataclass(frozen=True)
 class Emission:
     """A discrete emission (local peak) within the reporting threshold of its limit."""
 

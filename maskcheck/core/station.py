@@ -29,6 +29,15 @@ class Station:
         Emission designator, e.g. ``"2K70J3E"`` (recorded; used by later releases).
     name : str, optional
         A label for reports.
+    notes : tuple of str
+        Sentences about the station for the result (how its centre was placed).
+    sideband : {"upper", "lower"}, optional
+        Single sideband only: ``carrier_hz`` is then the suppressed carrier,
+        and the check places the emission's centre from it
+        (:func:`maskcheck.checking.emission.ssb_centre`).
+    low_mod_hz : float, optional
+        Lowest modulation frequency of an SSB emission, Hz (default 300 Hz),
+        used with ``sideband``.
     """
 
     carrier_hz: float
@@ -37,6 +46,8 @@ class Station:
     designator: str | None = None
     name: str = ""
     notes: tuple[str, ...] = field(default_factory=tuple)
+    sideband: str | None = None
+    low_mod_hz: float | None = None
 
     def __post_init__(self):
         if not (isinstance(self.carrier_hz, (int, float)) and math.isfinite(self.carrier_hz) and self.carrier_hz > 0):

@@ -48,7 +48,6 @@ from __future__ import annotations
 from typing import Protocol, Sequence
 
 import numpy as np
-from scipy.signal import find_peaks
 
 from .result import Curve, Emission, RegionResult
 from .spectrum import Spectrum
@@ -93,6 +92,7 @@ def judge_region(
     excluded_hz: Sequence[tuple[float, float]] = (),
     guard_db: float = 0.0,
     report_threshold_db: float = 20.0,
+    anchor: str = "",
 ) -> tuple[RegionResult, list[Emission], list[str]]:
     """Judge one region; return its result, its listed emissions and warnings.
 
@@ -108,29 +108,76 @@ def judge_region(
         Margins below this (but not below 0) make the region ``marginal``.
     report_threshold_db : float
         Emissions with a margin below this are listed.
+    anchor : str
+        How the region was placed on the emission, recorded on the result.
+
+    Returns
+    -------
+    (RegionResult, list of Emission, list of str)
+        The result is built once, here, and frozen.
     """
     start, stop = float(limits.start_hz), float(limits.stop_hz)
     warnings: list[str] = []
-    reasons: list[str] = []
-    res = RegionResult(
-        name=limits.name,
-        kind=limits.kind,
-        start_hz=start,
-        stop_hz=stop,
-        verdict="incomplete",
-        limit_text=limits.limit_text,
-        detector_required=limits.detector,
+    base = dict(
+        name=limits.name, kind=limits.kind, start_hz=start, stop_hz=stop, limit_text=limits.limit_text,
+        detector_required=limits.detector, anchor=anchor,
         reference_bandwidths=[
             (max(float(a), start), min(float(b), stop), float(w)) for a, b, w in limits.bands if b > start and a < stop
         ],
         excluded_hz=[(float(a), float(b)) for a, b in excluded_hz if b > start and a < stop],
     )
-
     # 1. coverage, minus the excluded bands
+    missing = _uncovered(spectrum, start, stop, base["excluded_hz"])
+    reasons: list[str] = []
+    if missing:
+        parts = "; ".join(f"{_fmt(a)} to {_fmt(b)}" for a, b in missing[:4])
+        more = f" and {len(missing) - 4} more" if len(missing) > 4 else ""
+        reasons.append(f"no data from {parts}{more}")
+    idx = np.flatnonzero(_in_scope(spectrum.freq_hz, limits, start, stop, base["excluded_hz"]))
+    if idx.size == 0:
+        reasons.append("no trace point falls inside the region")
+        return RegionResult(verdict="incomplete", uncovered_hz=missing, reasons=reasons, **base), [], warnings
+    fr = spectrum.freq_hz[idx]
+    # 2.-3. level in the reference bandwidth, limit and margin
+    level_dbm, bw = _levels(spectrum, limits, idx, base["excluded_hz"], reasons, warnings)
+    lim_w = np.asarray(limits.limit_w(fr), dtype=float)
+    if not (np.all(np.isfinite(lim_w)) and np.all(lim_w > 0)):
+        raise ValueError(f"region {limits.name!r}: the mask produced a limit that is not a finite power > 0")
+    limit_dbm = 10.0 * np.log10(lim_w) + 30.0
+    margin = limit_dbm - level_dbm
+    # 4. points that cannot show what lies between them; detectors
+    evaluable = _evaluable(spectrum, idx, reasons)
+    _detector_notes(spectrum, limits, reasons, warnings)
+    # 5. noise floor per reference-bandwidth band
+    genuine = _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons)
+    # worst point among the evaluated points
+    ev = np.flatnonzero(evaluable)
+    worst = {}
+    if ev.size:
+        w = _worst(ev, margin, spectrum.power_w[idx])
+        worst = dict(worst_margin_db=float(margin[w]), worst_freq_hz=float(fr[w]),
+                     worst_level_dbm=float(level_dbm[w]), worst_limit_dbm=float(limit_dbm[w]))
+    if genuine.any():
+        verdict = "fail"
+    elif reasons:
+        verdict = "incomplete"
+    elif worst and worst["worst_margin_db"] < guard_db:
+        verdict = "marginal"
+    else:
+        verdict = "pass"
+    res = RegionResult(verdict=verdict, uncovered_hz=missing, points_evaluated=int(ev.size), reasons=reasons,
+                       curve=Curve(fr.copy(), level_dbm, limit_dbm), **worst, **base)
+    emissions = _emissions(spectrum, limits, idx, margin, level_dbm, limit_dbm, evaluable, genuine, ev,
+                           report_threshold_db, warnings)
+    return res, emissions, warnings
+
+
+def _uncovered(spectrum: Spectrum, start: float, stop: float, excluded) -> list[tuple[float, float]]:
+    """The parts of ``[start, stop]`` without data, less the excluded bands."""
     missing = []
     for a, b in spectrum.uncovered_hz(start, stop):
         pieces = [(a, b)]
-        for ea, eb in res.excluded_hz:
+        for ea, eb in excluded:
             nxt = []
             for pa, pb in pieces:
                 if eb <= pa or ea >= pb:
@@ -142,42 +189,37 @@ def judge_region(
                     nxt.append((eb, pb))
             pieces = nxt
         missing.extend(p for p in pieces if p[1] - p[0] > 0)
-    res.uncovered_hz = missing
-    if missing:
-        parts = "; ".join(f"{_fmt(a)} to {_fmt(b)}" for a, b in missing[:4])
-        more = f" and {len(missing) - 4} more" if len(missing) > 4 else ""
-        reasons.append(f"no data from {parts}{more}")
+    return missing
 
-    f = spectrum.freq_hz
+
+def _in_scope(f: np.ndarray, limits, start: float, stop: float, excluded) -> np.ndarray:
+    """Which trace points the region judges (boolean over the trace)."""
     in_scope = getattr(limits, "in_scope", None)
     if in_scope is not None:
         # the limits know each boundary's interval convention (mask schema v3); spans the
         # caller excludes beyond the region's own are still skipped
         sel = np.asarray(in_scope(f), dtype=bool)
         own = {(float(a), float(b)) for a, b in getattr(limits, "excluded_hz", ())}
-        for ea, eb in res.excluded_hz:
+        for ea, eb in excluded:
             if (ea, eb) not in own:
                 sel &= ~((f >= ea) & (f <= eb))
     else:
         sel = (f >= start) & (f <= stop)
-        for ea, eb in res.excluded_hz:
+        for ea, eb in excluded:
             sel &= ~((f >= ea) & (f <= eb))
-    idx = np.flatnonzero(sel)
-    if idx.size == 0:
-        reasons.append("no trace point falls inside the region")
-        res.reasons = reasons
-        return res, [], warnings
+    return sel
 
+
+def _levels(spectrum: Spectrum, limits, idx, excluded, reasons, warnings):
+    """Each point's level in the rule's reference bandwidth, dBm, and that bandwidth, Hz (step 2)."""
+    f = spectrum.freq_hz
     fr = f[idx]
     ref_bw = np.asarray(limits.reference_bandwidth_hz(fr), dtype=float)
     if not np.all(np.isfinite(ref_bw)):
         bad = fr[~np.isfinite(ref_bw)]
         reasons.append(f"the mask gives no reference bandwidth from {_fmt(bad[0])} to {_fmt(bad[-1])}")
     rbw = spectrum.rbw_hz[idx]
-
-    # 2. level in the reference bandwidth
-    ok_bw = np.isfinite(ref_bw)
-    bw = np.where(ok_bw, ref_bw, rbw)
+    bw = np.where(np.isfinite(ref_bw), ref_bw, rbw)
     integrate = rbw < bw
     level_w = spectrum.power_w[idx].copy()
     if integrate.any():
@@ -186,7 +228,7 @@ def judge_region(
         got, cov = spectrum.band_powers_and_coverages(f[sub], b_int)
         # the part of a band that reaches into an excluded window (the
         # fundamental) is left out: that power belongs to the fundamental
-        for ea, eb in res.excluded_hz:
+        for ea, eb in excluded:
             a = np.maximum(f[sub] - b_int / 2.0, ea)
             b = np.minimum(f[sub] + b_int / 2.0, eb)
             hit = b > a
@@ -206,14 +248,12 @@ def judge_region(
             f"bandwidth ({_fmt(float(bw[wide].min()))}) at {int(wide.sum())} point(s); readings used as they are "
             "(exact for discrete emissions, conservative for noise-like ones)"
         )
-    level_dbm = 10.0 * np.log10(level_w) + 30.0
-    lim_w = np.asarray(limits.limit_w(fr), dtype=float)
-    if not (np.all(np.isfinite(lim_w)) and np.all(lim_w > 0)):
-        raise ValueError(f"region {limits.name!r}: the mask produced a limit that is not a finite power > 0")
-    limit_dbm = 10.0 * np.log10(lim_w) + 30.0
-    margin = limit_dbm - level_dbm
+    return 10.0 * np.log10(level_w) + 30.0, bw
 
-    # 4. points that cannot show what lies between them
+
+def _evaluable(spectrum: Spectrum, idx, reasons) -> np.ndarray:
+    """Points that can show what lies between them and their neighbours (step 4)."""
+    rbw = spectrum.rbw_hz[idx]
     lo, hi = spectrum.cell_edges_hz
     width = (hi - lo)[idx]
     evaluable = np.ones(idx.size, bool)
@@ -226,6 +266,11 @@ def judge_region(
                 f"({_fmt(float(rbw[~evaluable].min()))}) with a '{spectrum.detector}' detector: an emission between "
                 "them could be missed (use more points, a wider RBW with integration, or a peak detector)"
             )
+    return evaluable
+
+
+def _detector_notes(spectrum: Spectrum, limits, reasons, warnings) -> None:
+    """The rule's detector against the trace's."""
     if limits.detector == "quasi-peak" and spectrum.detector not in ("peak", "quasi-peak", "unknown"):
         reasons.append(
             f"the rule calls for a quasi-peak detector; the trace was taken with '{spectrum.detector}', which can read "
@@ -240,14 +285,15 @@ def judge_region(
     if spectrum.detector == "unknown":
         warnings.append(f"{limits.name}: the trace does not say which detector made it; results assume it reads mean power")
 
-    # 5. noise floor per reference-bandwidth band
-    floor_dbm = np.empty(idx.size)
-    runs = np.concatenate(([0], np.flatnonzero(np.diff(bw)) + 1, [idx.size]))
+
+def _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons) -> np.ndarray:
+    """Points over the limit that stand clear of a floor above the limit (step 5)."""
+    floor_dbm = np.empty(fr.size)
+    runs = np.concatenate(([0], np.flatnonzero(np.diff(bw)) + 1, [fr.size]))
     for a, b in zip(runs[:-1], runs[1:]):
         floor_dbm[a:b] = np.percentile(level_dbm[a:b], FLOOR_PERCENTILE)
     over = (margin < 0) & evaluable
     floor_limited = over & (floor_dbm > limit_dbm) & (level_dbm < floor_dbm + FLOOR_CLEARANCE_DB)
-    genuine = over & ~floor_limited
     if floor_limited.any():
         k = np.flatnonzero(floor_limited)
         reasons.append(
@@ -255,32 +301,17 @@ def judge_region(
             f"({float(np.median(limit_dbm[k])):.1f} dBm) from {_fmt(float(fr[k[0]]))} to {_fmt(float(fr[k[-1]]))}: "
             "the trace cannot show compliance there (lower the floor: less attenuation, narrower RBW, a notch for the fundamental)"
         )
+    return over & ~floor_limited
 
-    # worst point among the evaluated points
-    ev = np.flatnonzero(evaluable)
-    res.points_evaluated = int(ev.size)
-    if ev.size:
-        w = _worst(ev, margin, spectrum.power_w[idx])
-        res.worst_margin_db = float(margin[w])
-        res.worst_freq_hz = float(fr[w])
-        res.worst_level_dbm = float(level_dbm[w])
-        res.worst_limit_dbm = float(limit_dbm[w])
-    res.curve = Curve(fr.copy(), level_dbm, limit_dbm)
 
-    if genuine.any():
-        res.verdict = "fail"
-    elif reasons:
-        res.verdict = "incomplete"
-    elif res.worst_margin_db is not None and res.worst_margin_db < guard_db:
-        res.verdict = "marginal"
-    else:
-        res.verdict = "pass"
-    res.reasons = reasons
-
-    # discrete emissions near the limit
-    emissions: list[Emission] = []
-    # peaks of (level - limit): the height filter runs before the costly
-    # prominence computation in scipy, so only peaks near the limit pay for it
+def _emissions(spectrum, limits, idx, margin, level_dbm, limit_dbm, evaluable, genuine, ev, report_threshold_db,
+               warnings) -> list[Emission]:
+    """Discrete emissions near the limit: peaks of (level - limit)."""
+    from scipy.signal import find_peaks
+    
+    fr = spectrum.freq_hz[idx]
+    # the height filter runs before the costly prominence computation in
+    # scipy, so only peaks near the limit pay for it
     peaks, _ = find_peaks(-margin, height=-report_threshold_db, prominence=PEAK_PROMINENCE_DB)
     peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db)] if peaks.size else peaks
     if genuine.any() and ev.size:
@@ -293,11 +324,7 @@ def judge_region(
             f"the {MAX_LISTED_EMISSIONS} worst are listed"
         )
         peaks = np.sort(keep)
-    for p in peaks:
-        emissions.append(
-            Emission(float(fr[p]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name)
-        )
-    return res, emissions, warnings
+    return [Emission(float(fr[p]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name) for p in peaks]
 
 
 def _worst(candidates: np.ndarray, margin: np.ndarray, reading_w: np.ndarray) -> int:

@@ -1,0 +1,182 @@
+"""Every region of the evaluated mask, judged: the region loop of one check.
+
+Each region's result is built once: :func:`maskcheck.core.verdict.judge_region`
+judges the readings, and the caveats that the check knows beyond the readings
+(an absolute limit that an uncalibrated recording cannot show, a rule that
+forbids integrating a narrower RBW, a range a correction table left out) are
+added in one place, :func:`_with_caveats`, before the result is handed on.
+
+Occupied-bandwidth regions compare the measured occupied bandwidth with the
+widest allowed.  Close listed emissions are merged: one per reference
+bandwidth.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from ..core.result import RegionResult
+from ..core.units import format_frequency
+from ..core.verdict import judge_region
+from .reference import Reference
+
+__all__ = ["JudgedRegions", "judge_regions", "judge_occupied_bandwidth"]
+
+
+@dataclass(frozen=True)
+class JudgedRegions:
+    """The regions of one check, its listed emissions and the warnings the judging raised."""
+
+    regions: tuple[RegionResult, ...]
+    emissions: tuple
+    warnings: tuple[str, ...]
+
+
+def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, reference: Reference, guard_db: float,
+                  report_threshold_db: float, removed=()) -> JudgedRegions:
+    """Judge every evaluated region of the mask, in the order of the file.
+
+    ``removed`` holds the ranges a correction table left out, each a mapping
+    with ``start_hz``, ``stop_hz`` and ``reason``: a region that lacks data
+    there is told why.
+    """
+    fc = float(carrier_hz)
+    regions: list[RegionResult] = []
+    emissions: list = []
+    warnings: list[str] = []
+    obw = readings.occupied
+    for lim in limits:
+        if lim.unevaluated:
+            regions.append(RegionResult(lim.name, lim.kind, fc, fc, "incomplete", limit_text=lim.limit_text, detector_required=lim.detector,
+                                        reasons=[f"not evaluated: it {lim.unevaluated}"], anchor=lim.anchor))
+            continue
+        if lim.kind == "occupied-bandwidth":
+            regions.append(judge_occupied_bandwidth(lim.name, lim.max_bandwidth_hz, lim.limit_text, obw, fc))
+            continue
+        caveats: list[str] = []
+        if reference.relative_reference is not None:
+            lim_in = lim
+            lim, note = _relative_limits(lim, reference.relative_reference)
+            if note is not None:
+                caveats.append(note)
+            if lim is None:
+                regions.append(RegionResult(lim_in.name, lim_in.kind, lim_in.start_hz, lim_in.stop_hz, "incomplete",
+                                            limit_text=lim_in.limit_text, detector_required=lim_in.detector, reasons=[note]))
+                continue
+        res, ems, w = judge_region(spectrum, lim, excluded_hz=list(lim.excluded_hz), guard_db=guard_db,
+                                   report_threshold_db=report_threshold_db, anchor=lim.anchor)
+        if res.points_evaluated:
+            caveats.extend(_narrower_than_allowed(spectrum, lim))
+        res = _with_caveats(res, caveats, _removed_reasons(res, removed))
+        clause = f"{mask.provenance.citation}, region '{lim.name}'"
+        # each listed emission names the limit applied and its clause
+        emissions.extend(replace(e, limit_text=lim.limit_text, clause=clause) for e in _merge_close_emissions(ems, lim))
+        warnings.extend(lim.notes)
+        warnings.extend(w)
+        regions.append(res)
+    return JudgedRegions(tuple(regions), tuple(emissions), tuple(warnings))
+
+
+def _with_caveats(res: RegionResult, caveats: list[str], removed_reasons: list[str]) -> RegionResult:
+    """The judged region with what the check knows beyond its readings: at best ``incomplete`` with a caveat."""
+    if not caveats and not removed_reasons:
+        return res
+    verdict = res.verdict if res.verdict == "fail" or not caveats else "incomplete"
+    return replace(res, verdict=verdict, reasons=[*res.reasons, *caveats, *removed_reasons])
+
+
+def _removed_reasons(res: RegionResult, removed) -> list[str]:
+    """Why a range without data is missing, when a correction table left it out."""
+    out = []
+    for gap in removed:
+        if any(a < gap["stop_hz"] and b > gap["start_hz"] for a, b in res.uncovered_hz) and gap["reason"] not in res.reasons:
+            if gap["reason"] not in out:
+                out.append(gap["reason"])
+    return out
+
+
+def judge_occupied_bandwidth(name, max_bw_hz, limit_text, obw_fig, fc) -> RegionResult:
+    """The occupied bandwidth against the widest allowed: over the limit fails."""
+    base = dict(limit_text=limit_text, limit_bandwidth_hz=float(max_bw_hz), anchor="occupied bandwidth")
+    if obw_fig is None:
+        return RegionResult(name, "occupied-bandwidth", fc, fc, "incomplete",
+                            reasons=["the occupied bandwidth was not measured (see the warnings)"], **base)
+    spare = max_bw_hz - obw_fig.width_hz
+    if spare < 0:
+        verdict = "fail"
+        why = f"occupied bandwidth {format_frequency(obw_fig.width_hz)} exceeds {format_frequency(max_bw_hz)} by {format_frequency(-spare)}"
+    else:
+        verdict = "pass"
+        why = (f"occupied bandwidth {format_frequency(obw_fig.width_hz)} is within {format_frequency(max_bw_hz)} "
+               f"({format_frequency(spare)} to spare)")
+    return RegionResult(name, "occupied-bandwidth", obw_fig.lower_hz, obw_fig.upper_hz, verdict, reasons=[why],
+                        measured_bandwidth_hz=obw_fig.width_hz, points_evaluated=1, **base)
+
+
+def _merge_close_emissions(ems, lim):
+    """One emission per reference bandwidth.
+
+    Two peaks of the level in the reference bandwidth closer together than
+    that bandwidth are one emission seen through one integration window (a
+    narrow spur gives a flat top as wide as the window); the lower margin is
+    kept, the earlier on a tie.
+    """
+    if len(ems) < 2:
+        return ems
+    f = np.array([e.freq_hz for e in ems])
+    bw = np.asarray(lim.reference_bandwidth_hz(f), dtype=float)
+    kept = [ems[0]]
+    for e, w in zip(ems[1:], bw[1:]):
+        last = kept[-1]
+        if np.isfinite(w) and e.freq_hz - last.freq_hz < w:
+            if e.margin_db < last.margin_db:
+                kept[-1] = e
+        else:
+            kept.append(e)
+    return kept
+
+
+def _narrower_than_allowed(spectrum, lim) -> list[str]:
+    """A rule that asks for its reference bandwidth itself: a narrower RBW is not what it allows."""
+    if not lim.refuse_narrower:
+        return []
+    f = spectrum.freq_hz
+    sel = np.asarray(lim.in_scope(f), dtype=bool)
+    ref = np.asarray(lim.reference_bandwidth_hz(f[sel]), dtype=float)
+    rbw = spectrum.rbw_hz[sel]
+    narrow = np.isfinite(ref) & (rbw < ref * (1 - 1e-9))
+    if not narrow.any():
+        return []
+    return [
+        f"the rule asks for a {format_frequency(float(np.nanmin(ref[narrow])))} measurement bandwidth; the trace's RBW "
+        f"({format_frequency(float(rbw[narrow].min()))}) is narrower at {int(narrow.sum())} point(s) and integrating it is "
+        "not what the rule allows: measure with the rule's bandwidth"
+    ]
+
+
+_ABSOLUTE_NOTE = (
+    "the absolute limit ({text}) cannot be judged on an uncalibrated recording (levels in dBFS): "
+    "calibrate with --full-scale or --ref-tone"
+)
+
+
+def _relative_limits(lim, reference_fs):
+    """A region's limits on the dBFS scale: the relative part only, below ``reference_fs``.
+
+    The limits were evaluated (and their texts written) with the reference
+    power in W; here the relative terms are moved onto the recording's own
+    scale (:mod:`.reference`).  Returns ``(limits, note)``: ``note`` says an
+    absolute part was left unjudged (the region is then at best incomplete);
+    ``limits`` is None when the region has an absolute limit only.
+    """
+    text = _ABSOLUTE_NOTE.format(text=lim.limit_text)
+    if lim.terms:  # a limit that varies along the axis (mask schema v3): keep its relative term only
+        relative_terms = tuple(t for t in lim.terms if t[0] == "attenuation_db")
+        if not relative_terms:
+            return None, text
+        return replace(lim, reference_power_w=reference_fs, terms=relative_terms), (text if len(relative_terms) < len(lim.terms) else None)
+    if lim.attenuation_db is None:
+        return None, text
+    return replace(lim, reference_power_w=reference_fs, level_w=None), (text if lim.level_w is not None else None)
