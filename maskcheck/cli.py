@@ -48,11 +48,28 @@ def main(argv=None) -> int:
     try:
         return args.run(args)
     except MaskcheckError as exc:
-        print(f"maskcheck: error: {exc}", file=sys.stderr)
+        print(f"maskcheck: error: {_for_cli(exc)}", file=sys.stderr)
         return EXIT_USAGE
     except KeyboardInterrupt:
         print("maskcheck: interrupted; nothing was written", file=sys.stderr)
         return 130
+
+
+#: library parameter -> command-line option (interim; see commands/)
+_PARAM_OPTIONS = {"sideband": "--sideband", "necessary": "--necessary-bw", "authorized_bw_hz": "--authorized-bw",
+                  "exclude_hz": "--exclude", "xdb_db": "--xdb", "guard_db": "--guard", "power_w": "--power"}
+
+
+def _for_cli(exc: MaskcheckError) -> str:
+    """The error's line with the library's parameter names given as the options a user types."""
+    import re
+
+    text = str(exc)
+    if exc.param not in _PARAM_OPTIONS:
+        return text
+    for name, option in _PARAM_OPTIONS.items():
+        text = re.sub(rf"(?<![\w-]){re.escape(name)}(?![\w-])", option, text)
+    return text
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -230,20 +230,13 @@ def choose_trace(args, mask) -> str:
     return "max-hold" if wants_peak else "average"
 
 
-def _score(result) -> float:
-    """Worst margin of a result over its regions, dB (+inf when none was evaluated)."""
-    margins = [r.worst_margin_db for r in result.regions if r.worst_margin_db is not None]
-    return min(margins) if margins else float("inf")
-
-
 def worst_frame_check(result, got: InputSet, judge):
     """In the time-resolved mode (``--frame``), judge every frame and keep the worst.
 
-    The result of the whole-recording trace stands unless some frame has a
-    lower worst margin; then that frame's result is returned.  Either way the
-    spectrum summary gains a ``time_resolved`` entry (frames, the worst frame
-    and its start, both margins) and a warning says which was judged.
+    The judging itself is :func:`maskcheck.checking.frames.judge_frames`;
+    this adapter only hands it the frames of the one recording given.
     """
+    from ..checking.frames import judge_frames
     from ..errors import RecordingError
 
     if not getattr(got, "recordings", None) or not any(rs.frames for rs in got.recordings):
@@ -252,32 +245,8 @@ def worst_frame_check(result, got: InputSet, judge):
         raise RecordingError("the time-resolved mode (--frame) takes one recording and no other input", where="--frame")
     (rs,) = got.recordings
     (fc, est) = rs.estimates[0]
-    scores = []
-    results = []
-    for i in range(rs.frames):
-        r = judge(rs.frame_spectrum(i))
-        scores.append(_score(r))
-        results.append(r)
-    worst = min(range(len(scores)), key=lambda i: scores[i])
-    whole = _score(result)
-    info = {
-        "frames": rs.frames,
-        "frame_s": float(est.frame_averages[0] * est.plan.hop_samples / est.plan.sample_rate_hz),
-        "worst_frame": worst,
-        "worst_frame_start_s": float(est.frame_start_s[worst]),
-        "worst_frame_margin_db": None if scores[worst] == float("inf") else scores[worst],
-        "worst_frame_averages": int(est.frame_averages[worst]),
-        "whole_recording_margin_db": None if whole == float("inf") else whole,
-    }
-    chosen = result
-    if scores[worst] < whole:
-        chosen = results[worst]
-        chosen.warnings.insert(0, (
-            f"time-resolved: frame {worst} (from {info['worst_frame_start_s']:.6g} s, {info['worst_frame_averages']} "
-            f"averages) is judged: its worst margin {scores[worst]:.2f} dB is below the whole recording's "
-            f"{'none' if whole == float('inf') else f'{whole:.2f} dB'} (verdict of the whole recording: {result.verdict})"
-        ))
-    else:
-        chosen.warnings.insert(0, f"time-resolved: no frame of {rs.frames} does worse than the whole recording")
-    chosen.spectrum_summary["time_resolved"] = info
-    return chosen
+    return judge_frames(
+        result, rs.frame_spectrum, frames=rs.frames,
+        frame_s=float(est.frame_averages[0] * est.plan.hop_samples / est.plan.sample_rate_hz),
+        starts_s=est.frame_start_s, averages=est.frame_averages, judge=judge,
+    )

@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from ._common import add_trace_options, console
+from ._common import add_trace_options
+from ._outputs import add_output_options, check_output_options, write_outputs
 from ._recording import add_recording_options
-
 from .designator import add_emission_options
 
 __all__ = ["register", "run"]
@@ -61,14 +61,10 @@ def run(args) -> int:
     necessary, authorized, _ = emission_from_args(args, args.designator)
     within = parse_db(args.list_within, what="--list-within")
     xdb = parse_db(args.xdb, what="--xdb")
-    notes = ()
-    if getattr(args, "sideband", None):
-        from .designator import assigned_from_sideband
-
-        carrier, note = assigned_from_sideband(carrier, args.sideband, necessary, args)
-        notes = (note,)
+    # with --sideband, the check places the emission's centre from the suppressed carrier (checking/emission.py)
+    low_mod = parse_frequency(args.low_mod, what="--low-mod", default_unit="Hz") if getattr(args, "low_mod", None) else None
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
-                      notes=notes)
+                      sideband=getattr(args, "sideband", None), low_mod_hz=low_mod)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
     setup = _read_setup(args)
     from ._recording import choose_trace, read_input, worst_frame_check
@@ -93,7 +89,7 @@ def run(args) -> int:
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)
     result = worst_frame_check(result, got, judge)
-    _write_outputs(result, args)
+    write_outputs(result, args)
     return result.exit_code
 
 
@@ -107,63 +103,3 @@ def _read_setup(args):
     if getattr(args, "correction", None):
         raise SetupError("give the chain in --setup or a --correction table, not both (the losses would be added twice)", where="--correction")
     return read_setup(args.setup)
-
-
-def _write_outputs(result, args) -> None:
-    to_stdout = args.json == "-" or getattr(args, "csv", None) == "-"
-    if not args.quiet:
-        from ..report.terminal import render_check
-
-        render_check(result, console(stderr=to_stdout))
-    if args.json:
-        from ..report.tables import write_json
-
-        write_json(result, args.json, force=args.force)
-    if args.report:
-        from ..report.pdf import write_report
-
-        write_report(result, args.report, force=args.force)
-    written = [p for p in (args.json, args.report) if p and p != "-"]
-    written += _write_tables_and_figures(result, args)
-    if not args.quiet and not to_stdout:
-        if written:
-            console().print("written: " + ", ".join(written))
-
-
-# -- issue 7: --csv and --figures (also used by 'maskcheck simulate') --------------------
-def add_output_options(sp) -> None:
-    """``--csv PATH`` and ``--figures DIR``."""
-    sp.add_argument("--csv", metavar="PATH", help="write the margins table as CSV: one row per region, then one per listed emission ('-' for standard output)")
-    sp.add_argument("--figures", metavar="DIR", help="write every plot of the report as an SVG file into this folder (created if missing)")
-
-
-def check_output_options(args) -> None:
-    """Refuse before any work: an existing CSV without --force, a --figures path that is a file."""
-    from ..errors import OutputError
-    from ..io.output import check_writable
-    from pathlib import Path
-
-    if getattr(args, "csv", None) == "-" and getattr(args, "json", None) == "-":
-        raise OutputError("only one of --json and --csv can go to standard output", path="-", where="--csv")
-    if getattr(args, "csv", None) and args.csv != "-":
-        check_writable(args.csv, args.force)
-    fig = getattr(args, "figures", None)
-    if fig and Path(fig).exists() and not Path(fig).is_dir():
-        raise OutputError("exists and is not a folder", path=fig, where="--figures")
-
-
-def _write_tables_and_figures(result, args) -> list[str]:
-    written = []
-    if getattr(args, "csv", None):
-        from ..report.margins_csv import write_csv
-
-        write_csv(result, args.csv, force=args.force)
-        if args.csv != "-":
-            written.append(args.csv)
-    if getattr(args, "figures", None):
-        from ..report.figures import write_figures
-
-        written += [str(p) for p in write_figures(result, args.figures, force=args.force)]
-    return written
-
-

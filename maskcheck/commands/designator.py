@@ -67,47 +67,6 @@ def formula_inputs(args) -> dict:
     }
 
 
-#: lowest audio frequency of communications-quality SSB voice when none is
-#: stated (the 300-3000 Hz channel of the J3E example, 47 CFR 2.202(g))
-DEFAULT_LOW_MOD_HZ = 300.0
-
-
-def assigned_from_sideband(carrier_hz: float, sideband: str, necessary, args) -> tuple[float, str]:
-    """The assigned frequency (centre of the emission) of an SSB emission and a note saying how.
-
-    For single sideband the suppressed (or reduced) carrier lies below the
-    emission (upper sideband) or above it (lower sideband); the emission's
-    centre is ``carrier +- (f_low + Bn / 2)``, with ``f_low`` the lowest
-    modulation frequency (``--low-mod``, default 300 Hz).
-    """
-    from ..core.designator import parse_designator
-    from ..core.units import format_frequency, parse_frequency
-    from ..errors import StationError
-
-    if not getattr(args, "designator", None):
-        raise StationError("--sideband needs the emission's designator (e.g. 2K70J3E)", where="--sideband")
-    des = parse_designator(args.designator, where="--designator")
-    if des.symbols[:1] not in ("J", "R", "H"):
-        raise StationError(
-            f"{des.text} is not single sideband (first symbol {des.symbols[:1]!r}; expected J, R or H); "
-            "drop --sideband: the carrier is the centre of this emission",
-            where="--sideband",
-        )
-    bn = getattr(necessary, "bandwidth_hz", None)
-    if bn is None:
-        raise StationError("--sideband needs a necessary bandwidth (a bandwidth code, the formula inputs or --necessary-bw)", where="--sideband")
-    f_low = parse_frequency(args.low_mod, what="--low-mod", default_unit="Hz") if args.low_mod else DEFAULT_LOW_MOD_HZ
-    shift = f_low + bn / 2.0
-    sign = 1.0 if sideband == "upper" else -1.0
-    centre = carrier_hz + sign * shift
-    note = (
-        f"{sideband} sideband: suppressed carrier {format_frequency(carrier_hz)}; the offsets, windows and domains are "
-        f"measured from the emission's centre {format_frequency(centre)} = carrier {'+' if sign > 0 else '-'} "
-        f"(f_low {format_frequency(f_low)} + Bn/2 {format_frequency(bn / 2.0)})"
-    )
-    return centre, note
-
-
 def emission_from_args(args, designator: str | None):
     """(necessary, authorized, warnings) for ``check`` from the options."""
     from ..core.necessary import resolve_necessary

@@ -20,7 +20,7 @@ def register(sub) -> None:
     s.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files")
     s.add_argument("--json", metavar="PATH", help="result JSON (default with a mask: DIR/result.json; '-' for standard output)")
     s.add_argument("--report", metavar="PDF", help="PDF report (default with a mask: DIR/report.pdf)")
-    from .check import add_output_options
+    from ._outputs import add_output_options
 
     add_output_options(s)  # --csv, --figures (issue 7)
     s.add_argument("--force", action="store_true", help="overwrite existing output files")
@@ -37,7 +37,7 @@ def run(args) -> int:
     from ..io.output import check_writable
     from ..io.trace_write import write_spans
     from ..sim.scenario import load_scenario, run_scenario
-    from .check import _write_outputs, check_output_options
+    from ._outputs import check_output_options, write_outputs
 
     sc, sha = load_scenario(args.scenario)
     mask_id = args.mask or sc.check.mask
@@ -94,5 +94,5 @@ def run(args) -> int:
                       designator=designator.strip().upper() if designator else None,
                       name=f"simulated: {sc.name}", notes=("simulated scenario, not a measurement",))
     result = check(sim.wideband.spectrum, mask, station, guard_db=guard, inputs=[InputFile(str(args.scenario), sha)])
-    _write_outputs(result, args)
+    write_outputs(result, args)
     return result.exit_code
