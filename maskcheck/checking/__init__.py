@@ -1,12 +1,23 @@
 """The check: ``check(spectrum, mask, station) -> CheckResult``.
 
 A short sequence of named steps, each deciding one thing once and handing a
-typed record to the next (see ``DEVELOPERS.md``):
+frozen record to the next (the order is that of :func:`check`):
 
-==================  ==========================================================
-``window``          the fundamental window (the one owner of its rule)
-``pipeline``        ``check()`` itself: the steps in order
-==================  ==========================================================
+===============  ===============================================================
+``emission``     designator (parsed once), necessary and authorised bandwidth,
+                 domains, the SSB centre -> ``EmissionFacts``
+``window``       the fundamental window, the one owner of its rule
+                 -> ``FundamentalWindow``
+``fundamental``  channel power, occupied and x-dB bandwidth in that window
+                 -> ``FundamentalReadings``
+``reference``    the reference power, once, on the spectrum's scale
+                 -> ``Reference``
+``regions``      the region loop, occupied-bandwidth judgement, merging of
+                 close emissions -> ``JudgedRegions``
+``summary``      verdicts combined, the ``CheckResult`` assembled as data
+``pipeline``     ``check()`` itself: the steps in order
+``frames``       time-resolved judging of a recording (a loop above ``check``)
+===============  ===============================================================
 
 No step does I/O: the commands read files and write outputs.
 """

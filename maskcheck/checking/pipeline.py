@@ -47,19 +47,17 @@ Decisions written down
 from __future__ import annotations
 
 import math
-from dataclasses import replace
 
 from ..core.necessary import NecessaryBandwidth
 from ..core.result import CheckResult, InputFile
 from ..core.spectrum import Spectrum
 from ..core.station import Station
-from ..core.units import format_frequency
 from ..errors import StationError
 from ..masks.evaluate import applies_to, applies_when, evaluate_mask, station_variables
 from .emission import EmissionFacts, emission_facts
 from .fundamental import check_xdb, measure_fundamental
 from .reference import Reference, reference_power
-from .regions import judge_occupied_bandwidth, judge_regions
+from .regions import judge_regions
 from .summary import assemble, spectrum_records, utc_now
 from .window import fundamental_window
 
@@ -94,8 +92,7 @@ def check(
         Guard band, dB: margins in ``[0, guard_db)`` make the verdict
         ``marginal``.
     exclude_hz : float, optional
-        Half-width of the fundamental window around the carrier, Hz,
-        overriding the domains and the mask's default.
+        Half-width of the fundamental window, Hz, overriding :mod:`.window`'s rule.
     report_threshold_db : float
         Discrete emissions within this many dB of the limit are listed
         (20 dB after 47 CFR 2.1057(c)).
@@ -112,9 +109,8 @@ def check(
         The authorised bandwidth, Hz: the occupied bandwidth is judged
         against it, and masks may refer to it.
     xdb_db : float
-        The x of the x-dB bandwidth measured in the fundamental window, dB
-        (26 dB by default, the FCC "emission bandwidth"); it is reported,
-        not judged.
+        The x of the x-dB bandwidth in the fundamental window, dB (26 dB, the
+        FCC "emission bandwidth"); reported, not judged.
 
     Returns
     -------
@@ -138,17 +134,13 @@ def check(
     _, corrections = spectrum_records(spectrum)
     judged = judge_regions(spectrum, mask, limits, carrier_hz=station.carrier_hz, readings=readings, reference=reference,
                            guard_db=guard_db, report_threshold_db=report_threshold_db,
+                           authorized_bw_hz=facts.authorized_bw_hz,
                            removed=() if corrections is None else corrections.get("removed_hz", ()))
-    regions = list(judged.regions)
-    if facts.authorized_bw_hz is not None and not any(lim.kind == "occupied-bandwidth" for lim in limits):
-        text = f"occupied bandwidth at most the authorised bandwidth {format_frequency(facts.authorized_bw_hz)}"
-        regions.append(judge_occupied_bandwidth("occupied bandwidth", facts.authorized_bw_hz, text, readings.occupied,
-                                                station.carrier_hz))
     class_ok, class_warnings = _emission_class(mask, facts)
     warnings = [*facts.warnings, *readings.warnings, *reference.warnings, *applies_warnings, *judged.warnings,
                 *class_warnings]
     return assemble(spectrum, mask, station=station, facts=facts, window=window, readings=readings,
-                    reference=reference, judged=replace(judged, regions=tuple(regions)),
+                    reference=reference, judged=judged,
                     applicable=applicable and class_ok, warnings=warnings, guard_db=guard_db,
                     report_threshold_db=report_threshold_db, inputs=inputs)
 

@@ -35,8 +35,12 @@ class JudgedRegions:
 
 
 def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, reference: Reference, guard_db: float,
-                  report_threshold_db: float, removed=()) -> JudgedRegions:
+                  report_threshold_db: float, authorized_bw_hz: float | None = None, removed=()) -> JudgedRegions:
     """Judge every evaluated region of the mask, in the order of the file.
+
+    With an authorised bandwidth and no occupied-bandwidth region in the
+    mask, the occupied bandwidth is judged against the authorised one in a
+    region of its own, after the mask's.
 
     ``removed`` holds the ranges a correction table left out, each a mapping
     with ``start_hz``, ``stop_hz`` and ``reason``: a region that lacks data
@@ -76,6 +80,9 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
         warnings.extend(lim.notes)
         warnings.extend(w)
         regions.append(res)
+    if authorized_bw_hz is not None and not any(lim.kind == "occupied-bandwidth" for lim in limits):
+        text = f"occupied bandwidth at most the authorised bandwidth {format_frequency(authorized_bw_hz)}"
+        regions.append(judge_occupied_bandwidth("occupied bandwidth", authorized_bw_hz, text, obw, fc))
     return JudgedRegions(tuple(regions), tuple(emissions), tuple(warnings))
 
 

@@ -375,13 +375,16 @@ def parse_designator(text: str, *, where: str = "designator") -> Designator:
     return Designator(bandwidth, code, symbols)
 
 
-def format_designator(bandwidth_hz: float, symbols: str) -> str:
-    """Build a designator from a bandwidth and the classification symbols.
+def format_designator(bandwidth_hz: float, symbols) -> str:
+    """Build a designator from a bandwidth and the classification symbols (text, or a parsed :class:`Designator`).
 
     Examples
     --------
     >>> format_designator(16e3, "F3E"), format_designator(100.0, "A1AAN")
     ('16K0F3E', '100HA1AAN')
     """
-    sym = parse_designator(symbols).symbols if isinstance(symbols, str) else symbols
+    if isinstance(symbols, Designator):
+        sym = symbols.symbols
+    else:
+        sym = parse_designator(symbols).symbols if isinstance(symbols, str) else symbols
     return format_bandwidth_code(bandwidth_hz) + sym

@@ -482,10 +482,11 @@ def from_measurement(occupied_bw_hz: float, designator: str | None = None) -> Ne
     """
     bn = _positive("occupied bandwidth", occupied_bw_hz, "--necessary-bw")
     if isinstance(designator, Designator):  # parsed once by the caller
-        symbols = designator.symbols
+        des = designator
     else:
-        symbols = parse_designator(designator, where="--designator").symbols if designator else ""
-    text = format_designator(bn, symbols) if symbols else format_bandwidth_code(bn)
+        des = parse_designator(designator, where="--designator") if designator else None
+    symbols = des.symbols if des is not None else ""
+    text = format_designator(bn, des) if symbols else format_bandwidth_code(bn)
     return NecessaryBandwidth(
         bn, text, symbols[:3], "measured", "the measured occupied bandwidth (RR Appendix 1: measurement where no formula fits)",
         notes=("measured: the necessary bandwidth follows the transmitter, so a wide emission widens its own domains",),

@@ -550,8 +550,9 @@ def evaluate_mask(
         Half-width around the carrier that spurious regions skip, overriding
         the boundary and the mask's default (``--exclude``).
     reference_w : float, optional
-        The reference power, W, when the check measured it (0 dBsd); by
-        default :func:`reference_power_w`.
+        The reference power, W, as the check decided it (stated, PEP,
+        carrier, channel, or a measured 0 dBsd); by default
+        :func:`reference_power_w`.
 
     Returns
     -------
@@ -575,10 +576,12 @@ def evaluate_mask(
     7.0
     """
     _check_station(power_w, pep_w, carrier_hz)
-    ref_w, _note = reference_power_w(mask, power_w=power_w, pep_w=pep_w)
-    if reference_w is not None:
+    if reference_w is None:
+        ref_w, _note = reference_power_w(mask, power_w=power_w, pep_w=pep_w)
+    else:  # the check decided it once (maskcheck/checking/reference.py)
         if not (math.isfinite(reference_w) and reference_w > 0):
-            raise StationError(f"reference power {reference_w!r} W must be finite and > 0", where="reference power")
+            raise StationError(f"reference_w={float(reference_w):g} must be finite and > 0 (the reference power, W)",
+                               param="reference_w")
         ref_w = float(reference_w)
     variables = station_variables(
         power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz,
