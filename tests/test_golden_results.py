@@ -143,6 +143,8 @@ def _normalise(d):
         d["mask"].pop("path", None)
     for i in d.get("inputs", []):
         i["path"] = Path(i["path"]).name
+    if isinstance(d.get("setup"), dict) and d["setup"].get("path"):
+        d["setup"]["path"] = Path(d["setup"]["path"]).name
     return d
 
 
