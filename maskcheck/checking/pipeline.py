@@ -50,6 +50,7 @@ from ..core.bandwidth import occupied_bandwidth, xdb_bandwidth
 from ..core.designator import parse_designator
 from ..core.domains import NORMAL_PERCENT, SM1539_TABLE_NOTE, domains as _domains
 from ..core.necessary import NecessaryBandwidth, from_measurement, resolve_necessary
+from ..core.records import DomainBoundaryRecord, SpectrumSummary, ToolRecord
 from ..core.result import BandwidthFigure, CheckResult, Curve, InputFile, MaskInfo, ReferencePower, RegionResult, combine_verdicts
 from ..core.spectrum import Spectrum
 from ..core.station import Station
@@ -291,26 +292,16 @@ def check(
     warnings = list(dict.fromkeys(warnings))
 
     if inputs is None:
-        src = spectrum.reference.get("source")
-        inputs = [InputFile(str(src), str(spectrum.reference.get("sha256", "")))] if src else []
+        inputs = [InputFile(spectrum.source, spectrum.sha256)] if spectrum.source else []
     trace = Curve(spectrum.freq_hz, spectrum.level_dbm)
-    summary = {
-        "points": len(spectrum),
-        "start_hz": spectrum.start_hz,
-        "stop_hz": spectrum.stop_hz,
-        "spans": len(spectrum.segments) + 1,
-        "rbw_hz_min": float(spectrum.rbw_hz.min()),
-        "rbw_hz_max": float(spectrum.rbw_hz.max()),
-        "detector": spectrum.detector,
-    }
-    summary.update(_estimation_summary(spectrum))
+    summary = _estimation_summary(spectrum)
     return CheckResult(
         verdict=verdict,
         mask=mask.to_info(note=mask.provenance.measurement_note or ""),
         reference_power=reference,
         regions=regions,
         emissions=sorted(emissions, key=lambda e: e.freq_hz),
-        station=station.to_dict(),
+        station=station,
         occupied_bandwidth=obw_fig,
         guard_db=float(guard_db),
         fundamental_window_hz=window,
@@ -318,18 +309,20 @@ def check(
         spectrum_summary=summary,
         inputs=list(inputs),
         warnings=warnings,
-        tool={"name": "maskcheck", "version": __version__},
+        tool=ToolRecord("maskcheck", __version__),
         created_utc=utc_now(),
         trace=trace,
-        necessary_bandwidth=None if nb is None else nb.to_dict(),
-        domains=[] if dom is None else [d.to_dict() for d in dom.spans(*_domain_extent(spectrum, regions, dom))],
-        domain_boundary=None if dom is None else {**dom.boundary.to_dict(), "source": rule_source, "notes": list(dom.notes)},
+        necessary_bandwidth=nb,
+        domains=[] if dom is None else dom.spans(*_domain_extent(spectrum, regions, dom)),
+        domain_boundary=None if dom is None else DomainBoundaryRecord.from_boundary(dom.boundary, rule_source, dom.notes),
         setup=setup_info,
         corrections=corrections,
         xdb_bandwidth=xdb_fig,
         report_threshold_db=float(report_threshold_db),
         decision_rule=_decision_rule(
-            float(guard_db), (setup_info or {}).get("measurement"), (summary.get("estimation") or {}).get("trace_uncertainty_db")
+            float(guard_db),
+            None if setup_info is None else setup_info.measurement,
+            None if summary.estimation is None else summary.estimation.trace_uncertainty_db,
         ),
     )
 
@@ -380,16 +373,15 @@ def _setup_record(spectrum, regions, warnings):
     already uncovered, so its region is ``incomplete``; here each such
     region is told why, naming the table and the range it covers.
     """
-    ref = spectrum.reference
-    if "corrections" not in ref:
-        return (dict(ref["setup"]) if "setup" in ref else None), None
-    corrections = dict(ref["corrections"])
-    for gap in corrections.get("removed_hz", ()):
+    corrections = spectrum.corrections
+    if corrections is None:
+        return spectrum.setup, None
+    for gap in corrections.removed_hz:
         for r in regions:
-            if any(a < gap["stop_hz"] and b > gap["start_hz"] for a, b in r.uncovered_hz) and gap["reason"] not in r.reasons:
-                r.reasons.append(gap["reason"])
-    warnings.extend(corrections.get("warnings", ()))
-    return (dict(ref["setup"]) if "setup" in ref else None), corrections
+            if any(a < gap.stop_hz and b > gap.start_hz for a, b in r.uncovered_hz) and gap.reason not in r.reasons:
+                r.reasons.append(gap.reason)
+    warnings.extend(corrections.warnings)
+    return spectrum.setup, corrections
 
 
 def _emission(spectrum, mask, station, necessary, authorized, exclude_hz, obw_beta, warnings):
@@ -544,7 +536,7 @@ def _refuse_narrower(spectrum, lim, res) -> None:
 # -- spectra estimated from IQ recordings (issue 5) ------------------------------------
 def _level_scale(spectrum: Spectrum) -> str:
     """``"dBFS"`` for an uncalibrated recording, else ``"dBm"``."""
-    return str(spectrum.reference.get("level_scale", "dBm"))
+    return spectrum.level_scale
 
 
 def _relative_reference(measured_w, power_w, ref_w, window):
@@ -596,31 +588,37 @@ def _relative_limits(lim, ref_fs):
     return replace(lim, reference_power_w=ref_fs, level_w=None), (text if absolute else None)
 
 
-def _estimation_summary(spectrum: Spectrum) -> dict:
-    """The estimation parameters and calibration of a spectrum made from IQ, for the result."""
-    ref = spectrum.reference
-    out = {}
-    if "level_scale" in ref:
-        out["level_scale"] = ref["level_scale"]
-    for key in ("estimation", "calibration", "recording"):
-        if key in ref:
-            out[key] = {k: v for k, v in dict(ref[key]).items() if not str(k).startswith("_")}
-    e, c = out.get("estimation"), out.get("calibration")
-    if e:  # one line each for people (reports); the dicts above are for machines
-        out["estimate"] = (
-            f"Welch, {e['window']} window, {e['segment_samples']}-sample segments, "
-            f"{100 * e['overlap_fraction']:.0f} % overlap, no detrend, ENBW {format_frequency(e['enbw_hz'])}, "
-            f"{e['trace']} ({e['detector']}) of {e['trace_averages']} segment(s), statistical uncertainty "
-            f"+-{e['trace_uncertainty_db']:.2f} dB (1 sigma, 4.34/sqrt(K))"
+def _estimation_summary(spectrum: Spectrum) -> SpectrumSummary:
+    """The spectrum as the result describes it, with the estimation and calibration of one made from IQ."""
+    e, c = spectrum.estimation, spectrum.calibration
+    estimate = levels = None
+    if e is not None:  # one line each for people (reports); the records are for machines
+        estimate = (
+            f"Welch, {e.window} window, {e.segment_samples}-sample segments, "
+            f"{100 * e.overlap_fraction:.0f} % overlap, no detrend, ENBW {format_frequency(e.enbw_hz)}, "
+            f"{e.trace} ({e.detector}) of {e.trace_averages} segment(s), statistical uncertainty "
+            f"+-{e.trace_uncertainty_db:.2f} dB (1 sigma, 4.34/sqrt(K))"
         )
-    if c:
-        text = c["method"]
-        if c.get("full_scale_dbm") is not None:
-            text += f", full scale = {c['full_scale_dbm']:.2f} dBm"
-        if c.get("tone_hz") is not None:
-            text += f" (tone {format_frequency(c['tone_hz'])} = {c['tone_dbm']:.2f} dBm, read {c['tone_measured_dbfs']:.2f} dBFS)"
-        if c.get("correction_table"):
-            text += f"; correction table {c['correction_table']}"
-        out["levels"] = text
-    return out
-
+    if c is not None:
+        levels = c.method
+        if c.full_scale_dbm is not None:
+            levels += f", full scale = {c.full_scale_dbm:.2f} dBm"
+        if c.tone_hz is not None:
+            levels += f" (tone {format_frequency(c.tone_hz)} = {c.tone_dbm:.2f} dBm, read {c.tone_measured_dbfs:.2f} dBFS)"
+        if c.correction_table:
+            levels += f"; correction table {c.correction_table}"
+    return SpectrumSummary(
+        points=len(spectrum),
+        start_hz=spectrum.start_hz,
+        stop_hz=spectrum.stop_hz,
+        spans=len(spectrum.segments) + 1,
+        rbw_hz_min=float(spectrum.rbw_hz.min()),
+        rbw_hz_max=float(spectrum.rbw_hz.max()),
+        detector=spectrum.detector,
+        level_scale=None if c is None else spectrum.level_scale,
+        estimation=e,
+        calibration=c,
+        recording=spectrum.recording,
+        estimate_text=estimate,
+        levels_text=levels,
+    )

@@ -206,9 +206,9 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
         else:
             (s,) = read_traces([p], args)
             spectra.append(s)
-            inputs.append(InputFile(str(s.reference.get("source")), str(s.reference.get("sha256", ""))))
+            inputs.append(InputFile(s.source, s.sha256))
     if recs and traces:
-        scales = {s.reference.get("level_scale", "dBm") for s in spectra}
+        scales = {s.level_scale for s in spectra}
         if "dBFS" in scales:
             from ..errors import TraceError
 
@@ -244,6 +244,9 @@ def worst_frame_check(result, got: InputSet, judge):
     spectrum summary gains a ``time_resolved`` entry (frames, the worst frame
     and its start, both margins) and a warning says which was judged.
     """
+    from dataclasses import replace
+
+    from ..core.records import TimeResolvedRecord
     from ..errors import RecordingError
 
     if not getattr(got, "recordings", None) or not any(rs.frames for rs in got.recordings):
@@ -260,24 +263,24 @@ def worst_frame_check(result, got: InputSet, judge):
         results.append(r)
     worst = min(range(len(scores)), key=lambda i: scores[i])
     whole = _score(result)
-    info = {
-        "frames": rs.frames,
-        "frame_s": float(est.frame_averages[0] * est.plan.hop_samples / est.plan.sample_rate_hz),
-        "worst_frame": worst,
-        "worst_frame_start_s": float(est.frame_start_s[worst]),
-        "worst_frame_margin_db": None if scores[worst] == float("inf") else scores[worst],
-        "worst_frame_averages": int(est.frame_averages[worst]),
-        "whole_recording_margin_db": None if whole == float("inf") else whole,
-    }
+    info = TimeResolvedRecord(
+        frames=rs.frames,
+        frame_s=float(est.frame_averages[0] * est.plan.hop_samples / est.plan.sample_rate_hz),
+        worst_frame=worst,
+        worst_frame_start_s=float(est.frame_start_s[worst]),
+        worst_frame_margin_db=None if scores[worst] == float("inf") else scores[worst],
+        worst_frame_averages=int(est.frame_averages[worst]),
+        whole_recording_margin_db=None if whole == float("inf") else whole,
+    )
     chosen = result
     if scores[worst] < whole:
         chosen = results[worst]
         chosen.warnings.insert(0, (
-            f"time-resolved: frame {worst} (from {info['worst_frame_start_s']:.6g} s, {info['worst_frame_averages']} "
+            f"time-resolved: frame {worst} (from {info.worst_frame_start_s:.6g} s, {info.worst_frame_averages} "
             f"averages) is judged: its worst margin {scores[worst]:.2f} dB is below the whole recording's "
             f"{'none' if whole == float('inf') else f'{whole:.2f} dB'} (verdict of the whole recording: {result.verdict})"
         ))
     else:
         chosen.warnings.insert(0, f"time-resolved: no frame of {rs.frames} does worse than the whole recording")
-    chosen.spectrum_summary["time_resolved"] = info
+    chosen.spectrum_summary = replace(chosen.spectrum_summary, time_resolved=info)
     return chosen
