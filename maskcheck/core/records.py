@@ -334,8 +334,15 @@ class InstrumentRecord:
     noise_density_dbm_per_hz: float | None = None
     input_impedance_ohm: float | None = 50.0
 
+    #: the order of the keys in the JSON (as results have always written them)
+    _JSON_ORDER = ("name", "detector", "max_dc_v", "input_impedance_ohm", "reference_level_dbm", "max_safe_input_dbm",
+                   "max_mixer_level_dbm", "rbw_hz", "vbw_hz", "sweep_time_s", "input_attenuation_db",
+                   "noise_density_dbm_per_hz")
+
     def to_dict(self) -> dict:
-        return {k: v for k, v in _plain(self).items() if v is not None and v != ""}
+        """The settings given (None and empty text left out)."""
+        values = ((k, getattr(self, k)) for k in self._JSON_ORDER)
+        return {k: v for k, v in values if v is not None and v != ""}
 
 
 @dataclass(frozen=True)
