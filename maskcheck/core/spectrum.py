@@ -119,6 +119,9 @@ class Spectrum:
     setup, corrections : records or None
         The measurement setup and the corrections applied to the readings
         (:meth:`maskcheck.io.setup.MeasurementSetup.apply`).
+
+    The records are those of :mod:`maskcheck.core.records`; the level scale
+    (:attr:`level_scale`) follows from the calibration.
     """
 
     freq_hz: np.ndarray
