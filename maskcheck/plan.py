@@ -53,6 +53,7 @@ from ._version import __version__
 from .checking import utc_now
 from .core.domains import NORMAL_PERCENT, domains as _domains
 from .core.necessary import resolve_necessary
+from .core.records import SetupRecord, ToolRecord
 from .core.station import Station
 from .core.units import format_frequency, w_to_dbm
 from .core.verdict import FLOOR_CLEARANCE_DB
@@ -148,7 +149,7 @@ class MeasurementPlan:
     """Everything a bench needs before measuring; plain data (``to_dict`` for JSON)."""
 
     mask: dict
-    station: dict
+    station: Station
     quantity: str
     search_range: dict
     fundamental_window_hz: tuple[float, float]
@@ -157,10 +158,10 @@ class MeasurementPlan:
     harmonics: list[PlanHarmonic]
     fundamental: dict
     floor_margin_db: float
-    setup: dict | None
+    setup: SetupRecord | None
     warnings: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
-    tool: dict = field(default_factory=dict)
+    tool: ToolRecord | None = None
     created_utc: str = ""
     #: a fixed loss ahead of the analyser on top of the setup's chain (--attenuator), dB
     extra_loss_db: float = 0.0
@@ -168,7 +169,7 @@ class MeasurementPlan:
     def to_dict(self) -> dict:
         return {
             "mask": dict(self.mask),
-            "station": dict(self.station),
+            "station": self.station.to_dict(),
             "quantity": self.quantity,
             "search_range": dict(self.search_range),
             "fundamental_window_hz": list(self.fundamental_window_hz),
@@ -179,10 +180,10 @@ class MeasurementPlan:
             "floor_margin_db": self.floor_margin_db,
             "extra_loss_db": self.extra_loss_db,
             "report_threshold_db": REPORT_THRESHOLD_DB,
-            "setup": None if self.setup is None else dict(self.setup),
+            "setup": None if self.setup is None else self.setup.to_dict(),
             "warnings": list(self.warnings),
             "notes": list(self.notes),
-            "tool": dict(self.tool),
+            "tool": {} if self.tool is None else self.tool.to_dict(),
             "created_utc": self.created_utc,
         }
 
@@ -372,7 +373,7 @@ def plan_measurement(
     return MeasurementPlan(
         mask={"id": info.id, "title": info.title, "authority": info.authority, "citation": info.citation,
               "edition": info.edition, "verified": info.verified, "path": info.path, "sha256": info.sha256},
-        station=station.to_dict(),
+        station=station,
         quantity=quantity,
         search_range=search,
         fundamental_window_hz=window,
@@ -381,10 +382,10 @@ def plan_measurement(
         harmonics=harmonics,
         fundamental=fundamental,
         floor_margin_db=float(floor_margin_db),
-        setup=None if setup is None else setup.to_dict(),
+        setup=None if setup is None else setup.record(),
         warnings=list(dict.fromkeys(warnings)),
         notes=notes,
-        tool={"name": "maskcheck", "version": __version__},
+        tool=ToolRecord("maskcheck", __version__),
         created_utc=utc_now(),
         extra_loss_db=float(extra_loss_db),
     )

@@ -95,7 +95,7 @@ def bench_trace(mask_id, *, spur_hz=None, spur_delta_db=0.0, **station):
         assert np.isfinite(lim[i]), f"no region holds {f[i]} Hz"
         level[i] = lim[i] + spur_delta_db
         used = float(f[i])
-    s = Spectrum(f, 10 ** ((level - 30) / 10), rbw, detector="peak", reference={"source": "invented bench trace"})
+    s = Spectrum(f, 10 ** ((level - 30) / 10), rbw, detector="peak", source="invented bench trace")
     return s, used
 
 
@@ -103,7 +103,7 @@ def run_check(mask_id, *, spur_hz=None, spur_delta_db=0.0, shift_db=0.0, **stati
     """Check an invented bench trace against a mask; returns the CheckResult."""
     s, _ = bench_trace(mask_id, spur_hz=spur_hz, spur_delta_db=spur_delta_db, **station)
     if shift_db:
-        s = Spectrum(s.freq_hz, s.power_w * 10 ** (shift_db / 10), s.rbw_hz, detector=s.detector, reference=s.reference)
+        s = Spectrum(s.freq_hz, s.power_w * 10 ** (shift_db / 10), s.rbw_hz, detector=s.detector, **s.metadata)
     auth = station.pop("authorized_bw_hz", None)
     st = Station(carrier_hz=station["carrier_hz"], power_w=station.get("power_w"), pep_w=station.get("pep_w"))
     return check(s, load_mask(mask_id), st, authorized_bw_hz=auth)

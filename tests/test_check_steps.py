@@ -112,14 +112,14 @@ def test_check_and_its_steps_are_short():
 
 def test_step_records_are_frozen():
     from maskcheck.checking.emission import EmissionFacts
-    from maskcheck.checking.frames import FrameJudgement
     from maskcheck.checking.fundamental import FundamentalReadings
     from maskcheck.checking.reference import Reference
     from maskcheck.checking.regions import JudgedRegions
     from maskcheck.checking.window import FundamentalWindow
+    from maskcheck.core.records import TimeResolvedRecord
     from maskcheck.core.result import Emission, RegionResult
 
-    for cls in (EmissionFacts, FrameJudgement, FundamentalReadings, Reference, JudgedRegions, FundamentalWindow,
+    for cls in (EmissionFacts, TimeResolvedRecord, FundamentalReadings, Reference, JudgedRegions, FundamentalWindow,
                 RegionResult, Emission):
         assert dataclasses.is_dataclass(cls) and cls.__dataclass_params__.frozen, cls.__name__
     r = check(_hf_spectrum(), load_mask("us-amateur-hf-2003"), Station(carrier_hz=7.1e6, power_w=100.0))

@@ -77,7 +77,7 @@ def _trace(spur_hz):
     p = np.full(f.size, 1e-13)
     p[np.argmin(abs(f - FC))] = 50.0
     p[np.argmin(abs(f - spur_hz))] = 0.1
-    return Spectrum(f, p, 1e3, detector="rms", reference={"source": "invented"})
+    return Spectrum(f, p, 1e3, detector="rms", source="invented")
 
 
 def _hf_mask(**changes):
@@ -94,7 +94,7 @@ def test_spur_inside_the_oob_domain_is_not_judged_by_the_spurious_limit():
     # From memory, not checked against the text: SM.1539 narrowband case, 2K70J3E at 7.1 MHz -> boundary +- 10 kHz
     station = Station(carrier_hz=FC, power_w=50.0, designator="2K70J3E")
     inside = check(_trace(FC + 9.5e3), load_mask("us-amateur-hf-2003"), station)
-    assert inside.domain_boundary["offset_hz"] == pytest.approx(10e3)
+    assert inside.domain_boundary.offset_hz == pytest.approx(10e3)
     assert _spurious(inside).verdict != "fail"
     assert not any(abs(e.freq_hz - (FC + 9.5e3)) < 1 for e in inside.emissions)
     outside = check(_trace(FC + 10.5e3), load_mask("us-amateur-hf-2003"), station)
@@ -112,7 +112,7 @@ def test_the_mask_names_its_boundary_rule():
     station = Station(carrier_hz=FC, power_w=50.0)
     nb, _ = resolve_necessary("2K70J3E")
     r = check(_trace(FC + 9.5e3), mask, station, necessary=nb, authorized_bw_hz=2.7e3)
-    assert r.domain_boundary["offset_hz"] == pytest.approx(6750.0) and r.domain_boundary["rule"] == "percent"
+    assert r.domain_boundary.offset_hz == pytest.approx(6750.0) and r.domain_boundary.rule == "percent"
     assert _spurious(r).verdict == "fail"  # the same spur is now in the spurious domain
 
 
@@ -126,7 +126,7 @@ def test_occupied_bandwidth_over_the_authorised_fails():
     station = Station(carrier_hz=FC, power_w=50.0, designator="2K70J3E")
     f = np.arange(FC - 50e3, FC + 50e3 + 1, 100.0)
     p = np.where(abs(f - FC) <= 1.5e3, 1e-3, 1e-15)  # Closed form: 31 flat 100 Hz cells = a 3.1 kHz block -> 99 % OBW = 0.99 x 3.1 kHz = 3069 Hz
-    s = Spectrum(f, p, 100.0, detector="rms", reference={"source": "invented"})
+    s = Spectrum(f, p, 100.0, detector="rms", source="invented")
     ok = check(s, load_mask("us-amateur-hf-2003"), station, authorized_bw_hz=3.2e3)
     bad = check(s, load_mask("us-amateur-hf-2003"), station, authorized_bw_hz=2.8e3)
     obw = [x for x in bad.regions if x.kind == "occupied-bandwidth"]

@@ -199,12 +199,12 @@ def test_estimation_parameters_travel_with_the_spectrum():
     x = np.exp(2j * np.pi * 0.1 * np.arange(1 << 15)).astype(np.complex64)
     est = _estimate(x + 1e-3, 1e6, "flattop", None, 1024, overlap=0.5)
     s = est.to_spectrum(7.1e6)
-    e = s.reference["estimation"]
-    assert e["window"] == "flattop" and e["segment_samples"] == 1024 and e["overlap_samples"] == 512
-    assert e["averages"] == 63 and e["detrend"] == "none"
-    assert e["uncertainty_db"] == pytest.approx(4.343 / np.sqrt(63), rel=1e-3)
-    assert e["enbw_hz"] == pytest.approx(window_enbw_bins("flattop", 1024) * 1e6 / 1024)
-    assert s.rbw_hz[0] == pytest.approx(e["enbw_hz"]) and s.enbw_hz[0] == pytest.approx(e["enbw_hz"])
+    e = s.estimation
+    assert e.window == "flattop" and e.segment_samples == 1024 and e.overlap_samples == 512
+    assert e.averages == 63 and e.detrend == "none"
+    assert e.uncertainty_db == pytest.approx(4.343 / np.sqrt(63), rel=1e-3)
+    assert e.enbw_hz == pytest.approx(window_enbw_bins("flattop", 1024) * 1e6 / 1024)
+    assert s.rbw_hz[0] == pytest.approx(e.enbw_hz) and s.enbw_hz[0] == pytest.approx(e.enbw_hz)
     assert s.freq_hz[0] == pytest.approx(7.1e6 - 0.5e6)
 
 

@@ -132,8 +132,8 @@ def test_same_centre_captures_are_averaged_together(tmp_path):
     meta = _write_sigmf(tmp_path / "same", x, "cf32_le", captures=((0, FC), (20000, FC)))
     s = _spectrum(meta)
     assert not s.segments
-    e = s.reference["estimation"]
-    assert e["averages"] == (20000 - 2048) // 1024 + 1 + (x.size - 20000 - 2048) // 1024 + 1
+    e = s.estimation
+    assert e.averages == (20000 - 2048) // 1024 + 1 + (x.size - 20000 - 2048) // 1024 + 1
 
 
 def _wav24(path, frames):
@@ -186,7 +186,7 @@ def test_full_scale_calibration(tmp_path):
     raw = tmp_path / "r.cf32"
     _signal().tofile(raw)
     s = _spectrum(raw, datatype="cf32_le", sample_rate_hz=FS, centre_hz=FC, calibration=Calibration(full_scale_w=1e-3))
-    assert s.reference["level_scale"] == "dBm"
+    assert s.level_scale == "dBm"
     tone = 10 * np.log10(s.band_power_w(FC + 90e3, FC + 110e3)) + 30
     assert tone == pytest.approx(-6.02, abs=0.01)
 
@@ -206,8 +206,8 @@ def test_reference_tone_calibration(tmp_path):
     s = rs.spectrum
     assert 10 * np.log10(s.band_power_w(FC + 45e3, FC + 55e3)) + 30 == pytest.approx(-10.0, abs=0.01)
     assert 10 * np.log10(s.band_power_w(FC - 205e3, FC - 195e3)) + 30 == pytest.approx(-30.0, abs=0.05)
-    assert rs.calibration["method"] == "reference tone"
-    assert rs.calibration["tone_measured_dbfs"] == pytest.approx(20 * np.log10(0.3), abs=0.01)
+    assert rs.calibration.method == "reference tone"
+    assert rs.calibration.tone_measured_dbfs == pytest.approx(20 * np.log10(0.3), abs=0.01)
 
 
 def test_correction_table_adds_its_gain(tmp_path):
@@ -470,7 +470,7 @@ def test_reading_a_large_file_stays_within_bounded_memory(tmp_path):
         peak = tracemalloc.get_traced_memory()[1]
     finally:
         tracemalloc.stop()
-    assert rs.spectrum.reference["estimation"]["samples_total"] == 256 * block
+    assert rs.spectrum.estimation.samples_total == 256 * block
     assert peak < 16 * 2**20
     assert peak < 256 * block * 8 / 4  # negative control: a quarter of the file as complex64
 

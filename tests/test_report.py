@@ -28,6 +28,8 @@ from maskcheck.core.result import (
     ReferencePower,
     RegionResult,
 )
+from maskcheck.core.records import SpectrumSummary, ToolRecord
+from maskcheck.core.station import Station
 from maskcheck.core.units import format_frequency
 from maskcheck.errors import OutputError
 from maskcheck.report import cautions
@@ -89,15 +91,16 @@ def make_result(n_points: int = 60_000, note: str = "", verified: bool = False) 
         reference_power=ReferencePower(kind="mean", dbm=50.0, source="stated", measured_dbm=49.8),
         regions=[region],
         emissions=[Emission(freq_hz=14.2e6, level_dbm=15.0, limit_dbm=7.0, margin_db=-8.0, region="spurious")],
-        station={"carrier_hz": 7.1e6, "power_w": 100.0, "pep_w": 100.0, "designator": "A1A"},
+        station=Station(carrier_hz=7.1e6, power_w=100.0, pep_w=100.0, designator="A1A"),
         occupied_bandwidth=BandwidthFigure(method="occupied", width_hz=150.0, lower_hz=7.099925e6, upper_hz=7.100075e6, parameter=0.01),
         guard_db=1.5,
         fundamental_window_hz=window,
         fundamental_window_source="carrier +/- 3 kHz (stated)",
-        spectrum_summary={"start_hz": 9e3, "stop_hz": 71e6, "points": n_points, "rbw_hz": 3e3, "detector": "rms"},
+        spectrum_summary=SpectrumSummary(points=n_points, start_hz=9e3, stop_hz=71e6, spans=1, rbw_hz_min=3e3, rbw_hz_max=3e3,
+                                         detector="rms"),
         inputs=[InputFile(path="bench/tx-7100-cw.csv", sha256=INPUT_SHA)],
         warnings=["trace detector is rms; the mask asks for rms (ok)", "harmonic at 14.2 MHz exceeds the limit"],
-        tool={"name": "maskcheck", "version": "0.1.0"},
+        tool=ToolRecord("maskcheck", "0.1.0"),
         created_utc="2026-12-01T12:00:00Z",
         trace=Curve(freq_hz=freq_hz, level_dbm=level_dbm, limit_dbm=np.full(n_points, np.nan)),
     )
@@ -357,8 +360,8 @@ def test_terminal_mask_listing_flags_unverified_rule_data():
 def test_station_and_measurement_rows_read_units_from_key_names(result):
     from maskcheck.report.tables import spectrum_rows, station_rows
 
-    result.station.update({"power_w": None, "name": "", "notes": []})
-    result.spectrum_summary.update({"rbw_hz_min": 100.0, "rbw_hz_max": 1e5})
+    result.station = dataclasses.replace(result.station, power_w=None, name="", notes=())
+    result.spectrum_summary = dataclasses.replace(result.spectrum_summary, rbw_hz_min=100.0, rbw_hz_max=1e5)
     station = dict(station_rows(result))
     assert station["carrier"] == "7.1 MHz"
     assert station["power"] == "not stated"  # None is said, not hidden

@@ -97,21 +97,21 @@ def test_two_peaks_inside_one_reference_bandwidth_are_one_emission():
 
 def test_decision_rule_shared_risk_and_guarded_acceptance():
     shared = decision_rule(0.0, "conducted")
-    assert shared["rule"] == "shared risk" and shared["guard_below_suggested"] is True
+    assert shared.rule == "shared risk" and shared.guard_below_suggested is True
     guarded = decision_rule(6.0, "radiated", statistical_uncertainty_db=0.5)
-    assert guarded["rule"] == "guarded acceptance"
+    assert guarded.rule == "guarded acceptance"
     # Common practice, no published source: 3 dB conducted, 6 dB radiated guard bands for pre-compliance screening
-    assert decision_rule(1.0, "conducted")["suggested_guard_db"] == 3.0
-    assert guarded["suggested_guard_db"] == 6.0 and guarded["guard_below_suggested"] is False
+    assert decision_rule(1.0, "conducted").suggested_guard_db == 3.0
+    assert guarded.suggested_guard_db == 6.0 and guarded.guard_below_suggested is False
     # Source: ETSI EN 300 328 V1.8.1 (2012), Table 7: unwanted emissions conducted +-3 dB, all emissions radiated +-6 dB
-    assert guarded["published_max_uncertainty_db"] == 6.0
-    assert decision_rule(0.0, "conducted")["published_max_uncertainty_db"] == 3.0
-    assert "EN 300 328" in guarded["published_source"]
+    assert guarded.published_max_uncertainty_db == 6.0
+    assert decision_rule(0.0, "conducted").published_max_uncertainty_db == 3.0
+    assert "EN 300 328" in guarded.published_source
     # Closed form: expanded uncertainty U = k u with k = 2 (GUM)
-    assert guarded["statistical_expanded_db"] == pytest.approx(1.0)
+    assert guarded.statistical_expanded_db == pytest.approx(1.0)
     unknown = decision_rule(3.0)
-    assert unknown["measurement"] == "not stated" and unknown["guard_below_suggested"] is None
-    assert unknown["suggested_guard_db_by_kind"] == {"conducted": 3.0, "radiated": 6.0}
+    assert unknown.measurement == "not stated" and unknown.guard_below_suggested is None
+    assert unknown.suggested_guard_db_by_kind.to_dict() == {"conducted": 3.0, "radiated": 6.0}
     with pytest.raises(ValueError, match="guard_db"):
         decision_rule(-1.0)
     with pytest.raises(ValueError, match="measurement"):
@@ -121,7 +121,7 @@ def test_decision_rule_shared_risk_and_guarded_acceptance():
 def test_the_check_records_its_decision_rule():
     mask = load_mask("us-amateur-hf-2003")
     s = _spurs_spectrum([])
-    assert check(s, mask, Station(FC, power_w=100.0)).decision_rule["rule"] == "shared risk"
+    assert check(s, mask, Station(FC, power_w=100.0)).decision_rule.rule == "shared risk"
     res = check(s, mask, Station(FC, power_w=100.0), guard_db=1.5)
-    assert res.decision_rule["rule"] == "guarded acceptance" and res.decision_rule["guard_db"] == 1.5
-    assert res.to_dict()["decision_rule"] == res.decision_rule
+    assert res.decision_rule.rule == "guarded acceptance" and res.decision_rule.guard_db == 1.5
+    assert res.to_dict()["decision_rule"] == res.decision_rule.to_dict()

@@ -26,6 +26,7 @@ from maskcheck.core.spectrum import Spectrum
 from maskcheck.core.station import Station
 from maskcheck.core.units import dbm_to_w, format_frequency
 from maskcheck.errors import OutputError
+from maskcheck.core.records import InstrumentRecord, SetupRecord
 from maskcheck.io.setup import parse_setup
 from maskcheck.masks.library import load_mask
 from maskcheck.report import cautions
@@ -91,7 +92,7 @@ def test_the_pdf_says_the_verdict_citation_emissions_hashes_and_cautions(failing
     for item in cautions.SAFETY:
         assert " ".join(item.split()) in text
     assert cautions.UNVERIFIED_NOTE in text
-    assert failing.created_utc in text and failing.tool["version"] in text
+    assert failing.created_utc in text and failing.tool.version in text
 
 
 def test_every_page_the_report_promises_is_there_and_bookmarked(failing_pdf):
@@ -146,8 +147,8 @@ def test_user_text_with_markup_prints_literally():
     name = "Stn <b>7</b> & <font size=30>co</font>"
     note = "bench <i>A</i> &amp; cable <br/> 3"
     res = _result(station_name=name, notes=[note])
-    setup = {"name": "rig <u>two</u> & more", "notes": "notes <para>x</para>", "path": "a<b>.toml", "sha256": "0" * 64,
-             "measurement": "conducted", "instrument": {}, "chain": []}
+    setup = SetupRecord(name="rig <u>two</u> & more", notes="notes <para>x</para>", path="a<b>.toml", sha256="0" * 64,
+                        schema_version=1, measurement="conducted", instrument=InstrumentRecord(input_impedance_ohm=None))
     res = dataclasses.replace(res, setup=setup)
     text = _text(build_report(res))
     for literal in (name, note, "rig <u>two</u> & more", "notes <para>x</para>", "a<b>.toml"):

@@ -71,10 +71,10 @@ def test_30_db_attenuator_and_1_5_db_cable_shift_every_level_by_31_5_db():
     # Closed form: losses in series add in dB, 30 + 1.5 = 31.5 dB
     assert np.allclose(out.level_dbm - s.level_dbm, 31.5, rtol=0, atol=1e-9)
     assert np.array_equal(out.freq_hz, s.freq_hz)
-    rec = out.reference["corrections"]
-    assert rec["total_db_min"] == pytest.approx(31.5, abs=1e-9) and rec["total_db_max"] == pytest.approx(31.5, abs=1e-9)
-    assert [a["name"] for a in rec["applied"]] == ["30 dB attenuator", "cable"]
-    assert rec["removed_hz"] == []
+    rec = out.corrections
+    assert rec.total_db_min == pytest.approx(31.5, abs=1e-9) and rec.total_db_max == pytest.approx(31.5, abs=1e-9)
+    assert [a.correction.name for a in rec.applied] == ["30 dB attenuator", "cable"]
+    assert rec.removed_hz == ()
 
 
 def test_the_same_chain_as_a_flat_table_shifts_by_the_same_31_5_db():
@@ -150,7 +150,7 @@ def test_a_table_that_does_not_cover_the_trace_makes_that_part_incomplete():
     why = [x for x in r.reasons if "never extrapolated" in x]
     assert len(why) == 2 and all("'cable' is known from 1 MHz to 30 MHz" in x for x in why)
     assert any("never extrapolated" in w for w in res.warnings)
-    assert [g["tables"] for g in res.corrections["removed_hz"]] == [["cable"], ["cable"]]
+    assert [g.tables for g in res.corrections.removed_hz] == [("cable",), ("cable",)]
     # negative control: a table over the whole range gives a verdict
     whole = BENCH.replace("loss_db = 1.5", "[chain.loss_table]\nfrequency_khz = [1, 100000]\ndb = [1.5, 1.5]")
     assert check(parse_setup(whole).apply(s), load_mask("us-amateur-hf-2003"), Station(7.1e6, power_w=100.0)).verdict == "pass"
@@ -201,7 +201,7 @@ def test_antenna_factor_turns_dbuv_into_dbuv_per_m():
     field = s.level_dbm[i] + 10 * math.log10(50.0) + 90 + 2.0 + 24.0
     # Source: fact sheet 7.2: E(dBuV/m) = EIRP(dBm) + 95.23 at 3 m
     assert out.level_dbm[i] == pytest.approx(field - 95.23, abs=0.005)
-    assert out.reference["corrections"]["measurement"] == "radiated"
+    assert out.corrections.measurement == "radiated"
 
 
 def _radiated_mask(tmp_path):

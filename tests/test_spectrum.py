@@ -69,8 +69,8 @@ def test_uncovered_parts_and_gaps():
 def test_stitch_prefers_the_narrower_rbw_and_leaves_no_gap_or_overlap():
     # Common practice, no published source: a zoom span replaces the overview where they overlap
     n0 = 1e-15
-    wide = Spectrum(np.arange(0.0, 1e6, 5e3), np.full(200, n0 * 10e3), 10e3, reference={"source": "wide"})
-    zoom = Spectrum(np.arange(4.0e5, 6.0e5, 50.0), np.full(4000, n0 * 100.0), 100.0, reference={"source": "zoom"})
+    wide = Spectrum(np.arange(0.0, 1e6, 5e3), np.full(200, n0 * 10e3), 10e3, source="wide")
+    zoom = Spectrum(np.arange(4.0e5, 6.0e5, 50.0), np.full(4000, n0 * 100.0), 100.0, source="zoom")
     s = stitch([wide, zoom])
     assert s.uncovered_hz(0, 9.9e5) == []
     cov = s.coverage_hz
@@ -78,7 +78,7 @@ def test_stitch_prefers_the_narrower_rbw_and_leaves_no_gap_or_overlap():
         assert a1 == pytest.approx(b0)
     # flat density survives stitching: no power counted twice or lost
     assert s.band_power_w(1e5, 9e5) == pytest.approx(n0 * 8e5, rel=1e-9)
-    assert "trimmed" in s.reference["notes"][0]
+    assert "trimmed" in s.notes[0]
 
 
 def test_stitch_refuses_ambiguous_overlap_and_mixed_detectors():
@@ -92,9 +92,9 @@ def test_stitch_refuses_ambiguous_overlap_and_mixed_detectors():
 
 
 def test_between_keeps_metadata_and_rejects_empty():
-    s = Spectrum(np.arange(10.0), np.ones(10), 1.0, detector="rms", reference={"source": "x"})
+    s = Spectrum(np.arange(10.0), np.ones(10), 1.0, detector="rms", source="x")
     t = s.between(2, 5)
-    assert list(t.freq_hz) == [2, 3, 4, 5] and t.detector == "rms" and t.reference["source"] == "x"
+    assert list(t.freq_hz) == [2, 3, 4, 5] and t.detector == "rms" and t.source == "x"
     with pytest.raises(SpectrumError, match="no points"):
         s.between(20, 30)
 

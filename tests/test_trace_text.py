@@ -111,7 +111,7 @@ def test_round_trip_every_layout(tmp_path, converter, delim, decimal_comma, bom,
     np.testing.assert_allclose(spec.freq_hz, np.array(FREQS) * FREQ_FACTORS[f_unit], rtol=1e-15)
     np.testing.assert_allclose(spec.power_w, LEVELS[l_unit][1], rtol=1e-12)
     assert spec.rbw_hz.tolist() == [1000.0] * 3  # Source: the '# rbw_hz: 1 kHz' line written above
-    assert spec.reference["level_unit"] == l_unit
+    assert spec.trace_file.level_unit == l_unit
 
 
 def test_dbuv_at_50_ohm_is_107_db_above_dbm(tmp_path):
@@ -132,12 +132,12 @@ def test_metadata_and_provenance(tmp_path, converter):
     assert spec.rbw_hz.tolist() == [10e3, 10e3]  # Source: the '# rbw_hz: 10 kHz' line above
     assert spec.enbw_hz.tolist() == [10645.0, 10645.0]  # Source: the '# enbw_hz' line above
     assert spec.detector == "rms"  # Source: docs/trace-format.md (detector names, any case)
-    assert spec.reference["centre_hz"] == 145.5e6  # Closed form: 1 MHz = 1e6 Hz
-    assert spec.reference["reference_level_dbm"] == -10.0
-    assert spec.reference["source"] == str(path)
+    assert spec.centre_hz == 145.5e6  # Closed form: 1 MHz = 1e6 Hz
+    assert spec.trace_file.reference_level_dbm == -10.0
+    assert spec.source == str(path)
     # Reference library: hashlib.sha256 of the file's bytes
-    assert spec.reference["sha256"] == hashlib.sha256(path.read_bytes()).hexdigest()
-    assert spec.reference["notes"] == ["operator: invented bench note", "no colon here"]
+    assert spec.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
+    assert spec.notes == ("operator: invented bench note", "no colon here")
     np.testing.assert_allclose(spec.freq_hz, [145.4e6, 145.6e6], rtol=1e-15)  # decimal comma read as point
 
 
@@ -145,7 +145,7 @@ def test_rbw_column_per_row(tmp_path, converter):
     path = write(tmp_path, "frequency_hz,level_dbm,rbw_khz\n1e6,-50,1\n2e6,-60,10\n3e6,-70,100\n")
     spec = read_trace(path)
     assert spec.rbw_hz.tolist() == [1e3, 1e4, 1e5]  # Closed form: 1 kHz = 1e3 Hz
-    assert spec.reference["rbw_from"] == "column"
+    assert spec.trace_file.rbw_from == "column"
 
 
 def test_level_column_first(tmp_path, converter):
@@ -172,16 +172,16 @@ def test_options_override_file_and_are_noted(tmp_path, converter):
     assert spec.freq_hz.tolist() == [1e3, 2e3]  # Closed form: 1 kHz = 1e3 Hz
     np.testing.assert_allclose(spec.power_w, [1e-3, 1e-4], rtol=1e-12)  # Closed form: 10**(dBW/10)
     assert spec.detector == "rms"
-    notes = " | ".join(spec.reference["notes"])
+    notes = " | ".join(spec.notes)
     for what in ("rbw_hz", "freq_unit", "level_unit", "detector"):
         assert f"option {what}" in notes and "overrides" in notes
-    assert spec.reference["rbw_from"] == "option"
+    assert spec.trace_file.rbw_from == "option"
 
 
 def test_same_value_in_option_and_file_adds_no_note(tmp_path):
     path = write(tmp_path, "# rbw_hz: 1 kHz\nfrequency_hz,level_dbm\n1,-30\n")
     spec = read_trace(path, rbw_hz="1 kHz", freq_unit="hz")
-    assert spec.reference["notes"] == []
+    assert spec.notes == ()
 
 
 def test_unitless_header_needs_options(tmp_path, converter):

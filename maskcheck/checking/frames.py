@@ -12,26 +12,12 @@ these additions.
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass, replace
+from dataclasses import replace
 from typing import Callable, Sequence
 
-__all__ = ["FrameJudgement", "judge_frames", "worst_margin_db"]
+from ..core.records import TimeResolvedRecord
 
-
-@dataclass(frozen=True)
-class FrameJudgement:
-    """What the time-resolved judging found (``spectrum.time_resolved`` in the JSON)."""
-
-    frames: int
-    frame_s: float
-    worst_frame: int
-    worst_frame_start_s: float
-    worst_frame_margin_db: float | None
-    worst_frame_averages: int
-    whole_recording_margin_db: float | None
-
-    def to_dict(self) -> dict:
-        return asdict(self)
+__all__ = ["judge_frames", "worst_margin_db"]
 
 
 def worst_margin_db(result) -> float:
@@ -66,7 +52,7 @@ def judge_frames(whole, frame_spectrum: Callable[[int], object], *, frames: int,
         if best_result is None or score < best_score:
             best_score, best_index, best_result = score, i, r
     whole_score = worst_margin_db(whole)
-    info = FrameJudgement(
+    info = TimeResolvedRecord(
         frames=frames, frame_s=float(frame_s), worst_frame=best_index, worst_frame_start_s=float(starts_s[best_index]),
         worst_frame_margin_db=None if best_score == math.inf else best_score, worst_frame_averages=int(averages[best_index]),
         whole_recording_margin_db=None if whole_score == math.inf else whole_score,
@@ -82,4 +68,4 @@ def judge_frames(whole, frame_spectrum: Callable[[int], object], *, frames: int,
         chosen = whole
         note = f"time-resolved: no frame of {frames} does worse than the whole recording"
     return replace(chosen, warnings=[note, *chosen.warnings],
-                   spectrum_summary={**chosen.spectrum_summary, "time_resolved": info.to_dict()})
+                   spectrum_summary=replace(chosen.spectrum_summary, time_resolved=info))

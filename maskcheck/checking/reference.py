@@ -66,7 +66,7 @@ class Reference:
 
 def level_scale(spectrum) -> str:
     """``"dBFS"`` for an uncalibrated recording, else ``"dBm"``."""
-    return str(spectrum.reference.get("level_scale", "dBm"))
+    return spectrum.level_scale
 
 
 def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: FundamentalReadings, domains) -> Reference:

@@ -42,8 +42,8 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
     mask, the occupied bandwidth is judged against the authorised one in a
     region of its own, after the mask's.
 
-    ``removed`` holds the ranges a correction table left out, each a mapping
-    with ``start_hz``, ``stop_hz`` and ``reason``: a region that lacks data
+    ``removed`` holds the ranges a correction table left out
+    (:class:`maskcheck.core.records.RemovedRange`): a region that lacks data
     there is told why.
     """
     fc = float(carrier_hz)
@@ -98,9 +98,9 @@ def _removed_reasons(res: RegionResult, removed) -> list[str]:
     """Why a range without data is missing, when a correction table left it out."""
     out = []
     for gap in removed:
-        if any(a < gap["stop_hz"] and b > gap["start_hz"] for a, b in res.uncovered_hz) and gap["reason"] not in res.reasons:
-            if gap["reason"] not in out:
-                out.append(gap["reason"])
+        if any(a < gap.stop_hz and b > gap.start_hz for a, b in res.uncovered_hz) and gap.reason not in res.reasons:
+            if gap.reason not in out:
+                out.append(gap.reason)
     return out
 
 

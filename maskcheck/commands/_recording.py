@@ -206,9 +206,9 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
         else:
             (s,) = read_traces([p], args)
             spectra.append(s)
-            inputs.append(InputFile(str(s.reference.get("source")), str(s.reference.get("sha256", ""))))
+            inputs.append(InputFile(s.source, s.sha256))
     if recs and traces:
-        scales = {s.reference.get("level_scale", "dBm") for s in spectra}
+        scales = {s.level_scale for s in spectra}
         if "dBFS" in scales:
             from ..errors import TraceError
 

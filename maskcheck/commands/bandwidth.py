@@ -58,7 +58,7 @@ def run(args) -> int:
         notes.append(f"{x_db:g} dB bandwidth not measured: {exc.message}")
     if args.json:
         payload = {
-            "trace": {"path": args.trace, "sha256": spectrum.reference.get("sha256", "")},
+            "trace": {"path": args.trace, "sha256": spectrum.sha256},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
             "tool": {"name": "maskcheck", "version": __version__},

@@ -108,13 +108,13 @@ def render_plan(plan, con) -> None:
     con.print(f"[bold]Measurement plan[/bold]: {escape(m['id'])} ({escape(m['citation'])})")
     if not m["verified"]:
         con.print(f"[bold red]{escape(UNVERIFIED_NOTE)}[/bold red]")
-    label = f" - {escape(st['name'])}" if st.get("name") else ""
-    pep = f", PEP {st['pep_w']:g} W" if st.get("pep_w") else ""
-    con.print(f"carrier {format_frequency(st['carrier_hz'])}, mean power {st['power_w']:g} W{pep}"
-              f"{', ' + escape(st['designator']) if st.get('designator') else ''}{label}")
+    label = f" - {escape(st.name)}" if st.name else ""
+    pep = f", PEP {st.pep_w:g} W" if st.pep_w else ""
+    con.print(f"carrier {format_frequency(st.carrier_hz)}, mean power {st.power_w:g} W{pep}"
+              f"{', ' + escape(st.designator) if st.designator else ''}{label}")
     s = plan.setup
     extra = f"; a fixed {plan.extra_loss_db:g} dB ahead of the analyser (--attenuator)" if plan.extra_loss_db else ""
-    con.print("setup: " + (escape(f"{s['name'] or s['path']} ({s['measurement']})") if s
+    con.print("setup: " + (escape(f"{s.name or s.path} ({s.measurement})") if s is not None
                            else "none" if extra else "none (limits at the transmitter output)") + extra)
     sr = plan.search_range
     con.print(f"47 CFR 2.1057 range: {format_frequency(sr['start_hz'])} to {format_frequency(sr['stop_hz'])} ({escape(sr['rule'])})")

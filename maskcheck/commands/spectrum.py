@@ -25,18 +25,16 @@ def register(sub) -> None:
 
 def estimation_notes(spectrum, files) -> list[str]:
     """Header lines for the trace file: how the spectrum was made."""
-    ref = spectrum.reference
-    est = dict(ref.get("estimation", {}))
-    cal = {k: v for k, v in dict(ref.get("calibration", {})).items() if not str(k).startswith("_")}
+    est = {} if spectrum.estimation is None else spectrum.estimation.to_dict()
+    cal = {} if spectrum.calibration is None else spectrum.calibration.to_dict()
     lines = ["estimated by maskcheck from an IQ recording (pre-compliance aid, not a certified measurement)"]
     lines.append("estimation: " + " ".join(f"{k}={_fmt(v)}" for k, v in est.items()))
     lines.append("calibration: " + " ".join(f"{k}={_fmt(v)}" for k, v in cal.items()))
-    rec = dict(ref.get("recording", {}))
-    if rec:
-        lines.append("recording: " + " ".join(f"{k}={_fmt(v)}" for k, v in rec.items()))
+    if spectrum.recording is not None:
+        lines.append("recording: " + " ".join(f"{k}={_fmt(v)}" for k, v in spectrum.recording.to_dict().items()))
     for f in files:
         lines.append(f"input: {f.path} sha256={f.sha256}")
-    lines.extend(str(n) for n in ref.get("notes", ()))
+    lines.extend(spectrum.notes)
     return lines
 
 
@@ -57,25 +55,25 @@ def run(args) -> int:
     trace = "average" if args.trace == "auto" else args.trace
     rs, files = read_recording(args.recording, args, trace)
     spectrum = rs.spectrum
-    scale = spectrum.reference.get("level_scale", "dBm")
+    scale = spectrum.level_scale
     if args.out:
         write_trace(args.out, spectrum, notes=estimation_notes(spectrum, files), force=args.force,
                     level_column="level_dbfs" if scale == "dBFS" else "level_dbm")
     if not args.quiet:
-        est = spectrum.reference["estimation"]
-        cal = spectrum.reference["calibration"]
+        est = spectrum.estimation
+        cal = spectrum.calibration
         out = console()
         out.print(f"[bold]{args.recording}[/bold]: {len(spectrum)} points, {spectrum.start_hz:,.1f} to {spectrum.stop_hz:,.1f} Hz")
         out.print(
-            f"RBW (noise bandwidth) {est['enbw_hz']:.6g} Hz: {est['window']} window, {est['segment_samples']} samples per segment, "
-            f"{100 * est['overlap_fraction']:.0f} % overlap, {est['averages']} segments; trace: {est['trace']} "
-            f"({est['detector']}) of {est['trace_averages']} segment(s), statistical uncertainty "
-            f"+-{est['trace_uncertainty_db']:.2f} dB (1 sigma)"
+            f"RBW (noise bandwidth) {est.enbw_hz:.6g} Hz: {est.window} window, {est.segment_samples} samples per segment, "
+            f"{100 * est.overlap_fraction:.0f} % overlap, {est.averages} segments; trace: {est.trace} "
+            f"({est.detector}) of {est.trace_averages} segment(s), statistical uncertainty "
+            f"+-{est.trace_uncertainty_db:.2f} dB (1 sigma)"
         )
         if scale == "dBFS":
             out.print("levels in dBFS: not calibrated (give --full-scale or --ref-tone for dBm)")
         else:
-            out.print(f"levels in dBm: {cal['method']}, full scale = {cal['full_scale_dbm']:.2f} dBm")
+            out.print(f"levels in dBm: {cal.method}, full scale = {cal.full_scale_dbm:.2f} dBm")
         peak = int(spectrum.power_w.argmax())
         out.print(f"strongest point: {spectrum.level_dbm[peak]:.2f} {scale} at {spectrum.freq_hz[peak]:,.1f} Hz")
         if args.out:

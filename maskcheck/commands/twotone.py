@@ -50,8 +50,7 @@ def run(args) -> int:
         res = analyse_two_tone(spectrum, band_hz=band)
     except SpectrumError as exc:
         raise TraceError(exc.message, path=label) from None
-    scale = spectrum.reference.get("level_scale", "dBm") if hasattr(spectrum, "reference") else "dBm"
-    unit = "dBFS" if scale == "dBFS" else "dBm"
+    unit = spectrum.level_scale
     data = {"inputs": [{"path": i.path, "sha256": i.sha256} for i in got.inputs], "level_unit": unit, **res.to_dict()}
     to_stdout = args.json == "-"
     if not args.quiet:

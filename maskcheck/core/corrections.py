@@ -49,11 +49,12 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..errors import CorrectionError
+from .records import AppliedCorrection, CorrectionRecord, CorrectionsRecord, RemovedRange, TableSummary
 from .spectrum import Spectrum
 from .units import dbm_to_dbuv, format_frequency
 
@@ -168,15 +169,17 @@ class Correction:
             )
         return interpolate_log_db(f, self.freq_hz, self.table_db)
 
-    def to_dict(self) -> dict:
-        d = {"name": self.name, "kind": self.kind, "key": self.key}
+    def record(self) -> CorrectionRecord:
+        """This correction in brief, for results and plans."""
         if self.add_db is not None:
-            d["fixed_db"] = float(self.add_db)
-        else:
-            lo, hi = self.range_hz
-            d["table"] = {"start_hz": lo, "stop_hz": hi, "rows": int(self.freq_hz.size),
-                          "min_db": float(self.table_db.min()), "max_db": float(self.table_db.max())}
-        return d
+            return CorrectionRecord(self.name, self.kind, self.key, fixed_db=float(self.add_db))
+        lo, hi = self.range_hz
+        table = TableSummary(start_hz=lo, stop_hz=hi, rows=int(self.freq_hz.size),
+                             min_db=float(self.table_db.min()), max_db=float(self.table_db.max()))
+        return CorrectionRecord(self.name, self.kind, self.key, table=table)
+
+    def to_dict(self) -> dict:
+        return self.record().to_dict()
 
 
 def interpolate_log_db(freq_hz, table_freq_hz, table_db) -> np.ndarray:
@@ -266,7 +269,7 @@ def apply_corrections(
     antenna_factor: Correction | None = None,
     distance_m: float | None = None,
     impedance_ohm: float = 50.0,
-) -> tuple[Spectrum, dict]:
+) -> tuple[Spectrum, CorrectionsRecord]:
     """Add the setup's corrections to every reading of ``spectrum``.
 
     Parameters
@@ -288,10 +291,10 @@ def apply_corrections(
 
     Returns
     -------
-    (Spectrum, dict)
+    (Spectrum, CorrectionsRecord)
         The corrected spectrum (points outside any table removed, the cells
-        of the remaining spans clipped to the tables' range) and a record of
-        what was applied: ``quantity``, ``interpolation``, ``applied``
+        of the remaining spans clipped to the tables' range) and the record
+        of what was applied: ``quantity``, ``interpolation``, ``applied``
         (each correction with the dB it added over the spectrum),
         ``total_db_min``/``total_db_max``, ``removed_hz`` (ranges left out,
         each with the tables that do not cover it and a reason) and
@@ -336,15 +339,15 @@ def apply_corrections(
             which = "; ".join(
                 f"{c.name!r} is known from {format_frequency(c.range_hz[0])} to {format_frequency(c.range_hz[1])}" for c in tables
             )
-            removed.append({
-                "start_hz": start,
-                "stop_hz": stop,
-                "tables": [c.name for c in tables],
-                "reason": (
+            removed.append(RemovedRange(
+                start_hz=start,
+                stop_hz=stop,
+                tables=tuple(c.name for c in tables),
+                reason=(
                     f"readings from {format_frequency(start)} to {format_frequency(stop)} were left out: {which}, "
                     "and corrections are never extrapolated"
                 ),
-            })
+            ))
         spectrum = _clip(spectrum, lo_all, hi_all)
         f = spectrum.freq_hz
     total, known = correction_db(all_corr, f)
@@ -361,33 +364,32 @@ def apply_corrections(
     applied = []
     for c in all_corr:
         v = c.at(f)
-        applied.append({**c.to_dict(), "applied_min_db": float(v.min()), "applied_max_db": float(v.max())})
+        applied.append(AppliedCorrection(c.record(), applied_min_db=float(v.min()), applied_max_db=float(v.max())))
     shift = new_dbm - level_dbm
-    record = {
-        "quantity": "power at the transmitter output" if quantity == "conducted" else "EIRP from the field strength",
-        "measurement": quantity,
-        "interpolation": INTERPOLATION_TEXT,
-        "applied": applied,
-        "total_db_min": float(shift.min()),
-        "total_db_max": float(shift.max()),
-        "removed_hz": removed,
-        "warnings": warnings,
-    }
+    radiated = {}
     if quantity == "radiated":
-        record["distance_m"] = float(distance_m)
-        record["impedance_ohm"] = float(impedance_ohm)
-        record["field_relation"] = (
-            f"E(dBuV/m) = reading(dBm) + {10 * math.log10(impedance_ohm) + 90:.2f} (dBuV at {impedance_ohm:g} ohm) + losses + AF; "
-            f"EIRP(dBm) = E - {FAR_FIELD_CONSTANT_DB:.2f} + 20 log10({float(distance_m):g} m), far field"
+        radiated = dict(
+            distance_m=float(distance_m),
+            impedance_ohm=float(impedance_ohm),
+            field_relation=(
+                f"E(dBuV/m) = reading(dBm) + {10 * math.log10(impedance_ohm) + 90:.2f} (dBuV at {impedance_ohm:g} ohm) + "
+                f"losses + AF; EIRP(dBm) = E - {FAR_FIELD_CONSTANT_DB:.2f} + 20 log10({float(distance_m):g} m), far field"
+            ),
         )
+    record = CorrectionsRecord(
+        quantity="power at the transmitter output" if quantity == "conducted" else "EIRP from the field strength",
+        measurement=quantity,
+        interpolation=INTERPOLATION_TEXT,
+        applied=tuple(applied),
+        total_db_min=float(shift.min()),
+        total_db_max=float(shift.max()),
+        removed_hz=tuple(removed),
+        warnings=tuple(warnings),
+        **radiated,
+    )
     if power_w.size and not (np.all(np.isfinite(power_w)) and np.all(power_w > 0)):
         raise CorrectionError("a corrected level is not a finite power; check the correction values")
-    ref = dict(spectrum.reference)
-    out = Spectrum(
-        spectrum.freq_hz, power_w, spectrum.rbw_hz, spectrum.enbw_hz, detector=spectrum.detector,
-        reference=ref, segments=spectrum.segments, span_edges_hz=spectrum.span_edges_hz,
-    )
-    return out, record
+    return replace(spectrum, power_w=power_w), record
 
 
 def _clip(spectrum: Spectrum, lo_hz: float, hi_hz: float) -> Spectrum:
@@ -405,5 +407,4 @@ def _clip(spectrum: Spectrum, lo_hz: float, hi_hz: float) -> Spectrum:
         e_lo = max(float(cell_lo[a]), min(lo_hz, float(part.freq_hz[a])))
         e_hi = min(float(cell_hi[b - 1]), max(hi_hz, float(part.freq_hz[b - 1])))
         edges.append((e_lo, e_hi))
-    return Spectrum(part.freq_hz, part.power_w, part.rbw_hz, part.enbw_hz, detector=part.detector,
-                    reference=part.reference, segments=part.segments, span_edges_hz=tuple(edges))
+    return replace(part, span_edges_hz=tuple(edges))

@@ -56,6 +56,7 @@ import scipy.fft
 from scipy.signal import get_window
 
 from ..errors import SpectrumError
+from .records import EstimationRecord
 from .spectrum import Spectrum
 
 __all__ = [
@@ -397,6 +398,25 @@ class WelchEstimate:
             return self.frames_fs[frame], "rms", int(self.frame_averages[frame])
         raise SpectrumError(f"trace {trace!r} is not one of {', '.join(TRACES)}", where="--trace")
 
+    def record(self, trace: str = "average", frame: int | None = None) -> EstimationRecord:
+        """The estimation parameters and the trace, as a record (:class:`~maskcheck.core.records.EstimationRecord`)."""
+        _values, detector, k = self.trace_fs(trace, frame)
+        return self._record(trace, frame, detector, k)
+
+    def _record(self, trace, frame, detector, k) -> EstimationRecord:
+        d = self.describe()
+        return EstimationRecord(
+            method=d["method"], window=d["window"], segment_samples=d["segment_samples"],
+            overlap_samples=d["overlap_samples"], overlap_fraction=d["overlap_fraction"],
+            sample_rate_hz=d["sample_rate_hz"], bin_width_hz=d["bin_width_hz"], enbw_bins=d["enbw_bins"],
+            enbw_hz=d["enbw_hz"], detrend=d["detrend"], averaging=d["averaging"],
+            requested_rbw_hz=d.get("requested_rbw_hz"), averages=d["averages"], uncertainty_db=d["uncertainty_db"],
+            samples_used=d["samples_used"], samples_total=d["samples_total"], frames=d.get("frames"),
+            trace=trace, detector=detector, trace_averages=k, trace_uncertainty_db=welch_uncertainty_db(k),
+            frame=None if trace != "frame" else int(frame),
+            frame_start_s=None if trace != "frame" else float(self.frame_start_s[frame]),
+        )
+
     def to_spectrum(
         self,
         centre_hz: float,
@@ -404,8 +424,8 @@ class WelchEstimate:
         trace: str = "average",
         frame: int | None = None,
         scale_w: float | np.ndarray = 1.0,
-        reference: dict | None = None,
         source: str | None = None,
+        **metadata,
     ) -> Spectrum:
         """The estimate as a :class:`Spectrum` at radio frequency.
 
@@ -421,11 +441,13 @@ class WelchEstimate:
         scale_w : float or ndarray
             Watts per full-scale unit (calibration and corrections), per bin
             or for all; 1.0 leaves the values relative to full scale.
-        reference : dict, optional
-            Extra metadata; the estimation parameters are added under
-            ``"estimation"``.
         source : str, optional
-            Where the samples came from, for error messages.
+            Where the samples came from: the spectrum's ``source``, and named
+            in error messages.
+        **metadata
+            Further metadata fields of the Spectrum (``source``, ``notes``,
+            ``recording``, ``calibration``, ...); the estimation record is
+            set here (:meth:`record`), and ``centre_hz`` unless given.
         """
         values, detector, k = self.trace_fs(trace, frame)
         power = values * scale_w
@@ -436,19 +458,13 @@ class WelchEstimate:
                 "bins): the recording is digital silence there; expected a recording with at least receiver noise",
                 path=source,
             )
-        est = self.describe()
-        est["trace"] = trace
-        est["detector"] = detector
-        est["trace_averages"] = k
-        est["trace_uncertainty_db"] = welch_uncertainty_db(k)
-        if trace == "frame":
-            est["frame"] = int(frame)
-            est["frame_start_s"] = float(self.frame_start_s[frame])
-        ref = dict(reference or {})
-        ref["estimation"] = est
-        ref.setdefault("centre_hz", float(centre_hz))
+        if source is not None:
+            metadata["source"] = str(source)
+        metadata["estimation"] = self._record(trace, frame, detector, k)
+        if metadata.get("centre_hz") is None:
+            metadata["centre_hz"] = float(centre_hz)
         enbw = self.plan.enbw_hz
-        return Spectrum(float(centre_hz) + self.offset_hz, power, enbw, enbw, detector=detector, reference=ref)
+        return Spectrum(float(centre_hz) + self.offset_hz, power, enbw, enbw, detector=detector, **metadata)
 
 
 class _BatchState:

@@ -13,6 +13,11 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
+from .domains import DomainSpan
+from .necessary import NecessaryBandwidth
+from .records import CorrectionsRecord, DecisionRule, DomainBoundaryRecord, SetupRecord, SpectrumSummary, ToolRecord
+from .station import Station
+
 __all__ = [
     "VERDICTS",
     "EXIT_CODES",
@@ -180,37 +185,44 @@ class BandwidthFigure:
 
 @dataclass
 class CheckResult:
-    """Everything a check concluded; renderers read only this."""
+    """Everything a check concluded; renderers read only this.
+
+    The records that ride along (station, spectrum summary, necessary
+    bandwidth, domains, boundary, setup, corrections, decision rule, tool)
+    are typed and frozen (:mod:`maskcheck.core.records`): a renderer reads
+    a field, never a key.
+    """
 
     verdict: str
     mask: MaskInfo
     reference_power: ReferencePower
     regions: list[RegionResult]
     emissions: list[Emission]
-    station: dict
+    station: Station
     occupied_bandwidth: BandwidthFigure | None
     guard_db: float
     fundamental_window_hz: tuple[float, float]
     fundamental_window_source: str
-    spectrum_summary: dict
+    spectrum_summary: SpectrumSummary
     inputs: list[InputFile] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
-    tool: dict = field(default_factory=dict)
+    #: the program that made the result (None: not recorded; the JSON then has an empty object)
+    tool: ToolRecord | None = None
     created_utc: str = ""
     #: the necessary bandwidth used and where it came from (None: not known)
-    necessary_bandwidth: dict | None = None
-    #: the domains of the emission: [{name, start_hz, stop_hz}]
-    domains: list = field(default_factory=list)
-    #: the out-of-band / spurious boundary applied (rule, offset, verified)
-    domain_boundary: dict | None = None
+    necessary_bandwidth: NecessaryBandwidth | None = None
+    #: the domains of the emission, cut to the range the check looked at
+    domains: list[DomainSpan] = field(default_factory=list)
+    #: the out-of-band / spurious boundary applied (rule, offset, verified, where the rule came from)
+    domain_boundary: DomainBoundaryRecord | None = None
     #: the measurement setup used (issue 7: instrument, chain, antenna), None without one
-    setup: dict | None = None
+    setup: SetupRecord | None = None
     #: the corrections applied to the readings (what, where, what was left out), None without a setup
-    corrections: dict | None = None
+    corrections: CorrectionsRecord | None = None
     #: the x-dB bandwidth measured in the fundamental window (issue 7), None if not measured
     xdb_bandwidth: BandwidthFigure | None = None
     #: the decision rule applied: shared risk or guarded acceptance (issue 7; see core/uncertainty.py)
-    decision_rule: dict | None = None
+    decision_rule: DecisionRule | None = None
     #: discrete emissions within this many dB of their limit are listed (issue 7: shown with the table)
     report_threshold_db: float | None = None
     #: the whole trace as read (for plots; not in the JSON)
@@ -240,21 +252,21 @@ class CheckResult:
             "emissions": [e.to_dict() for e in self.emissions],
             "warnings": list(self.warnings),
             "inputs": [i.to_dict() for i in self.inputs],
-            "tool": dict(self.tool),
-            "station": dict(self.station),
+            "tool": {} if self.tool is None else self.tool.to_dict(),
+            "station": self.station.to_dict(),
             "guard_db": self.guard_db,
             "fundamental_window_hz": list(self.fundamental_window_hz),
             "fundamental_window_source": self.fundamental_window_source,
-            "spectrum": dict(self.spectrum_summary),
+            "spectrum": self.spectrum_summary.to_dict(),
             "created_utc": self.created_utc,
-            "necessary_bandwidth_hz": None if self.necessary_bandwidth is None else self.necessary_bandwidth["bandwidth_hz"],
-            "designator": None if self.necessary_bandwidth is None else self.necessary_bandwidth["designator"],
-            "necessary_bandwidth": None if self.necessary_bandwidth is None else dict(self.necessary_bandwidth),
-            "domains": [dict(d) for d in self.domains],
-            "domain_boundary": None if self.domain_boundary is None else dict(self.domain_boundary),
-            "setup": None if self.setup is None else dict(self.setup),
-            "corrections": None if self.corrections is None else dict(self.corrections),
+            "necessary_bandwidth_hz": None if self.necessary_bandwidth is None else self.necessary_bandwidth.bandwidth_hz,
+            "designator": None if self.necessary_bandwidth is None else self.necessary_bandwidth.designator,
+            "necessary_bandwidth": None if self.necessary_bandwidth is None else self.necessary_bandwidth.to_dict(),
+            "domains": [d.to_dict() for d in self.domains],
+            "domain_boundary": None if self.domain_boundary is None else self.domain_boundary.to_dict(),
+            "setup": None if self.setup is None else self.setup.to_dict(),
+            "corrections": None if self.corrections is None else self.corrections.to_dict(),
             "xdb_bandwidth": None if self.xdb_bandwidth is None else self.xdb_bandwidth.to_dict(),
-            "decision_rule": None if self.decision_rule is None else dict(self.decision_rule),
+            "decision_rule": None if self.decision_rule is None else self.decision_rule.to_dict(),
             "report_threshold_db": self.report_threshold_db,
         }

@@ -38,14 +38,15 @@ References
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import math
+from dataclasses import KW_ONLY, dataclass
 from functools import cached_property
-from types import MappingProxyType
-from typing import Mapping, Sequence
+from typing import Sequence
 
 import numpy as np
 
 from ..errors import SpectrumError
+from .records import CalibrationRecord, CorrectionsRecord, EstimationRecord, RecordingRecord, SetupRecord, TraceFileRecord
 
 __all__ = ["Spectrum", "stitch", "DETECTORS"]
 
@@ -89,8 +90,6 @@ class Spectrum:
         channel power by 0.27 dB, which is conservative.)
     detector : str
         One of :data:`DETECTORS`.
-    reference : mapping, optional
-        Metadata: ``source``, ``sha256``, ``centre_hz``, notes.
     segments : sequence of int, optional
         Index of the first point of each span after the first (see
         :func:`stitch`).  Empty for a single span.
@@ -98,6 +97,31 @@ class Spectrum:
         Explicit outer cell edges of each span, Hz (None keeps the natural
         edge).  :func:`stitch` sets them where it trims a span against a
         narrower-RBW one, so the two meet without a gap or an overlap.
+
+    Where the spectrum came from (keyword-only metadata; copied by
+    :meth:`between` and :meth:`scaled`, see :attr:`metadata`):
+
+    source : str
+        The file or the description it was made from ("" when not known).
+    sha256 : str
+        SHA-256 of the source file's bytes ("" when not known).
+    notes : tuple of str
+        What the reader noticed (overrides, trimmed spans).
+    centre_hz : float or None
+        The analyser's centre (or the recording's tuned) frequency, Hz.
+    sources : tuple of str
+        The sources of the spans of a stitched spectrum (:func:`stitch`).
+    trace_file : TraceFileRecord or None
+        How a trace text file was read.
+    recording, estimation, calibration : records or None
+        The IQ recording, the Welch estimate and the level calibration of a
+        spectrum estimated from samples (:mod:`maskcheck.io.iq_spectrum`).
+    setup, corrections : records or None
+        The measurement setup and the corrections applied to the readings
+        (:meth:`maskcheck.io.setup.MeasurementSetup.apply`).
+
+    The records are those of :mod:`maskcheck.core.records`; the level scale
+    (:attr:`level_scale`) follows from the calibration.
     """
 
     freq_hz: np.ndarray
@@ -105,9 +129,20 @@ class Spectrum:
     rbw_hz: np.ndarray
     enbw_hz: np.ndarray | None = None
     detector: str = "unknown"
-    reference: Mapping = field(default_factory=dict)
     segments: tuple[int, ...] = ()
     span_edges_hz: tuple = ()
+    _: KW_ONLY
+    source: str = ""
+    sha256: str = ""
+    notes: tuple[str, ...] = ()
+    centre_hz: float | None = None
+    sources: tuple[str, ...] = ()
+    trace_file: TraceFileRecord | None = None
+    recording: RecordingRecord | None = None
+    estimation: EstimationRecord | None = None
+    calibration: CalibrationRecord | None = None
+    setup: SetupRecord | None = None
+    corrections: CorrectionsRecord | None = None
 
     def __post_init__(self):
         f = _as_1d("freq_hz", self.freq_hz)
@@ -167,7 +202,7 @@ class Spectrum:
         object.__setattr__(self, "rbw_hz", rbw)
         object.__setattr__(self, "enbw_hz", enbw)
         object.__setattr__(self, "segments", segs)
-        object.__setattr__(self, "reference", MappingProxyType(dict(self.reference)))
+        self._check_metadata()
         if segs:
             lo, hi = self.cell_edges_hz
             for k in segs:
@@ -176,6 +211,48 @@ class Spectrum:
                         f"spans overlap: the cell of {f[k - 1]:g} Hz reaches {hi[k - 1]:g} Hz, past the start "
                         f"{lo[k]:g} Hz of the next span (join spans with stitch())"
                     )
+
+    _RECORD_TYPES = {
+        "trace_file": TraceFileRecord,
+        "recording": RecordingRecord,
+        "estimation": EstimationRecord,
+        "calibration": CalibrationRecord,
+        "setup": SetupRecord,
+        "corrections": CorrectionsRecord,
+    }
+
+    def _check_metadata(self) -> None:
+        for name in ("source", "sha256"):
+            if not isinstance(getattr(self, name), str):
+                raise SpectrumError(f"{name} must be a str, got {type(getattr(self, name)).__name__}")
+        for name in ("notes", "sources"):
+            value = getattr(self, name)
+            if isinstance(value, str) or not all(isinstance(v, str) for v in value):
+                raise SpectrumError(f"{name} must be a sequence of str")
+            object.__setattr__(self, name, tuple(value))
+        if self.centre_hz is not None:
+            c = float(self.centre_hz)
+            if not math.isfinite(c):
+                raise SpectrumError(f"centre_hz={c:g} is not finite")
+            object.__setattr__(self, "centre_hz", c)
+        for name, kind in self._RECORD_TYPES.items():
+            value = getattr(self, name)
+            if value is not None and not isinstance(value, kind):
+                raise SpectrumError(f"{name} must be a {kind.__name__} or None, got {type(value).__name__}")
+
+    #: the metadata fields: where the spectrum came from, not what it holds
+    METADATA = ("source", "sha256", "notes", "centre_hz", "sources", "trace_file", "recording", "estimation",
+                "calibration", "setup", "corrections")
+
+    @property
+    def metadata(self) -> dict:
+        """The metadata fields as keyword arguments (``Spectrum(..., **s.metadata)`` keeps them)."""
+        return {name: getattr(self, name) for name in self.METADATA}
+
+    @property
+    def level_scale(self) -> str:
+        """``"dBFS"`` for an uncalibrated recording (levels relative to full scale), else ``"dBm"``."""
+        return "dBm" if self.calibration is None else self.calibration.level_scale
 
     # -- basic views ---------------------------------------------------------
     def __len__(self) -> int:
@@ -384,9 +461,9 @@ class Spectrum:
             self.rbw_hz[i0:i1],
             self.enbw_hz[i0:i1],
             detector=self.detector,
-            reference=self.reference,
             segments=segs,
             span_edges_hz=tuple(edges),
+            **self.metadata,
         )
 
     def scaled(self, gain_db: float) -> "Spectrum":
@@ -397,9 +474,9 @@ class Spectrum:
             self.rbw_hz,
             self.enbw_hz,
             detector=self.detector,
-            reference=self.reference,
             segments=self.segments,
             span_edges_hz=self.span_edges_hz,
+            **self.metadata,
         )
 
 
@@ -443,7 +520,7 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
             raise SpectrumError(f"a span from {s.freq_hz[0]:g} to {s.freq_hz[-1]:g} Hz lies wholly inside a narrower-RBW span")
         if not keep.all():
             notes.append(
-                f"span {s.reference.get('source', i)} trimmed where a narrower-RBW span covers it"
+                f"span {s.source or i} trimmed where a narrower-RBW span covers it"
             )
         # each run of kept points becomes a span of its own; where a run was
         # cut against a narrower span, its outer cell meets that span's edge
@@ -508,15 +585,15 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
         arrays["r"].append(s.rbw_hz[a:b])
         arrays["e"].append(s.enbw_hz[a:b])
         offset += b - a
-    sources = [s.reference.get("source") for s in spectra if s.reference.get("source")]
-    ref = {"sources": sources, "notes": notes} if sources or notes else {}
+    sources = tuple(s.source for s in spectra if s.source)
     return Spectrum(
         np.concatenate(arrays["f"]),
         np.concatenate(arrays["p"]),
         np.concatenate(arrays["r"]),
         np.concatenate(arrays["e"]),
         detector=spectra[0].detector,
-        reference=ref,
         segments=tuple(segs),
         span_edges_hz=tuple(edges),
+        sources=sources,
+        notes=tuple(notes),
     )

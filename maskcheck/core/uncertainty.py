@@ -4,7 +4,7 @@
   acceptance), the guard band used, the guard band common practice suggests
   for the kind of measurement, a published bound on the uncertainty of that
   kind of measurement, and the statistical uncertainty of an estimated
-  spectrum; plain data for the result.
+  spectrum; a :class:`~maskcheck.core.records.DecisionRule` for the result.
 
 A margin is compared with the guard band as it is: this module says what the
 comparison means, it never moves a margin.
@@ -24,6 +24,8 @@ References
 from __future__ import annotations
 
 import math
+
+from .records import DecisionRule, PerMeasurementKind
 
 __all__ = [
     "SUGGESTED_GUARD_DB",
@@ -46,8 +48,8 @@ PUBLISHED_MAX_UNCERTAINTY_SOURCE = "ETSI EN 300 328 V1.8.1 (2012), Table 7 (unwa
 COVERAGE_FACTOR = 2.0
 
 
-def decision_rule(guard_db: float, measurement: str | None = None, statistical_uncertainty_db: float | None = None) -> dict:
-    """What the guard band of a check means, as plain data.
+def decision_rule(guard_db: float, measurement: str | None = None, statistical_uncertainty_db: float | None = None) -> DecisionRule:
+    """What the guard band of a check means, as a record.
 
     Parameters
     ----------
@@ -64,7 +66,7 @@ def decision_rule(guard_db: float, measurement: str | None = None, statistical_u
 
     Returns
     -------
-    dict
+    DecisionRule
         ``rule`` ("shared risk" or "guarded acceptance"), ``guard_db``,
         ``measurement`` (or "not stated"), ``suggested_guard_db`` and
         ``published_max_uncertainty_db`` (for the stated kind; None when it
@@ -78,9 +80,9 @@ def decision_rule(guard_db: float, measurement: str | None = None, statistical_u
     Examples
     --------
     >>> d = decision_rule(1.5, "conducted")
-    >>> d["rule"], d["suggested_guard_db"], d["guard_below_suggested"]
+    >>> d.rule, d.suggested_guard_db, d.guard_below_suggested
     ('guarded acceptance', 3.0, True)
-    >>> decision_rule(0.0)["rule"]
+    >>> decision_rule(0.0).rule
     'shared risk'
     """
     if not (isinstance(guard_db, (int, float)) and math.isfinite(guard_db) and guard_db >= 0):
@@ -98,17 +100,18 @@ def decision_rule(guard_db: float, measurement: str | None = None, statistical_u
         published = PUBLISHED_MAX_UNCERTAINTY_DB[measurement]
         below = bool(guard_db < suggested)
     stat = None if statistical_uncertainty_db is None else float(statistical_uncertainty_db)
-    return {
-        "rule": "guarded acceptance" if guard_db > 0 else "shared risk",
-        "guard_db": float(guard_db),
-        "measurement": measurement or "not stated",
-        "suggested_guard_db": suggested,
-        "published_max_uncertainty_db": published,
-        "suggested_guard_db_by_kind": dict(SUGGESTED_GUARD_DB),
-        "published_max_uncertainty_db_by_kind": dict(PUBLISHED_MAX_UNCERTAINTY_DB),
-        "published_source": PUBLISHED_MAX_UNCERTAINTY_SOURCE,
-        "guard_below_suggested": below,
-        "statistical_uncertainty_db": stat,
-        "statistical_expanded_db": None if stat is None else COVERAGE_FACTOR * stat,
-        "coverage_factor": COVERAGE_FACTOR,
-    }
+    return DecisionRule(
+        rule="guarded acceptance" if guard_db > 0 else "shared risk",
+        guard_db=float(guard_db),
+        measurement=measurement or "not stated",
+        suggested_guard_db=suggested,
+        published_max_uncertainty_db=published,
+        suggested_guard_db_by_kind=PerMeasurementKind(SUGGESTED_GUARD_DB["conducted"], SUGGESTED_GUARD_DB["radiated"]),
+        published_max_uncertainty_db_by_kind=PerMeasurementKind(
+            PUBLISHED_MAX_UNCERTAINTY_DB["conducted"], PUBLISHED_MAX_UNCERTAINTY_DB["radiated"]),
+        published_source=PUBLISHED_MAX_UNCERTAINTY_SOURCE,
+        guard_below_suggested=below,
+        statistical_uncertainty_db=stat,
+        statistical_expanded_db=None if stat is None else COVERAGE_FACTOR * stat,
+        coverage_factor=COVERAGE_FACTOR,
+    )

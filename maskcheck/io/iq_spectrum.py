@@ -19,23 +19,25 @@ This joins the readers of :mod:`maskcheck.io.iq` and the estimator of
      response).
 
    Without a calibration the spectrum stays relative to full scale: its
-   ``reference["level_scale"]`` is ``"dBFS"``, and 0 dBFS is stored as 1 mW
+   ``level_scale`` is ``"dBFS"``, and 0 dBFS is stored as 1 mW
    so that ``level_dbm`` reads dBFS; a check may then judge it only against
    relative limits.
 
 Everything used -- window, ENBW, segment length, overlap, averages, the
-4.34/sqrt(K) dB uncertainty and the calibration -- is written into
-``reference["estimation"]`` and ``reference["calibration"]``.
+4.34/sqrt(K) dB uncertainty and the calibration -- is recorded in the
+spectrum's ``estimation``, ``calibration`` and ``recording`` records
+(:mod:`maskcheck.core.records`).
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..core.estimate import WelchAccumulator, WelchEstimate, plan_welch
+from ..core.records import CalibrationRecord, RecordingRecord
 from ..core.spectrum import Spectrum
 from ..errors import RecordingError, SpectrumError
 from .iq import BLOCK_SAMPLES, Recording
@@ -76,17 +78,33 @@ class Calibration:
 
 @dataclass(frozen=True, eq=False)
 class RecordingSpectrum:
-    """The result: the spectrum to check, and what it was made from."""
+    """The result: the spectrum to check, and what it was made from.
+
+    Attributes
+    ----------
+    spectrum : Spectrum
+    estimates : tuple of (float, WelchEstimate)
+        ``(centre_hz, estimate)`` per span.
+    scale_w : float
+        Watts per full-scale unit.
+    calibration : CalibrationRecord
+        As the spectrum carries it.
+    correction : object or None
+        The correction table applied on top (``gain_db(freq_hz)``), if any.
+    """
 
     spectrum: Spectrum
-    estimates: tuple[tuple[float, WelchEstimate], ...]  # (centre_hz, estimate) per span
+    estimates: tuple[tuple[float, WelchEstimate], ...]
     scale_w: float
-    calibration: dict
+    calibration: CalibrationRecord
+    correction: object = None
 
     def frame_spectrum(self, i: int) -> Spectrum:
         """Frame ``i`` of a time-resolved single-span estimate, on the same scale."""
         (fc, est), = self.estimates
-        return self._finish(est.to_spectrum(fc, trace="frame", frame=i, reference=dict(self.spectrum.reference)))
+        meta = self.spectrum.metadata
+        del meta["estimation"], meta["centre_hz"]  # set anew for the frame
+        return self._finish(est.to_spectrum(fc, trace="frame", frame=i, **meta))
 
     @property
     def frames(self) -> int:
@@ -95,9 +113,8 @@ class RecordingSpectrum:
         return int(self.estimates[0][1].frames_fs.shape[0])
 
     def _finish(self, s: Spectrum) -> Spectrum:
-        gain = _gain(s.freq_hz, self.scale_w, self.calibration.get("_correction"))
-        ref = dict(s.reference)
-        return Spectrum(s.freq_hz, s.power_w * gain, s.rbw_hz, s.enbw_hz, detector=s.detector, reference=ref)
+        gain = _gain(s.freq_hz, self.scale_w, self.correction)
+        return replace(s, power_w=s.power_w * gain)
 
 
 def _gain(freq_hz, scale_w, correction):
@@ -208,58 +225,46 @@ def estimate_recording(
         estimates.append((fc, est))
 
     # calibration scale
-    cal: dict = {"level_scale": "dBFS", "method": "none (levels relative to full scale)"}
+    cal = CalibrationRecord(level_scale="dBFS", method="none (levels relative to full scale)")
     scale_w = UNCALIBRATED_FULL_SCALE_W
     if calibration.full_scale_w is not None and calibration.ref_tone_hz is not None:
         raise RecordingError("give --full-scale or --ref-tone, not both", path=rec.path, where="--ref-tone")
     if calibration.full_scale_w is not None:
         scale_w = float(calibration.full_scale_w)
-        cal = {"level_scale": "dBm", "method": "full scale", "full_scale_dbm": 10 * math.log10(scale_w) + 30}
+        cal = CalibrationRecord(level_scale="dBm", method="full scale", full_scale_dbm=10 * math.log10(scale_w) + 30)
     correction = calibration.correction
-    reference = {
-        "source": rec.path,
-        "recording": {
-            "kind": rec.kind,
-            "datatype": rec.datatype,
-            "sample_rate_hz": rec.sample_rate_hz,
-            "samples": rec.num_samples,
-            "duration_s": rec.duration_s,
-            "captures": len(rec.captures),
-        },
-        "notes": list(rec.notes),
-    }
+    recording = RecordingRecord(
+        kind=rec.kind,
+        datatype=rec.datatype,
+        sample_rate_hz=rec.sample_rate_hz,
+        samples=rec.num_samples,
+        duration_s=rec.duration_s,
+        captures=len(rec.captures),
+    )
     spans = []
     for fc, est in estimates:
-        s = est.to_spectrum(fc, trace=trace, reference=reference, source=rec.path)
+        s = est.to_spectrum(fc, trace=trace, source=rec.path, recording=recording, notes=tuple(rec.notes))
         spans.append(s)
     if calibration.ref_tone_hz is not None:
         tone = _measure_tone(rec, spans, estimates, calibration.ref_tone_hz, correction)
         scale_w = float(calibration.ref_tone_w) / tone
-        cal = {
-            "level_scale": "dBm",
-            "method": "reference tone",
-            "tone_hz": calibration.ref_tone_hz,
-            "tone_dbm": 10 * math.log10(calibration.ref_tone_w) + 30,
-            "tone_measured_dbfs": 10 * math.log10(tone),
-            "full_scale_dbm": 10 * math.log10(scale_w) + 30,
-        }
+        cal = CalibrationRecord(
+            level_scale="dBm",
+            method="reference tone",
+            tone_hz=calibration.ref_tone_hz,
+            tone_dbm=10 * math.log10(calibration.ref_tone_w) + 30,
+            tone_measured_dbfs=10 * math.log10(tone),
+            full_scale_dbm=10 * math.log10(scale_w) + 30,
+        )
     if correction is not None:
-        cal["correction_table"] = str(getattr(correction, "path", ""))
-    cal["calibrated"] = cal["level_scale"] == "dBm"
+        cal = replace(cal, correction_table=str(getattr(correction, "path", "")))
+    cal = replace(cal, calibrated=cal.level_scale == "dBm")
     finished = []
     for s in spans:
-        try:
-            gain = _gain(s.freq_hz, scale_w, correction)
-        except RecordingError:
-            raise
-        ref = dict(s.reference)
-        ref["calibration"] = {k: v for k, v in cal.items()}
-        ref["level_scale"] = cal["level_scale"]
-        finished.append(Spectrum(s.freq_hz, s.power_w * gain, s.rbw_hz, s.enbw_hz, detector=s.detector, reference=ref))
+        gain = _gain(s.freq_hz, scale_w, correction)
+        finished.append(replace(s, power_w=s.power_w * gain, calibration=cal))
     spectrum = _join_spans(finished)
-    cal_private = dict(cal)
-    cal_private["_correction"] = correction
-    return RecordingSpectrum(spectrum, tuple(estimates), scale_w, cal_private)
+    return RecordingSpectrum(spectrum, tuple(estimates), scale_w, cal, correction)
 
 
 def _measure_tone(rec, spans, estimates, f_hz, correction) -> float:
@@ -323,8 +328,7 @@ def _join_spans(spectra: list[Spectrum]) -> Spectrum:
         fs = s.freq_hz[sel]
         edges.append((lo if math.isfinite(lo) and lo <= fs[0] else None, hi if math.isfinite(hi) and hi >= fs[-1] else None))
         n += int(sel.sum())
-    ref = dict(spectra[0].reference)
-    ref["spans"] = len(f)
-    ref.pop("centre_hz", None)
+    meta = spectra[0].metadata
+    meta["centre_hz"] = None  # one centre per span: none for the whole
     return Spectrum(np.concatenate(f), np.concatenate(p), np.concatenate(r), np.concatenate(e),
-                    detector=spectra[0].detector, reference=ref, segments=tuple(segs), span_edges_hz=tuple(edges))
+                    detector=spectra[0].detector, segments=tuple(segs), span_edges_hz=tuple(edges), **meta)

@@ -81,7 +81,7 @@ from __future__ import annotations
 import hashlib
 import math
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Annotated, ClassVar, Literal
 
@@ -90,6 +90,7 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationEr
 from pydantic_core import PydanticCustomError
 
 from ..core.corrections import FAR_FIELD_CONSTANT_DB, Correction, apply_corrections, correction_db
+from ..core.records import ChainPartRecord, CorrectionsRecord, InstrumentRecord, RadiatedRecord, SetupRecord
 from ..core.spectrum import Spectrum
 from ..core.units import format_frequency, parse_db, parse_duration, parse_frequency, parse_power, w_to_dbm
 from .._toml import decode_text, key_path, loads
@@ -400,21 +401,22 @@ class MeasurementSetup:
         return np.where(known, off, 0.0), known
 
     def apply(self, spectrum: Spectrum) -> Spectrum:
-        """The spectrum corrected by the chain (and antenna factor), with the record in its metadata.
+        """The spectrum corrected by the chain (and antenna factor), with the records in its metadata.
 
-        The corrected spectrum's ``reference`` gains ``setup`` (this file,
-        summarised) and ``corrections`` (what was applied, what was left
-        out and why, warnings), which :func:`maskcheck.check` copies into
-        the result.
+        The corrected spectrum gains ``setup`` (this file, summarised:
+        :meth:`record`) and ``corrections`` (a
+        :class:`~maskcheck.core.records.CorrectionsRecord`: what was applied,
+        what was left out and why, warnings), which :func:`maskcheck.check`
+        copies into the result.
         """
         corr = self.chain_corrections()
         if not corr and not self.radiated:
-            out, record = spectrum, {
-                "quantity": "power at the transmitter output", "measurement": "conducted", "applied": [],
-                "total_db_min": 0.0, "total_db_max": 0.0, "removed_hz": [], "warnings": [],
-                "interpolation": "none: the setup has no chain",
-            }
-            record["warnings"].append("the setup lists no chain: readings are taken as the power at the transmitter output")
+            out, record = spectrum, CorrectionsRecord(
+                quantity="power at the transmitter output", measurement="conducted", applied=(),
+                total_db_min=0.0, total_db_max=0.0, removed_hz=(),
+                warnings=("the setup lists no chain: readings are taken as the power at the transmitter output",),
+                interpolation="none: the setup has no chain",
+            )
         else:
             try:
                 out, record = apply_corrections(
@@ -424,19 +426,15 @@ class MeasurementSetup:
                 )
             except MaskcheckError as exc:
                 raise SetupError(exc.message, path=self.path or None, where=exc.where) from None
-        record["warnings"] = list(record["warnings"]) + self._compare(spectrum)
+        warnings = list(record.warnings) + self._compare(spectrum)
         if self.radiated:
-            record["warnings"].append(
+            warnings.append(
                 f"setup: radiated measurement at {self.file.radiated.distance_m:g} m: levels are the far-field EIRP "
                 "equivalent of the field strength (E = sqrt(30 EIRP) / d); limits in dBuV/m are compared in the same form"
             )
-        for r in record["removed_hz"]:
-            record["warnings"].append(f"setup: {r['reason']}")
-        ref = dict(out.reference)
-        ref["setup"] = self.to_dict()
-        ref["corrections"] = record
-        return Spectrum(out.freq_hz, out.power_w, out.rbw_hz, out.enbw_hz, detector=out.detector, reference=ref,
-                        segments=out.segments, span_edges_hz=out.span_edges_hz)
+        for r in record.removed_hz:
+            warnings.append(f"setup: {r.reason}")
+        return replace(out, setup=self.record(), corrections=replace(record, warnings=tuple(warnings)))
 
     def _compare(self, spectrum: Spectrum) -> list[str]:
         """Warnings where the trace says otherwise than the setup's instrument settings."""
@@ -451,43 +449,42 @@ class MeasurementSetup:
             out.append(f"setup: the setup gives a '{ins.detector}' detector, the trace '{spectrum.detector}'; the trace's is used")
         return out
 
-    def to_dict(self) -> dict:
-        """The setup as plain data, for results and plans (SI units)."""
+    def record(self) -> SetupRecord:
+        """The setup as a record, for results and plans (SI units)."""
         f = self.file
         ins = f.instrument
-        inst = {k: v for k, v in ins.model_dump().items() if v is not None and v != ""}
-        for k in ("reference_level", "max_safe_input", "max_mixer_level"):
-            if k in inst:
-                inst[f"{k}_dbm"] = float(w_to_dbm(inst.pop(k)))
-        for k in ("rbw", "vbw"):
-            if k in inst:
-                inst[f"{k}_hz"] = inst.pop(k)
-        if "sweep_time" in inst:
-            inst["sweep_time_s"] = inst.pop("sweep_time")
-        if "input_attenuation" in inst:
-            inst["input_attenuation_db"] = inst.pop("input_attenuation")
-        if "noise_density" in inst:
-            inst["noise_density_dbm_per_hz"] = inst.pop("noise_density")
-        chain = []
-        for i, part in enumerate(f.chain):
-            c = part.correction(f"chain[{i}]").to_dict()
-            c["rated_power_w"] = part.rated_power
-            c["notes"] = part.notes
-            chain.append(c)
-        out = {
-            "path": self.path,
-            "sha256": self.sha256,
-            "schema_version": f.schema_version,
-            "name": f.name,
-            "notes": f.notes,
-            "measurement": f.measurement,
-            "instrument": inst,
-            "chain": chain,
-        }
+
+        def dbm(w):
+            return None if w is None else float(w_to_dbm(w))
+
+        inst = InstrumentRecord(
+            name=ins.name or None,
+            rbw_hz=ins.rbw,
+            vbw_hz=ins.vbw,
+            detector=ins.detector,
+            sweep_time_s=ins.sweep_time,
+            reference_level_dbm=dbm(ins.reference_level),
+            input_attenuation_db=ins.input_attenuation,
+            max_safe_input_dbm=dbm(ins.max_safe_input),
+            max_dc_v=ins.max_dc_v,
+            max_mixer_level_dbm=dbm(ins.max_mixer_level),
+            noise_density_dbm_per_hz=ins.noise_density,
+            input_impedance_ohm=ins.input_impedance_ohm,
+        )
+        chain = tuple(
+            ChainPartRecord(part.correction(f"chain[{i}]").record(), rated_power_w=part.rated_power, notes=part.notes)
+            for i, part in enumerate(f.chain)
+        )
+        radiated = None
         if f.radiated is not None:
-            out["radiated"] = {"distance_m": f.radiated.distance_m, "antenna": f.radiated.antenna,
-                               "antenna_factor": self.antenna_factor().to_dict()}
-        return out
+            radiated = RadiatedRecord(distance_m=f.radiated.distance_m, antenna=f.radiated.antenna,
+                                      antenna_factor=self.antenna_factor().record())
+        return SetupRecord(path=self.path, sha256=self.sha256, schema_version=f.schema_version, name=f.name, notes=f.notes,
+                           measurement=f.measurement, instrument=inst, chain=chain, radiated=radiated)
+
+    def to_dict(self) -> dict:
+        """The setup as plain data, for results and plans (SI units): ``record().to_dict()``."""
+        return self.record().to_dict()
 
 
 def parse_setup(text: str, *, path: str = "", sha256: str = "") -> MeasurementSetup:

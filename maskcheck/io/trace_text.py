@@ -56,6 +56,7 @@ import warnings
 
 import numpy as np
 
+from ..core.records import TraceFileRecord
 from ..core.spectrum import DETECTORS, Spectrum
 from ..core.units import dbm_to_w, dbuv_to_dbm, dbw_to_w, parse_frequency
 from ..errors import MaskcheckError, SpectrumError, TraceError
@@ -534,10 +535,11 @@ def read_trace(path, *, rbw_hz: float | str | None = None, freq_unit: str | None
     Returns
     -------
     Spectrum
-        ``power_w`` in W in each point's RBW, ``rbw_hz`` in Hz, and
-        ``reference`` with ``source``, ``sha256``, ``notes`` (list of str),
-        ``freq_unit``, ``level_unit``, ``rbw_from`` and, when the file gives
-        them, ``centre_hz`` and ``reference_level_dbm``.  Every override of
+        ``power_w`` in W in each point's RBW, ``rbw_hz`` in Hz, with
+        ``source``, ``sha256``, ``notes``, ``centre_hz`` (None unless the
+        file gives it) and ``trace_file`` (a
+        :class:`~maskcheck.core.records.TraceFileRecord`: units, where the
+        RBW came from, the reference level when given).  Every override of
         the file by an option is written in ``notes``.
 
     Raises
@@ -617,11 +619,9 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
     det = _resolve(det_opt, det_file, "detector", det_line, notes, path) if det_opt or det_file else "unknown"
 
     layout = _Layout(columns, labels, f_unit, l_unit)
-    reference = {"source": path, "sha256": "", "notes": notes, "freq_unit": f_unit,
-                 "level_unit": l_unit, "rbw_from": rbw_from}
-    for key in ("centre_hz", "reference_level_dbm"):
-        if key in meta:
-            reference[key] = meta[key][0]
+    trace_file = TraceFileRecord(freq_unit=f_unit, level_unit=l_unit, rbw_from=rbw_from,
+                                 reference_level_dbm=meta.get("reference_level_dbm", (None, 0))[0])
+    centre_hz = meta.get("centre_hz", (None, 0))[0]
 
     def build(values):
         freq_hz, power_w, rbw_col_hz = _to_si(values, layout)
@@ -632,8 +632,8 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
         rbw = rbw_opt if rbw_opt is not None else rbw_col_hz if has_rbw_col else rbw_file
         if hasher is not None:
             hasher.join()
-        reference["sha256"] = digest[0]
-        return Spectrum(freq_hz, power_w, rbw, enbw_hz, detector=det, reference=reference)
+        return Spectrum(freq_hz, power_w, rbw, enbw_hz, detector=det, source=path, sha256=digest[0], notes=tuple(notes),
+                        centre_hz=centre_hz, trace_file=trace_file)
 
     values = _rows_fast(raw, data_pos, delim, layout.ncols)
     if values is not None:

@@ -37,8 +37,8 @@ def format_trace(spectrum: Spectrum, notes=(), *, level_column: str = "level_dbm
     if float(enbw[0]) != float(rbw[0]):
         out.write(f"# enbw_hz: {float(enbw[0])!r}\n")
     out.write(f"# detector: {spectrum.detector}\n")
-    if "centre_hz" in spectrum.reference:
-        out.write(f"# centre_hz: {float(spectrum.reference['centre_hz'])!r}\n")
+    if spectrum.centre_hz is not None:
+        out.write(f"# centre_hz: {float(spectrum.centre_hz)!r}\n")
     for n in notes:
         out.write(f"# {' '.join(str(n).split())}\n")
     out.write(f"frequency_hz,{level_column}\n")
@@ -59,7 +59,7 @@ def split_spans(spectrum: Spectrum) -> list[Spectrum]:
     out = []
     for a, b in zip(bounds[:-1], bounds[1:]):
         out.append(Spectrum(spectrum.freq_hz[a:b], spectrum.power_w[a:b], spectrum.rbw_hz[a:b], spectrum.enbw_hz[a:b],
-                            detector=spectrum.detector, reference=spectrum.reference))
+                            detector=spectrum.detector, **spectrum.metadata))
     return out
 
 

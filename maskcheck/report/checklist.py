@@ -98,11 +98,11 @@ class _Checklist:
         pl = self.plan
         m = pl.mask
         st = pl.station
-        label = f" - {st['name']}" if st.get("name") else ""
+        label = f" - {st.name}" if st.name else ""
         rows = [
             [self.p(f"Bench checklist{label}", "title")],
-            [self.p(f"Measurement plan for {m['id']} ({m['citation']}). Carrier {format_frequency(st['carrier_hz'])}, "
-                    f"mean power {format_power(st['power_w'])}.", "sub")],
+            [self.p(f"Measurement plan for {m['id']} ({m['citation']}). Carrier {format_frequency(st.carrier_hz)}, "
+                    f"mean power {format_power(st.power_w)}.", "sub")],
         ]
         t = Table(rows, colWidths=[self.width])
         t.setStyle(TableStyle([("BACKGROUND", (0, 0), (-1, -1), BAND), ("LEFTPADDING", (0, 0), (-1, -1), 7),
@@ -122,14 +122,14 @@ class _Checklist:
         st, m, f = pl.station, pl.mask, pl.fundamental
         lo, hi = pl.fundamental_window_hz
         left = [
-            ("Transmitter", st.get("name") or "not named"),
-            ("Carrier", format_frequency(st["carrier_hz"])),
-            ("Mean power", format_power(st["power_w"])),
+            ("Transmitter", st.name or "not named"),
+            ("Carrier", format_frequency(st.carrier_hz)),
+            ("Mean power", format_power(st.power_w)),
         ]
-        if st.get("pep_w"):
-            left.append(("PEP", format_power(st["pep_w"])))
-        if st.get("designator"):
-            left.append(("Designator", st["designator"]))
+        if st.pep_w:
+            left.append(("PEP", format_power(st.pep_w)))
+        if st.designator:
+            left.append(("Designator", st.designator))
         left += [
             ("Fundamental window", f"{format_frequency(lo)} to {format_frequency(hi)} (not swept for spurious emissions)"),
             ("Rule", f"{m['citation']}; edition: {m['edition']}"),
@@ -144,32 +144,33 @@ class _Checklist:
         if s is None:
             right.append(("Setup", "none" if pl.extra_loss_db else "none: limits are stated at the transmitter output"))
         else:
-            right.append(("Setup", f"{s['name'] or s['path']} ({s['measurement']})"))
-            ins = s["instrument"]
+            right.append(("Setup", f"{s.name or s.path} ({s.measurement})"))
+            ins = s.instrument
             settings = []
-            for key, label, fmt in (("rbw_hz", "RBW", format_frequency), ("vbw_hz", "VBW", format_frequency),
-                                    ("detector", "detector", str), ("reference_level_dbm", "ref. level", _dbm),
-                                    ("input_attenuation_db", "input att.", lambda v: f"{v:g} dB"),
-                                    ("sweep_time_s", "sweep", lambda v: f"{v:g} s")):
-                if ins.get(key) is not None:
-                    settings.append(f"{label} {fmt(ins[key])}")
+            for value, label, fmt in ((ins.rbw_hz, "RBW", format_frequency), (ins.vbw_hz, "VBW", format_frequency),
+                                      (ins.detector, "detector", str), (ins.reference_level_dbm, "ref. level", _dbm),
+                                      (ins.input_attenuation_db, "input att.", lambda v: f"{v:g} dB"),
+                                      (ins.sweep_time_s, "sweep", lambda v: f"{v:g} s")):
+                if value is not None:
+                    settings.append(f"{label} {fmt(value)}")
             if settings:
                 right.append(("Analyser", ", ".join(settings)))
-            right.append(("Max safe input", _dbm(ins.get("max_safe_input_dbm")) if ins.get("max_safe_input_dbm") is not None
+            right.append(("Max safe input", _dbm(ins.max_safe_input_dbm) if ins.max_safe_input_dbm is not None
                           else "not stated in the setup: look it up before keying up"))
-            if ins.get("max_dc_v") is not None:
-                right.append(("Max DC at input", f"{ins['max_dc_v']:g} V"))
-            for part in s["chain"]:
-                val = f"{part['fixed_db']:g} dB" if "fixed_db" in part else (
-                    f"table {part['table']['min_db']:g} to {part['table']['max_db']:g} dB, "
-                    f"{format_frequency(part['table']['start_hz'])} to {format_frequency(part['table']['stop_hz'])}")
-                rated = f", rated {format_power(part['rated_power_w'])}" if part.get("rated_power_w") else ""
-                right.append((part["kind"].capitalize(), f"{part['name']}: {val}{rated}"))
-            if s.get("radiated"):
-                r = s["radiated"]
-                right.append(("Radiated", f"{r['antenna'] or 'antenna'} at {r['distance_m']:g} m"))
-            if s.get("notes"):
-                right.append(("Notes", s["notes"]))
+            if ins.max_dc_v is not None:
+                right.append(("Max DC at input", f"{ins.max_dc_v:g} V"))
+            for part in s.chain:
+                c = part.correction
+                val = f"{c.fixed_db:g} dB" if c.fixed_db is not None else (
+                    f"table {c.table.min_db:g} to {c.table.max_db:g} dB, "
+                    f"{format_frequency(c.table.start_hz)} to {format_frequency(c.table.stop_hz)}")
+                rated = f", rated {format_power(part.rated_power_w)}" if part.rated_power_w else ""
+                right.append((part.kind.capitalize(), f"{part.name}: {val}{rated}"))
+            if s.radiated is not None:
+                r = s.radiated
+                right.append(("Radiated", f"{r.antenna or 'antenna'} at {r.distance_m:g} m"))
+            if s.notes:
+                right.append(("Notes", s.notes))
         if f.get("peak_at_input_dbm") is not None:
             right.append(("At the input", f"fundamental {f['mean_at_input_dbm']:.1f} dBm mean, {f['peak_at_input_dbm']:.1f} dBm peak"
                                           + (f" ({f['assumption']})" if f.get("assumption") else "")))
@@ -287,7 +288,8 @@ class _Checklist:
         canvas.setFillColor(INK)
         pl = self.plan
         canvas.drawString(_MARGIN, 8 * mm, pdf_text_plain(
-            f"{pl.tool.get('name', 'maskcheck')} {pl.tool.get('version', _version.__version__)} | plan made {pl.created_utc} UTC | "
+            f"{'maskcheck' if pl.tool is None else pl.tool.name} "
+            f"{_version.__version__ if pl.tool is None else pl.tool.version} | plan made {pl.created_utc} UTC | "
             "pre-compliance aid, not a certification"))
         canvas.restoreState()
 

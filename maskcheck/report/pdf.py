@@ -123,7 +123,7 @@ def _page_furniture(result: CheckResult):
         canvas.line(MARGIN, h - 12 * mm, w - MARGIN, h - 12 * mm)
         canvas.setFont("Helvetica", 7)
         canvas.setFillColor(INK)
-        station = result.station.get("name") or ""
+        station = result.station.name
         left = f"maskcheck emission screening | {result.mask.citation} | {result.verdict.upper()}"
         canvas.drawString(MARGIN, h - 10.5 * mm, pdf_text_plain(left))
         canvas.drawRightString(w - MARGIN, h - 10.5 * mm, pdf_text_plain(f"{result.created_utc} UTC" if result.created_utc else ""))

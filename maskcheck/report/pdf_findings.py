@@ -71,16 +71,16 @@ def _rule_line(result: CheckResult) -> str:
     d = result.decision_rule
     if d is None:
         return f"guard band {result.guard_db:g} dB"
-    if d["rule"] == "shared risk":
+    if d.rule == "shared risk":
         return "shared risk: each level is compared directly with its limit (guard band 0 dB)"
-    return f"guarded acceptance: a margin below the {d['guard_db']:g} dB guard band makes the outcome marginal"
+    return f"guarded acceptance: a margin below the {d.guard_db:g} dB guard band makes the outcome marginal"
 
 
 def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
     """Page 1: what was concluded, about what, under which rule."""
     r = result
-    name = r.tool.get("name", "maskcheck")
-    version = r.tool.get("version", "")
+    name = "maskcheck" if r.tool is None else r.tool.name
+    version = "" if r.tool is None else r.tool.version
     out = [
         x.p("Emission screening report", "title"),
         x.p(f"{name} {version}: pre-compliance check of a transmitter emission against a regulatory mask", "subtitle"),
@@ -108,7 +108,7 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
     out += [panel, Spacer(1, 8)]
 
     st = r.station
-    station = [("Station", st.get("name") or "not named")]
+    station = [("Station", st.name or "not named")]
     station += [(_cap(k), v) for k, v in station_rows(r) if k not in ("name",)]
     station.append(("Reference power", reference_text(r)))
     m = r.mask
@@ -120,7 +120,7 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         ("Verified", "yes: checked against the official text" if m.verified else f"no: {UNVERIFIED_NOTE}"),
     ]
     setup = r.setup
-    rule.append(("Setup", (setup.get("name") or setup.get("path", "")) if setup else "none given: readings taken as at the transmitter output"))
+    rule.append(("Setup", (setup.name or setup.path) if setup else "none given: readings taken as at the transmitter output"))
     rule.append(("Created (UTC)", r.created_utc or "not recorded"))
     gap = 5 * mm
     half = (x.width - gap) / 2
@@ -235,7 +235,7 @@ def bandwidth_section(x: Parts, result: CheckResult, figs) -> list:
 def necessary_section(x: Parts, result: CheckResult) -> list:
     out = [CondPageBreak(160), x.heading("Necessary bandwidth and designator")]
     nb = result.necessary_bandwidth
-    des = result.station.get("designator")
+    des = result.station.designator
     if des:
         try:
             from ..core.designator import parse_designator
@@ -254,14 +254,14 @@ def necessary_section(x: Parts, result: CheckResult) -> list:
                        "window is the mask's default (see the summary)."))
         return out
     pairs = [(_cap(k), v) for k, v in emission_facts(result)]
-    if nb.get("arithmetic"):
-        pairs.insert(1, ("Arithmetic", nb["arithmetic"]))
-    if nb.get("status") and nb["status"] != "n/a":
-        pairs.insert(2, ("Status of the formula", nb["status"]))
+    if nb.arithmetic:
+        pairs.insert(1, ("Arithmetic", nb.arithmetic))
+    if nb.status and nb.status != "n/a":
+        pairs.insert(2, ("Status of the formula", nb.status))
     pairs.append(("Fundamental window", f"{fmt_range(*result.fundamental_window_hz)}: {result.fundamental_window_source}"))
     out += [x.sub("Necessary bandwidth and domains"), x.facts(pairs)]
     b = result.domain_boundary
-    if b is not None and not b.get("verified", True):
+    if b is not None and not b.verified:
         out += x.caution("The domain boundary was decided by a table written from memory and not verified against ITU-R SM.1539.",
                          PALETTE["marginal"])
     return out

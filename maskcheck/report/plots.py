@@ -181,9 +181,9 @@ def spectrum_drawing(
     if strip_h:
         top_y = bottom + ph + 1.0
         for dom in result.domains:
-            kind = "necessary" if "necessary" in dom["name"] else "out-of-band" if "out-of-band" in dom["name"] else "spurious"
-            ax.band(dom["start_hz"], dom["stop_hz"], PALETTE[kind], min_width=1.0, y=top_y, h=strip_h - 1.0)
-            xa, xb = float(ax.px(max(dom["start_hz"], lo))), float(ax.px(min(dom["stop_hz"], hi)))
+            kind = "necessary" if "necessary" in dom.name else "out-of-band" if "out-of-band" in dom.name else "spurious"
+            ax.band(dom.start_hz, dom.stop_hz, PALETTE[kind], min_width=1.0, y=top_y, h=strip_h - 1.0)
+            xa, xb = float(ax.px(max(dom.start_hz, lo))), float(ax.px(min(dom.stop_hz, hi)))
             short = {"necessary": "necessary band", "out-of-band": "out-of-band", "spurious": "spurious domain"}[kind]
             for text in (short, {"necessary": "Bn", "out-of-band": "OoB", "spurious": "spur."}[kind]):
                 if stringWidth(text, "Helvetica", 5.5) + 4 < xb - xa:

@@ -311,7 +311,7 @@ def _dict_rows(data: dict, order=()) -> list[tuple[str, str]]:
 
 def station_rows(result: CheckResult) -> list[tuple[str, str]]:
     """(label, value) pairs of the station; units come from the key suffixes."""
-    return _dict_rows(result.station, _STATION_ORDER)
+    return _dict_rows(result.station.to_dict(), _STATION_ORDER)
 
 
 def emission_facts(result: CheckResult) -> list[tuple[str, str]]:
@@ -320,19 +320,19 @@ def emission_facts(result: CheckResult) -> list[tuple[str, str]]:
     if nb is None:
         return []
     how = {
-        "formula": f"formula {nb.get('arithmetic', '')} ({nb.get('source', '')})",
+        "formula": f"formula {nb.arithmetic} ({nb.source})",
         "designator": "the bandwidth code of the designator",
         "stated": "stated by the user",
         "measured": "the measured occupied bandwidth (no formula fits)",
-    }.get(nb.get("method"), nb.get("method", ""))
-    rows = [("necessary bandwidth", f"{format_frequency(nb['bandwidth_hz'])} ({nb['designator']}), from {how}")]
+    }.get(nb.method, nb.method)
+    rows = [("necessary bandwidth", f"{format_frequency(nb.bandwidth_hz)} ({nb.designator}), from {how}")]
     b = result.domain_boundary
     if b is not None:
-        flag = "" if b.get("verified", True) else "; B_L/B_U table from memory, not verified"
-        rows.append(("domain boundary", f"+- {format_frequency(b['offset_hz'])} from the carrier: {b['text']}{flag} ({b.get('source', '')})"))
+        flag = "" if b.verified else "; B_L/B_U table from memory, not verified"
+        rows.append(("domain boundary", f"+- {format_frequency(b.offset_hz)} from the carrier: {b.text}{flag} ({b.source})"))
     for d in result.domains:
-        if "spurious" not in d["name"]:
-            rows.append((d["name"], fmt_range(d["start_hz"], d["stop_hz"])))
+        if "spurious" not in d.name:
+            rows.append((d.name, fmt_range(d.start_hz, d.stop_hz)))
     return rows
 
 
@@ -340,7 +340,7 @@ def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
     """(label, value) pairs describing the measured spectrum."""
     # nested records (the estimation and calibration of a recording) are for the JSON; their
     # one-line texts ("estimate", "levels") are shown instead
-    flat = {k: v for k, v in result.spectrum_summary.items() if not isinstance(v, dict)}
+    flat = {k: v for k, v in result.spectrum_summary.to_dict().items() if not isinstance(v, dict)}
     return _dict_rows(flat, ("start_hz", "stop_hz", "points", "spans", "rbw_hz", "rbw_hz_min", "rbw_hz_max", "detector", "level_scale",
                              "estimate", "levels"))
 

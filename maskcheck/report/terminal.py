@@ -83,7 +83,8 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     """
     console = console or Console()
     mask = result.mask
-    console.print(Rule(f"maskcheck {result.tool.get('version', '')}".strip() + f" | mask {mask.id}", style="dim"))
+    version = "" if result.tool is None else result.tool.version
+    console.print(Rule(f"maskcheck {version}".strip() + f" | mask {mask.id}", style="dim"))
 
     verdict = Text()
     verdict.append("Outcome  ", style="bold")

@@ -31,7 +31,6 @@ import io
 import math
 import os
 import time
-from collections.abc import Mapping
 
 import numpy as np
 from reportlab.graphics.shapes import Drawing, Line, Polygon, String
@@ -222,17 +221,16 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
     for i, item in enumerate(inputs, 1):
         get = (lambda k: item[k]) if isinstance(item, dict) else (lambda k: getattr(item, k))
         pairs.append((f"input {i}", f"{get('path')}  SHA-256 {get('sha256')}"))
-    ref = spectrum.reference if isinstance(spectrum.reference, Mapping) else {}
-    cal = ref.get("calibration")
-    if isinstance(cal, Mapping) and cal:
-        pairs.append(("calibration", ", ".join(f"{k} {v}" for k, v in cal.items())))
+    cal = spectrum.calibration
+    if cal is not None:
+        pairs.append(("calibration", ", ".join(f"{k} {v}" for k, v in cal.to_dict().items())))
     story += [x.heading("What was analysed"), x.facts(pairs, mono_keys={k for k, _ in pairs if k.startswith("input")})]
-    est = ref.get("estimation")
+    est = spectrum.estimation
     rbw = float(np.median(spectrum.rbw_hz))
     how = f"RBW {format_frequency(rbw)}, detector {spectrum.detector}"
-    if isinstance(est, Mapping) and est.get("window"):
-        how += (f"; Welch estimate, window {est['window']}, {est.get('segment_samples')} samples per segment, "
-                f"overlap {float(est.get('overlap_fraction', float('nan'))):.3g}, {est.get('averages', '?')} averages")
+    if est is not None:
+        how += (f"; Welch estimate, window {est.window}, {est.segment_samples} samples per segment, "
+                f"overlap {float(est.overlap_fraction):.3g}, {est.averages} averages")
     d = res.to_dict()
     figures = [
         ("tones", f"f1 {format_frequency(res.f1_hz, 9)} ({d['tone1_dbm']:.2f} {level_unit}), "

@@ -37,11 +37,11 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..core.estimate import WelchPlan, welch_stream, welch_uncertainty_db
+from ..core.estimate import WelchPlan, welch_stream
 from ..core.spectrum import Spectrum, stitch
 from .amplifier import Zones
 from .baseband import Baseband, apply_response, require_finite, require_positive
@@ -131,12 +131,8 @@ def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, respon
         p = p * np.abs(response(f_rf)) ** 2
     enbw = plan.enbw_hz
     p = p + float(floor_w_per_hz) * enbw
-    est_info = est.describe()
-    est_info.update(trace="average", detector="rms", trace_averages=est.averages,
-                    trace_uncertainty_db=welch_uncertainty_db(est.averages))
-    ref = {"source": f"simulated zone at {bb.carrier_hz:.9g} Hz", "centre_hz": float(bb.carrier_hz),
-           "estimation": est_info}
-    return Spectrum(f_rf, p, enbw, enbw, detector="rms", reference=ref)
+    return Spectrum(f_rf, p, enbw, enbw, detector="rms", source=f"simulated zone at {bb.carrier_hz:.9g} Hz",
+                    centre_hz=float(bb.carrier_hz), estimation=est.record("average"))
 
 
 def floor_cells(start_hz: float, stop_hz: float, floor_w_per_hz: float, *, below_hz: float | None = None,
@@ -175,7 +171,7 @@ def floor_cells(start_hz: float, stop_hz: float, floor_w_per_hz: float, *, below
         parts += [np.array([extra_hi])] if extra_hi is not None else []
         f = np.concatenate(parts)
         out.append(Spectrum(f, np.full(f.size, floor_w_per_hz * step), step, step, detector="rms",
-                            reference={"source": f"simulated floor {lo_band:.9g}-{hi_band:.9g} Hz"}))
+                            source=f"simulated floor {lo_band:.9g}-{hi_band:.9g} Hz"))
         lo_band = hi_band
         prev_step = step
     return out
@@ -244,7 +240,7 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
         if n == 1:
             s = zone_spectrum(fund, plan, floor_w_per_hz=floor, workers=workers)
             zone_powers[1] = fund.mean_power_w
-            fundamental_estimation = dict(s.reference["estimation"])
+            fundamental_estimation = s.estimation
         else:
             s = zone_spectrum(z, plan, scale_w=scale, response=response, floor_w_per_hz=floor, real=(n == 0),
                               workers=workers)
@@ -268,10 +264,7 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     if cursor < stop:
         pieces.extend(floor_cells(cursor, stop, floor, below_hz=below))
     spectrum = stitch(pieces)
-    ref = dict(spectrum.reference)
-    ref.update(source="simulation", centre_hz=float(zones.carrier_hz), floor_dbm_per_hz=floor_dbm,
-               estimation=fundamental_estimation)
-    spectrum = Spectrum(spectrum.freq_hz, spectrum.power_w, spectrum.rbw_hz, spectrum.enbw_hz, detector="rms",
-                        reference=ref, segments=spectrum.segments, span_edges_hz=spectrum.span_edges_hz)
+    spectrum = replace(spectrum, detector="rms", source="simulation", centre_hz=float(zones.carrier_hz),
+                       estimation=fundamental_estimation)
     spans = tuple(sorted(pieces, key=lambda s: float(s.freq_hz[0])))
     return WidebandResult(spectrum, fund, scale, zone_powers, spans)
