@@ -48,7 +48,7 @@ def run(args) -> int:
         obw = occupied_bandwidth(spectrum, beta, floor_threshold_db=floor)
         figures.append(BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, beta, list(obw.warnings)))
     except SpectrumError as exc:
-        raise TraceError(exc.message, path=args.trace) from None
+        raise TraceError(exc.message, path=args.trace, param=exc.param) from None
     try:
         xb = xdb_bandwidth(spectrum, x_db, mode="inner" if args.inner else "outer")
         figures.append(

@@ -7,6 +7,7 @@ Also holds the emission options that ``maskcheck check`` shares
 from __future__ import annotations
 
 import json
+from contextlib import contextmanager
 
 from ._common import console
 
@@ -86,7 +87,7 @@ def assigned_from_sideband(carrier_hz: float, sideband: str, necessary, args) ->
 
     if not getattr(args, "designator", None):
         raise StationError("--sideband needs the emission's designator (e.g. 2K70J3E)", where="--sideband")
-    des = parse_designator(args.designator, where="--designator")
+    des = parse_designator(args.designator)
     if des.symbols[:1] not in ("J", "R", "H"):
         raise StationError(
             f"{des.text} is not single sideband (first symbol {des.symbols[:1]!r}; expected J, R or H); "
@@ -157,6 +158,22 @@ def register(sub) -> None:
     d.set_defaults(run=run)
 
 
+@contextmanager
+def _designator_named(where: str):
+    """Errors about the designator name this command's own input (``CODE`` or ``--emission``), not ``--designator``."""
+    from ..errors import StationError
+
+    try:
+        yield
+    except StationError as exc:
+        if exc.param not in ("designator", "emission"):
+            raise
+        message = exc.message
+        if message.startswith(f"{exc.param}="):
+            message = message.split(": ", 1)[-1]
+        raise StationError(message, where=where) from None
+
+
 def run(args) -> int:
     from ..core.designator import parse_designator
     from ..core.domains import domains
@@ -170,7 +187,8 @@ def run(args) -> int:
     if not text:
         raise StationError("give a designator (e.g. 2K70J3E) or --emission CLASS with the formula inputs", where="CODE")
     where = "--emission" if args.emission else "CODE"
-    des = parse_designator(text, where=where)
+    with _designator_named(where):
+        des = parse_designator(text)
     inputs = formula_inputs(args)
     stated = None
     if args.necessary_bw:
@@ -179,7 +197,8 @@ def run(args) -> int:
         stated = parse_frequency(args.necessary_bw, what="--necessary-bw", default_unit="Hz")
     nb, warnings = (None, [])
     if des.bandwidth_hz is not None or stated is not None or any(v is not None for k, v in inputs.items() if k != "wpm_convention"):
-        nb, warnings = resolve_necessary(des.text, stated_hz=stated, inputs=inputs)
+        with _designator_named(where):
+            nb, warnings = resolve_necessary(des.text, stated_hz=stated, inputs=inputs)
     out = {"designator": (nb.designator if nb else des.text), "parts": [], "necessary_bandwidth": None, "domains": None, "warnings": warnings}
     shown = parse_designator(out["designator"]) if nb else des
     out["parts"] = [{"part": p, "position": n, "meaning": m} for p, n, m in shown.describe()]

@@ -72,8 +72,10 @@ def run(args) -> int:
             try:
                 m = validate_mask_file(f)
             except MaskcheckError as exc:
+                from ._options import error_line
+
                 bad += 1
-                print(str(exc), file=sys.stderr)
+                print(error_line(exc, args), file=sys.stderr)
             else:
                 flag = "" if m.provenance.verified else "; rule data not verified against the official text"
                 con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)

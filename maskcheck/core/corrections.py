@@ -111,7 +111,7 @@ class Correction:
             raise CorrectionError("give a fixed value or a frequency table, not both and not neither", where=self.key or self.name)
         if self.add_db is not None:
             if not math.isfinite(self.add_db):
-                raise CorrectionError(f"{self.add_db!r} dB is not finite", where=self.key or self.name)
+                raise CorrectionError(f"{float(self.add_db):g} dB is not finite", where=self.key or self.name)
             return
         f = np.asarray(self.freq_hz, dtype=float)
         v = np.asarray(self.table_db, dtype=float)
@@ -248,7 +248,7 @@ def eirp_dbm_from_field(field_dbuv_per_m, distance_m: float):
     -41.2
     """
     if not (math.isfinite(distance_m) and distance_m > 0):
-        raise CorrectionError(f"distance {distance_m!r} m must be > 0", where="radiated.distance_m")
+        raise CorrectionError(f"distance {float(distance_m):g} m must be > 0", where="radiated.distance_m")
     return np.asarray(field_dbuv_per_m, dtype=float) - FAR_FIELD_CONSTANT_DB + 20.0 * math.log10(distance_m)
 
 
@@ -311,7 +311,7 @@ def apply_corrections(
             raise CorrectionError("a radiated measurement needs an antenna factor and a distance", where="radiated")
         all_corr.append(antenna_factor)
         if not (math.isfinite(impedance_ohm) and impedance_ohm > 0):
-            raise CorrectionError(f"impedance {impedance_ohm!r} ohm must be > 0", where="instrument.input_impedance_ohm")
+            raise CorrectionError(f"impedance {float(impedance_ohm):g} ohm must be > 0", where="instrument.input_impedance_ohm")
     f = spectrum.freq_hz
     _, known = correction_db(all_corr, f)
     removed = []
