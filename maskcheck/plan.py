@@ -54,7 +54,7 @@ from .checking import utc_now
 from .core.domains import NORMAL_PERCENT, domains as _domains
 from .core.necessary import resolve_necessary
 from .core.station import Station
-from .core.units import format_frequency, w_to_dbm
+from .core.units import format_frequency, w_to_dbm, w_to_dbm_fast
 from .core.verdict import FLOOR_CLEARANCE_DB
 from .errors import StationError
 from .masks.evaluate import evaluate_mask, fundamental_exclusion_hz
@@ -415,7 +415,7 @@ def _range_row(lim, lo, hi, setup, extra_loss_db, floor_margin_db, ins) -> PlanR
     if not np.any(ok):
         return None
     pts, lw = pts[ok], lw[ok]
-    lim_dbm = 10.0 * np.log10(lw) + 30.0
+    lim_dbm = w_to_dbm_fast(lw)  # finite and > 0, checked above
     rb = np.asarray(lim.reference_bandwidth_hz(np.array([(lo * hi) ** 0.5 if lo > 0 else hi / 2])), dtype=float)[0]
     rbw = float(rb) if math.isfinite(rb) else None
     row = PlanRange(lim.name, lim.kind, float(lo), float(hi), rbw, lim.detector, lim.limit_text,

@@ -55,7 +55,7 @@ import numpy as np
 
 from ..errors import CorrectionError
 from .spectrum import Spectrum
-from .units import dbm_to_dbuv, format_frequency
+from .units import dbm_to_dbuv, dbm_to_w_fast, format_frequency
 
 __all__ = [
     "Correction",
@@ -357,7 +357,7 @@ def apply_corrections(
         new_dbm = eirp_dbm_from_field(field, float(distance_m))
     else:
         new_dbm = level_dbm + total
-    power_w = 10.0 ** ((new_dbm - 30.0) / 10.0)
+    power_w = dbm_to_w_fast(new_dbm)
     applied = []
     for c in all_corr:
         v = c.at(f)

@@ -52,7 +52,7 @@ from typing import Iterator
 
 import numpy as np
 
-from ..errors import RecordingError, format_value
+from ..errors import RecordingError
 
 __all__ = [
     "DATATYPES",
@@ -364,7 +364,7 @@ def _positive(value, path, param: str | None = None, *, where=None, what: str = 
     except (TypeError, ValueError):
         raise RecordingError(f"{label}{value!r} is not a number", path=path, where=where, param=param) from None
     if not (math.isfinite(v) and v > 0):
-        raise RecordingError(f"{label}{format_value(value)} must be finite and > 0", path=path, where=where, param=param)
+        raise RecordingError(f"{label}{value} must be finite and > 0", path=path, where=where, param=param)
     return v
 
 

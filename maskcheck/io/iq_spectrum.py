@@ -37,6 +37,7 @@ import numpy as np
 
 from ..core.estimate import WelchAccumulator, WelchEstimate, plan_welch
 from ..core.spectrum import Spectrum
+from ..core.units import w_to_dbm_fast
 from ..errors import RecordingError, SpectrumError
 from .iq import BLOCK_SAMPLES, Recording
 
@@ -214,7 +215,7 @@ def estimate_recording(
         raise RecordingError("give full_scale_w or ref_tone_hz, not both", path=rec.path, param="ref_tone_hz")
     if calibration.full_scale_w is not None:
         scale_w = float(calibration.full_scale_w)
-        cal = {"level_scale": "dBm", "method": "full scale", "full_scale_dbm": 10 * math.log10(scale_w) + 30}
+        cal = {"level_scale": "dBm", "method": "full scale", "full_scale_dbm": w_to_dbm_fast(scale_w)}
     correction = calibration.correction
     reference = {
         "source": rec.path,
@@ -239,9 +240,9 @@ def estimate_recording(
             "level_scale": "dBm",
             "method": "reference tone",
             "tone_hz": calibration.ref_tone_hz,
-            "tone_dbm": 10 * math.log10(calibration.ref_tone_w) + 30,
+            "tone_dbm": w_to_dbm_fast(calibration.ref_tone_w),
             "tone_measured_dbfs": 10 * math.log10(tone),
-            "full_scale_dbm": 10 * math.log10(scale_w) + 30,
+            "full_scale_dbm": w_to_dbm_fast(scale_w),
         }
     if correction is not None:
         cal["correction_table"] = str(getattr(correction, "path", ""))

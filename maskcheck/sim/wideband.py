@@ -43,10 +43,11 @@ import numpy as np
 
 from ..core.estimate import WelchPlan, welch_stream, welch_uncertainty_db
 from ..core.spectrum import Spectrum, stitch
+from ..core.units import dbm_to_w_fast
+from ..errors import format_value
 from .amplifier import Zones
 from .baseband import Baseband, apply_response, require_finite, require_positive
 from .filters import OutputFilter
-from ..errors import format_value
 
 __all__ = [
     "FILL_BANDS_HZ",
@@ -220,7 +221,7 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     if power_kind not in ("mean", "pep"):
         raise ValueError(f"power_kind={format_value(power_kind)} is not 'mean' or 'pep'")
     floor_dbm = require_finite("floor_dbm_per_hz", floor_dbm_per_hz)
-    floor = 10.0 ** ((floor_dbm - 30.0) / 10.0)
+    floor = dbm_to_w_fast(floor_dbm)
     fund = zones[1]
     if output_filter is not None:
         h = output_filter.response(fund.carrier_hz + fund.bin_frequencies_hz())
