@@ -107,6 +107,10 @@ NO_OPTION = frozenset({
     "frame_segments",  # derived from --frame
     "threads",  # the estimator's own argument; --workers sets it
     "averages",
+    "spectrum",  # the input itself: the trace or recording named on the command line
+    "bandwidth_hz",  # format_bandwidth_code: a computed bandwidth
+    "code",  # parse_bandwidth_code: a code inside a designator
+    "mode",  # xdb_bandwidth: --inner is a flag of its own
 })
 
 # Names replaced wherever they stand as a word: those with an underscore (they

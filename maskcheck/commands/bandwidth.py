@@ -41,6 +41,8 @@ def run(args) -> int:
     if not 0 < beta < 1:
         raise MaskcheckError(f"{beta!r} must lie between 0 and 1 (0.01 for the 99 % bandwidth)", where="--beta")
     x_db = parse_db(args.xdb, what="--xdb")
+    if not x_db > 0:
+        raise MaskcheckError(f"{args.xdb!r}: x must be > 0 dB (the x-dB bandwidth is x dB below the peak)", where="--xdb")
     floor = parse_db(args.floor_threshold, what="--floor-threshold") if args.floor_threshold else None
     (spectrum,) = read_traces([args.trace], args)
     figures, notes = [], []

@@ -87,7 +87,7 @@ def assigned_from_sideband(carrier_hz: float, sideband: str, necessary, args) ->
 
     if not getattr(args, "designator", None):
         raise StationError("--sideband needs the emission's designator (e.g. 2K70J3E)", where="--sideband")
-    des = parse_designator(args.designator)
+    des = parse_designator(args.designator, where="--designator")
     if des.symbols[:1] not in ("J", "R", "H"):
         raise StationError(
             f"{des.text} is not single sideband (first symbol {des.symbols[:1]!r}; expected J, R or H); "

@@ -42,7 +42,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from ..errors import StationError, format_value
-from .designator import format_bandwidth_code, format_designator, parse_designator
+from .designator import Designator, format_bandwidth_code, format_designator, parse_designator
 
 __all__ = [
     "NecessaryBandwidth",
@@ -436,7 +436,10 @@ def resolve_necessary(
     """
     inputs = dict(inputs or {})
     warnings: list[str] = []
-    des = parse_designator(designator, param="designator") if designator else None
+    if isinstance(designator, Designator):  # parsed once by the caller
+        des = designator
+    else:
+        des = parse_designator(designator, param="designator") if designator else None
     symbols = des.symbols if des else ""
     computed = None
     if des is not None and _has_inputs(inputs):
@@ -482,7 +485,10 @@ def from_measurement(occupied_bw_hz: float, designator: str | None = None) -> Ne
     '2K65J3E'
     """
     bn = _positive("occupied_bw_hz", occupied_bw_hz)
-    symbols = parse_designator(designator, param="designator").symbols if designator else ""
+    if isinstance(designator, Designator):  # parsed once by the caller
+        symbols = designator.symbols
+    else:
+        symbols = parse_designator(designator, param="designator").symbols if designator else ""
     text = format_designator(bn, symbols) if symbols else format_bandwidth_code(bn)
     return NecessaryBandwidth(
         bn, text, symbols[:3], "measured", "the measured occupied bandwidth (RR Appendix 1: measurement where no formula fits)",
