@@ -229,6 +229,10 @@ def test_recording_options_named(tmp_path, capsys):
     assert "--window kaiser:-1: must be a finite number >= 0" in capsys.readouterr().err
     assert main(["spectrum", str(raw), "--format", "cf32_le", "--rate", "1MHz"]) == 2
     assert "needs --centre" in capsys.readouterr().err
+    # a full-scale power of 0 W was a traceback (math domain error); now one line naming the option
+    assert main(["spectrum", str(raw), "--format", "cf32_le", "--rate", "1MHz", "--centre", "7.1MHz", "--full-scale", "0W"]) == 2
+    err = capsys.readouterr().err
+    assert "--full-scale 0W: must be a finite power > 0" in err and "Traceback" not in err
 
 
 # -- numbers are plain ---------------------------------------------------------------------------

@@ -174,6 +174,10 @@ def estimate_recording(
     -------
     RecordingSpectrum
     """
+    for name in ("full_scale_w", "ref_tone_w"):
+        v = getattr(calibration, name)
+        if v is not None and not (math.isfinite(v) and v > 0):
+            raise RecordingError(f"{name}={float(v):g} must be a finite power > 0 (W)", path=rec.path, param=name)
     plan = plan_welch(rec.sample_rate_hz, window=window, kaiser_beta=kaiser_beta, rbw_hz=rbw_hz,
                       segment_samples=segment_samples, overlap=overlap)
     groups = _group_captures(rec)
