@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["OPTIONS", "FLAGS", "NO_OPTION", "option_of", "error_line"]
+__all__ = ["OPTIONS", "FLAGS", "NO_OPTION", "option_of", "with_options", "error_line"]
 
 #: Python parameter (as library errors name it in ``param=``) -> the option that sets it
 OPTIONS: dict[str, str] = {
@@ -146,6 +146,11 @@ def _word(param: str) -> re.Pattern:
 
 _ASSIGN = {p: re.compile(rf"(?<![\w.\[\-]){re.escape(p)}=") for p in OPTIONS}
 _WORDS = {p: _word(p) for p in _BARE}
+
+
+def with_options(message: str) -> str:
+    """``message`` with every parameter name in it replaced by its option (``give power_w`` -> ``give --power``)."""
+    return _rename(message)
 
 
 def _rename(message: str) -> str:

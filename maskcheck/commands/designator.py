@@ -7,6 +7,7 @@ Also holds the emission options that ``maskcheck check`` shares
 from __future__ import annotations
 
 import json
+import math
 from contextlib import contextmanager
 
 from ._common import console
@@ -162,6 +163,7 @@ def register(sub) -> None:
 def _designator_named(where: str):
     """Errors about the designator name this command's own input (``CODE`` or ``--emission``), not ``--designator``."""
     from ..errors import StationError
+    from ._options import with_options
 
     try:
         yield
@@ -171,7 +173,7 @@ def _designator_named(where: str):
         message = exc.message
         if message.startswith(f"{exc.param}="):
             message = message.split(": ", 1)[-1]
-        raise StationError(message, where=where) from None
+        raise StationError(with_options(message), where=where) from None
 
 
 def run(args) -> int:
@@ -210,7 +212,10 @@ def run(args) -> int:
         carrier = parse_frequency(args.carrier, what="--carrier")
         auth = parse_frequency(args.authorized_bw, what="--authorized-bw", default_unit="Hz") if args.authorized_bw else None
         of = "authorized" if auth is not None else "necessary"
-        dom = domains(carrier, nb.bandwidth_hz, rule=args.boundary, percent=_number(args.percent, "--percent"), of=of, authorized_bw_hz=auth)
+        percent = _number(args.percent, "--percent")
+        if not (math.isfinite(percent) and percent > 0):
+            raise StationError(f"{args.percent!r} must be a finite percentage > 0", where="--percent")
+        dom = domains(carrier, nb.bandwidth_hz, rule=args.boundary, percent=percent, of=of, authorized_bw_hz=auth)
         out["domains"] = {
             "carrier_hz": carrier,
             "boundary": dom.boundary.to_dict(),
