@@ -111,6 +111,7 @@ NO_OPTION = frozenset({
     "bandwidth_hz",  # format_bandwidth_code: a computed bandwidth
     "code",  # parse_bandwidth_code: a code inside a designator
     "mode",  # xdb_bandwidth: --inner is a flag of its own
+    "reference_w",  # the reference power a mask's relative limits are below: computed by the check
 })
 
 # Names replaced wherever they stand as a word: those with an underscore (they
