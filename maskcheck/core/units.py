@@ -107,7 +107,9 @@ def parse_quantity(text, family: str, *, default_unit: str | None = None, what: 
     default_unit : str, optional
         Unit assumed for a bare number, e.g. ``"Hz"``.
     what : str, optional
-        Name of the option or key, used in the error message.
+        What the text is, used in the error message: a key of a file, or the
+        option the command line read it from (the command line names its
+        options; library code passes a parameter or key name).
 
     Returns
     -------
