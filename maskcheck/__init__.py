@@ -18,10 +18,39 @@ Public names
 ``xdb_bandwidth``         the x-dB bandwidth of a spectrum
 ``__version__``           version of the package
 ``MASK_SCHEMA_VERSION``   newest mask-file schema version this release reads
+``MaskcheckError``        base of every error bad input or usage causes (``.path``,
+                          ``.where``, ``.param``)
+``UnitError``             a quantity that cannot be parsed or has the wrong unit
+``SpectrumError``         arrays that cannot form a valid spectrum
+``TraceError``            a malformed trace file
+``RecordingError``        a malformed IQ recording or its missing description
+``CorrectionError``       a malformed correction table, or one that does not cover
+``SetupError``            a malformed measurement-setup file
+``MaskError``             a malformed or inconsistent mask file (``.problems``)
+``StationError``          station data that is missing or impossible
+``OutputError``           an output file that cannot or must not be written
+``ScenarioError``         a malformed or impossible simulation scenario file
 ========================  ==========================================================
 
 Names are loaded on first use, so ``maskcheck --version`` starts without
-numpy, scipy or pydantic.
+numpy, scipy or pydantic.  Every error is also the matching built-in
+(``ValueError``, ``OSError``) and names the Python parameter it is about
+(``guard_db=-1 must be >= 0``, ``.param == "guard_db"``); the command line
+prints the option instead.
+
+Modules
+-------
+The names above are the stable surface.  Beside them, these packages carry a
+table of their own public names: :mod:`maskcheck.errors` (the exception
+family), :mod:`maskcheck.checking` (the check's steps),
+:mod:`maskcheck.masks`, :mod:`maskcheck.sim` and :mod:`maskcheck.report`.
+:mod:`maskcheck.core` and :mod:`maskcheck.io` are libraries of modules (each
+listed in its package docstring, each with ``__all__``) that the names above
+are built from.  Internal, and free to change between releases: modules whose
+name starts with an underscore (``_version``, ``_toml``,
+``commands._common``, ...), :mod:`maskcheck.commands` and :mod:`maskcheck.cli`
+(the command line: use it as a program, not as an API) and
+:mod:`maskcheck.demo`.
 """
 
 from importlib import import_module
@@ -41,6 +70,17 @@ __all__ = [
     "xdb_bandwidth",
     "__version__",
     "MASK_SCHEMA_VERSION",
+    "MaskcheckError",
+    "UnitError",
+    "SpectrumError",
+    "TraceError",
+    "RecordingError",
+    "CorrectionError",
+    "SetupError",
+    "MaskError",
+    "StationError",
+    "OutputError",
+    "ScenarioError",
 ]
 
 _LAZY = {
@@ -54,6 +94,7 @@ _LAZY = {
     "stitch": "maskcheck.core.spectrum",
     "occupied_bandwidth": "maskcheck.core.bandwidth",
     "xdb_bandwidth": "maskcheck.core.bandwidth",
+    **{name: "maskcheck.errors" for name in __all__ if name.endswith("Error")},
 }
 
 

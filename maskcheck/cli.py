@@ -4,6 +4,17 @@ Exit codes of every checking command: 0 pass, 1 fail, 2 invalid input or
 usage, 3 marginal or incomplete.  Bad input ends with one line on standard
 error naming the file and the line or key, never a traceback.
 
+A library error names its Python parameter (``guard_db=-1 must be >= 0``);
+the command line prints it with the option instead
+(``maskcheck: error: --guard -1: must be >= 0 ...``) through the one map in
+:mod:`maskcheck.commands._options`.
+
+When standard output is closed early (``maskcheck masks schema | head -1``)
+the command ends quietly with exit status 141 (128 + SIGPIPE), what a shell
+reports for a program that a closed pipe stopped: not 1, which is a failed
+check here.  Standard output is pointed at the null device first, as the
+Python documentation advises, so the interpreter's last flush cannot fail.
+
 The commands live in :mod:`maskcheck.commands`, one module each.  Heavy
 modules (numpy, scipy, pydantic, rich, reportlab) are imported inside the
 commands that use them, so ``maskcheck --version`` starts quickly.
@@ -11,6 +22,7 @@ commands that use them, so ``maskcheck --version`` starts quickly.
 
 from __future__ import annotations
 
+import os
 import sys
 from importlib import import_module
 
@@ -19,7 +31,11 @@ from .commands import COMMANDS
 from .commands._common import EXIT_USAGE, Parser
 from .errors import MaskcheckError
 
-__all__ = ["main", "build_parser"]
+__all__ = ["main", "build_parser", "EXIT_BROKEN_PIPE"]
+
+#: exit status when standard output is closed early: 128 + SIGPIPE, as a shell
+#: reports a program stopped by a closed pipe (13 is SIGPIPE on every POSIX system)
+EXIT_BROKEN_PIPE = 128 + 13
 
 
 def build_parser() -> Parser:
@@ -46,30 +62,33 @@ def main(argv=None) -> int:
         parser.print_help()
         return EXIT_USAGE
     try:
-        return args.run(args)
+        code = args.run(args)
+        sys.stdout.flush()  # a closed pipe shows here, not in the interpreter's last flush
+        return code
+    except BrokenPipeError:
+        _silence_stdout()
+        return EXIT_BROKEN_PIPE
     except MaskcheckError as exc:
-        print(f"maskcheck: error: {_for_cli(exc)}", file=sys.stderr)
+        from .commands._options import error_line
+
+        print(f"maskcheck: error: {error_line(exc, args)}", file=sys.stderr)
         return EXIT_USAGE
     except KeyboardInterrupt:
         print("maskcheck: interrupted; nothing was written", file=sys.stderr)
         return 130
 
 
-#: library parameter -> command-line option (interim; see commands/)
-_PARAM_OPTIONS = {"sideband": "--sideband", "necessary": "--necessary-bw", "authorized_bw_hz": "--authorized-bw",
-                  "exclude_hz": "--exclude", "xdb_db": "--xdb", "guard_db": "--guard", "power_w": "--power"}
-
-
-def _for_cli(exc: MaskcheckError) -> str:
-    """The error's line with the library's parameter names given as the options a user types."""
-    import re
-
-    text = str(exc)
-    if exc.param not in _PARAM_OPTIONS:
-        return text
-    for name, option in _PARAM_OPTIONS.items():
-        text = re.sub(rf"(?<![\w-]){re.escape(name)}(?![\w-])", option, text)
-    return text
+def _silence_stdout() -> None:
+    """Point standard output at the null device (the Python documentation's advice for SIGPIPE)."""
+    try:
+        fd = sys.stdout.fileno()
+    except (AttributeError, OSError, ValueError):  # replaced by a test harness: nothing to redirect
+        return
+    devnull = os.open(os.devnull, os.O_WRONLY)
+    try:
+        os.dup2(devnull, fd)
+    finally:
+        os.close(devnull)
 
 
 if __name__ == "__main__":  # pragma: no cover

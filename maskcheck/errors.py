@@ -8,13 +8,23 @@ formats itself as one line a person can act on::
 
     trace.txt, line 14: 'abc' is not a number (expected a level in dBm)
 
-The command line prints ``str(error)`` and exits with code 2; no traceback
-reaches a user for bad input.
+Library code (core, io, masks, sim, checking, plan, report) names its Python
+parameters, never command-line options, and sets ``param=`` on the error::
+
+    guard_db=-1 must be >= 0 (the guard band, dB)        # .param == "guard_db"
+
+The command line maps ``param`` to its option (one map, in
+:mod:`maskcheck.commands._options`), prints one line and exits with code 2;
+no traceback reaches a user for bad input.  Numbers in messages are plain
+(:func:`format_value`): a numpy scalar never shows as ``np.float64(...)``.
 """
 
 from __future__ import annotations
 
+import numbers
+
 __all__ = [
+    "format_value",
     "MaskcheckError",
     "UnitError",
     "SpectrumError",
@@ -27,6 +37,26 @@ __all__ = [
     "OutputError",
     "ScenarioError",
 ]
+
+
+def format_value(value) -> str:
+    """A value as an error message writes it: numbers plain, anything else as its repr.
+
+    Integers print as integers and other real numbers with up to 12
+    significant digits (``:.12g``), so a numpy scalar reads like any number
+    (``np.float64(7199900.0)`` -> ``7199900``) and a value that is almost a
+    whole number still shows its fraction (``3.0000001``).
+
+    Examples
+    --------
+    >>> format_value(-1.0), format_value(3), format_value(3.0000001), format_value("abc"), format_value(None)
+    ('-1', '3', '3.0000001', "'abc'", 'None')
+    """
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
+        return repr(value)
+    if isinstance(value, numbers.Integral):
+        return str(int(value))
+    return f"{float(value):.12g}"
 
 
 class MaskcheckError(Exception):

@@ -55,7 +55,7 @@ from .core.domains import NORMAL_PERCENT, domains as _domains
 from .core.necessary import resolve_necessary
 from .core.records import SetupRecord, ToolRecord
 from .core.station import Station
-from .core.units import format_frequency, w_to_dbm
+from .core.units import format_frequency, w_to_dbm, w_to_dbm_fast
 from .core.verdict import FLOOR_CLEARANCE_DB
 from .errors import StationError
 from .masks.evaluate import evaluate_mask, fundamental_exclusion_hz
@@ -88,7 +88,7 @@ def search_range_2_1057(carrier_hz: float, lowest_hz: float = 9e3) -> tuple[floa
     (9000.0, 100000000000.0)
     """
     if not (math.isfinite(carrier_hz) and carrier_hz > 0):
-        raise StationError(f"carrier {carrier_hz!r} Hz must be > 0", where="--carrier")
+        raise StationError(f"carrier_hz={float(carrier_hz):g} must be > 0 (Hz)", param="carrier_hz")
     start = max(9e3, float(lowest_hz))
     if carrier_hz < 10e9:
         return start, min(10 * carrier_hz, 40e9), "47 CFR 2.1057(a)(1): to the 10th harmonic or 40 GHz, whichever is lower"
@@ -268,11 +268,11 @@ def plan_measurement(
     MeasurementPlan
     """
     if station.power_w is None:
-        raise StationError("a plan needs the transmitter's mean power at the antenna port", where="--power")
+        raise StationError("a plan needs the transmitter's mean power at the antenna port (the station's power_w)", param="power_w")
     if not (math.isfinite(floor_margin_db) and floor_margin_db >= 0):
-        raise StationError(f"floor margin {floor_margin_db!r} dB must be >= 0", where="--floor-margin")
+        raise StationError(f"floor_margin_db={floor_margin_db:g} must be >= 0 (dB)", param="floor_margin_db")
     if not math.isfinite(extra_loss_db):
-        raise StationError(f"attenuation {extra_loss_db!r} dB is not finite", where="--attenuator")
+        raise StationError(f"extra_loss_db={extra_loss_db:g} is not finite (dB)", param="extra_loss_db")
     warnings: list[str] = []
     notes: list[str] = []
     fc = float(station.carrier_hz)
@@ -416,7 +416,7 @@ def _range_row(lim, lo, hi, setup, extra_loss_db, floor_margin_db, ins) -> PlanR
     if not np.any(ok):
         return None
     pts, lw = pts[ok], lw[ok]
-    lim_dbm = 10.0 * np.log10(lw) + 30.0
+    lim_dbm = w_to_dbm_fast(lw)  # finite and > 0, checked above
     rb = np.asarray(lim.reference_bandwidth_hz(np.array([(lo * hi) ** 0.5 if lo > 0 else hi / 2])), dtype=float)[0]
     rbw = float(rb) if math.isfinite(rb) else None
     row = PlanRange(lim.name, lim.kind, float(lo), float(hi), rbw, lim.detector, lim.limit_text,

@@ -45,8 +45,9 @@ def test_domain_spans_and_percent_rule():
     spans = {s.name: (s.start_hz, s.stop_hz) for s in d.spans(30e6, 3e9)}
     assert spans["necessary band"] == pytest.approx((450e6 - 8e3, 450e6 + 8e3))  # Closed form: +- Bn/2
     assert spans["out-of-band domain (above)"] == pytest.approx((450e6 + 8e3, 450e6 + 40e3))
-    with pytest.raises(StationError, match="--authorized-bw"):
+    with pytest.raises(StationError, match="authorized_bw_hz") as info:
         domains(450e6, 16e3, rule="percent", of="authorized")
+    assert info.value.param == "authorized_bw_hz" and "--authorized-bw" in error_line(info.value)
     with pytest.raises(StationError):
         domains(450e6, 16e3, rule="somewhere")
     with pytest.raises(StationError):
@@ -67,6 +68,7 @@ from maskcheck.core.station import Station
 from maskcheck.errors import MaskError
 from maskcheck.masks import evaluate_mask, load_mask
 from maskcheck.masks.schema import Mask
+from maskcheck.commands._options import error_line
 
 FC = 7.1e6
 

@@ -14,6 +14,7 @@ import pytest
 from maskcheck.errors import OutputError
 from maskcheck.io import output
 from maskcheck.io.output import check_writable, write_atomic, write_text
+from maskcheck.commands._options import error_line
 
 
 def _names(folder):
@@ -38,7 +39,8 @@ def test_refuses_to_overwrite_before_doing_any_work(tmp_path, monkeypatch):
     monkeypatch.setattr(output.tempfile, "mkstemp", no_temp)
     with pytest.raises(OutputError) as info:
         write_atomic(target, b"new")
-    assert str(info.value) == f"{target}: exists; use --force to overwrite"
+    assert str(info.value) == f"{target}: exists; use force=True to overwrite"  # adapted: the library names its parameter
+    assert error_line(info.value) == f"{target}: exists; use --force to overwrite"
     assert info.value.path == str(target)
     assert target.read_bytes() == b"old"
 
@@ -118,8 +120,9 @@ def test_check_writable_refuses_early_and_allows_with_force(tmp_path):
     target = tmp_path / "r.pdf"
     assert check_writable(target) == target
     target.write_bytes(b"x")
-    with pytest.raises(OutputError, match="use --force"):
+    with pytest.raises(OutputError, match="use force=True") as info:
         check_writable(target)
+    assert "use --force" in error_line(info.value)
     assert check_writable(target, force=True) == target
 
 

@@ -294,7 +294,7 @@ def test_pdf_not_overwritten_without_force(tmp_path, result):
 
     target = tmp_path / "report.pdf"
     target.write_bytes(b"keep me")
-    with pytest.raises(OutputError, match="exists; use --force"):
+    with pytest.raises(OutputError, match="exists; use force=True"):
         write_report(result, target)
     assert target.read_bytes() == b"keep me"
     write_report(result, target, force=True)

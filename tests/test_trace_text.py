@@ -24,6 +24,7 @@ from maskcheck.core.units import dbuv_to_dbm
 from maskcheck.errors import TraceError
 from maskcheck.io.hashing import sha256_bytes, sha256_file
 from maskcheck.io.trace_text import read_trace
+from maskcheck.commands._options import error_line
 
 CONVERTERS = ["json", "strtod"] if tt._orjson is not None else ["strtod"]
 
@@ -187,16 +188,18 @@ def test_same_value_in_option_and_file_adds_no_note(tmp_path):
 def test_unitless_header_needs_options(tmp_path, converter):
     path = write(tmp_path, "frequency,level\n100,-20\n200,-30\n")
     err = error_of(path, rbw_hz=10)
-    assert err.where == 1 and "--freq-unit" in str(err)  # Source: docs/trace-format.md
+    assert err.where == 1 and "freq_unit" in str(err) and err.param == "freq_unit"  # Source: docs/trace-format.md
+    assert "--freq-unit" in error_line(err)
     err = error_of(path, rbw_hz=10, freq_unit="mhz")
-    assert err.where == 1 and "--level-unit" in str(err)
+    assert err.where == 1 and "level_unit" in str(err) and "--level-unit" in error_line(err)
     spec = read_trace(path, rbw_hz=10, freq_unit="mhz", level_unit="dbm")
     assert spec.freq_hz.tolist() == [100e6, 200e6]  # Closed form: 1 MHz = 1e6 Hz
 
 
 def test_missing_rbw_names_both_ways(tmp_path):
     err = error_of(write(tmp_path, "frequency_hz,level_dbm\n1,-1\n"))
-    assert "# rbw_hz" in str(err) and "--rbw" in str(err)  # Source: docs/trace-format.md
+    assert "# rbw_hz" in str(err) and "give rbw_hz" in str(err)  # Source: docs/trace-format.md
+    assert "# rbw_hz" in error_line(err) and "--rbw" in error_line(err)
 
 
 @pytest.mark.parametrize("options", [dict(freq_unit="furlong"), dict(level_unit="dbz"),

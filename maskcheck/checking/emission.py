@@ -98,7 +98,7 @@ def ssb_centre(carrier_hz: float, sideband: str, designator: Designator | None, 
             param="sideband",
         )
     if necessary_bw_hz is None:
-        raise StationError("sideband needs a necessary bandwidth (a bandwidth code, the formula inputs or necessary_bw)",
+        raise StationError("sideband needs a necessary bandwidth (a bandwidth code, the formula inputs or necessary)",
                            param="sideband")
     f_low = DEFAULT_LOW_MOD_HZ if low_mod_hz is None else float(low_mod_hz)
     shift = f_low + necessary_bw_hz / 2.0
@@ -116,7 +116,7 @@ def emission_facts(spectrum, mask, station: Station, *, necessary=None, authoriz
                    obw_beta: float = 0.01) -> EmissionFacts:
     """Decide the emission facts of one check (see the module docstring)."""
     warnings: list[str] = []
-    des = parse_designator(station.designator, where="designator") if station.designator else None
+    des = parse_designator(station.designator) if station.designator else None
     nb = _necessary(des, necessary, warnings)
     if station.sideband is not None:
         if isinstance(nb, str):

@@ -108,7 +108,7 @@ def _mean_power(station, measured_w, relative: bool, warnings: list[str]) -> tup
     if relative and station.power_w is None:
         raise StationError(
             "the recording is not calibrated (levels in dBFS), so the transmitter power cannot be measured from it; "
-            "give the mean power at the antenna port (power_w), or calibrate (full_scale or a reference tone)",
+            "give the mean power at the antenna port (power_w), or calibrate with full_scale_w or ref_tone_w",
             param="power_w",
         )
     power_w = station.power_w
@@ -182,7 +182,7 @@ def _relative_reference(measured_w, power_w, ref_w, fw: FundamentalWindow):
         raise StationError(
             f"the recording is not calibrated (dBFS) and does not cover the fundamental window "
             f"{format_frequency(fw.low_hz)} to {format_frequency(fw.high_hz)}: relative limits need the channel power "
-            "measured there; calibrate (full_scale or a reference tone)",
+            "measured there; calibrate with full_scale_w or ref_tone_w",
             param="spectrum",
         )
     ref_fs = measured_w * (ref_w / power_w)

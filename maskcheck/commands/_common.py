@@ -18,10 +18,20 @@ class Parser(argparse.ArgumentParser):
 
 
 def console(stderr: bool = False):
-    """A rich console on standard output (or error), without syntax highlighting."""
+    """A rich console on standard output (or error), without syntax highlighting.
+
+    A closed pipe raises :class:`BrokenPipeError` as a plain ``print`` does
+    (rich itself would exit with status 1, the status of a failed check), so
+    :func:`maskcheck.cli.main` ends every command the same way.
+    """
     from rich.console import Console
 
-    return Console(stderr=stderr, highlight=False)
+    class _Console(Console):
+        def on_broken_pipe(self) -> None:
+            self.quiet = True
+            raise BrokenPipeError("standard output was closed")
+
+    return _Console(stderr=stderr, highlight=False)
 
 
 def add_trace_options(sp) -> None:

@@ -148,19 +148,14 @@ def estimate_args(args, trace: str):
 
 
 def _duration(text: str) -> float:
+    """``--frame``: a duration > 0 (units in any case: 50ms, 50 MS, 0.2s)."""
+    from ..core.units import parse_duration
     from ..errors import UnitError
 
-    s = str(text).strip().lower()
-    for unit, k in (("ms", 1e-3), ("us", 1e-6), ("µs", 1e-6), ("s", 1.0)):
-        if s.endswith(unit):
-            try:
-                v = float(s[: -len(unit)]) * k
-            except ValueError:
-                break
-            if v > 0:
-                return v
-            break
-    raise UnitError(f"{text!r} is not a duration; expected e.g. 50ms or 0.2s", where="--frame")
+    v = parse_duration(str(text).strip().lower(), what="--frame")
+    if not v > 0:
+        raise UnitError(f"{text!r} is not a frame duration; expected one longer than 0 s, e.g. 50ms or 0.2s", where="--frame")
+    return v
 
 
 def read_recording(path, args, trace: str = "average"):
@@ -171,8 +166,18 @@ def read_recording(path, args, trace: str = "average"):
     from ..io.iq import open_recording
     from ..io.iq_spectrum import estimate_recording, reads_file_in_order
 
+    from ..io.iq import recording_kind
+
     rate = parse_frequency(args.rate, what="--rate") if args.rate else None
     centre = parse_frequency(args.centre, what="--centre") if args.centre else None
+    if recording_kind(path) is None:  # raw I/Q: the options say what the file does not
+        missing = [o for o, v in (("--format", args.format), ("--rate", rate), ("--centre", centre)) if v is None]
+        if missing:
+            from ..errors import RecordingError
+
+            raise RecordingError(
+                f"is not a SigMF or WAV recording, so it is read as raw I/Q, which needs {', '.join(missing)} "
+                "(e.g. --format ci16_le --rate 2.4MHz --centre 7.1MHz)", path=path)
     rec = open_recording(path, datatype=args.format, sample_rate_hz=rate, centre_hz=centre, i_channel=args.i_channel)
     kw = estimate_args(args, trace)
     in_order = reads_file_in_order(rec)

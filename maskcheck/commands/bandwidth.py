@@ -41,6 +41,8 @@ def run(args) -> int:
     if not 0 < beta < 1:
         raise MaskcheckError(f"{beta!r} must lie between 0 and 1 (0.01 for the 99 % bandwidth)", where="--beta")
     x_db = parse_db(args.xdb, what="--xdb")
+    if not x_db > 0:
+        raise MaskcheckError(f"{args.xdb!r}: x must be > 0 dB (the x-dB bandwidth is x dB below the peak)", where="--xdb")
     floor = parse_db(args.floor_threshold, what="--floor-threshold") if args.floor_threshold else None
     (spectrum,) = read_traces([args.trace], args)
     figures, notes = [], []
@@ -48,7 +50,7 @@ def run(args) -> int:
         obw = occupied_bandwidth(spectrum, beta, floor_threshold_db=floor)
         figures.append(BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, beta, list(obw.warnings)))
     except SpectrumError as exc:
-        raise TraceError(exc.message, path=args.trace) from None
+        raise TraceError(exc.message, path=args.trace, param=exc.param) from None
     try:
         xb = xdb_bandwidth(spectrum, x_db, mode="inner" if args.inner else "outer")
         figures.append(

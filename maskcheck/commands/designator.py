@@ -7,6 +7,8 @@ Also holds the emission options that ``maskcheck check`` shares
 from __future__ import annotations
 
 import json
+import math
+from contextlib import contextmanager
 
 from ._common import console
 
@@ -116,6 +118,23 @@ def register(sub) -> None:
     d.set_defaults(run=run)
 
 
+@contextmanager
+def _designator_named(where: str):
+    """Errors about the designator name this command's own input (``CODE`` or ``--emission``), not ``--designator``."""
+    from ..errors import StationError
+    from ._options import with_options
+
+    try:
+        yield
+    except StationError as exc:
+        if exc.param not in ("designator", "emission"):
+            raise
+        message = exc.message
+        if message.startswith(f"{exc.param}="):
+            message = message.split(": ", 1)[-1]
+        raise StationError(with_options(message), where=where) from None
+
+
 def run(args) -> int:
     from ..core.designator import parse_designator
     from ..core.domains import domains
@@ -129,7 +148,8 @@ def run(args) -> int:
     if not text:
         raise StationError("give a designator (e.g. 2K70J3E) or --emission CLASS with the formula inputs", where="CODE")
     where = "--emission" if args.emission else "CODE"
-    des = parse_designator(text, where=where)
+    with _designator_named(where):
+        des = parse_designator(text)
     inputs = formula_inputs(args)
     stated = None
     if args.necessary_bw:
@@ -138,7 +158,8 @@ def run(args) -> int:
         stated = parse_frequency(args.necessary_bw, what="--necessary-bw", default_unit="Hz")
     nb, warnings = (None, [])
     if des.bandwidth_hz is not None or stated is not None or any(v is not None for k, v in inputs.items() if k != "wpm_convention"):
-        nb, warnings = resolve_necessary(des.text, stated_hz=stated, inputs=inputs)
+        with _designator_named(where):
+            nb, warnings = resolve_necessary(des.text, stated_hz=stated, inputs=inputs)
     out = {"designator": (nb.designator if nb else des.text), "parts": [], "necessary_bandwidth": None, "domains": None, "warnings": warnings}
     shown = parse_designator(out["designator"]) if nb else des
     out["parts"] = [{"part": p, "position": n, "meaning": m} for p, n, m in shown.describe()]
@@ -150,7 +171,10 @@ def run(args) -> int:
         carrier = parse_frequency(args.carrier, what="--carrier")
         auth = parse_frequency(args.authorized_bw, what="--authorized-bw", default_unit="Hz") if args.authorized_bw else None
         of = "authorized" if auth is not None else "necessary"
-        dom = domains(carrier, nb.bandwidth_hz, rule=args.boundary, percent=_number(args.percent, "--percent"), of=of, authorized_bw_hz=auth)
+        percent = _number(args.percent, "--percent")
+        if not (math.isfinite(percent) and percent > 0):
+            raise StationError(f"{args.percent!r} must be a finite percentage > 0", where="--percent")
+        dom = domains(carrier, nb.bandwidth_hz, rule=args.boundary, percent=percent, of=of, authorized_bw_hz=auth)
         out["domains"] = {
             "carrier_hz": carrier,
             "boundary": dom.boundary.to_dict(),

@@ -72,8 +72,10 @@ def run(args) -> int:
             try:
                 m = validate_mask_file(f)
             except MaskcheckError as exc:
+                from ._options import error_line
+
                 bad += 1
-                print(str(exc), file=sys.stderr)
+                print(error_line(exc, args), file=sys.stderr)
             else:
                 flag = "" if m.provenance.verified else "; rule data not verified against the official text"
                 con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)
@@ -149,7 +151,7 @@ def evaluated_rows(mask, st) -> list[dict]:
     """
     import numpy as np
 
-    from ..core.units import format_frequency
+    from ..core.units import format_frequency, w_to_dbm_fast
     from ..masks.evaluate import sample_points_hz
 
     rows = []
@@ -169,7 +171,7 @@ def evaluated_rows(mask, st) -> list[dict]:
         pts = sample_points_hz(lim)
         w = lim.limit_w(pts)
         for f, p in zip(pts, w):
-            dbm = 10 * math.log10(p) + 30
+            dbm = w_to_dbm_fast(p)
             rel = None if mask.reference_power.kind == "none" else 10 * math.log10(lim.reference_power_w / p)
             row["values"].append((float(f), dbm, rel))
         rows.append(row)
@@ -226,6 +228,8 @@ def _curves(mask, st, n: int = 200):
     """Limit curves per region: (name, [(x, y)]) with x an offset from the carrier (Hz) or a frequency."""
     import numpy as np
 
+    from ..core.units import w_to_dbm_fast
+
     limits = [lim for lim in _evaluate(mask, st) if not lim.unevaluated and lim.kind != "occupied-bandwidth"]
     fc = st["carrier_hz"]
     offsets = any(lim.offset_band is not None for lim in limits)
@@ -255,9 +259,9 @@ def _curves(mask, st, n: int = 200):
         if not keep.any():
             continue
         w = lim.limit_w(f[keep])
-        y = 10 * np.log10(w) + 30
+        y = w_to_dbm_fast(w)
         if rel:
-            y = y - (10 * math.log10(lim.reference_power_w) + 30)
+            y = y - w_to_dbm_fast(lim.reference_power_w)
         curves.append((lim.name, list(zip(x[keep].tolist(), y.tolist()))))
     return curves, offsets, rel
 

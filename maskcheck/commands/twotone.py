@@ -49,7 +49,7 @@ def run(args) -> int:
         spectrum = stitch(got.spectra)
         res = analyse_two_tone(spectrum, band_hz=band)
     except SpectrumError as exc:
-        raise TraceError(exc.message, path=label) from None
+        raise TraceError(exc.message, path=label, param=exc.param) from None
     unit = spectrum.level_scale
     data = {"inputs": [{"path": i.path, "sha256": i.sha256} for i in got.inputs], "level_unit": unit, **res.to_dict()}
     to_stdout = args.json == "-"

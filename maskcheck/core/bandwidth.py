@@ -161,7 +161,7 @@ def occupied_bandwidth(spectrum: Spectrum, beta: float = 0.01, *, floor_threshol
     990.0
     """
     if not 0.0 < beta < 1.0:
-        raise ValueError(f"{beta=} must be between 0 and 1 (0.01 for the 99 % bandwidth)")
+        raise SpectrumError(f"beta={beta:g} must be between 0 and 1 (0.01 for the 99 % bandwidth)", param="beta")
     edges, cell = _cells(spectrum)
     warnings: list[str] = []
     floor = noise_floor_w_per_hz(spectrum)
@@ -233,9 +233,9 @@ def xdb_bandwidth(spectrum: Spectrum, x_db: float = 26.0, *, mode: str = "outer"
     .. [1] ITU-R SM.443-4 Annex 2; ITU-R SM.328; 47 CFR 95.2503.
     """
     if mode not in ("outer", "inner"):
-        raise ValueError(f"{mode=} must be 'outer' or 'inner'")
+        raise SpectrumError(f"mode={mode!r} must be 'outer' or 'inner'", param="mode")
     if not x_db > 0:
-        raise ValueError(f"{x_db=} must be > 0 dB")
+        raise SpectrumError(f"x_db={x_db:g} must be > 0 (dB below the peak)", param="x_db")
     f = spectrum.freq_hz
     lev = spectrum.level_dbm
     ip = int(np.argmax(lev))

@@ -56,7 +56,7 @@ import numpy as np
 from ..errors import CorrectionError
 from .records import AppliedCorrection, CorrectionRecord, CorrectionsRecord, RemovedRange, TableSummary
 from .spectrum import Spectrum
-from .units import dbm_to_dbuv, format_frequency
+from .units import dbm_to_dbuv, dbm_to_w_fast, format_frequency
 
 __all__ = [
     "Correction",
@@ -112,7 +112,7 @@ class Correction:
             raise CorrectionError("give a fixed value or a frequency table, not both and not neither", where=self.key or self.name)
         if self.add_db is not None:
             if not math.isfinite(self.add_db):
-                raise CorrectionError(f"{self.add_db!r} dB is not finite", where=self.key or self.name)
+                raise CorrectionError(f"{float(self.add_db):g} dB is not finite", where=self.key or self.name)
             return
         f = np.asarray(self.freq_hz, dtype=float)
         v = np.asarray(self.table_db, dtype=float)
@@ -251,7 +251,7 @@ def eirp_dbm_from_field(field_dbuv_per_m, distance_m: float):
     -41.2
     """
     if not (math.isfinite(distance_m) and distance_m > 0):
-        raise CorrectionError(f"distance {distance_m!r} m must be > 0", where="radiated.distance_m")
+        raise CorrectionError(f"distance {float(distance_m):g} m must be > 0", where="radiated.distance_m")
     return np.asarray(field_dbuv_per_m, dtype=float) - FAR_FIELD_CONSTANT_DB + 20.0 * math.log10(distance_m)
 
 
@@ -314,7 +314,7 @@ def apply_corrections(
             raise CorrectionError("a radiated measurement needs an antenna factor and a distance", where="radiated")
         all_corr.append(antenna_factor)
         if not (math.isfinite(impedance_ohm) and impedance_ohm > 0):
-            raise CorrectionError(f"impedance {impedance_ohm!r} ohm must be > 0", where="instrument.input_impedance_ohm")
+            raise CorrectionError(f"impedance {float(impedance_ohm):g} ohm must be > 0", where="instrument.input_impedance_ohm")
     f = spectrum.freq_hz
     _, known = correction_db(all_corr, f)
     removed = []
@@ -360,7 +360,7 @@ def apply_corrections(
         new_dbm = eirp_dbm_from_field(field, float(distance_m))
     else:
         new_dbm = level_dbm + total
-    power_w = 10.0 ** ((new_dbm - 30.0) / 10.0)
+    power_w = dbm_to_w_fast(new_dbm)
     applied = []
     for c in all_corr:
         v = c.at(f)

@@ -41,7 +41,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 
-from ..errors import StationError
+from ..errors import StationError, format_value
 
 __all__ = [
     "SYMBOLS",
@@ -188,12 +188,12 @@ def format_bandwidth_code(bandwidth_hz: float) -> str:
     try:
         value = float(bandwidth_hz)
     except (TypeError, ValueError):
-        raise StationError(f"bandwidth {bandwidth_hz!r} is not a number (expected Hz)") from None
+        raise StationError(f"bandwidth_hz={bandwidth_hz!r} is not a number (expected Hz)", param="bandwidth_hz") from None
     if not (value == value and abs(value) != float("inf")) or value <= 0:
-        raise StationError(f"bandwidth {bandwidth_hz!r} Hz must be a finite number > 0")
+        raise StationError(f"bandwidth_hz={format_value(bandwidth_hz)} must be a finite number > 0 (Hz)", param="bandwidth_hz")
     q = _round_3_figures(value)
     if q <= 0:
-        raise StationError(f"bandwidth {value:g} Hz is below 0.0005 Hz, the smallest the code can hold (H001)")
+        raise StationError(f"bandwidth_hz={value:g} is below 0.0005 Hz, the smallest the code can hold (H001)", param="bandwidth_hz")
     if q < 1:
         return "H" + f"{q:.3f}"[2:]
     for letter, unit in (("G", 1e9), ("M", 1e6), ("K", 1e3), ("H", 1.0)):
@@ -201,44 +201,44 @@ def format_bandwidth_code(bandwidth_hz: float) -> str:
             break
     mantissa = q / Decimal(repr(unit))
     if mantissa >= 1000:
-        raise StationError(f"bandwidth {value:g} Hz is above 999 GHz, the largest the code can hold")
+        raise StationError(f"bandwidth_hz={value:g} is above 999 GHz, the largest the code can hold", param="bandwidth_hz")
     whole = len(str(int(mantissa)))
     digits = f"{mantissa:.{3 - whole}f}".replace(".", "")
     return digits[:whole] + letter + digits[whole:]
 
 
-def _code_error(text: str, pos: int, what: str, *, where: str = "designator") -> StationError:
+def _code_error(text: str, pos: int, what: str, *, where=None, param: str = "designator") -> StationError:
     found = repr(text[pos]) if pos < len(text) else "nothing"
     marked = text[:pos] + "[" + (text[pos] if pos < len(text) else "") + "]" + text[pos + 1 :]
-    return StationError(f"{text!r} at character {pos + 1} ({marked}): found {found}; {what}", where=where)
+    return StationError(f"{param}={text!r}: at character {pos + 1} ({marked}): found {found}; {what}", where=where, param=param)
 
 
-def _parse_code(text: str, offset: int, full: str, where: str) -> float:
+def _parse_code(text: str, offset: int, full: str, where, param: str = "designator") -> float:
     """Value of the bandwidth code ``text[offset:offset+4]``; errors point into ``full``."""
     code = full[offset : offset + 4]
     letters = [i for i, ch in enumerate(code) if ch in _UNITS]
     for i, ch in enumerate(code):
         if i == 0 and ch in "0KMG":
-            raise _code_error(full, offset, "the bandwidth code never starts with 0, K, M or G; expected a digit 1-9 or H", where=where)
+            raise _code_error(full, offset, "the bandwidth code never starts with 0, K, M or G; expected a digit 1-9 or H", where=where, param=param)
         if not (ch.isdigit() and ch.isascii()) and ch not in _UNITS:
-            raise _code_error(full, offset + i, "the bandwidth code holds three digits and one of the letters H, K, M, G", where=where)
+            raise _code_error(full, offset + i, "the bandwidth code holds three digits and one of the letters H, K, M, G", where=where, param=param)
         if ch in _UNITS and i != letters[0]:
-            raise _code_error(full, offset + i, "the bandwidth code holds only one letter (H, K, M or G); expected a digit", where=where)
+            raise _code_error(full, offset + i, "the bandwidth code holds only one letter (H, K, M or G); expected a digit", where=where, param=param)
     if len(code) < 4:
-        raise _code_error(full, offset + len(code), "the bandwidth code has four characters; expected a digit or H, K, M, G", where=where)
+        raise _code_error(full, offset + len(code), "the bandwidth code has four characters; expected a digit or H, K, M, G", where=where, param=param)
     if not letters:
-        raise _code_error(full, offset + 3, "the bandwidth code needs one letter H, K, M or G in place of the decimal point", where=where)
+        raise _code_error(full, offset + 3, "the bandwidth code needs one letter H, K, M or G in place of the decimal point", where=where, param=param)
     pos = letters[0]
     letter = code[pos]
     if pos == 0 and letter != "H":
-        raise _code_error(full, offset, "only H may open a bandwidth code (below 1 Hz)", where=where)
+        raise _code_error(full, offset, "only H may open a bandwidth code (below 1 Hz)", where=where, param=param)
     number = Decimal((code[:pos] or "0") + "." + code[pos + 1 :])
     if number == 0:
-        raise _code_error(full, offset + 3, "a bandwidth of zero cannot be coded; the smallest code is H001", where=where)
+        raise _code_error(full, offset + 3, "a bandwidth of zero cannot be coded; the smallest code is H001", where=where, param=param)
     return float(number * Decimal(repr(_UNITS[letter])))
 
 
-def parse_bandwidth_code(code: str, *, where: str = "designator") -> float:
+def parse_bandwidth_code(code: str, *, where=None, param: str = "code") -> float:
     """The bandwidth a four-character code stands for, Hz.
 
     Examples
@@ -247,11 +247,11 @@ def parse_bandwidth_code(code: str, *, where: str = "designator") -> float:
     (2700.0, 0.002, 1250000.0)
     """
     if not isinstance(code, str):
-        raise StationError(f"bandwidth code {code!r} is not text", where=where)
+        raise StationError(f"{param}={code!r} is not text (expected a bandwidth code such as 2K70)", where=where, param=param)
     text = code.strip().upper()
     if len(text) > 4:
-        raise _code_error(text, 4, "a bandwidth code has exactly four characters", where=where)
-    return _parse_code(text, 0, text, where)
+        raise _code_error(text, 4, "a bandwidth code has exactly four characters", where=where, param=param)
+    return _parse_code(text, 0, text, where, param)
 
 
 @dataclass(frozen=True)
@@ -323,7 +323,7 @@ def _bandwidth_words(bandwidth_hz: float) -> str:
     return f"{bandwidth_hz:g} Hz"
 
 
-def parse_designator(text: str, *, where: str = "designator") -> Designator:
+def parse_designator(text: str, *, where=None, param: str = "designator") -> Designator:
     """Parse and validate an emission designator.
 
     Accepts a full designator (``"16K0F3EJN"``: bandwidth code and three to
@@ -332,8 +332,10 @@ def parse_designator(text: str, *, where: str = "designator") -> Designator:
     Parameters
     ----------
     text : str
-    where : str
-        Option or key named in errors (``"--designator"``).
+    where : str, optional
+        The place of ``text`` inside a file (a TOML key path), named in errors.
+    param : str
+        The parameter ``text`` came in, named in errors (``"designator"``).
 
     Returns
     -------
@@ -351,27 +353,27 @@ def parse_designator(text: str, *, where: str = "designator") -> Designator:
     (16000.0, 'F3E')
     """
     if not isinstance(text, str):
-        raise StationError(f"designator {text!r} is not text", where=where)
+        raise StationError(f"{param}={text!r} is not text (expected a designator such as '2K70J3E')", where=where, param=param)
     full = text.strip().upper()
     if not full:
-        raise StationError("the designator is empty; expected e.g. '2K70J3E' or 'J3E'", where=where)
+        raise StationError(f"{param}={text!r}: the designator is empty; expected e.g. '2K70J3E' or 'J3E'", where=where, param=param)
     # a full designator has 7-9 characters, the symbols alone 3-5
     has_code = len(full) >= 7 or full[0].isdigit() or (full[0] == "H" and full[1:4].isdigit() and len(full) >= 4)
     offset = 0
     bandwidth = code = None
     if has_code:
-        bandwidth = _parse_code(full, 0, full, where)
+        bandwidth = _parse_code(full, 0, full, where, param)
         code, offset = full[:4], 4
     symbols = full[offset:]
     if len(symbols) < 3:
         pos = offset + len(symbols)
         return_what = f"expected the {POSITION_NAMES[len(symbols)]} symbol: one of {_allowed(len(symbols))}"
-        raise _code_error(full, pos, return_what, where=where)
+        raise _code_error(full, pos, return_what, where=where, param=param)
     if len(symbols) > 5:
-        raise _code_error(full, offset + 5, "a designator ends after at most five classification symbols", where=where)
+        raise _code_error(full, offset + 5, "a designator ends after at most five classification symbols", where=where, param=param)
     for i, ch in enumerate(symbols):
         if ch not in SYMBOLS[i]:
-            raise _code_error(full, offset + i, f"the {POSITION_NAMES[i]} symbol is one of {_allowed(i)}", where=where)
+            raise _code_error(full, offset + i, f"the {POSITION_NAMES[i]} symbol is one of {_allowed(i)}", where=where, param=param)
     return Designator(bandwidth, code, symbols)
 
 

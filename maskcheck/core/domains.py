@@ -44,7 +44,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from ..errors import StationError
+from ..errors import StationError, format_value
 
 __all__ = [
     "BOUNDARY_RULES",
@@ -129,19 +129,21 @@ class Boundary:
         return {"offset_hz": self.offset_hz, "rule": self.rule, "case": self.case, "text": self.text, "verified": self.verified}
 
 
-def _positive(name: str, value, where: str) -> float:
+def _positive(name: str, value, where: str | None = None) -> float:
+    """``value`` as a finite float > 0; errors name the parameter ``name`` (or the key ``where`` of a mask file)."""
+    param = name if where is None else None
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise StationError(f"{name}={value!r} is not a number", where=where) from None
+        raise StationError(f"{name}={value!r} is not a number", where=where, param=param) from None
     if not (math.isfinite(v) and v > 0):
-        raise StationError(f"{name}={value!r} must be a finite number > 0", where=where)
+        raise StationError(f"{name}={format_value(value)} must be a finite number > 0", where=where, param=param)
     return v
 
 
 def sm1539_row(carrier_hz: float) -> Sm1539Row | None:
     """The SM.1539 table row for a carrier (None below 9 kHz)."""
-    fc = _positive("carrier_hz", carrier_hz, "--carrier")
+    fc = _positive("carrier_hz", carrier_hz)
     for row in SM1539_TABLE:
         if row.low_hz <= fc < row.high_hz:
             return row
@@ -176,8 +178,8 @@ def sm1539_boundary(carrier_hz: float, necessary_bw_hz: float) -> Boundary:
     >>> sm1539_boundary(450e6, 16e3).offset_hz        # Bn < B_L = 25 kHz: 2.5 B_L
     62500.0
     """
-    fc = _positive("carrier_hz", carrier_hz, "--carrier")
-    bn = _positive("necessary bandwidth", necessary_bw_hz, "--necessary-bw")
+    fc = _positive("carrier_hz", carrier_hz)
+    bn = _positive("necessary_bw_hz", necessary_bw_hz)
     normal = NORMAL_PERCENT / 100.0 * bn
     row = sm1539_row(fc)
     if row is None:
@@ -201,7 +203,7 @@ def percent_boundary(bandwidth_hz: float, percent: float = NORMAL_PERCENT, *, of
     >>> percent_boundary(16e3, 250.0, of="authorized").offset_hz
     40000.0
     """
-    b = _positive(f"{of} bandwidth", bandwidth_hz, "--authorized-bw" if of == "authorized" else "--necessary-bw")
+    b = _positive("authorized_bw_hz" if of == "authorized" else "necessary_bw_hz", bandwidth_hz)
     p = _positive("percent", percent, "domains.percent")
     off = p / 100.0 * b
     return Boundary(off, "percent", "percent", f"{p:g} % of the {of} bandwidth {_khz(b)} = {_khz(off)}", True)
@@ -244,8 +246,8 @@ def domain_boundary(
     if of == "authorized":
         if authorized_bw_hz is None:
             raise StationError(
-                f"the mask puts the domain boundary at {percent:g} % of the authorised bandwidth; give it with --authorized-bw",
-                where="--authorized-bw",
+                f"the mask puts the domain boundary at {percent:g} % of the authorised bandwidth; give it (authorized_bw_hz)",
+                param="authorized_bw_hz",
             )
         return percent_boundary(authorized_bw_hz, percent, of="authorized")
     raise StationError(f"domains.of {of!r} is not 'necessary' or 'authorized'", where="domains.of")
@@ -332,8 +334,8 @@ def domains(
     >>> d.boundary.case, d.boundary_hz
     ('narrowband', (7090000.0, 7110000.0))
     """
-    fc = _positive("carrier_hz", carrier_hz, "--carrier")
-    bn = _positive("necessary bandwidth", necessary_bw_hz, "--necessary-bw")
+    fc = _positive("carrier_hz", carrier_hz)
+    bn = _positive("necessary_bw_hz", necessary_bw_hz)
     b = domain_boundary(fc, bn, rule=rule, percent=percent, of=of, authorized_bw_hz=authorized_bw_hz)
     notes = []
     if b.offset_hz < bn / 2.0:

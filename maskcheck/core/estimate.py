@@ -109,13 +109,13 @@ def welch_uncertainty_db(averages: int) -> float:
 
 def _window_spec(window: str, kaiser_beta: float | None):
     if window not in WINDOWS:
-        raise SpectrumError(f"window {window!r} is not one of {', '.join(WINDOWS)}", where="--window")
+        raise SpectrumError(f"window={window!r} is not one of {', '.join(WINDOWS)}", param="window")
     if window == "kaiser":
         if kaiser_beta is None or not (math.isfinite(kaiser_beta) and kaiser_beta >= 0):
-            raise SpectrumError(f"a Kaiser window needs a beta >= 0, got {kaiser_beta!r} (e.g. kaiser:14)", where="--window")
+            raise SpectrumError(f"kaiser_beta={kaiser_beta} must be a finite number >= 0 for the Kaiser window (e.g. 14)", param="kaiser_beta")
         return ("kaiser", float(kaiser_beta))
     if kaiser_beta is not None:
-        raise SpectrumError(f"beta {kaiser_beta!r} given for the {window} window; only kaiser takes one", where="--window")
+        raise SpectrumError(f"kaiser_beta={kaiser_beta} is given for the {window} window; only the Kaiser window takes one", param="kaiser_beta")
     return window
 
 
@@ -262,15 +262,15 @@ def plan_welch(
     (1500, 1000.0)
     """
     if not (isinstance(sample_rate_hz, (int, float)) and math.isfinite(sample_rate_hz) and sample_rate_hz > 0):
-        raise SpectrumError(f"sample rate {sample_rate_hz!r} Hz must be finite and > 0", where="--rate")
+        raise SpectrumError(f"sample_rate_hz={sample_rate_hz} must be a finite number > 0 (Hz)", param="sample_rate_hz")
     spec = _window_spec(window, kaiser_beta)
     if not (math.isfinite(overlap) and 0 <= overlap < 1):
-        raise SpectrumError(f"overlap {overlap!r} must be at least 0 and below 1 (e.g. 50%)", where="--overlap")
+        raise SpectrumError(f"overlap={overlap:g} must be at least 0 and below 1 (a fraction of a segment, e.g. 0.5)", param="overlap")
     if rbw_hz is not None and segment_samples is not None:
-        raise SpectrumError("give an RBW or a segment length, not both", where="--rbw")
+        raise SpectrumError("give rbw_hz or segment_samples, not both", param="rbw_hz")
     if rbw_hz is not None:
         if not (math.isfinite(rbw_hz) and rbw_hz > 0):
-            raise SpectrumError(f"RBW {rbw_hz!r} Hz must be finite and > 0", where="--rbw")
+            raise SpectrumError(f"rbw_hz={rbw_hz:g} must be a finite number > 0 (the RBW, Hz)", param="rbw_hz")
         n = max(2, round(window_enbw_bins(spec, 4096) * sample_rate_hz / rbw_hz))
         # ENBW in bins varies slightly with N: settle on the nearest integer
         for _ in range(3):
@@ -292,12 +292,12 @@ def plan_welch(
     segment_samples = int(segment_samples)
     if segment_samples < 8:
         raise SpectrumError(
-            f"segment length {segment_samples} is below 8 samples (the RBW asked for is too wide for the sample rate)",
-            where="--rbw",
+            f"segment length {segment_samples} is below 8 samples (rbw_hz is too wide for the sample rate)",
+            param="rbw_hz",
         )
     if segment_samples > 1 << 24:
         raise SpectrumError(
-            f"segment length {segment_samples} is above {1 << 24} samples (the RBW asked for is too narrow)", where="--rbw"
+            f"segment length {segment_samples} is above {1 << 24} samples (rbw_hz is too narrow)", param="rbw_hz"
         )
     overlap_samples = min(int(round(overlap * segment_samples)), segment_samples - 1)
     return WelchPlan(float(sample_rate_hz), window, None if window != "kaiser" else float(kaiser_beta),
@@ -374,7 +374,7 @@ class WelchEstimate:
             strongest burst is the worst.
         """
         if self.frames_fs is None or self.frames_fs.shape[0] == 0:
-            raise SpectrumError("this estimate kept no frames (ask for a time-resolved estimate)", where="--frame")
+            raise SpectrumError("this estimate kept no frames (ask for a time-resolved estimate, frame_s)", param="frame_s")
         if score is None:
             with np.errstate(divide="ignore", invalid="ignore"):
                 rise = np.where(self.mean_fs > 0, self.frames_fs / self.mean_fs, np.inf).max(axis=1)
@@ -388,15 +388,15 @@ class WelchEstimate:
             return self.mean_fs, "rms", self.averages
         if trace == "max-hold":
             if self.max_hold_fs is None:
-                raise SpectrumError("this estimate kept no max-hold trace (ask for it with trace='max-hold')", where="--trace")
+                raise SpectrumError("this estimate kept no max-hold trace (ask for it with trace='max-hold')", param="trace")
             return self.max_hold_fs, "peak", 1
         if trace == "frame":
             if self.frames_fs is None:
-                raise SpectrumError("this estimate kept no frames (ask for a time-resolved estimate)", where="--frame")
+                raise SpectrumError("this estimate kept no frames (ask for a time-resolved estimate, frame_s)", param="frame_s")
             if frame is None or not 0 <= frame < self.frames_fs.shape[0]:
-                raise SpectrumError(f"frame {frame!r} is not in 0..{self.frames_fs.shape[0] - 1}", where="--frame")
+                raise SpectrumError(f"frame={frame} is not in 0..{self.frames_fs.shape[0] - 1}", param="frame")
             return self.frames_fs[frame], "rms", int(self.frame_averages[frame])
-        raise SpectrumError(f"trace {trace!r} is not one of {', '.join(TRACES)}", where="--trace")
+        raise SpectrumError(f"trace={trace!r} is not one of {', '.join(TRACES)}", param="trace")
 
     def record(self, trace: str = "average", frame: int | None = None) -> EstimationRecord:
         """The estimation parameters and the trace, as a record (:class:`~maskcheck.core.records.EstimationRecord`)."""
@@ -526,7 +526,7 @@ class WelchAccumulator:
         self._run_start = 0
         threads = (os.cpu_count() or 1) if workers is None else int(workers)
         if threads < 1:
-            raise SpectrumError(f"{threads} worker threads; expected at least 1", where="--workers")
+            raise SpectrumError(f"workers={threads} must be at least 1 (estimation threads)", param="workers")
         if batch_segments is None:
             batch_segments = max(1, min(256, (2 << 20) // (8 * n)))
         self._batch_segments = int(batch_segments)
@@ -540,7 +540,7 @@ class WelchAccumulator:
             self._states.put(st)
         self._lock = threading.Lock()
         if frame_segments is not None and frame_segments < 1:
-            raise SpectrumError(f"frame of {frame_segments} segments; expected at least 1", where="--frame")
+            raise SpectrumError(f"frame_segments={frame_segments} must be at least 1", param="frame_segments")
         self._frame_segments = frame_segments
         self._max_frames = int(max_frames) if max_frames is not None else max(1, FRAME_BUDGET_BYTES // (8 * n))
         self._frames: list[np.ndarray] = []
@@ -633,8 +633,8 @@ class WelchAccumulator:
             while len(self._frames) <= j:
                 if len(self._frames) >= self._max_frames:
                     raise SpectrumError(
-                        f"more than {self._max_frames} frames; expected a longer frame for a recording this long",
-                        where="--frame",
+                        f"more than {self._max_frames} frames; expected a longer frame (frame_s) for a recording this long",
+                        param="frame_s",
                     )
                 self._frames.append(np.zeros(self._n, np.float64))
                 self._frame_counts.append(0)

@@ -41,7 +41,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from ..errors import StationError
+from ..errors import StationError, format_value
 from .designator import Designator, format_bandwidth_code, format_designator, parse_designator
 
 __all__ = [
@@ -154,42 +154,35 @@ def wpm_to_baud(wpm: float, convention: str = "itu") -> float:
     (20.0, 20.8333)
     """
     if convention not in WPM_CONVENTIONS:
-        raise StationError(f"Morse speed convention {convention!r} is not one of {sorted(WPM_CONVENTIONS)}", where="--wpm-convention")
-    _positive("wpm", wpm, "--wpm")
+        raise StationError(f"wpm_convention={convention!r} is not one of {sorted(WPM_CONVENTIONS)} (the Morse speed convention)",
+                           param="wpm_convention")
+    _positive("wpm", wpm)
     return float(wpm) * WPM_CONVENTIONS[convention]
 
 
-_OPTION = {
-    "max_mod_hz": "--max-mod",
-    "low_mod_hz": "--low-mod",
-    "deviation_hz": "--deviation",
-    "symbol_rate_bd": "--baud",
-    "shift_hz": "--shift",
-    "k_factor": "--k-factor",
-    "wpm": "--wpm",
-    "roll_off": "--roll-off",
-    "channels": "--channels",
-}
+#: the formula inputs :func:`necessary_bandwidth` takes (besides ``wpm_convention``)
+_INPUTS = ("max_mod_hz", "low_mod_hz", "deviation_hz", "symbol_rate_bd", "shift_hz", "k_factor", "wpm", "roll_off", "channels")
 
 
-def _positive(name, value, where=None, *, zero_ok=False):
+def _positive(name, value, *, zero_ok=False):
+    """``value`` as a float that is finite and > 0 (>= 0 with ``zero_ok``); errors name the parameter ``name``."""
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise StationError(f"{name}={value!r} is not a number", where=where or _OPTION.get(name, name)) from None
+        raise StationError(f"{name}={value!r} is not a number", param=name) from None
     if not (v == v and abs(v) != float("inf")) or v < 0 or (v == 0 and not zero_ok):
         need = ">= 0" if zero_ok else "> 0"
-        raise StationError(f"{name}={value!r} must be a finite number {need}", where=where or _OPTION.get(name, name))
+        raise StationError(f"{name}={format_value(value)} must be a finite number {need}", param=name)
     return v
 
 
 def _need(emission: str, formula: str, inputs: dict, *names) -> list[float]:
     missing = [n for n in names if inputs.get(n) is None]
     if missing:
-        opts = ", ".join(_OPTION.get(n, n) for n in missing)
         raise StationError(
-            f"{emission} ({formula}) needs {opts}: give {'it' if len(missing) == 1 else 'them'}, or state the necessary bandwidth (--necessary-bw BW or measured)",
-            where=_OPTION.get(missing[0], missing[0]),
+            f"{emission} ({formula}) needs {', '.join(missing)}: give {'it' if len(missing) == 1 else 'them'}, "
+            "or state the necessary bandwidth (stated_hz=BW, or measure it)",
+            param=missing[0],
         )
     return [_positive(n, inputs[n]) for n in names]
 
@@ -213,7 +206,7 @@ def _morse_rate(inp) -> tuple[float, str]:
     if inp.get("symbol_rate_bd") is not None:
         return _positive("symbol_rate_bd", inp["symbol_rate_bd"]), "modulation rate B given directly"
     if inp.get("wpm") is None:
-        raise StationError("Morse (Bn = B x K) needs --wpm or --baud", where="--wpm")
+        raise StationError("Morse (Bn = B x K) needs wpm or symbol_rate_bd", param="wpm")
     conv = inp.get("wpm_convention") or "itu"
     rate = wpm_to_baud(inp["wpm"], conv)
     return rate, f"{inp['wpm']:g} wpm -> B = {rate:.6g} Bd by {_WPM_TEXT[conv]}"
@@ -241,7 +234,8 @@ def _m_only(cls, inp):
 def _j3e(cls, inp):
     m, low = _need(cls, "Bn = M - lowest modulation frequency", inp, "max_mod_hz", "low_mod_hz")
     if not low < m:
-        raise StationError(f"the lowest modulation frequency ({_hz(low)}) must be below M ({_hz(m)})", where="--low-mod")
+        raise StationError(f"low_mod_hz={low:g}: the lowest modulation frequency must be below M (max_mod_hz={m:g}, Hz)",
+                           param="low_mod_hz")
     bn = m - low
     return bn, "Bn = M - lowest modulation frequency", f"{_hz(m)} - {_hz(low)} = {_hz(bn)}", {"max_mod_hz": m, "low_mod_hz": low}, "confirmed-2nd", []
 
@@ -250,7 +244,7 @@ def _b8e(cls, inp):
     (m,) = _need(cls, "Bn = sum of M over the sidebands' channels", inp, "max_mod_hz")
     nc = _positive("channels", inp.get("channels") if inp.get("channels") is not None else 2)
     if nc != int(nc) or nc < 2:
-        raise StationError(f"channels={nc:g} must be a whole number >= 2 for independent sidebands", where="--channels")
+        raise StationError(f"channels={nc:g} must be a whole number >= 2 for independent sidebands", param="channels")
     bn = nc * m
     return bn, "Bn = sum of M over the channels (Nc x M for equal channels)", f"{nc:g} x {_hz(m)} = {_hz(bn)}", {"max_mod_hz": m, "channels": nc}, "memory", [
         "independent-sideband formula written from memory, not checked against the text"
@@ -277,7 +271,7 @@ def _fsk(cls, inp):
 def _linear(cls, inp):
     rate, alpha = _need(cls, "Bn = Rs x (1 + roll-off)", inp, "symbol_rate_bd", "roll_off")
     if not 0 <= alpha <= 1:
-        raise StationError(f"roll_off={alpha:g} must lie in [0, 1]", where="--roll-off")
+        raise StationError(f"roll_off={alpha:g} must lie in [0, 1]", param="roll_off")
     bn = rate * (1 + alpha)
     return bn, "Bn = Rs x (1 + roll-off)", f"{rate:g} Bd x (1 + {alpha:g}) = {_hz(bn)}", {"symbol_rate_bd": rate, "roll_off": alpha}, "closed form", [
         "the spectrum of a raised-cosine-filtered linear modulation ends at Rs(1 + roll-off)/2 either side of the carrier; "
@@ -329,7 +323,7 @@ def necessary_bandwidth(emission: str, **inputs) -> NecessaryBandwidth:
     ------
     StationError
         For an unknown class, a class without a formula here, or missing or
-        impossible inputs (naming the option to give).
+        impossible inputs (naming the parameter to give).
 
     Notes
     -----
@@ -359,12 +353,12 @@ def necessary_bandwidth(emission: str, **inputs) -> NecessaryBandwidth:
     >>> necessary_bandwidth("A1A", wpm=25, k_factor=5).designator
     '100HA1A'
     """
-    symbols = parse_designator(emission, where="--emission").symbols
+    symbols = parse_designator(emission, param="emission").symbols
     cls = symbols[:3]
     inp = {k: v for k, v in inputs.items() if v is not None}
-    unknown = set(inp) - set(_OPTION) - {"wpm_convention"}
+    unknown = set(inp) - set(_INPUTS) - {"wpm_convention"}
     if unknown:
-        raise TypeError(f"unknown formula inputs {sorted(unknown)}; expected some of {sorted(_OPTION)}")
+        raise TypeError(f"unknown formula inputs {sorted(unknown)}; expected some of {sorted(_INPUTS)}")
     if inp.get("roll_off") is not None and cls[0] in _LINEAR_FIRST and cls[1] in _LINEAR_SECOND and cls not in ("A1A", "A2A"):
         fn, source = _linear, "closed form (raised-cosine spectrum); no regulatory table checked"
     elif cls in FORMULAS:
@@ -372,9 +366,9 @@ def necessary_bandwidth(emission: str, **inputs) -> NecessaryBandwidth:
     else:
         known = ", ".join(FORMULAS)
         raise StationError(
-            f"no necessary-bandwidth formula for {cls} here (formulas for {known}, and linear digital classes with --roll-off); "
-            "state it with --necessary-bw BW, or --necessary-bw measured to use the occupied bandwidth",
-            where="--emission",
+            f"no necessary-bandwidth formula for {cls} here (formulas for {known}, and linear digital classes with roll_off); "
+            "state it (stated_hz=BW), or measure it (the occupied bandwidth stands in)",
+            param="emission",
         )
     bn, formula, arithmetic, used, status, notes = fn(cls, inp)
     code = format_bandwidth_code(bn)
@@ -390,6 +384,16 @@ def necessary_bandwidth(emission: str, **inputs) -> NecessaryBandwidth:
         status=status,
         notes=tuple(notes),
     )
+
+
+def _as_designator(fn, symbols, inputs):
+    """``fn(symbols, **inputs)``, with an error about the class named as ``designator`` (its parameter here)."""
+    try:
+        return fn(symbols, **inputs)
+    except StationError as exc:
+        if exc.param != "emission":
+            raise
+        raise StationError(exc.message.replace("emission=", "designator=", 1), where=exc.where, param="designator") from None
 
 
 def _has_inputs(inputs: dict) -> bool:
@@ -435,15 +439,15 @@ def resolve_necessary(
     if isinstance(designator, Designator):  # parsed once by the caller
         des = designator
     else:
-        des = parse_designator(designator, where="--designator") if designator else None
+        des = parse_designator(designator, param="designator") if designator else None
     symbols = des.symbols if des else ""
     computed = None
     if des is not None and _has_inputs(inputs):
-        computed = necessary_bandwidth(symbols, **inputs)
+        computed = _as_designator(necessary_bandwidth, symbols, inputs)
     elif des is None and _has_inputs(inputs):
-        raise StationError("formula inputs were given without --designator (or --emission): which emission class?", where="--designator")
+        raise StationError("formula inputs were given without a designator: which emission class?", param="designator")
     if stated_hz is not None:
-        bn = _positive("necessary bandwidth", stated_hz, "--necessary-bw")
+        bn = _positive("stated_hz", stated_hz)
         text = format_designator(bn, symbols) if symbols else format_bandwidth_code(bn)
         if des is not None and des.bandwidth_code and des.bandwidth_code != format_bandwidth_code(bn):
             warnings.append(f"the stated necessary bandwidth ({bn:g} Hz) differs from the designator's code {des.bandwidth_code}; the stated value is used")
@@ -465,7 +469,7 @@ def resolve_necessary(
         return nb, warnings
     if computed is None:
         # symbols alone, no inputs: ask for them, naming what the class needs
-        necessary_bandwidth(symbols)  # raises with the options to give
+        _as_designator(necessary_bandwidth, symbols, {})  # raises with the inputs to give
         raise AssertionError("unreachable")  # pragma: no cover
     return computed, warnings
 
@@ -480,11 +484,11 @@ def from_measurement(occupied_bw_hz: float, designator: str | None = None) -> Ne
     >>> from_measurement(2650.0, "J3E").designator
     '2K65J3E'
     """
-    bn = _positive("occupied bandwidth", occupied_bw_hz, "--necessary-bw")
+    bn = _positive("occupied_bw_hz", occupied_bw_hz)
     if isinstance(designator, Designator):  # parsed once by the caller
         des = designator
     else:
-        des = parse_designator(designator, where="--designator") if designator else None
+        des = parse_designator(designator, param="designator") if designator else None
     symbols = des.symbols if des is not None else ""
     text = format_designator(bn, des) if symbols else format_bandwidth_code(bn)
     return NecessaryBandwidth(

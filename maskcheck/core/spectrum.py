@@ -156,21 +156,21 @@ class Spectrum:
             bad = ~np.isfinite(arr)
             if bad.any():
                 i = _first_bad(bad)
-                raise SpectrumError(f"{name}[{i}] = {arr[i]!r} is not finite")
+                raise SpectrumError(f"{name}[{i}] = {float(arr[i])!r} is not finite")
         if n > 1:
             step = np.diff(f)
             bad = step <= 0
             if bad.any():
                 i = _first_bad(bad) + 1
                 raise SpectrumError(
-                    f"freq_hz[{i}] = {f[i]!r} does not increase (previous point {f[i - 1]!r}); "
+                    f"freq_hz[{i}] = {float(f[i])!r} does not increase (previous point {float(f[i - 1])!r}); "
                     "frequencies must be strictly increasing"
                 )
         for name, arr in (("power_w", p), ("rbw_hz", rbw), ("enbw_hz", enbw)):
             bad = arr <= 0
             if bad.any():
                 i = _first_bad(bad)
-                raise SpectrumError(f"{name}[{i}] = {arr[i]!r} must be > 0")
+                raise SpectrumError(f"{name}[{i}] = {float(arr[i])!r} must be > 0")
         if self.detector not in DETECTORS:
             raise SpectrumError(f"detector={self.detector!r} is not one of {', '.join(DETECTORS)}")
         segs = tuple(int(s) for s in self.segments)
@@ -186,9 +186,9 @@ class Spectrum:
             for k, (lo, hi) in enumerate(edges):
                 a, b = bounds[k], bounds[k + 1]
                 if lo is not None and not (np.isfinite(lo) and lo <= f[a]):
-                    raise SpectrumError(f"span {k}: lower edge {lo!r} Hz must be <= its first point {f[a]!r} Hz")
+                    raise SpectrumError(f"span {k}: lower edge {float(lo)!r} Hz must be <= its first point {float(f[a])!r} Hz")
                 if hi is not None and not (np.isfinite(hi) and hi >= f[b - 1]):
-                    raise SpectrumError(f"span {k}: upper edge {hi!r} Hz must be >= its last point {f[b - 1]!r} Hz")
+                    raise SpectrumError(f"span {k}: upper edge {float(hi)!r} Hz must be >= its last point {float(f[b - 1])!r} Hz")
                 clean.append((None if lo is None else float(lo), None if hi is None else float(hi)))
             edges = tuple(clean)
             if all(e == (None, None) for e in edges):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from ..errors import StationError
+from ..errors import StationError, format_value
 
 __all__ = ["Station"]
 
@@ -51,16 +51,15 @@ class Station:
 
     def __post_init__(self):
         if not (isinstance(self.carrier_hz, (int, float)) and math.isfinite(self.carrier_hz) and self.carrier_hz > 0):
-            raise StationError(f"carrier_hz={self.carrier_hz!r} must be a finite frequency > 0", where="--carrier")
+            raise StationError(f"carrier_hz={format_value(self.carrier_hz)} must be a finite frequency > 0 (Hz)", param="carrier_hz")
         for name in ("power_w", "pep_w"):
             v = getattr(self, name)
             if v is not None and not (math.isfinite(v) and v > 0):
-                opt = "--power" if name == "power_w" else "--pep"
-                raise StationError(f"{name}={v!r} must be a finite power > 0", where=opt)
+                raise StationError(f"{name}={format_value(v)} must be a finite power > 0 (W)", param=name)
         if self.power_w is not None and self.pep_w is not None and self.pep_w < self.power_w * (1 - 1e-9):
             raise StationError(
-                f"PEP ({self.pep_w:g} W) is below the mean power ({self.power_w:g} W); PEP is never below the mean",
-                where="--pep",
+                f"pep_w={self.pep_w:g} is below power_w={self.power_w:g} (W); the peak envelope power is never below the mean",
+                param="pep_w",
             )
 
     def to_dict(self) -> dict:

@@ -25,6 +25,7 @@ import numpy as np
 
 from ..errors import SpectrumError
 from .spectrum import Spectrum
+from .units import w_to_dbm_fast
 
 __all__ = ["ORDERS", "Product", "TwoToneResult", "analyse_two_tone"]
 
@@ -86,10 +87,10 @@ class TwoToneResult:
     def to_dict(self) -> dict:
         return {
             "f1_hz": self.f1_hz, "f2_hz": self.f2_hz, "spacing_hz": self.spacing_hz,
-            "tone1_dbm": 10 * math.log10(self.tone1_w) + 30, "tone2_dbm": 10 * math.log10(self.tone2_w) + 30,
+            "tone1_dbm": w_to_dbm_fast(self.tone1_w), "tone2_dbm": w_to_dbm_fast(self.tone2_w),
             "tone_imbalance_db": self.tone_imbalance_db,
-            "pep_dbm": 10 * math.log10(self.pep_w) + 30, "pep_w": self.pep_w,
-            "mean_dbm": 10 * math.log10(self.mean_w) + 30, "mean_w": self.mean_w,
+            "pep_dbm": w_to_dbm_fast(self.pep_w), "pep_w": self.pep_w,
+            "mean_dbm": w_to_dbm_fast(self.mean_w), "mean_w": self.mean_w,
             "pep_to_mean_db": 10 * math.log10(self.pep_w / self.mean_w),
             "line_band_hz": self.band_hz,
             "products": [p.to_dict() for p in self.products],

@@ -81,21 +81,22 @@ class _Format:
     packed24: bool = False
 
 
-def _datatype(text: str, *, path, where: str) -> _Format:
+def _datatype(text: str, *, path, where=None, param=None) -> _Format:
     t = str(text).strip().lower()
     m = _DT.match(t)
     if not m:
         if re.match(r"^r(f32|f64|i32|i16|i8|u8|u16|u32)(_le|_be)?$", t):
-            raise RecordingError(f"datatype {text!r} is real-valued; expected complex IQ (cf32_le, ci16_le, ci8, cu8, ...)", path=path, where=where)
+            raise RecordingError(f"datatype {text!r} is real-valued; expected complex IQ (cf32_le, ci16_le, ci8, cu8, ...)",
+                                 path=path, where=where, param=param)
         raise RecordingError(
-            f"unknown datatype {text!r}; expected one of {', '.join(DATATYPES)}", path=path, where=where
+            f"unknown datatype {text!r}; expected one of {', '.join(DATATYPES)}", path=path, where=where, param=param
         )
     kind, order = m.group(1), m.group(2)
     bits = int(kind[1:])
     if bits > 8 and order is None:
-        raise RecordingError(f"datatype {text!r} needs a byte order; expected {t}_le or {t}_be", path=path, where=where)
+        raise RecordingError(f"datatype {text!r} needs a byte order; expected {t}_le or {t}_be", path=path, where=where, param=param)
     if bits == 8 and order is not None:
-        raise RecordingError(f"datatype {text!r}: 8-bit types take no byte order; expected c{kind}", path=path, where=where)
+        raise RecordingError(f"datatype {text!r}: 8-bit types take no byte order; expected c{kind}", path=path, where=where, param=param)
     bo = {"_le": "<", "_be": ">", None: "|"}[order]
     letter = kind[0]
     comp = f"{bo}{letter}{bits // 8}"
@@ -166,7 +167,7 @@ class Recording:
     notes : tuple of str
         Annotations and other things worth keeping in the result.
     swap_iq : bool
-        Whether the second component of each pair is I (WAV ``--i-channel right``).
+        Whether the second component of each pair is I (``i_channel="right"`` of a WAV file).
     meta_path : str or None
         The SigMF metadata file, if separate from the data.
     """
@@ -355,18 +356,20 @@ def _sample_count(path, size: int, bps: int, what: str) -> int:
     return n
 
 
-def _positive(value, path, where, what) -> float:
+def _positive(value, path, param: str | None = None, *, where=None, what: str = "") -> float:
+    """``value`` as a finite float > 0; errors name the parameter ``param`` or, in a file, ``what`` at ``where``."""
+    label = f"{param}=" if param else f"{what} "
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise RecordingError(f"{what} {value!r} is not a number", path=path, where=where) from None
+        raise RecordingError(f"{label}{value!r} is not a number", path=path, where=where, param=param) from None
     if not (math.isfinite(v) and v > 0):
-        raise RecordingError(f"{what} {value!r} must be finite and > 0", path=path, where=where)
+        raise RecordingError(f"{label}{value} must be finite and > 0", path=path, where=where, param=param)
     return v
 
 
 def recording_kind(path) -> str | None:
-    """``"sigmf"``, ``"wav"`` or None (not a recording by its name; raw needs ``--format``)."""
+    """``"sigmf"``, ``"wav"`` or None (not a recording by its name; raw needs a ``datatype``)."""
     name = str(path).lower()
     if name.endswith((".sigmf-meta", ".sigmf-data", ".sigmf")):
         return "sigmf"
@@ -404,12 +407,13 @@ def open_recording(path, *, datatype=None, sample_rate_hz=None, centre_hz=None, 
     else:
         return open_raw(path, datatype=datatype, sample_rate_hz=sample_rate_hz, centre_hz=centre_hz)
     if datatype is not None:
-        raise RecordingError(f"--format is for raw files; this {kind.upper()} recording states its own datatype", path=path, where="--format")
+        raise RecordingError(f"datatype={datatype!r} is for raw files; this {kind.upper()} recording states its own data type",
+                             path=path, param="datatype")
     if sample_rate_hz is not None and not math.isclose(sample_rate_hz, rec.sample_rate_hz, rel_tol=1e-9):
         raise RecordingError(
-            f"--rate {sample_rate_hz:g} Hz disagrees with the file's own sample rate {rec.sample_rate_hz:g} Hz",
+            f"sample_rate_hz={sample_rate_hz:g} disagrees with the file's own sample rate {rec.sample_rate_hz:g} Hz",
             path=path,
-            where="--rate",
+            param="sample_rate_hz",
         )
     return rec
 
@@ -418,15 +422,15 @@ def open_recording(path, *, datatype=None, sample_rate_hz=None, centre_hz=None, 
 def open_raw(path, *, datatype, sample_rate_hz, centre_hz) -> Recording:
     """Open a raw interleaved I/Q file (no header); every parameter is required."""
     p = Path(path)
-    missing = [o for o, v in (("--format", datatype), ("--rate", sample_rate_hz), ("--centre", centre_hz)) if v is None]
+    missing = [o for o, v in (("datatype", datatype), ("sample_rate_hz", sample_rate_hz), ("centre_hz", centre_hz)) if v is None]
     if missing:
         raise RecordingError(
-            f"is not a SigMF or WAV recording, so it is read as raw I/Q, which needs {', '.join(missing)} "
-            "(e.g. --format ci16_le --rate 2.4MHz --centre 7.1MHz)",
+            f"is not a SigMF or WAV recording, so it is read as raw I/Q, which needs {', '.join(missing)}",
             path=p,
+            param=missing[0],
         )
-    fmt = _datatype(datatype, path=p, where="--format")
-    rate = _positive(sample_rate_hz, p, "--rate", "sample rate")
+    fmt = _datatype(datatype, path=p, param="datatype")
+    rate = _positive(sample_rate_hz, p, "sample_rate_hz")
     fc = float(centre_hz)
     size = _file_size(p)
     bps = 2 * np.dtype(fmt.component).itemsize
@@ -454,7 +458,7 @@ def open_wav(path, *, centre_hz=None, i_channel: str = "left") -> Recording:
     """Open a two-channel WAV file as I/Q (see the module notes)."""
     p = Path(path)
     if i_channel not in ("left", "right"):
-        raise RecordingError(f"--i-channel {i_channel!r}; expected left or right", path=p, where="--i-channel")
+        raise RecordingError(f"i_channel={i_channel!r}; expected 'left' or 'right'", path=p, param="i_channel")
     size = _file_size(p)
     with open(p, "rb") as fh:
         head = fh.read(12)
@@ -505,7 +509,7 @@ def open_wav(path, *, centre_hz=None, i_channel: str = "left") -> Recording:
             f"data chunk promises {length} bytes but only {size - offset} follow (truncated)", path=p, where="data"
         )
     if centre_hz is None:
-        raise RecordingError("a WAV file states no centre frequency; give it with --centre (e.g. --centre 7.1MHz)", path=p, where="--centre")
+        raise RecordingError("a WAV file states no centre frequency; give it (centre_hz)", path=p, param="centre_hz")
     n = _sample_count(p, length, block_align, "the data chunk")
     notes = (f"WAV channels: I = {i_channel}, Q = {'right' if i_channel == 'left' else 'left'}",)
     return Recording(str(p), str(p), "wav", datatype, float(rate), offset, n, (Capture(0, n, float(centre_hz)),),
@@ -569,7 +573,7 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
     rate = g.get(sigmf.SAMPLE_RATE_KEY)
     if rate is None:
         raise RecordingError("has no core:sample_rate; expected the sample rate in samples per second", path=meta, where="global/core:sample_rate")
-    rate = _positive(rate, meta, "global/core:sample_rate", "sample rate")
+    rate = _positive(rate, meta, where="global/core:sample_rate", what="sample rate")
     nch = int(g.get(sigmf.NUM_CHANNELS_KEY, 1) or 1)
     if nch != 1:
         raise RecordingError(f"has {nch} channels; expected 1 (read one channel at a time is not supported)", path=meta, where="global/core:num_channels")
@@ -604,15 +608,17 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
             fc = centre_hz
         elif centre_hz is not None and not math.isclose(float(fc), centre_hz, rel_tol=1e-12):
             raise RecordingError(
-                f"--centre {centre_hz:g} Hz disagrees with the file's core:frequency {float(fc):g} Hz",
+                f"centre_hz={centre_hz:g} disagrees with the file's core:frequency {float(fc):g} Hz",
                 path=meta,
                 where=f"captures[{i}]/core:frequency",
+                param="centre_hz",
             )
         if fc is None:
             raise RecordingError(
-                "states no centre frequency (core:frequency); give it with --centre",
+                "states no centre frequency (core:frequency); give it (centre_hz)",
                 path=meta,
                 where=f"captures[{i}]/core:frequency",
+                param="centre_hz",
             )
         captures.append(Capture(s0, min(s1, n) - s0, float(fc), c.get(sigmf.DATETIME_KEY)))
     notes = []

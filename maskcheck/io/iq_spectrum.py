@@ -39,6 +39,7 @@ import numpy as np
 from ..core.estimate import WelchAccumulator, WelchEstimate, plan_welch
 from ..core.records import CalibrationRecord, RecordingRecord
 from ..core.spectrum import Spectrum
+from ..core.units import w_to_dbm_fast
 from ..errors import RecordingError, SpectrumError
 from .iq import BLOCK_SAMPLES, Recording
 
@@ -59,7 +60,7 @@ class Calibration:
     Attributes
     ----------
     full_scale_w : float or None
-        Power of a full-scale tone, W (``--full-scale 0dBm``).
+        Power of a full-scale tone, W (``1e-3`` for 0 dBm).
     ref_tone_hz, ref_tone_w : float or None
         A tone in the recording at this frequency with this known power.
     correction : object or None
@@ -190,17 +191,21 @@ def estimate_recording(
     -------
     RecordingSpectrum
     """
+    for name in ("full_scale_w", "ref_tone_w"):
+        v = getattr(calibration, name)
+        if v is not None and not (math.isfinite(v) and v > 0):
+            raise RecordingError(f"{name}={float(v):g} must be a finite power > 0 (W)", path=rec.path, param=name)
     plan = plan_welch(rec.sample_rate_hz, window=window, kaiser_beta=kaiser_beta, rbw_hz=rbw_hz,
                       segment_samples=segment_samples, overlap=overlap)
     groups = _group_captures(rec)
     frame_segments = None
     if frame_s is not None:
         if not (math.isfinite(frame_s) and frame_s > 0):
-            raise RecordingError(f"frame duration {frame_s!r} s must be > 0", path=rec.path, where="--frame")
+            raise RecordingError(f"frame_s={frame_s:g} must be > 0 (the frame duration, s)", path=rec.path, param="frame_s")
         if len(groups) > 1:
             raise RecordingError(
-                f"holds captures at {len(groups)} centre frequencies; the time-resolved mode needs one",
-                path=rec.path, where="--frame")
+                f"holds captures at {len(groups)} centre frequencies; the time-resolved mode (frame_s) needs one",
+                path=rec.path, param="frame_s")
         frame_segments = max(1, round(frame_s * rec.sample_rate_hz / plan.hop_samples))
     total = sum(c.sample_count for cs in groups.values() for c in cs)
     done = 0
@@ -219,7 +224,7 @@ def estimate_recording(
                             progress(done, total)
                 est = acc.result()
             except SpectrumError as exc:
-                raise RecordingError(exc.message, path=rec.path, where=exc.where) from None
+                raise RecordingError(exc.message, path=rec.path, where=exc.where, param=exc.param) from None
         finally:
             acc.close()
         estimates.append((fc, est))
@@ -228,10 +233,10 @@ def estimate_recording(
     cal = CalibrationRecord(level_scale="dBFS", method="none (levels relative to full scale)")
     scale_w = UNCALIBRATED_FULL_SCALE_W
     if calibration.full_scale_w is not None and calibration.ref_tone_hz is not None:
-        raise RecordingError("give --full-scale or --ref-tone, not both", path=rec.path, where="--ref-tone")
+        raise RecordingError("give full_scale_w or ref_tone_hz, not both", path=rec.path, param="ref_tone_hz")
     if calibration.full_scale_w is not None:
         scale_w = float(calibration.full_scale_w)
-        cal = CalibrationRecord(level_scale="dBm", method="full scale", full_scale_dbm=10 * math.log10(scale_w) + 30)
+        cal = CalibrationRecord(level_scale="dBm", method="full scale", full_scale_dbm=w_to_dbm_fast(scale_w))
     correction = calibration.correction
     recording = RecordingRecord(
         kind=rec.kind,
@@ -252,9 +257,9 @@ def estimate_recording(
             level_scale="dBm",
             method="reference tone",
             tone_hz=calibration.ref_tone_hz,
-            tone_dbm=10 * math.log10(calibration.ref_tone_w) + 30,
+            tone_dbm=w_to_dbm_fast(calibration.ref_tone_w),
             tone_measured_dbfs=10 * math.log10(tone),
-            full_scale_dbm=10 * math.log10(scale_w) + 30,
+            full_scale_dbm=w_to_dbm_fast(scale_w),
         )
     if correction is not None:
         cal = replace(cal, correction_table=str(getattr(correction, "path", "")))
@@ -277,9 +282,9 @@ def _measure_tone(rec, spans, estimates, f_hz, correction) -> float:
     else:
         raise RecordingError(
             f"the reference tone at {f_hz:g} Hz (with {TONE_HALF_WIDTH_ENBW:g} RBW either side) lies outside the "
-            "recorded band; expected a tone inside it",
+            "recorded band; expected a tone inside it (ref_tone_hz)",
             path=rec.path,
-            where="--ref-tone",
+            param="ref_tone_hz",
         )
     g = _gain(s.freq_hz, 1.0, correction)
     s = Spectrum(s.freq_hz, s.power_w * g, s.rbw_hz, s.enbw_hz, detector=s.detector)
@@ -293,9 +298,9 @@ def _measure_tone(rec, spans, estimates, f_hz, correction) -> float:
     if not band > floor * 10 ** (TONE_MIN_SNR_DB / 10):
         raise RecordingError(
             f"the reference tone at {f_hz:g} Hz stands only {10 * math.log10(max(band, 1e-300) / floor):.1f} dB above "
-            f"the floor; expected at least {TONE_MIN_SNR_DB:g} dB (is the frequency right?)",
+            f"the floor; expected at least {TONE_MIN_SNR_DB:g} dB (is ref_tone_hz right?)",
             path=rec.path,
-            where="--ref-tone",
+            param="ref_tone_hz",
         )
     return band - floor
 

@@ -21,6 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ..core.units import w_to_dbm_fast
 from .output import check_writable, write_atomic
 
 __all__ = ["write_sigmf"]
@@ -61,7 +62,7 @@ def write_sigmf(stem, iq, sample_rate_hz: float, centre_hz: float, *, full_scale
     check_writable(meta_path, force)
     check_writable(data_path, force)
     samples = (x / math.sqrt(fs_w)).astype("<c8")
-    dbm = 10 * math.log10(fs_w) + 30
+    dbm = w_to_dbm_fast(fs_w)
     text = (f"{description} Full scale (a complex tone of amplitude 1) is {dbm:.6f} dBm at the antenna port: "
             f"read it with --full-scale {dbm:.6f}dBm.").strip()
     meta = sigmf.SigMFFile(global_info={

@@ -60,7 +60,7 @@ def check_writable(path, force: bool = False) -> Path:
     if p.is_dir():
         raise OutputError("is a folder; expected a file name", path=p)
     if (p.exists() or p.is_symlink()) and not force:
-        raise OutputError("exists; use --force to overwrite", path=p)
+        raise OutputError("exists; use force=True to overwrite", path=p, param="force")
     parent = p.parent if str(p.parent) else Path(".")
     if not parent.exists():
         raise OutputError(f"folder {str(parent)!r} does not exist", path=p)
@@ -126,10 +126,10 @@ def write_atomic(path, data: bytes | str, *, force: bool = False) -> Path:
             try:
                 os.link(tmp_name, p)
             except FileExistsError:
-                raise OutputError("exists; use --force to overwrite", path=p) from None
+                raise OutputError("exists; use force=True to overwrite", path=p, param="force") from None
             except OSError:
                 if p.exists():
-                    raise OutputError("exists; use --force to overwrite", path=p) from None
+                    raise OutputError("exists; use force=True to overwrite", path=p, param="force") from None
                 os.replace(tmp_name, p)
             else:
                 os.unlink(tmp_name)

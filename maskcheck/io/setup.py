@@ -425,7 +425,7 @@ class MeasurementSetup:
                     impedance_ohm=self.instrument.input_impedance_ohm,
                 )
             except MaskcheckError as exc:
-                raise SetupError(exc.message, path=self.path or None, where=exc.where) from None
+                raise SetupError(exc.message, path=self.path or None, where=exc.where, param=exc.param) from None
         warnings = list(record.warnings) + self._compare(spectrum)
         if self.radiated:
             warnings.append(

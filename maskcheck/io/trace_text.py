@@ -487,7 +487,7 @@ def _option_unit(value, allowed, what, path):
         return None
     text = str(value).strip().lower().replace("µ", "u").replace("μ", "u")
     if text not in allowed:
-        raise TraceError(f"{value!r} is not one of {', '.join(allowed)}", path=path, where=f"option {what}")
+        raise TraceError(f"{what}={value!r} is not one of {', '.join(allowed)}", path=path, param=what)
     return text
 
 
@@ -497,7 +497,7 @@ def _resolve(option, in_file, what, lineno, notes, path, missing_hint=""):
             notes.append(f"option {what}={option!r} overrides the file's {in_file!r} (line {lineno})")
         return option
     if in_file is None:
-        raise TraceError(missing_hint, path=path, where=lineno)
+        raise TraceError(missing_hint, path=path, where=lineno, param=what)
     return in_file
 
 
@@ -573,24 +573,27 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
     freq_opt = _option_unit(freq_opt, tuple(FREQ_UNITS), "freq_unit", path)
     level_opt = _option_unit(level_opt, LEVEL_UNITS, "level_unit", path)
     if det_opt is not None:
-        det_opt = _parse_meta("detector", str(det_opt).strip(), path, "option detector")
+        try:
+            det_opt = _parse_meta("detector", str(det_opt).strip(), path, None)
+        except TraceError as exc:
+            raise TraceError(exc.message.replace("detector ", "detector=", 1), path=path, param="detector") from None
     if rbw_opt is not None:
         try:
-            rbw_opt = parse_frequency(rbw_opt, what="rbw", default_unit="Hz")
+            rbw_opt = parse_frequency(rbw_opt, default_unit="Hz")
         except MaskcheckError as exc:
-            raise TraceError(exc.message, path=path, where="option rbw_hz") from None
+            raise TraceError(f"rbw_hz={exc.message}", path=path, param="rbw_hz") from None
         if not rbw_opt > 0:
-            raise TraceError(f"rbw_hz={rbw_opt!r} Hz is not a bandwidth > 0", path=path, where="option rbw_hz")
+            raise TraceError(f"rbw_hz={rbw_opt:g} is not a bandwidth > 0 (Hz)", path=path, param="rbw_hz")
 
     start = len(_BOM) if raw.startswith(_BOM) else 0
     meta, notes, delim, columns, labels, header_line, data_pos = _read_head(raw, start, path)
     units = dict((n, u) for n, u in columns)
     f_unit = _resolve(freq_opt, units["frequency"], "freq_unit", header_line, notes, path,
                       f"column 'frequency' has no unit; write {_FREQ_EXPECTED} "
-                      "in the header or give the frequency unit as an option (--freq-unit)")
+                      "in the header or give freq_unit")
     l_unit = _resolve(level_opt, units["level"], "level_unit", header_line, notes, path,
                       f"column 'level' has no unit; write {_LEVEL_EXPECTED} "
-                      "in the header or give the level unit as an option (--level-unit)")
+                      "in the header or give level_unit")
     has_rbw_col = "rbw" in units
     rbw_file = meta.get("rbw_hz", (None, 0))[0]
     enbw_hz = meta.get("enbw_hz", (None, 0))[0]
@@ -601,7 +604,7 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
                 else "file" if rbw_file is not None else None)
     if rbw_from is None:
         raise TraceError("no resolution bandwidth: add a line '# rbw_hz: 10 kHz' at the top of the file, "
-                         "or give it as an option (--rbw)", path=path)
+                         "or give rbw_hz", path=path, param="rbw_hz")
     if rbw_opt is not None:
         if rbw_file is not None and rbw_file != rbw_opt:
             notes.append(f"option rbw_hz={rbw_opt:g} Hz overrides the file's {rbw_file:g} Hz "
@@ -651,4 +654,4 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
     try:
         return build(values)
     except SpectrumError as exc:  # not expected after the checks above; keep it one line
-        raise TraceError(exc.message, path=path) from None
+        raise TraceError(exc.message, path=path, param=exc.param) from None

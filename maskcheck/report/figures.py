@@ -121,7 +121,7 @@ def write_figures(result: CheckResult, folder, *, force: bool = False) -> list[P
     """
     folder = Path(folder)
     if folder.exists() and not folder.is_dir():
-        raise OutputError("exists and is not a folder", path=folder, where="--figures")
+        raise OutputError("exists and is not a folder", path=folder, param="folder")
     figs = report_figures(result)
     targets = [folder / f"{f.stem}.svg" for f in figs]
     if folder.is_dir():
@@ -130,7 +130,7 @@ def write_figures(result: CheckResult, folder, *, force: bool = False) -> list[P
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise OutputError(f"cannot create the folder: {exc.strerror}", path=folder, where="--figures") from None
+        raise OutputError(f"cannot create the folder: {exc.strerror}", path=folder, param="folder") from None
     out = []
     for f, t in zip(figs, targets):
         out.append(write_atomic(t, renderSVG.drawToString(f.drawing).encode("utf-8"), force=force))

@@ -47,6 +47,7 @@ import scipy.special
 
 from .baseband import Baseband, apply_response, bin_frequencies_hz, require_finite, require_positive
 from .filters import OutputFilter
+from ..errors import format_value
 
 __all__ = [
     "Polynomial",
@@ -108,7 +109,7 @@ class Polynomial:
     def __post_init__(self):
         c = tuple(require_finite(f"coefficients[{i}]", a) for i, a in enumerate(self.coefficients))
         if not c or c[0] == 0:
-            raise ValueError(f"coefficients={self.coefficients!r} has no linear gain a1 (expected (a1, a2, ...), a1 != 0)")
+            raise ValueError(f"coefficients={format_value(self.coefficients)} has no linear gain a1 (expected (a1, a2, ...), a1 != 0)")
         object.__setattr__(self, "coefficients", c)
 
     @property
@@ -153,7 +154,7 @@ class Polynomial:
         while gain(r_hi) > 0:
             r_hi *= 1.25
             if r_hi > 1e12:
-                raise ValueError(f"the series {self.coefficients!r} does not compress by 1 dB (no input 1 dB point)")
+                raise ValueError(f"the series {format_value(self.coefficients)} does not compress by 1 dB (no input 1 dB point)")
         return float(scipy.optimize.brentq(gain, r_hi / 1.25, r_hi, xtol=1e-14, rtol=1e-12))
 
     @property
@@ -265,7 +266,7 @@ _MODELS = (Polynomial, Rapp, Saleh)
 
 def _check_model(model):
     if not isinstance(model, _MODELS):
-        raise ValueError(f"model={model!r} is not a Polynomial, Rapp or Saleh amplifier")
+        raise ValueError(f"model={format_value(model)} is not a Polynomial, Rapp or Saleh amplifier")
     return model
 
 
@@ -291,7 +292,7 @@ def drive(bb: Baseband, model, backoff_db: float, *, reference: str = "pep") -> 
     elif reference == "mean":
         now_v = math.sqrt(2 * bb.mean_power_w)
     else:
-        raise ValueError(f"reference={reference!r} is not 'pep' or 'mean'")
+        raise ValueError(f"reference={format_value(reference)} is not 'pep' or 'mean'")
     if not now_v > 0:
         raise ValueError("the amplifier input has no power (all samples are zero)")
     want_v = model.input_reference_v * 10 ** (-bo / 20)
@@ -346,9 +347,9 @@ def amplify(bb: Baseband, model, *, max_harmonic: int = 10, oversample: int = 1,
     """
     _check_model(model)
     if isinstance(max_harmonic, bool) or int(max_harmonic) != max_harmonic or max_harmonic < 1:
-        raise ValueError(f"max_harmonic={max_harmonic!r} is not an integer >= 1")
+        raise ValueError(f"max_harmonic={format_value(max_harmonic)} is not an integer >= 1")
     if isinstance(oversample, bool) or int(oversample) != oversample or oversample < 1:
-        raise ValueError(f"oversample={oversample!r} is not an integer >= 1")
+        raise ValueError(f"oversample={format_value(oversample)} is not an integer >= 1")
     if harmonics is not None and (isinstance(model, Polynomial) or not isinstance(harmonics, Polynomial)):
         raise ValueError("harmonics= takes a Polynomial, and only for a Rapp or Saleh model")
     nmax = int(max_harmonic)
@@ -379,7 +380,7 @@ def amplify(bb: Baseband, model, *, max_harmonic: int = 10, oversample: int = 1,
 def apply_output_filter(zones: Zones, output_filter: OutputFilter) -> Zones:
     """Filter every zone by the analog low-pass at that zone's RF frequencies ``n fc + f``."""
     if not isinstance(output_filter, OutputFilter):
-        raise ValueError(f"output_filter={output_filter!r} is not an OutputFilter")
+        raise ValueError(f"output_filter={format_value(output_filter)} is not an OutputFilter")
     out = {}
     for n, z in zones.zones.items():
         f_rf = z.carrier_hz + bin_frequencies_hz(len(z), z.sample_rate_hz)

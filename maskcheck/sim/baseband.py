@@ -29,6 +29,8 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.fft
 
+from ..errors import format_value
+
 __all__ = [
     "Baseband",
     "require_positive",
@@ -44,9 +46,9 @@ def require_finite(name: str, value) -> float:
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise ValueError(f"{name}={value!r} is not a number") from None
+        raise ValueError(f"{name}={format_value(value)} is not a number") from None
     if not math.isfinite(v):
-        raise ValueError(f"{name}={value!r} is not finite (expected a finite number)")
+        raise ValueError(f"{name}={format_value(value)} is not finite (expected a finite number)")
     return v
 
 
@@ -54,7 +56,7 @@ def require_positive(name: str, value, *, allow_zero: bool = False) -> float:
     """``float(value)``, or a ValueError naming the parameter if it is not > 0 (or >= 0)."""
     v = require_finite(name, value)
     if v < 0 or (v == 0 and not allow_zero):
-        raise ValueError(f"{name}={value!r} is {'negative' if v < 0 else 'zero'} (expected a number {'>=' if allow_zero else '>'} 0)")
+        raise ValueError(f"{name}={format_value(value)} is {'negative' if v < 0 else 'zero'} (expected a number {'>=' if allow_zero else '>'} 0)")
     return v
 
 
@@ -71,7 +73,7 @@ def sample_count(duration_s, sample_rate_hz) -> int:
     n_float = d * fs
     n = int(round(n_float))
     if n < 2 or abs(n_float - n) > 1e-6 * max(1.0, n_float):
-        raise ValueError(f"duration_s={duration_s!r} at sample_rate_hz={sample_rate_hz!r} gives {n_float:g} samples "
+        raise ValueError(f"duration_s={format_value(duration_s)} at sample_rate_hz={format_value(sample_rate_hz)} gives {n_float:g} samples "
                          "(expected a whole number of at least 2)")
     return n
 
@@ -126,7 +128,7 @@ class Baseband:
             raise ValueError(f"iq has shape {iq.shape} (expected one dimension of at least 2 samples)")
         bad = ~np.isfinite(iq)
         if bad.any():
-            raise ValueError(f"iq[{int(np.flatnonzero(bad)[0])}] is {iq[bad][0]!r} (expected finite samples)")
+            raise ValueError(f"iq[{int(np.flatnonzero(bad)[0])}] is {format_value(iq[bad][0])} (expected finite samples)")
         iq.setflags(write=False)
         object.__setattr__(self, "iq", iq)
         object.__setattr__(self, "sample_rate_hz", require_positive("sample_rate_hz", self.sample_rate_hz))
@@ -174,7 +176,7 @@ class Baseband:
         """
         p = require_positive("power_w", power_w)
         if kind not in ("mean", "pep"):
-            raise ValueError(f"kind={kind!r} is not 'mean' or 'pep'")
+            raise ValueError(f"kind={format_value(kind)} is not 'mean' or 'pep'")
         now = self.mean_power_w if kind == "mean" else self.pep_w
         if not now > 0:
             raise ValueError("the signal has no power to scale (all samples are zero)")

@@ -40,6 +40,7 @@ import numpy as np
 import scipy.signal
 
 from .baseband import require_finite, require_positive
+from ..errors import format_value
 
 __all__ = ["IF_FILTER_KINDS", "OUTPUT_FILTER_KINDS", "IfFilter", "OutputFilter", "sos_response", "zpk_response"]
 
@@ -61,7 +62,7 @@ OUTPUT_FILTER_KINDS = {
 
 def _order(order) -> int:
     if isinstance(order, bool) or int(order) != order or not 1 <= int(order) <= 20:
-        raise ValueError(f"order={order!r} is not an integer from 1 to 20")
+        raise ValueError(f"order={format_value(order)} is not an integer from 1 to 20")
     return int(order)
 
 
@@ -72,15 +73,15 @@ def _ripples(kind: str, ripple_db, stopband_db) -> tuple[float | None, float | N
             raise ValueError(f"a {kind} filter needs ripple_db (the passband ripple, dB > 0)")
         rp = require_positive("ripple_db", ripple_db)
     elif ripple_db is not None:
-        raise ValueError(f"ripple_db={ripple_db!r} given for a {kind} filter, which has no passband ripple")
+        raise ValueError(f"ripple_db={format_value(ripple_db)} given for a {kind} filter, which has no passband ripple")
     if kind in ("cheby2", "ellip"):
         if stopband_db is None:
             raise ValueError(f"a {kind} filter needs stopband_db (the stop-band attenuation, dB > 0)")
         rs = require_positive("stopband_db", stopband_db)
         if rp is not None and rs <= rp:
-            raise ValueError(f"stopband_db={stopband_db!r} is not above ripple_db={ripple_db!r}")
+            raise ValueError(f"stopband_db={format_value(stopband_db)} is not above ripple_db={format_value(ripple_db)}")
     elif stopband_db is not None:
-        raise ValueError(f"stopband_db={stopband_db!r} given for a {kind} filter, which has no stop-band parameter")
+        raise ValueError(f"stopband_db={format_value(stopband_db)} given for a {kind} filter, which has no stop-band parameter")
     return rp, rs
 
 
@@ -248,9 +249,9 @@ class IfFilter:
         lo = require_positive("low_hz", self.low_hz, allow_zero=True)
         hi = require_positive("high_hz", self.high_hz)
         if not lo < hi:
-            raise ValueError(f"low_hz={self.low_hz!r} is not below high_hz={self.high_hz!r}")
+            raise ValueError(f"low_hz={format_value(self.low_hz)} is not below high_hz={format_value(self.high_hz)}")
         if self.kind not in IF_FILTER_KINDS:
-            raise ValueError(f"kind={self.kind!r} is not one of {', '.join(IF_FILTER_KINDS)}")
+            raise ValueError(f"kind={format_value(self.kind)} is not one of {', '.join(IF_FILTER_KINDS)}")
         object.__setattr__(self, "order", _order(self.order))
         _ripples(self.kind, self.ripple_db, self.stopband_db)
 
@@ -264,14 +265,14 @@ class IfFilter:
         fs = require_positive("sample_rate_hz", sample_rate_hz)
         half = (float(self.high_hz) - float(self.low_hz)) / 2
         if not self.centre_hz + half < fs / 2:
-            raise ValueError(f"high_hz={self.high_hz!r} is not below half the sample rate ({fs / 2:g} Hz)")
+            raise ValueError(f"high_hz={format_value(self.high_hz)} is not below half the sample rate ({fs / 2:g} Hz)")
         rp, rs = _ripples(self.kind, self.ripple_db, self.stopband_db)
         return _design(self.kind, self.order, half, rp, rs, fs=fs, output="sos")
 
     def response(self, freq_hz, sample_rate_hz: float, sideband: str) -> np.ndarray:
         """Complex response at baseband frequencies ``freq_hz`` (carrier at 0 Hz) for one sideband."""
         if sideband not in ("upper", "lower"):
-            raise ValueError(f"sideband={sideband!r} is not 'upper' or 'lower'")
+            raise ValueError(f"sideband={format_value(sideband)} is not 'upper' or 'lower'")
         f = np.asarray(freq_hz, dtype=float)
         centre = self.centre_hz if sideband == "upper" else -self.centre_hz
         h = sos_response(self.sos(sample_rate_hz), np.atleast_1d(f - centre).ravel(), sample_rate_hz)
@@ -320,7 +321,7 @@ class OutputFilter:
     def __post_init__(self):
         require_positive("cutoff_hz", self.cutoff_hz)
         if self.kind not in OUTPUT_FILTER_KINDS:
-            raise ValueError(f"kind={self.kind!r} is not one of {', '.join(OUTPUT_FILTER_KINDS)}")
+            raise ValueError(f"kind={format_value(self.kind)} is not one of {', '.join(OUTPUT_FILTER_KINDS)}")
         object.__setattr__(self, "order", _order(self.order))
         _ripples(self.kind, self.ripple_db, self.stopband_db)
 

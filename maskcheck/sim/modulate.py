@@ -42,6 +42,7 @@ import scipy.signal
 from .baseband import Baseband, apply_response, bin_frequencies_hz, require_finite, require_positive
 from .filters import IfFilter
 from .sources import shape_symbols
+from ..errors import format_value
 
 __all__ = [
     "am",
@@ -77,7 +78,7 @@ def _audio(audio, name: str = "audio") -> np.ndarray:
 
 def _sideband(sideband: str) -> str:
     if sideband not in ("upper", "lower"):
-        raise ValueError(f"sideband={sideband!r} is not 'upper' or 'lower'")
+        raise ValueError(f"sideband={format_value(sideband)} is not 'upper' or 'lower'")
     return sideband
 
 
@@ -113,7 +114,7 @@ def am(audio, sample_rate_hz: float, carrier_hz: float, *, index: float, carrier
     if overmodulation == "clip":
         env = np.maximum(env, 0.0)
     elif overmodulation != "invert":
-        raise ValueError(f"overmodulation={overmodulation!r} is not 'clip' or 'invert'")
+        raise ValueError(f"overmodulation={format_value(overmodulation)} is not 'clip' or 'invert'")
     return Baseband(math.sqrt(pc) * env, sample_rate_hz, carrier_hz, (f"AM, m = {m:g}, carrier {pc:g} W",))
 
 
@@ -189,7 +190,7 @@ def ssb_phasing(audio, sample_rate_hz: float, carrier_hz: float, *, sideband: st
     phi = math.radians(require_finite("phase_error_deg", phase_error_deg))
     leak = complex(carrier_leak)
     if not (math.isfinite(leak.real) and math.isfinite(leak.imag)):
-        raise ValueError(f"carrier_leak={carrier_leak!r} is not finite")
+        raise ValueError(f"carrier_leak={format_value(carrier_leak)} is not finite")
     p = require_positive("peak_power_w", peak_power_w)
     analytic = scipy.signal.hilbert(a)
     q = g * np.imag(analytic * np.exp(1j * phi))
@@ -227,7 +228,7 @@ def ssb_filter(audio, sample_rate_hz: float, carrier_hz: float, *, sideband: str
     sb = _sideband(sideband)
     filt = IfFilter() if if_filter is None else if_filter
     if not isinstance(filt, IfFilter):
-        raise ValueError(f"if_filter={if_filter!r} is not an IfFilter")
+        raise ValueError(f"if_filter={format_value(if_filter)} is not an IfFilter")
     dsb = dsb_sc(audio, sample_rate_hz, carrier_hz, imbalance=imbalance, peak_power_w=peak_power_w)
     h = filt.response(dsb.bin_frequencies_hz(), dsb.sample_rate_hz, sb)
     return dsb.replace(2.0 * apply_response(dsb.iq, h), f"SSB filter method, {sb} sideband, {filt.describe()}")
@@ -346,7 +347,7 @@ def fsk(symbols, order: int, symbol_rate_hz: float, sample_rate_hz: float, carri
     """
     m = int(order)
     if m != order or m < 2:
-        raise ValueError(f"order={order!r} is not an integer >= 2")
+        raise ValueError(f"order={format_value(order)} is not an integer >= 2")
     s = _symbols(symbols, m)
     sps = _samples_per_symbol(symbol_rate_hz, sample_rate_hz)
     levels = (2.0 * s - (m - 1)) / (m - 1)
@@ -360,7 +361,7 @@ def psk_constellation(order: int) -> np.ndarray:
     """M-PSK points on the unit circle (QPSK at +-45 degrees, the others from 0 degrees), natural order."""
     m = int(order)
     if m != order or m < 2:
-        raise ValueError(f"order={order!r} is not an integer >= 2")
+        raise ValueError(f"order={format_value(order)} is not an integer >= 2")
     offset = np.pi / 4 if m == 4 else 0.0
     return np.exp(1j * (2 * np.pi * np.arange(m) / m + offset))
 
@@ -376,7 +377,7 @@ def qam_constellation(order: int) -> np.ndarray:
     m = int(order)
     side = int(round(math.sqrt(m))) if m > 0 else 0
     if m != order or side * side != m or side < 2 or side % 2:
-        raise ValueError(f"order={order!r} is not a square QAM order (expected 4, 16, 64, 256, ...)")
+        raise ValueError(f"order={format_value(order)} is not a square QAM order (expected 4, 16, 64, 256, ...)")
     levels = np.arange(-(side - 1), side, 2, dtype=float)
     pts = (levels[None, :] + 1j * levels[:, None]).ravel()
     return pts / math.sqrt(np.mean(np.abs(pts) ** 2))

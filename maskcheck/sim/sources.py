@@ -27,6 +27,7 @@ import numpy as np
 import scipy.fft
 
 from .baseband import apply_response, bin_frequencies_hz, require_finite, require_positive, sample_count
+from ..errors import format_value
 
 __all__ = [
     "SSB_TEST_PAIRS_HZ",
@@ -93,7 +94,7 @@ def _time_s(duration_s, sample_rate_hz) -> np.ndarray:
 def _check_audio_freq(name: str, freq_hz, sample_rate_hz) -> float:
     f = require_positive(name, freq_hz)
     if f >= float(sample_rate_hz) / 2:
-        raise ValueError(f"{name}={freq_hz!r} is not below half the sample rate ({float(sample_rate_hz) / 2:g} Hz)")
+        raise ValueError(f"{name}={format_value(freq_hz)} is not below half the sample rate ({float(sample_rate_hz) / 2:g} Hz)")
     return f
 
 
@@ -166,7 +167,7 @@ def two_tone(f1_hz: float, f2_hz: float, duration_s: float, sample_rate_hz: floa
     1.0
     """
     if float(f1_hz) == float(f2_hz):
-        raise ValueError(f"f1_hz and f2_hz are both {f1_hz!r} Hz (expected two different tones)")
+        raise ValueError(f"f1_hz and f2_hz are both {format_value(f1_hz)} Hz (expected two different tones)")
     a = require_finite("amplitude", amplitude)
     return multitone([f1_hz, f2_hz], duration_s, sample_rate_hz, amplitudes=[a, a])
 
@@ -181,7 +182,7 @@ def ssb_test_pair(authorised_bandwidth_hz: float) -> tuple[float, float]:
     """
     b = require_positive("authorised_bandwidth_hz", authorised_bandwidth_hz)
     if b not in SSB_TEST_PAIRS_HZ:
-        raise ValueError(f"authorised_bandwidth_hz={authorised_bandwidth_hz!r} has no test pair "
+        raise ValueError(f"authorised_bandwidth_hz={format_value(authorised_bandwidth_hz)} has no test pair "
                          f"(expected one of {', '.join(f'{k:g}' for k in SSB_TEST_PAIRS_HZ)})")
     return SSB_TEST_PAIRS_HZ[b]
 
@@ -219,11 +220,11 @@ def speech_noise(duration_s: float, sample_rate_hz: float, rng: np.random.Genera
     1.0
     """
     if not isinstance(rng, np.random.Generator):
-        raise ValueError(f"rng={rng!r} is not a numpy.random.Generator (use numpy.random.default_rng(seed))")
+        raise ValueError(f"rng={format_value(rng)} is not a numpy.random.Generator (use numpy.random.default_rng(seed))")
     lo = require_positive("low_hz", low_hz)
     hi = _check_audio_freq("high_hz", high_hz, sample_rate_hz)
     if not lo < hi:
-        raise ValueError(f"low_hz={low_hz!r} is not below high_hz={high_hz!r}")
+        raise ValueError(f"low_hz={format_value(low_hz)} is not below high_hz={format_value(high_hz)}")
     knee = require_positive("knee_hz", knee_hz)
     tilt = require_finite("tilt_db_per_octave", tilt_db_per_octave)
     n = sample_count(duration_s, sample_rate_hz)
@@ -233,7 +234,7 @@ def speech_noise(duration_s: float, sample_rate_hz: float, rng: np.random.Genera
     x = apply_response(rng.standard_normal(n), response).real
     peak = np.max(np.abs(x))
     if not peak > 0:
-        raise ValueError(f"low_hz={low_hz!r}..high_hz={high_hz!r} holds no DFT bin of a {duration_s!r} s record")
+        raise ValueError(f"low_hz={format_value(low_hz)}..high_hz={format_value(high_hz)} holds no DFT bin of a {format_value(duration_s)} s record")
     return x / peak
 
 
@@ -252,7 +253,7 @@ def morse_unit_s(wpm: float, convention: str = "paris") -> float:
     """
     w = require_positive("wpm", wpm)
     if convention not in MORSE_CONVENTIONS:
-        raise ValueError(f"convention={convention!r} is not one of {', '.join(MORSE_CONVENTIONS)}")
+        raise ValueError(f"convention={format_value(convention)} is not one of {', '.join(MORSE_CONVENTIONS)}")
     return 60.0 / (MORSE_CONVENTIONS[convention] * w)
 
 
@@ -269,7 +270,7 @@ def morse_elements(text: str) -> list[tuple[bool, int]]:
     50
     """
     if not isinstance(text, str) or not text.strip():
-        raise ValueError(f"text={text!r} holds no character to send")
+        raise ValueError(f"text={format_value(text)} holds no character to send")
     runs: list[tuple[bool, int]] = []
 
     def add(key_down: bool, units: int):
@@ -282,7 +283,7 @@ def morse_elements(text: str) -> list[tuple[bool, int]]:
     for wi, word in enumerate(words):
         for ci, ch in enumerate(word):
             if ch not in MORSE_CODE:
-                raise ValueError(f"text has {ch!r} at position {text.upper().find(ch)}, which has no Morse code")
+                raise ValueError(f"text has {format_value(ch)} at position {text.upper().find(ch)}, which has no Morse code")
             for ei, sym in enumerate(MORSE_CODE[ch]):
                 if ei:
                     add(False, 1)
@@ -337,7 +338,7 @@ def dot_train(dots_per_s: float = TEST_DOTS_PER_S, duration_s: float = 1.0) -> K
     period = 1.0 / rate
     count = int(math.floor(d * rate + 1e-9))
     if count < 1:
-        raise ValueError(f"duration_s={duration_s!r} is shorter than one dot period ({period:g} s)")
+        raise ValueError(f"duration_s={format_value(duration_s)} is shorter than one dot period ({period:g} s)")
     return KeyingPlan(tuple((k * period, k * period + period / 2) for k in range(count)), count * period, period / 2)
 
 
@@ -365,12 +366,12 @@ def keying_envelope(plan: KeyingPlan, sample_rate_hz: float, *, rise_time_s: flo
     fs = require_positive("sample_rate_hz", sample_rate_hz)
     edge_s = rise_time_per_edge(rise_time_s)
     if edge_s > plan.unit_s:
-        raise ValueError(f"rise_time_s={rise_time_s!r} makes an edge of {edge_s * 1e3:g} ms, longer than one "
+        raise ValueError(f"rise_time_s={format_value(rise_time_s)} makes an edge of {edge_s * 1e3:g} ms, longer than one "
                          f"Morse unit ({plan.unit_s * 1e3:g} ms); expected a rise time of at most {plan.unit_s * _RC_10_90 * 1e3:g} ms")
     n = int(round(plan.duration_s * fs))
     if n < 2 or abs(plan.duration_s * fs - n) > 1e-6 * n:
         raise ValueError(f"the keying pattern lasts {plan.duration_s:g} s, {plan.duration_s * fs:g} samples at "
-                         f"sample_rate_hz={sample_rate_hz!r} (expected a whole number of samples)")
+                         f"sample_rate_hz={format_value(sample_rate_hz)} (expected a whole number of samples)")
     env = np.zeros(n)
 
     def step(tau: np.ndarray) -> np.ndarray:
@@ -419,13 +420,13 @@ def rrc_taps(alpha: float, samples_per_symbol: int, span_symbols: int = 16) -> n
     """
     a = require_positive("alpha", alpha)
     if a > 1:
-        raise ValueError(f"alpha={alpha!r} is above 1 (expected a roll-off 0 < alpha <= 1)")
+        raise ValueError(f"alpha={format_value(alpha)} is above 1 (expected a roll-off 0 < alpha <= 1)")
     sps = int(samples_per_symbol)
     if sps != samples_per_symbol or sps < 2:
-        raise ValueError(f"samples_per_symbol={samples_per_symbol!r} is not an integer >= 2")
+        raise ValueError(f"samples_per_symbol={format_value(samples_per_symbol)} is not an integer >= 2")
     span = int(span_symbols)
     if span != span_symbols or span < 2 or span % 2:
-        raise ValueError(f"span_symbols={span_symbols!r} is not an even integer >= 2")
+        raise ValueError(f"span_symbols={format_value(span_symbols)} is not an even integer >= 2")
     t = np.arange(-span * sps // 2, span * sps // 2 + 1) / sps  # in symbol periods
     h = np.empty(t.size)
     at0 = np.isclose(t, 0.0, atol=1e-12)
@@ -441,11 +442,11 @@ def rrc_taps(alpha: float, samples_per_symbol: int, span_symbols: int = 16) -> n
 def random_symbols(count: int, order: int, rng: np.random.Generator) -> np.ndarray:
     """``count`` independent, equally likely symbols 0..order-1 from the seeded ``rng``."""
     if not isinstance(rng, np.random.Generator):
-        raise ValueError(f"rng={rng!r} is not a numpy.random.Generator (use numpy.random.default_rng(seed))")
+        raise ValueError(f"rng={format_value(rng)} is not a numpy.random.Generator (use numpy.random.default_rng(seed))")
     if int(count) != count or count < 1:
-        raise ValueError(f"count={count!r} is not an integer >= 1")
+        raise ValueError(f"count={format_value(count)} is not an integer >= 1")
     if int(order) != order or order < 2:
-        raise ValueError(f"order={order!r} is not an integer >= 2")
+        raise ValueError(f"order={format_value(order)} is not an integer >= 2")
     return rng.integers(0, int(order), size=int(count))
 
 
@@ -479,11 +480,11 @@ def shape_symbols(values, samples_per_symbol: int, *, pulse: str = "rrc", alpha:
         raise ValueError(f"values has shape {v.shape} (expected one value per symbol)")
     sps = int(samples_per_symbol)
     if sps != samples_per_symbol or sps < 2:
-        raise ValueError(f"samples_per_symbol={samples_per_symbol!r} is not an integer >= 2")
+        raise ValueError(f"samples_per_symbol={format_value(samples_per_symbol)} is not an integer >= 2")
     if pulse == "rect":
         return np.repeat(v, sps)
     if pulse != "rrc":
-        raise ValueError(f"pulse={pulse!r} is not 'rrc' or 'rect'")
+        raise ValueError(f"pulse={format_value(pulse)} is not 'rrc' or 'rect'")
     h = rrc_taps(alpha, sps, span_symbols)
     h = h * (sps / np.sum(h))
     n = v.size * sps

@@ -43,6 +43,8 @@ import numpy as np
 
 from ..core.estimate import WelchPlan, welch_stream
 from ..core.spectrum import Spectrum, stitch
+from ..core.units import dbm_to_w_fast
+from ..errors import format_value
 from .amplifier import Zones
 from .baseband import Baseband, apply_response, require_finite, require_positive
 from .filters import OutputFilter
@@ -213,9 +215,9 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
         raise ValueError("the zones hold no fundamental (zone 1)")
     p_want = require_positive("power_w", power_w)
     if power_kind not in ("mean", "pep"):
-        raise ValueError(f"power_kind={power_kind!r} is not 'mean' or 'pep'")
+        raise ValueError(f"power_kind={format_value(power_kind)} is not 'mean' or 'pep'")
     floor_dbm = require_finite("floor_dbm_per_hz", floor_dbm_per_hz)
-    floor = 10.0 ** ((floor_dbm - 30.0) / 10.0)
+    floor = dbm_to_w_fast(floor_dbm)
     fund = zones[1]
     if output_filter is not None:
         h = output_filter.response(fund.carrier_hz + fund.bin_frequencies_hz())
@@ -231,7 +233,7 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     stop = top if stop_hz is None else require_positive("stop_hz", stop_hz)
     start = require_positive("start_hz", start_hz)
     if not start < fund.carrier_hz - fund.sample_rate_hz / 2:
-        raise ValueError(f"start_hz={start_hz!r} is not below the fundamental zone "
+        raise ValueError(f"start_hz={format_value(start_hz)} is not below the fundamental zone "
                          f"({fund.carrier_hz - fund.sample_rate_hz / 2:g} Hz and up)")
     pieces = []
     zone_powers = {}
