@@ -238,8 +238,8 @@ def check(
     # regions
     regions, emissions = [], []
     limits = evaluate_mask(
-        mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom, authorized_bw_hz=auth, exclusion_hz=exclude_hz,
-        reference_w=measured_ref_w,
+        mask, power_w=power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom, authorized_bw_hz=auth,
+        window_half_hz=fw.half_hz, window_anchor=fw.spurious_anchor, reference_w=measured_ref_w,
     )
     for lim in limits:
         if lim.unevaluated:

@@ -135,10 +135,13 @@ def _station(args, mask) -> dict:
 
 
 def _evaluate(mask, st):
+    from ..checking.window import fundamental_window
     from ..masks import evaluate_mask
 
+    fw = fundamental_window(mask, st["carrier_hz"])  # no emission known here: the mask's default window
     return evaluate_mask(mask, power_w=st["power_w"], pep_w=st["pep_w"], carrier_hz=st["carrier_hz"],
-                         authorized_bw_hz=st["authorized_bw_hz"])
+                         authorized_bw_hz=st["authorized_bw_hz"], window_half_hz=fw.half_hz,
+                         window_anchor=fw.spurious_anchor)
 
 
 def evaluated_rows(mask, st) -> list[dict]:
