@@ -29,7 +29,7 @@ from dataclasses import dataclass
 
 from ..core.units import format_frequency
 from ..errors import MaskError
-from .schema import Value
+from .values import Value
 
 __all__ = ["Placement", "Missing", "NEEDS", "place_region", "evaluate_value", "missing_names"]
 

@@ -47,7 +47,8 @@ from ..errors import MaskError, StationError
 from .anchoring import NEEDS, Missing, evaluate_value, missing_names, place_region
 from .limit_forms import DIPOLE_GAIN_DBI, FIELD_RELATION_TEXT, FORMS, REFERENCE_WORDS, TermContext
 from .limits import RegionLimits, sample_points_hz
-from .schema import FREQUENCY_VARIABLES, Mask
+from .models import Mask
+from .values import FREQUENCY_VARIABLES
 from .station_values import (
     applies_to,
     applies_when,

@@ -124,8 +124,10 @@ class LimitForm:
     positive_unit : str or None
         Not None: the value must be > 0 (a linear unit); the unit the error
         message names after the 0 (``" W"``, or ``""``).
+    what : str
+        What the value is, in words (the JSON Schema's description of its type).
     description : str or None
-        The key's description in the JSON Schema (None: the value type's own).
+        The key's own description in the JSON Schema (None: only the type's).
     """
 
     key: str
@@ -138,6 +140,7 @@ class LimitForm:
     words: str
     fixed_words: str | None = None
     positive_unit: str | None = None
+    what: str = "absolute limit"
     description: str | None = None
 
     @property
@@ -177,6 +180,7 @@ LIMIT_FORMS: tuple[LimitForm, ...] = (
         "attenuation_db", "attenuation", "db", "dB", relative=True, since=1,
         convert=lambda v, c: c.reference_power_w * 10.0 ** (-v / 10.0),
         words="{text} dB below {reference}", fixed_words="{value} dB below {reference}",
+        what="attenuation below the reference power",
     ),
     LimitForm(
         "level_w", "level", "power_w", "W", relative=False, since=1,
@@ -196,18 +200,20 @@ LIMIT_FORMS: tuple[LimitForm, ...] = (
     LimitForm(
         "density_dbm_per_hz", "density", "dbm_per_hz", "dBm/Hz", relative=False, since=3,
         convert=lambda v, c: 10.0 ** ((v + c.erp_gain_db + 10.0 * np.log10(c.bandwidth_hz) - 30.0) / 10.0),
-        words="{text} {unit}",
+        words="{text} {unit}", what="power density limit",
         description="v3: power density limit, dBm/Hz (the limit in the reference bandwidth B is this + 10 log10(B/Hz))",
     ),
     LimitForm(
         "field_uv_per_m", "field", "uv_per_m", "µV/m", relative=False, since=3,
         convert=lambda v, c: _field_w(20.0 * np.log10(v), c),
-        words="{text} {unit}{at}", positive_unit="", description="v3: field strength limit, µV/m at distance_m",
+        words="{text} {unit}{at}", positive_unit="", what="field-strength limit",
+        description="v3: field strength limit, µV/m at distance_m",
     ),
     LimitForm(
         "field_dbuv_per_m", "field", "dbuv_per_m", "dBµV/m", relative=False, since=3,
         convert=_field_w,
-        words="{text} {unit}{at}", description="v3: field strength limit, dBµV/m at distance_m",
+        words="{text} {unit}{at}", what="field-strength limit",
+        description="v3: field strength limit, dBµV/m at distance_m",
     ),
 )
 

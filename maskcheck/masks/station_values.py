@@ -24,7 +24,7 @@ import numpy as np
 from ..core.units import format_frequency
 from ..errors import MaskError, StationError
 from .anchoring import evaluate_value
-from .schema import Mask
+from .models import Mask
 
 __all__ = [
     "check_station",
