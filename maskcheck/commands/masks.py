@@ -79,9 +79,9 @@ def run(args) -> int:
                 con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)
         return 2 if bad else 0
     if cmd == "schema":
-        from ..masks import mask_json_schema
+        from ..masks.schema import shipped_json_schema_text
 
-        print(json.dumps(mask_json_schema(), indent=2, ensure_ascii=False))
+        sys.stdout.write(shipped_json_schema_text())  # the versioned file the package ships
         return 0
     raise MaskcheckError(
         "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE' or 'masks schema'",
