@@ -42,6 +42,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 
+import numpy as np
+
 from ..core.units import format_frequency, format_power
 from ..errors import MaskError, StationError
 from .anchoring import NEEDS, Missing, evaluate_value, missing_names, place_region
@@ -169,10 +171,11 @@ def evaluate_mask(
 def _for_station(mask, power_w, pep_w, carrier_hz, window_half_hz, window_anchor, domains, authorized_bw_hz,
                  reference_w) -> _ForStation:
     check_station(power_w, pep_w, carrier_hz)
-    if isinstance(window_half_hz, bool) or not isinstance(window_half_hz, (int, float)) or not (
-        math.isfinite(window_half_hz) and window_half_hz >= 0
-    ):
-        raise StationError(f"window_half_hz={window_half_hz!r} must be a finite number >= 0 (the half-width of the "
+    if isinstance(window_half_hz, bool) or not isinstance(window_half_hz, (int, float, np.integer, np.floating)):
+        raise StationError(f"window_half_hz={window_half_hz!r} is not a number (the half-width of the fundamental "
+                           "window, Hz)", param="window_half_hz")
+    if not (math.isfinite(window_half_hz) and window_half_hz >= 0):
+        raise StationError(f"window_half_hz={float(window_half_hz):g} must be finite and >= 0 (the half-width of the "
                            "fundamental window, Hz)", param="window_half_hz")
     ref_w, _note = reference_power_w(mask, power_w=power_w, pep_w=pep_w)
     if reference_w is not None:
