@@ -125,8 +125,9 @@ def evaluate_mask(
     authorized_bw_hz : float, optional
         The authorised bandwidth, Hz (the ``authorized_bw_hz`` variable).
     reference_w : float, optional
-        The reference power, W, when the check measured it (0 dBsd); by
-        default :func:`reference_power_w`.
+        The reference power, W, as the check decided it (stated, PEP,
+        carrier, channel, or a measured 0 dBsd); by default
+        :func:`reference_power_w`.
 
     Returns
     -------
@@ -177,11 +178,12 @@ def _for_station(mask, power_w, pep_w, carrier_hz, window_half_hz, window_anchor
     if not (math.isfinite(window_half_hz) and window_half_hz >= 0):
         raise StationError(f"window_half_hz={float(window_half_hz):g} must be finite and >= 0 (the half-width of the "
                            "fundamental window, Hz)", param="window_half_hz")
-    ref_w, _note = reference_power_w(mask, power_w=power_w, pep_w=pep_w)
-    if reference_w is not None:
+    if reference_w is None:
+        ref_w, _note = reference_power_w(mask, power_w=power_w, pep_w=pep_w)
+    else:  # the check decided it once (maskcheck/checking/reference.py)
         if not (math.isfinite(reference_w) and reference_w > 0):
-            raise StationError(f"reference_w={float(reference_w):g} must be finite and > 0 (the measured reference "
-                               "power, W)", param="reference_w")
+            raise StationError(f"reference_w={float(reference_w):g} must be finite and > 0 (the reference power, W)",
+                               param="reference_w")
         ref_w = float(reference_w)
     variables = station_variables(
         power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz,

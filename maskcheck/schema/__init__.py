@@ -8,3 +8,5 @@ format (its ``$id`` names the version); read it with
 ``tests/test_mask_schema_file.py`` checks that the file equals what the models
 generate.
 """
+
+__all__: list[str] = []
