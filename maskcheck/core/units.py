@@ -372,4 +372,3 @@ def format_power(power_w: float) -> str:
         if p >= factor:
             return f"{p / factor:.4g} {unit} ({w_to_dbm(p):.1f} dBm)"
     return f"{p:.3g} W ({w_to_dbm(p):.1f} dBm)"
-
