@@ -58,7 +58,8 @@ from .core.station import Station
 from .core.units import format_frequency, w_to_dbm, w_to_dbm_fast
 from .core.verdict import FLOOR_CLEARANCE_DB
 from .errors import StationError
-from .masks.evaluate import evaluate_mask, fundamental_exclusion_hz
+from .checking.window import fundamental_window
+from .masks.evaluate import evaluate_mask
 
 __all__ = ["PlanRange", "PlanHarmonic", "MeasurementPlan", "search_range_2_1057", "plan_measurement", "REPORT_THRESHOLD_DB"]
 
@@ -213,25 +214,30 @@ def _pieces(start: float, stop: float, excluded) -> list[tuple[float, float]]:
 
 
 def _window(mask, station: Station, necessary_bw_hz, warnings):
+    """The emission's domains (or None) and the fundamental window (its rule has one owner: checking.window)."""
     fc = float(station.carrier_hz)
     nb = None
     if station.designator or necessary_bw_hz is not None:
         nb, w = resolve_necessary(station.designator, stated_hz=necessary_bw_hz)
         warnings.extend(w)
+    dom = None
     if nb is None:
         if station.designator:
             warnings.append(f"the designator {station.designator} has no bandwidth code: the mask's default fundamental window is used")
-        half, why = fundamental_exclusion_hz(mask, fc)
-        return None, half, f"mask default (+- {format_frequency(half)}){': ' + why if why else ''}"
-    spec = mask.domains
-    dom = _domains(
-        fc, nb.bandwidth_hz, rule=spec.boundary if spec is not None else "sm1539",
-        percent=spec.percent if spec is not None and spec.percent is not None else NORMAL_PERCENT,
-        of=spec.of if spec is not None and spec.of is not None else "necessary",
-    )
-    if not dom.boundary.verified:
-        warnings.append(f"domain boundary: decided by data not yet verified against the official text ({dom.boundary.text})")
-    return dom, dom.boundary.offset_hz, f"necessary band and out-of-band domain (+- {format_frequency(dom.boundary.offset_hz)}): {dom.boundary.text}"
+    else:
+        spec = mask.domains
+        dom = _domains(
+            fc, nb.bandwidth_hz, rule=spec.boundary if spec is not None else "sm1539",
+            percent=spec.percent if spec is not None and spec.percent is not None else NORMAL_PERCENT,
+            of=spec.of if spec is not None and spec.of is not None else "necessary",
+        )
+        if not dom.boundary.verified:
+            warnings.append(f"domain boundary: decided by data not yet verified against the official text ({dom.boundary.text})")
+    fw = fundamental_window(mask, fc, domains=dom)
+    if dom is None:
+        return dom, fw, fw.source
+    # the plan words the domain window without the rule's source (the check adds it)
+    return dom, fw, f"necessary band and out-of-band domain (+- {format_frequency(fw.half_hz)}): {dom.boundary.text}"
 
 
 def plan_measurement(
@@ -276,9 +282,10 @@ def plan_measurement(
     warnings: list[str] = []
     notes: list[str] = []
     fc = float(station.carrier_hz)
-    dom, half, window_source = _window(mask, station, necessary_bw_hz, warnings)
-    window = (fc - half, fc + half)
-    limits = evaluate_mask(mask, power_w=station.power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom)
+    dom, fw, window_source = _window(mask, station, necessary_bw_hz, warnings)
+    window = fw.edges_hz
+    limits = evaluate_mask(mask, power_w=station.power_w, pep_w=station.pep_w, carrier_hz=fc, domains=dom,
+                           window_half_hz=fw.half_hz, window_anchor=fw.spurious_anchor)
     ins = None if setup is None else setup.instrument
     radiated = setup is not None and setup.radiated
     quantity = "far-field EIRP from the field strength" if radiated else "power at the transmitter output"

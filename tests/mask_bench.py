@@ -9,17 +9,25 @@ from __future__ import annotations
 import numpy as np
 
 from maskcheck.checking import check
+from maskcheck.checking.window import fundamental_window
 from maskcheck.core.spectrum import Spectrum
 from maskcheck.core.station import Station
 from maskcheck.core.units import w_to_dbm
 from maskcheck.masks import evaluate_mask, load_mask
 
-__all__ = ["regions_at", "attenuation_db", "limit_dbm", "bench_trace", "run_check"]
+__all__ = ["evaluate_with_window", "regions_at", "attenuation_db", "limit_dbm", "bench_trace", "run_check"]
+
+
+def evaluate_with_window(mask, *, carrier_hz, domains=None, **station):
+    """``evaluate_mask`` with the fundamental window the check would decide (no ``exclude_hz``)."""
+    fw = fundamental_window(mask, carrier_hz, domains=domains)
+    return evaluate_mask(mask, carrier_hz=carrier_hz, domains=domains, window_half_hz=fw.half_hz,
+                         window_anchor=fw.spurious_anchor, **station)
 
 
 def _regions(mask_id, power_w, carrier_hz, pep_w=None, authorized_bw_hz=None, domains=None):
-    return evaluate_mask(load_mask(mask_id), power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz,
-                         authorized_bw_hz=authorized_bw_hz, domains=domains)
+    return evaluate_with_window(load_mask(mask_id), power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz,
+                                authorized_bw_hz=authorized_bw_hz, domains=domains)
 
 
 def regions_at(mask_id, freq_hz, **station):

@@ -66,9 +66,10 @@ from maskcheck.core.necessary import resolve_necessary
 from maskcheck.core.spectrum import Spectrum
 from maskcheck.core.station import Station
 from maskcheck.errors import MaskError
-from maskcheck.masks import evaluate_mask, load_mask
+from maskcheck.masks import load_mask
 from maskcheck.masks.schema import Mask
 from maskcheck.commands._options import error_line
+from mask_bench import evaluate_with_window
 
 FC = 7.1e6
 
@@ -151,7 +152,7 @@ def test_v2_regions_anchored_on_domains_and_offsets():
     nb, _ = resolve_necessary("2K70J3E")
     from maskcheck.core.domains import domains
 
-    lims = evaluate_mask(mask, power_w=50.0, pep_w=None, carrier_hz=FC, domains=domains(FC, 2700.0), authorized_bw_hz=2.7e3)
+    lims = evaluate_with_window(mask, power_w=50.0, pep_w=None, carrier_hz=FC, domains=domains(FC, 2700.0), authorized_bw_hz=2.7e3)
     oob, pct, obw = lims
     assert (oob.start_hz, oob.stop_hz) == pytest.approx((FC - 10e3, FC + 10e3))
     assert oob.excluded_hz[0] == pytest.approx((FC - 1350.0, FC + 1350.0))  # Closed form: +- Bn/2
@@ -160,7 +161,7 @@ def test_v2_regions_anchored_on_domains_and_offsets():
     assert pct.excluded_hz[0] == pytest.approx((FC - 1350.0, FC + 1350.0))
     assert obw.max_bandwidth_hz == 2700.0
     # without the bandwidths the regions are not evaluated -- never a pass
-    bare = evaluate_mask(mask, power_w=50.0, pep_w=None, carrier_hz=FC)
+    bare = evaluate_with_window(mask, power_w=50.0, pep_w=None, carrier_hz=FC)
     assert all(b.unevaluated for b in bare)
     r = check(_trace(FC + 20e3), mask, Station(carrier_hz=FC, power_w=50.0))
     assert r.verdict == "incomplete"

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from maskcheck.masks.evaluate import FIELD_CONSTANT_DB, field_to_eirp_dbm
+from maskcheck.core.corrections import FAR_FIELD_CONSTANT_DB, eirp_dbm_from_field
 from mask_bench import limit_dbm, regions_at, run_check
 
 FC = 433.92e6  # an invented carrier; the limits follow the emission's frequency
@@ -13,9 +13,23 @@ FC = 433.92e6  # an invented carrier; the limits follow the emission's frequency
 
 def test_far_field_constant():
     # Closed form: 20 log10(1e6 * sqrt(30 * 1e-3)) = 104.77 dB (fact sheet §7.2)
-    assert FIELD_CONSTANT_DB == pytest.approx(104.77, abs=0.005)
+    assert FAR_FIELD_CONSTANT_DB == pytest.approx(104.77, abs=0.005)
+    assert FAR_FIELD_CONSTANT_DB == pytest.approx(20 * np.log10(1e6 * np.sqrt(30 * 1e-3)), rel=1e-12)
     # Source: fact sheet §7.2 worked values at 3 m: 54 dBuV/m -> -41.2 dBm; 43.5 -> -51.7 dBm; 55 -> -40.2 dBm
-    np.testing.assert_allclose(field_to_eirp_dbm([54.0, 43.5, 55.0], 3.0), [-41.2, -51.7, -40.2], atol=0.05)
+    np.testing.assert_allclose(eirp_dbm_from_field([54.0, 43.5, 55.0], 3.0), [-41.2, -51.7, -40.2], atol=0.05)
+
+
+def test_far_field_constant_from_the_free_space_impedance():
+    # Reference library: scipy.constants (mu_0, c): Z0 = mu_0 c = 376.73 ohm, and E^2 / Z0 = P / (4 pi d^2).
+    # The rules round Z0 to 120 pi ohm (E = sqrt(30 P) / d); the exact impedance moves the constant by
+    # about 0.003 dB, below the 104.77 the rules print.
+    from scipy import constants
+
+    z0 = constants.mu_0 * constants.c
+    exact = 120.0 + 10 * np.log10(z0 / (4 * constants.pi) * 1e-3)
+    assert exact == pytest.approx(104.768, abs=5e-4)
+    assert abs(FAR_FIELD_CONSTANT_DB - exact) < 0.005
+    assert round(exact, 2) == round(FAR_FIELD_CONSTANT_DB, 2) == 104.77
 
 
 @pytest.mark.parametrize(

@@ -25,6 +25,7 @@ from maskcheck.masks import (
     validate_mask_file,
 )
 from maskcheck.masks.library import ENV_VAR
+from mask_bench import evaluate_with_window
 
 LIBRARY = Path(str(resources.files("maskcheck.mask_library")))
 SHIPPED = sorted(LIBRARY.glob("*.toml"))
@@ -56,7 +57,7 @@ def _no_user_mask_path(monkeypatch):
 
 def limit(mask_id, power_w, carrier_hz, pep_w=None, freq_hz=None):
     """The spurious limit (W) of a one-region mask at a frequency (default: 2nd harmonic)."""
-    (region,) = evaluate_mask(load_mask(mask_id), power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz)
+    (region,) = evaluate_with_window(load_mask(mask_id), power_w=power_w, pep_w=pep_w, carrier_hz=carrier_hz)
     f = 2 * carrier_hz if freq_hz is None else freq_hz
     return float(region.limit_w(f))
 
@@ -145,7 +146,7 @@ def test_rr_ap3_general_is_70_dbc_above_about_501_w(power_w):
 
 def test_a_spur_just_over_the_limit_has_negative_margin():
     # Negative control (Source: 47 CFR 97.307(d), 100 W -> +7.0 dBm): a +7.5 dBm spur fails, +6.5 passes.
-    (region,) = evaluate_mask(load_mask("us-amateur-hf-2003"), power_w=100.0, pep_w=None, carrier_hz=7.1e6)
+    (region,) = evaluate_with_window(load_mask("us-amateur-hf-2003"), power_w=100.0, pep_w=None, carrier_hz=7.1e6)
     limit_dbm = float(region.limit_dbm(14.2e6))
     assert limit_dbm - 7.5 < 0 < limit_dbm - 6.5
 
@@ -156,14 +157,14 @@ def test_a_spur_just_over_the_limit_has_negative_margin():
 @pytest.mark.parametrize("mask_id", ["us-amateur-hf-2003", "us-amateur-hf-pre-2003"])
 def test_fcc_search_range_is_9_khz_to_10th_harmonic(mask_id):
     # Source: 47 CFR 2.1057(a)(1): from 9 kHz (never below) to the 10th harmonic (< 10 GHz equipment).
-    (region,) = evaluate_mask(load_mask(mask_id), power_w=100.0, pep_w=None, carrier_hz=14.2e6)
+    (region,) = evaluate_with_window(load_mask(mask_id), power_w=100.0, pep_w=None, carrier_hz=14.2e6)
     assert (region.start_hz, region.stop_hz) == (9e3, 142e6)
 
 
 def test_fcc_search_range_is_capped_at_40_ghz():
     # Source: 47 CFR 2.1057(a)(1): 10th harmonic or 40 GHz, whichever is lower. The carrier is
     # outside this mask's range on purpose, to reach the cap.
-    (region,) = evaluate_mask(load_mask("us-amateur-vhf-30-225mhz"), power_w=1.0, pep_w=None, carrier_hz=5e9)
+    (region,) = evaluate_with_window(load_mask("us-amateur-vhf-30-225mhz"), power_w=1.0, pep_w=None, carrier_hz=5e9)
     assert region.stop_hz == 40e9
 
 
@@ -179,7 +180,7 @@ def test_fcc_search_range_is_capped_at_40_ghz():
     ],
 )
 def test_itu_search_range_follows_sm329_table_1(carrier_hz, start_hz, stop_hz):
-    (region,) = evaluate_mask(load_mask("itu-rr-ap3-general"), power_w=10.0, pep_w=None, carrier_hz=carrier_hz)
+    (region,) = evaluate_with_window(load_mask("itu-rr-ap3-general"), power_w=10.0, pep_w=None, carrier_hz=carrier_hz)
     assert (region.start_hz, region.stop_hz) == pytest.approx((start_hz, stop_hz))
 
 
@@ -187,7 +188,7 @@ def test_itu_search_range_follows_sm329_table_1(carrier_hz, start_hz, stop_hz):
 def test_reference_bandwidths_are_the_appendix_3_ones(mask_id):
     mask = load_mask(mask_id)
     carrier = mask.applies.fundamental[0].constant() * 1.5
-    (region,) = evaluate_mask(mask, power_w=10.0, pep_w=None, carrier_hz=carrier)
+    (region,) = evaluate_with_window(mask, power_w=10.0, pep_w=None, carrier_hz=carrier)
     freq = np.array([9e3, 100e3, 150e3, 1e6, 29.9e6, 30e6, 500e6, 1e9, 2e9])
     # Source: RR Appendix 3 / ITU-R SM.329 §4.1 reference bandwidths (fact sheet §5.1, CONFIRMED):
     # 1 kHz 9-150 kHz, 10 kHz 150 kHz-30 MHz, 100 kHz 30 MHz-1 GHz, 1 MHz above. A band edge
@@ -199,7 +200,7 @@ def test_reference_bandwidths_are_the_appendix_3_ones(mask_id):
 
 
 def test_limit_is_nan_outside_the_region_and_scope_skips_the_carrier():
-    (region,) = evaluate_mask(load_mask("us-amateur-hf-2003"), power_w=100.0, pep_w=None, carrier_hz=7.1e6)
+    (region,) = evaluate_with_window(load_mask("us-amateur-hf-2003"), power_w=100.0, pep_w=None, carrier_hz=7.1e6)
     got = region.limit_w(np.array([5e3, 9e3, 7.1e6, 71e6, 72e6]))
     assert np.isnan(got[0]) and np.isnan(got[4])
     # Source: 47 CFR 97.307(d): 100 W - 43 dB = 5.01 mW inside the range.
@@ -259,7 +260,7 @@ def test_stand_in_mean_power_is_conservative():
 )
 def test_bad_station_values_are_station_errors(kwargs, match):
     with pytest.raises(StationError, match=match):
-        evaluate_mask(load_mask("us-amateur-hf-2003"), **kwargs)
+        evaluate_mask(load_mask("us-amateur-hf-2003"), window_half_hz=10e3, window_anchor="test window", **kwargs)
 
 
 def test_applies_to():
@@ -272,7 +273,7 @@ def test_applies_to():
 
 
 def test_limit_text_carries_the_number():
-    (region,) = evaluate_mask(load_mask("us-amateur-hf-2003"), power_w=100.0, pep_w=None, carrier_hz=7.1e6)
+    (region,) = evaluate_with_window(load_mask("us-amateur-hf-2003"), power_w=100.0, pep_w=None, carrier_hz=7.1e6)
     # Source: 47 CFR 97.307(d), 100 W -> +7.0 dBm.
     assert "43 dB below" in region.limit_text and "7.0 dBm" in region.limit_text
 
@@ -314,7 +315,7 @@ def test_every_shipped_mask_evaluates_across_its_carrier_range(path):
     lo, hi = (v.constant() for v in mask.applies.fundamental)
     for carrier in np.geomspace(lo, hi, 7):
         for power in (0.01, 1.0, 100.0, 1500.0):
-            regions = evaluate_mask(mask, power_w=power, pep_w=None, carrier_hz=float(carrier), authorized_bw_hz=12.5e3)
+            regions = evaluate_with_window(mask, power_w=power, pep_w=None, carrier_hz=float(carrier), authorized_bw_hz=12.5e3)
             assert regions
             for region in regions:
                 assert not region.unevaluated, region.unevaluated
@@ -529,11 +530,11 @@ def test_expression_that_fails_for_a_station_names_file_and_key(tmp_path):
     path.write_text(GOOD.replace('attenuation_db = "43"', 'attenuation_db = "10 * log10(power_w - 5)"'), encoding="utf-8")
     mask = validate_mask_file(path)
     with pytest.raises(MaskError) as info:
-        evaluate_mask(mask, power_w=2.0, pep_w=None, carrier_hz=7e6)
+        evaluate_with_window(mask, power_w=2.0, pep_w=None, carrier_hz=7e6)
     assert str(info.value).startswith(f"{path}: regions[0].limit.attenuation_db: ")
     assert "found -3 with power_w=2" in str(info.value)
     # Closed form: 10 log10(100 - 5) = 19.78 dB is fine at 100 W.
-    (region,) = evaluate_mask(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
+    (region,) = evaluate_with_window(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
     assert region.attenuation_db == pytest.approx(10 * np.log10(95))
 
 
@@ -549,10 +550,10 @@ def test_both_attenuation_and_level_must_hold(tmp_path):
     path.write_text(GOOD.replace('attenuation_db = "43"', 'attenuation_db = "40"\nlevel_dbm = "-13 dBm"'), encoding="utf-8")
     mask = validate_mask_file(path)
     # Closed form: 100 W - 40 dB = 10 mW (+10 dBm) vs -13 dBm: the stricter, -13 dBm, applies.
-    (region,) = evaluate_mask(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
+    (region,) = evaluate_with_window(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
     assert w_to_dbm(region.constant_limit_w) == pytest.approx(-13.0)
     # Closed form: 0.001 W - 40 dB = 0.1 µW (-40 dBm) is now the stricter.
-    (region,) = evaluate_mask(mask, power_w=0.001, pep_w=None, carrier_hz=7e6)
+    (region,) = evaluate_with_window(mask, power_w=0.001, pep_w=None, carrier_hz=7e6)
     assert w_to_dbm(region.constant_limit_w) == pytest.approx(-40.0)
 
 
@@ -637,7 +638,7 @@ def test_the_example_in_the_format_guide_loads(tmp_path):
     path.write_text(blocks[0], encoding="utf-8")
     mask = validate_mask_file(path)
     # Closed form: 100 W - 50 dB = 1 mW (0 dBm) vs -20 dBm: both must hold, so -20 dBm.
-    (region,) = evaluate_mask(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
+    (region,) = evaluate_with_window(mask, power_w=100.0, pep_w=None, carrier_hz=7e6)
     assert w_to_dbm(region.constant_limit_w) == pytest.approx(-20.0)
 
 

@@ -11,10 +11,11 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from maskcheck.errors import MaskError
-from maskcheck.masks import evaluate_mask, validate_mask_file
+from maskcheck.masks import validate_mask_file
 from maskcheck.masks.evaluate import applies_when, station_variables
 from maskcheck.masks.expr import compile_condition, compile_expression
 from maskcheck.masks.schema import LIMIT_VARIABLES, VARIABLES
+from mask_bench import evaluate_with_window
 
 HEAD = """\
 schema_version = 3
@@ -70,7 +71,7 @@ reference_bandwidth = [{ bandwidth = "100 Hz" }]
 
 def test_interval_conventions_decide_who_owns_a_boundary(tmp_path):
     mask = validate_mask_file(write(tmp_path, STEP))
-    inner, outer = evaluate_mask(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
+    inner, outer = evaluate_with_window(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
     f = 100e6 + np.array([0.0, 5e3, 5e3 + 0.01, 10e3 - 0.01, 10e3])
     # Closed form: inner holds 0..5 kHz inclusive, outer more than 5 kHz and below 10 kHz (include_to = false)
     assert inner.in_scope(f).tolist() == [True, True, False, False, False]
@@ -93,11 +94,11 @@ def test_edge_origin_measures_fd_from_the_authorised_edge(tmp_path):
     reference_bandwidth = [{ bandwidth = "1 kHz" }]
     """
     mask = validate_mask_file(write(tmp_path, regions))
-    (r,) = evaluate_mask(mask, power_w=1.0, pep_w=None, carrier_hz=100e6, authorized_bw_hz=20e3)
+    (r,) = evaluate_with_window(mask, power_w=1.0, pep_w=None, carrier_hz=100e6, authorized_bw_hz=20e3)
     # Closed form: the edge is at 10 kHz; 15 kHz from the carrier is fd = 5 kHz -> 25 dB; the block is not judged
     assert 10 * np.log10(1.0 / r.limit_w([100e6 + 15e3])[0]) == pytest.approx(25.0)
     assert not r.in_scope([100e6 + 9e3])[0]
-    (u,) = evaluate_mask(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
+    (u,) = evaluate_with_window(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
     assert u.unevaluated.startswith("needs the authorised bandwidth")
 
 
@@ -123,7 +124,7 @@ def test_field_strength_density_and_erp_limits(tmp_path):
     reference_bandwidth = [{ bandwidth = "1 MHz" }]
     """
     mask = validate_mask_file(write(tmp_path, regions, kind="none"))
-    field, density = evaluate_mask(mask, power_w=1.0, pep_w=None, carrier_hz=433e6)
+    field, density = evaluate_with_window(mask, power_w=1.0, pep_w=None, carrier_hz=433e6)
     # Source: fact sheet §8.9: 40 dBuV/m at 3 m = -55.2 dBm EIRP
     assert 10 * np.log10(field.limit_w([60e6])[0]) + 30 == pytest.approx(-55.2, abs=0.05)
     # Closed form: -80 dBm/Hz + 10 log10(1 MHz) = -20 dBm ERP = -17.85 dBm EIRP (ERP + 2.15 dB)
@@ -143,7 +144,7 @@ def test_least_stringent_combination(tmp_path):
     reference_bandwidth = [{ bandwidth = "100 kHz" }]
     """
     mask = validate_mask_file(write(tmp_path, regions))
-    (r,) = evaluate_mask(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
+    (r,) = evaluate_with_window(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
     # Closed form: max(1 W - 60 dB = 1 uW, 10 uW) = 10 uW
     assert r.limit_w([200e6])[0] == pytest.approx(10e-6)
 
@@ -284,7 +285,7 @@ def test_the_v3_step_example_in_the_format_guide_loads(tmp_path):
     guide = (Path(__file__).resolve().parents[1] / "docs" / "mask-format.md").read_text(encoding="utf-8")
     block = next(b for b in guide.split("```toml")[1:] if "fd up to 5.625 kHz" in b).split("```")[0]
     mask = validate_mask_file(write(tmp_path, block))
-    inner, outer = evaluate_mask(mask, power_w=5.0, pep_w=None, carrier_hz=150e6)
+    inner, outer = evaluate_with_window(mask, power_w=5.0, pep_w=None, carrier_hz=150e6)
     # Source: fact sheet §8.5 (90.210(d), from memory): 0 dB at 5.625 kHz, 19.96 dB just beyond
     assert inner.in_scope([150e6 + 5625.0])[0] and not outer.in_scope([150e6 + 5625.0])[0]
     assert 10 * np.log10(5.0 / outer.limit_w([150e6 + 5625.01])[0]) == pytest.approx(19.96, abs=0.01)

@@ -129,7 +129,8 @@ def check(
     applicable, applies_warnings = _applicability(mask, station, reference, facts)
     limits = evaluate_mask(
         mask, power_w=reference.mean_power_w, pep_w=station.pep_w, carrier_hz=station.carrier_hz, domains=facts.domains,
-        authorized_bw_hz=facts.authorized_bw_hz, exclusion_hz=exclude_hz, reference_w=reference.reference_w,
+        authorized_bw_hz=facts.authorized_bw_hz, window_half_hz=window.half_hz, window_anchor=window.spurious_anchor,
+        reference_w=reference.reference_w,
     )
     _, corrections = spectrum_records(spectrum)
     judged = judge_regions(spectrum, mask, limits, carrier_hz=station.carrier_hz, readings=readings, reference=reference,

@@ -112,6 +112,7 @@ NO_OPTION = frozenset({
     "code",  # parse_bandwidth_code: a code inside a designator
     "mode",  # xdb_bandwidth: --inner is a flag of its own
     "reference_w",  # the reference power a mask's relative limits are below: computed by the check
+    "window_half_hz",  # the fundamental window the check decided (--exclude sets exclude_hz)
 })
 
 # Names replaced wherever they stand as a word: those with an underscore (they

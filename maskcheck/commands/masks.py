@@ -81,9 +81,9 @@ def run(args) -> int:
                 con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)
         return 2 if bad else 0
     if cmd == "schema":
-        from ..masks import mask_json_schema
+        from ..masks.schema import shipped_json_schema_text
 
-        print(json.dumps(mask_json_schema(), indent=2, ensure_ascii=False))
+        sys.stdout.write(shipped_json_schema_text())  # the versioned file the package ships
         return 0
     raise MaskcheckError(
         "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE' or 'masks schema'",
@@ -137,10 +137,13 @@ def _station(args, mask) -> dict:
 
 
 def _evaluate(mask, st):
+    from ..checking.window import fundamental_window
     from ..masks import evaluate_mask
 
+    fw = fundamental_window(mask, st["carrier_hz"])  # no emission known here: the mask's default window
     return evaluate_mask(mask, power_w=st["power_w"], pep_w=st["pep_w"], carrier_hz=st["carrier_hz"],
-                         authorized_bw_hz=st["authorized_bw_hz"])
+                         authorized_bw_hz=st["authorized_bw_hz"], window_half_hz=fw.half_hz,
+                         window_anchor=fw.spurious_anchor)
 
 
 def evaluated_rows(mask, st) -> list[dict]:

@@ -61,6 +61,7 @@ from .units import dbm_to_dbuv, dbm_to_w_fast, format_frequency
 __all__ = [
     "Correction",
     "FAR_FIELD_CONSTANT_DB",
+    "FREE_SPACE_IMPEDANCE_OHM",
     "INTERPOLATION_TEXT",
     "interpolate_log_db",
     "correction_db",
@@ -69,9 +70,19 @@ __all__ = [
     "apply_corrections",
 ]
 
-#: E(dBuV/m) - EIRP(dBm) at 1 m from an isotropic radiator in the far field:
-#: 20 log10(1e6 * sqrt(30 * 1e-3)) = 104.77 dB (E = sqrt(30 P) / d).
-FAR_FIELD_CONSTANT_DB = 120.0 + 10.0 * math.log10(30.0e-3)
+#: Free-space wave impedance as the rules round it, ohm: Z0 = 120 pi (the exact
+#: mu_0 * c = 376.730 ohm of scipy.constants gives a constant 0.003 dB lower,
+#: below the two decimals every rule prints; the rounded value is the one the
+#: published 104.77 dB comes from, so it is kept).
+FREE_SPACE_IMPEDANCE_OHM = 120.0 * math.pi
+
+#: E(dBuV/m) - EIRP(dBm) at 1 m from an isotropic radiator in the far field.
+#: The power density P / (4 pi d^2) equals E^2 / Z0, so E = sqrt(Z0 P / (4 pi)) / d
+#: = sqrt(30 P) / d (V/m, W, m); in decibels, with 1 V = 1e6 uV (+120 dB) and
+#: 1 mW = 1e-3 W: E(dBuV/m) = EIRP(dBm) + 120 + 10 log10(30 * 1e-3) - 20 log10(d / 1 m),
+#: so the constant is 104.77 dB.  The one constant of the project: the mask
+#: limits (field strength at a distance) and the radiated corrections both use it.
+FAR_FIELD_CONSTANT_DB = 120.0 + 10.0 * math.log10(FREE_SPACE_IMPEDANCE_OHM / (4.0 * math.pi) * 1e-3)
 
 #: How tables are interpolated, as written into every record.
 INTERPOLATION_TEXT = "linear in dB over log10(frequency) between table rows; never extrapolated beyond a table"

@@ -31,6 +31,12 @@ __all__ = [
     "parse_db",
     "parse_duration",
     "parse_quantity",
+    "IN_UNIT_SPELLINGS",
+    "parse_in_unit",
+    "parse_level_dbw",
+    "parse_density_dbm_per_hz",
+    "parse_field_uv_per_m",
+    "parse_field_dbuv_per_m",
     "power_to_db",
     "db_to_power",
     "amplitude_to_db",
@@ -190,6 +196,96 @@ def parse_db(text, *, what: str | None = None) -> float:
 def parse_duration(text, *, what: str | None = None, default_unit: str | None = None) -> float:
     """Parse a duration (``"2 s"``, ``"50 ms"``, ``"750 us"``) into seconds."""
     return parse_quantity(text, "time", what=what, default_unit=default_unit)
+
+
+# -- quantities kept in their own unit (the levels of mask-file limits) ------------------
+# A limit written "-43 dBW" or "54 dBuV/m" is a number in that unit, and the mask keeps it
+# there: converting it to W and back would not give the same float.  parse_power turns dBW
+# into W for the power a person states; these parsers return the number unchanged.
+
+#: unit -> the spellings accepted after the number (µ as micro sign, Greek mu or "u")
+IN_UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
+    "dBW": ("dBW",),
+    "dBm/Hz": ("dBm/Hz",),
+    "µV/m": ("µV/m", "μV/m", "uV/m"),
+    "dBµV/m": ("dBµV/m", "dBμV/m", "dBuV/m"),
+}
+
+_IN_UNIT_EXPECTED = {
+    "dBW": "a level such as '-43 dBW'",
+    "dBm/Hz": "a power density such as '-80 dBm/Hz'",
+    "µV/m": "a field strength such as '500 uV/m'",
+    "dBµV/m": "a field strength such as '54 dBuV/m'",
+}
+
+_IN_UNIT = {
+    unit: re.compile(r"^\s*([+-]?[\d.]+(?:[eE][+-]?\d+)?)\s*(?:" + "|".join(re.escape(s) for s in spellings) + r")\s*$")
+    for unit, spellings in IN_UNIT_SPELLINGS.items()
+}
+
+
+def parse_in_unit(text, unit: str, *, what: str | None = None) -> float:
+    """Parse ``text`` as a number followed by ``unit``; return the number, still in that unit.
+
+    Parameters
+    ----------
+    text : str
+        E.g. ``"-43 dBW"``, ``"-80 dBm/Hz"``, ``"500 uV/m"``, ``"54 dBµV/m"``.
+    unit : {"dBW", "dBm/Hz", "µV/m", "dBµV/m"}
+        The unit expected (see :data:`IN_UNIT_SPELLINGS` for the spellings).
+    what : str, optional
+        Name of the key or parameter, used in the error message.
+
+    Returns
+    -------
+    float
+        The number as written (finite).
+
+    Raises
+    ------
+    UnitError
+        If the text is not a finite number followed by one spelling of ``unit``.
+
+    Examples
+    --------
+    >>> parse_in_unit("-43 dBW", "dBW")
+    -43.0
+    >>> parse_in_unit("500 µV/m", "µV/m")
+    500.0
+    """
+    if unit not in _IN_UNIT:
+        raise ValueError(f"{unit=} is not one of {sorted(_IN_UNIT)}")
+    label = f"{what}: " if what else ""
+    m = _IN_UNIT[unit].match(text) if isinstance(text, str) else None
+    if not m:
+        raise UnitError(f"{label}{text!r} is not {_IN_UNIT_EXPECTED[unit]}")
+    try:
+        value = float(m.group(1))
+    except ValueError:
+        raise UnitError(f"{label}{text!r} is not {_IN_UNIT_EXPECTED[unit]}: {m.group(1)!r} is not a number") from None
+    if not math.isfinite(value):
+        raise UnitError(f"{label}{text!r} is not finite; expected {_IN_UNIT_EXPECTED[unit]}")
+    return value
+
+
+def parse_level_dbw(text, *, what: str | None = None) -> float:
+    """A level in dBW (``"-43 dBW"``), kept in dBW; see :func:`parse_in_unit`."""
+    return parse_in_unit(text, "dBW", what=what)
+
+
+def parse_density_dbm_per_hz(text, *, what: str | None = None) -> float:
+    """A power density in dBm/Hz (``"-80 dBm/Hz"``), kept in dBm/Hz."""
+    return parse_in_unit(text, "dBm/Hz", what=what)
+
+
+def parse_field_uv_per_m(text, *, what: str | None = None) -> float:
+    """A field strength in µV/m (``"500 uV/m"``), kept in µV/m."""
+    return parse_in_unit(text, "µV/m", what=what)
+
+
+def parse_field_dbuv_per_m(text, *, what: str | None = None) -> float:
+    """A field strength in dBµV/m (``"54 dBuV/m"``), kept in dBµV/m."""
+    return parse_in_unit(text, "dBµV/m", what=what)
 
 
 def _check_positive(x, name: str):

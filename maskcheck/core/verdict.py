@@ -65,6 +65,13 @@ MAX_LISTED_EMISSIONS = 100
 
 
 class RegionLimitsLike(Protocol):
+    """What :func:`judge_region` reads of a region's limits (``maskcheck.masks.limits.RegionLimits`` has it all).
+
+    ``in_scope`` says where the region applies (each boundary's interval
+    convention, the spans it skips); ``excluded_hz`` are the spans it skips
+    itself, told apart from those a caller adds.
+    """
+
     name: str
     kind: str
     start_hz: float
@@ -72,10 +79,13 @@ class RegionLimitsLike(Protocol):
     detector: str
     bands: tuple
     limit_text: str
+    excluded_hz: tuple
 
     def reference_bandwidth_hz(self, freq_hz: np.ndarray) -> np.ndarray: ...
 
     def limit_w(self, freq_hz: np.ndarray) -> np.ndarray: ...
+
+    def in_scope(self, freq_hz: np.ndarray) -> np.ndarray: ...
 
 
 # frequencies for people: the one formatter (this module carried a copy of it)

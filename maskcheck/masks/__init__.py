@@ -23,13 +23,9 @@ check's job.
 """
 
 from .._version import MASK_SCHEMA_VERSION
-from .evaluate import (
-    RegionLimits,
-    applies_to,
-    evaluate_mask,
-    fundamental_exclusion_hz,
-    reference_power_w,
-)
+from .evaluate import evaluate_mask
+from .limits import RegionLimits
+from .station_values import applies_to, fundamental_exclusion_hz, reference_power_w
 from .expr import Expression, compile_expression
 from .library import list_masks, load_mask, validate_mask_file
 from .schema import Mask, mask_json_schema

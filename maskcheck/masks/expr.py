@@ -36,6 +36,11 @@ overflow -- raises an error naming the expression and the variable values.
 Values in a branch of a conditional that is not taken are not checked, so
 ``"0 if power_w <= 0 else log10(power_w)"`` is safe.
 
+The module stays one file of about 640 lines because it is one idea: the
+whitelist, the compiler that checks a tree against it node by node, and the
+compiled :class:`Expression` share the construct table and the error wording;
+split, each half would need the other's private tables.
+
 References
 ----------
 .. [1] Python Language Reference, "Expressions" (the grammar re-used here) and

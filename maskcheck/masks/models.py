@@ -1,0 +1,292 @@
+"""The pydantic models of a mask file (``schema_version`` 1 to 3): the file and its top-level tables.
+
+Every table forbids unknown keys, so a misspelt key is an error, not a
+silently ignored line.  The values inside are :class:`~maskcheck.masks.values.Value`
+objects; the tables of a region are in :mod:`maskcheck.masks.regions`, and
+which version introduced which key is :mod:`maskcheck.masks.versions`.  The
+format in prose is ``docs/mask-format.md``; :mod:`maskcheck.masks.schema` is
+the public entry.
+
+References
+----------
+.. [1] TOML v1.0.0 specification (tables, arrays of tables).
+.. [2] pydantic v2 documentation, "Models", "Validators" and "JSON Schema".
+"""
+
+from __future__ import annotations
+
+import re
+import typing
+from typing import Literal
+
+import numpy as np
+from pydantic import BaseModel, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
+
+from .._version import MASK_SCHEMA_VERSION
+from ..core.result import MaskInfo
+from ..core.units import format_frequency
+from ._table import Table, problem
+from .regions import DETECTORS, DOMAIN_ANCHORS, OFFSET_ORIGINS, REGION_KINDS, Limit, Offset, ReferenceBand, Region
+from .values import Condition, FixedFrequency, Frequency, Text
+from .versions import unknown_keys_message
+
+__all__ = [
+    "REGION_KINDS",
+    "DOMAIN_ANCHORS",
+    "DETECTORS",
+    "REFERENCE_POWER_KINDS",
+    "OFFSET_ORIGINS",
+    "Provenance",
+    "Applies",
+    "ReferencePowerSpec",
+    "Fundamental",
+    "DomainsSpec",
+    "Offset",
+    "ReferenceBand",
+    "Limit",
+    "Region",
+    "Mask",
+    "keys_at",
+]
+
+#: What relative limits are taken below (v3 adds carrier, channel, dbsd, none).
+REFERENCE_POWER_KINDS: tuple[str, ...] = ("mean", "pep", "carrier", "channel", "dbsd", "none")
+
+_ID_PATTERN = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
+# First three classification symbols of an emission designator (RR Appendix 1 / 47 CFR 2.201).
+_EMISSION_CLASS = re.compile(r"^[NAHRJBCFGDPKLMQVWX][0123789X][NABCDEFWX]$")
+
+
+class Provenance(Table):
+    """Where the rule comes from and whether its values were checked."""
+
+    authority: Text = Field(description="who makes the rule, e.g. 'FCC', 'ITU'")
+    citation: Text = Field(description="the clause, e.g. '47 CFR 97.307(d)'")
+    edition: Text = Field(description="which text was read (and when), or 'not checked'")
+    verified: StrictBool = Field(description="true only when checked against the official text")
+    measurement_note: str = Field("", description="short note on how to measure")
+
+
+class Applies(Table):
+    """Which transmissions the mask is for."""
+
+    fundamental: tuple[FixedFrequency, FixedFrequency] = Field(
+        description="carrier range [low, high], inclusive"
+    )
+    emission_classes: tuple[str, ...] = Field(
+        (), description="first three classification symbols, e.g. 'J3E'; empty = any"
+    )
+    when: Condition | None = Field(
+        None, description="v3: a condition on the station that must hold, e.g. 'power_w <= 10' (a power class)"
+    )
+    variant: str = Field(
+        "", description="v3: which variant of the rule this file is, in words (e.g. an installation date)"
+    )
+
+    @field_validator("fundamental")
+    @classmethod
+    def _ordered(cls, value):
+        lo, hi = value[0].constant(), value[1].constant()
+        if not (0 < lo < hi):
+            raise problem(
+                f"the carrier range {format_frequency(lo)} – {format_frequency(hi)} must have "
+                "0 < low < high"
+            )
+        return value
+
+    @field_validator("emission_classes")
+    @classmethod
+    def _classes(cls, value):
+        for i, item in enumerate(value):
+            if not _EMISSION_CLASS.match(item):
+                raise problem(
+                    f"[{i}] {item!r} is not an emission class; expected the three classification "
+                    "symbols of an emission designator, e.g. 'J3E', 'F3E', 'A1A'"
+                )
+        return value
+
+
+class ReferencePowerSpec(Table):
+    """The power relative limits are taken below."""
+
+    kind: Literal["mean", "pep", "carrier", "channel", "dbsd", "none"] = Field(
+        description="'mean', 'pep' (peak envelope power), v3: 'carrier' (unmodulated carrier), "
+        "'channel' (total power in the channel bandwidth), 'dbsd' (highest power in any reference "
+        "bandwidth inside the necessary band), 'none' (absolute limits only)"
+    )
+    bandwidth: Frequency | None = Field(None, description="for 'dbsd': the bandwidth of the 0 dBsd reference, e.g. '4 kHz'")
+    note: str = Field("", description="v3: how the rule words its reference, for reports")
+
+    @model_validator(mode="after")
+    def _check(self):
+        if self.kind == "dbsd":
+            if self.bandwidth is None:
+                raise problem("kind = 'dbsd' needs bandwidth (the reference bandwidth of 0 dBsd, e.g. '4 kHz')")
+            if self.bandwidth.is_constant and not self.bandwidth.constant() > 0:
+                raise problem(f"bandwidth must be > 0 Hz, found {self.bandwidth.text!r}")
+        elif self.bandwidth is not None:
+            raise problem(f"bandwidth belongs to kind = 'dbsd', not to kind = {self.kind!r}")
+        return self
+
+
+class Fundamental(Table):
+    """How the checker treats the carrier itself."""
+
+    exclusion: Frequency = Field(
+        description="half-width around the carrier that spurious-region checks skip"
+    )
+    rationale: Text = Field(description="why this width")
+
+
+class DomainsSpec(Table):
+    """Which out-of-band / spurious boundary rule the mask follows (v2)."""
+
+    boundary: Literal["sm1539", "percent"] = Field(
+        description="'sm1539' (ITU-R SM.1539: 250 % of Bn with its narrow/wide cases) or 'percent'"
+    )
+    percent: float | None = Field(None, description="for 'percent': the boundary's distance from the carrier, % of the bandwidth")
+    of: Literal["necessary", "authorized"] | None = Field(None, description="for 'percent': which bandwidth")
+
+    @model_validator(mode="after")
+    def _check(self):
+        if self.boundary == "percent":
+            if self.percent is None or self.of is None:
+                raise problem("boundary = 'percent' needs percent (e.g. 250) and of ('necessary' or 'authorized')")
+            if not (np.isfinite(self.percent) and self.percent > 0):
+                raise problem(f"percent must be a number > 0, found {self.percent!r}")
+        elif self.percent is not None or self.of is not None:
+            raise problem("percent and of belong to boundary = 'percent'; SM.1539 fixes its own boundary")
+        return self
+
+
+class Mask(Table):
+    """One validated mask file (schema v1 to v3).
+
+    Load it with :func:`maskcheck.masks.load_mask`; the loader records the
+    file's path and SHA-256 (:attr:`path`, :attr:`sha256`).
+    """
+
+    schema_version: StrictInt = Field(description=f"format version; this release reads 1..{MASK_SCHEMA_VERSION}")
+    id: str = Field(description="our own id: lowercase letters, digits and '-'")
+    title: Text
+    service: Text
+    provenance: Provenance
+    applies: Applies
+    reference_power: ReferencePowerSpec
+    fundamental: Fundamental
+    domains: DomainsSpec | None = Field(None, description="v2: the out-of-band / spurious boundary rule (default: SM.1539)")
+    regions: tuple[Region, ...] = Field(min_length=1)
+
+    _path: str = PrivateAttr("")
+    _sha256: str = PrivateAttr("")
+
+    @field_validator("schema_version")
+    @classmethod
+    def _version(cls, value):
+        if value < 1:
+            raise problem(f"schema_version must be >= 1, found {value}")
+        if value > MASK_SCHEMA_VERSION:
+            raise problem(
+                f"schema_version {value} is newer than this maskcheck reads "
+                f"(up to {MASK_SCHEMA_VERSION}); upgrade maskcheck"
+            )
+        return value
+
+    @field_validator("id")
+    @classmethod
+    def _id(cls, value):
+        if not _ID_PATTERN.match(value) or len(value) > 80:
+            raise problem(
+                f"{value!r} is not a mask id; expected lowercase letters, digits and single '-' "
+                "(at most 80 characters), e.g. 'us-amateur-hf-2003'"
+            )
+        return value
+
+    @model_validator(mode="after")
+    def _versions(self):
+        if self.reference_power.kind == "none":
+            for i, r in enumerate(self.regions):
+                if r.limit.attenuation_db is not None:
+                    raise problem(
+                        f"regions[{i}].limit.attenuation_db: reference_power.kind = 'none' has no reference to "
+                        "attenuate below; give an absolute limit, or name the reference power"
+                    )
+        message = unknown_keys_message(self)
+        if message:
+            raise problem(message)
+        return self
+
+    @field_validator("regions")
+    @classmethod
+    def _unique_names(cls, regions):
+        seen: dict[str, int] = {}
+        for i, region in enumerate(regions):
+            if region.name in seen:
+                raise problem(f"[{i}] repeats the region name {region.name!r} of [{seen[region.name]}]")
+            seen[region.name] = i
+        return regions
+
+    @property
+    def path(self) -> str:
+        """The file the mask was read from ('' if built in memory)."""
+        return self._path
+
+    @property
+    def source_path(self) -> str:
+        """Same as :attr:`path` (the name the result objects use)."""
+        return self._path
+
+    @property
+    def sha256(self) -> str:
+        """SHA-256 (hex) of the file's bytes ('' if built in memory)."""
+        return self._sha256
+
+    def region(self, name: str) -> Region:
+        """The region called ``name``."""
+        for region in self.regions:
+            if region.name == name:
+                return region
+        raise KeyError(f"mask {self.id!r} has no region {name!r}; it has {[r.name for r in self.regions]}")
+
+    def to_info(self, note: str = "") -> MaskInfo:
+        """Provenance of this mask as the result object carries it."""
+        p = self.provenance
+        return MaskInfo(
+            id=self.id,
+            title=self.title,
+            authority=p.authority,
+            citation=p.citation,
+            edition=p.edition,
+            verified=p.verified,
+            path=self.path,
+            sha256=self.sha256,
+            note=note,
+        )
+
+
+def _unwrap_model(annotation):
+    """The pydantic model inside ``annotation`` (through Optional, tuple, list)."""
+    if isinstance(annotation, type) and issubclass(annotation, BaseModel):
+        return annotation
+    for arg in typing.get_args(annotation):
+        found = _unwrap_model(arg)
+        if found is not None:
+            return found
+    return None
+
+
+def keys_at(loc: tuple) -> list[str] | None:
+    """The keys the table at TOML key path ``loc`` accepts (None if unknown)."""
+    model = Mask
+    for part in loc:
+        if isinstance(part, int):
+            continue
+        info = model.model_fields.get(part)
+        if info is None:
+            return None
+        inner = _unwrap_model(info.annotation)
+        if inner is None:
+            return None
+        model = inner
+    return list(model.model_fields)
+
