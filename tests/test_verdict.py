@@ -40,6 +40,13 @@ class FlatLimit:
     def limit_w(self, f):
         return np.full(np.shape(f), dbm_to_w(self.limit_dbm))
 
+    # the rest of the protocol judge_region reads (core.verdict.RegionLimitsLike)
+    excluded_hz = ()
+
+    def in_scope(self, f):
+        f = np.asarray(f)
+        return (f >= self.start_hz) & (f <= self.stop_hz)
+
 
 def _trace(start, stop, step, rbw, floor_dbm, spurs=(), detector="rms"):
     f = np.arange(start, stop + step / 2, step)

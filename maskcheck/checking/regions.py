@@ -174,16 +174,11 @@ def _relative_limits(lim, reference_fs):
 
     The limits were evaluated (and their texts written) with the reference
     power in W; here the relative terms are moved onto the recording's own
-    scale (:mod:`.reference`).  Returns ``(limits, note)``: ``note`` says an
-    absolute part was left unjudged (the region is then at best incomplete);
-    ``limits`` is None when the region has an absolute limit only.
+    scale (:mod:`.reference`; which terms are relative is the limit-forms
+    table's word, :mod:`maskcheck.masks.limit_forms`).  Returns ``(limits,
+    note)``: ``note`` says an absolute part was left unjudged (the region is
+    then at best incomplete); ``limits`` is None when the region has an
+    absolute limit only.
     """
-    text = _ABSOLUTE_NOTE.format(text=lim.limit_text)
-    if lim.terms:  # a limit that varies along the axis (mask schema v3): keep its relative term only
-        relative_terms = tuple(t for t in lim.terms if t[0] == "attenuation_db")
-        if not relative_terms:
-            return None, text
-        return replace(lim, reference_power_w=reference_fs, terms=relative_terms), (text if len(relative_terms) < len(lim.terms) else None)
-    if lim.attenuation_db is None:
-        return None, text
-    return replace(lim, reference_power_w=reference_fs, level_w=None), (text if lim.level_w is not None else None)
+    note = _ABSOLUTE_NOTE.format(text=lim.limit_text) if lim.has_absolute else None
+    return lim.relative_only(reference_fs), note

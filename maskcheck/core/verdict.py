@@ -51,6 +51,7 @@ import numpy as np
 
 from .result import Curve, Emission, RegionResult
 from .spectrum import Spectrum
+from .units import format_frequency as _fmt
 
 __all__ = ["RegionLimitsLike", "judge_region", "FLOOR_CLEARANCE_DB", "MAX_LISTED_EMISSIONS"]
 
@@ -86,10 +87,6 @@ class RegionLimitsLike(Protocol):
     def limit_w(self, freq_hz: np.ndarray) -> np.ndarray: ...
 
     def in_scope(self, freq_hz: np.ndarray) -> np.ndarray: ...
-
-
-# frequencies for people: the one formatter (this module carried a copy of it)
-from .units import format_frequency as _fmt  # noqa: E402  (kept here so the import block stays as it was)
 
 
 def judge_region(
@@ -201,18 +198,12 @@ def _uncovered(spectrum: Spectrum, start: float, stop: float, excluded) -> list[
 
 def _in_scope(f: np.ndarray, limits, start: float, stop: float, excluded) -> np.ndarray:
     """Which trace points the region judges (boolean over the trace)."""
-    in_scope = getattr(limits, "in_scope", None)
-    if in_scope is not None:
-        # the limits know each boundary's interval convention (mask schema v3); spans the
-        # caller excludes beyond the region's own are still skipped
-        sel = np.asarray(in_scope(f), dtype=bool)
-        own = {(float(a), float(b)) for a, b in getattr(limits, "excluded_hz", ())}
-        for ea, eb in excluded:
-            if (ea, eb) not in own:
-                sel &= ~((f >= ea) & (f <= eb))
-    else:
-        sel = (f >= start) & (f <= stop)
-        for ea, eb in excluded:
+    # the limits know each boundary's interval convention (mask schema v3); spans the
+    # caller excludes beyond the region's own are still skipped
+    sel = np.asarray(limits.in_scope(f), dtype=bool)
+    own = {(float(a), float(b)) for a, b in limits.excluded_hz}
+    for ea, eb in excluded:
+        if (ea, eb) not in own:
             sel &= ~((f >= ea) & (f <= eb))
     return sel
 
