@@ -48,7 +48,7 @@ from __future__ import annotations
 from typing import Protocol, Sequence
 
 import numpy as np
-from scipy.signal import find_peaks
+from .peaks import find_peaks
 
 from .result import Curve, Emission, RegionResult
 from .spectrum import Spectrum
