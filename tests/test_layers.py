@@ -30,3 +30,14 @@ def test_public_api_names_resolve():
     for name in maskcheck.__all__:
         assert getattr(maskcheck, name) is not None
     assert callable(maskcheck.check)
+
+
+def test_a_check_and_a_trace_read_load_no_heavy_scipy_module():
+    # Issue 10 start-up goal: scipy.signal alone costs seconds to import; the
+    # check path uses numpy routines instead (maskcheck.core.peaks)
+    mods = _loaded_after(
+        "import maskcheck.checking, maskcheck.io.trace_text, maskcheck.core.estimate, maskcheck.masks.library; "
+        "import numpy as np; from maskcheck.core.peaks import find_peaks; find_peaks(np.arange(9.0) % 3, prominence=1.0)"
+    )
+    for heavy in ("scipy.signal", "scipy.stats", "scipy.interpolate", "scipy.optimize", "reportlab", "rich"):
+        assert heavy not in mods, heavy
