@@ -116,3 +116,33 @@ def test_band_power_keeps_a_weak_floor_beside_a_strong_carrier():
     got = s.band_powers_w(np.array([150_000.0, 180_000.5]), 1000.0)
     np.testing.assert_allclose(got, 1000 * 1e-18, rtol=1e-9)
     assert s.band_power_w(999.5, 1000.5) == pytest.approx(100.0, rel=1e-12)
+
+
+@pytest.mark.parametrize("grid", ["even", "even-offset", "uneven", "stitched", "log"])
+def test_cell_search_equals_binary_search(grid):
+    # the arithmetic cell search on even grids must give np.searchsorted's answer everywhere
+    # Reference library: numpy.searchsorted (side="right")
+    rng = np.random.default_rng(11)
+    n = 5000
+    if grid == "even":
+        f = 100e6 + 100.0 * np.arange(n)
+    elif grid == "even-offset":
+        f = 7.0e6 + (12.5e3 / 3.0) * np.arange(n)  # a step with no exact binary form
+    elif grid == "uneven":
+        f = 1e6 + np.cumsum(rng.uniform(1.0, 300.0, n))
+    elif grid == "log":
+        f = np.logspace(6, 9, n)
+    else:
+        a = Spectrum(1e6 + 100.0 * np.arange(n // 2), np.ones(n // 2), np.full(n // 2, 100.0))
+        b = Spectrum(3e6 + 1000.0 * np.arange(n // 2), np.ones(n // 2), np.full(n // 2, 1000.0))
+        s = stitch([a, b])
+        f = None
+    if f is not None:
+        s = Spectrum(f, rng.uniform(0.5, 2.0, f.size), np.full(f.size, 100.0))
+    lo, hi = s.cell_edges_hz
+    q = np.concatenate((
+        rng.uniform(lo[0] - 1e3, hi[-1] + 1e3, 4000),
+        lo, hi, np.nextafter(lo, -np.inf), np.nextafter(lo, np.inf),
+        [lo[0] - 1e9, hi[-1] + 1e9, np.nan],
+    ))
+    np.testing.assert_array_equal(s._cells_at_or_below(q), np.searchsorted(lo, q, side="right"))
