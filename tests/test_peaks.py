@@ -65,3 +65,16 @@ def test_prominence_threshold_can_reject_every_peak():
     x = np.tile([0.0, 1.0], 50)
     assert mp.find_peaks(x, prominence=3.0)[0].size == 0
     assert mp.find_peaks(x, prominence=1.0)[0].size == 49
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_local_maxima_edges_equal_scipy_plateau_edges(seed):
+    # Reference library: scipy.signal.find_peaks (plateau_size=1 gives left_edges, right_edges)
+    rng = np.random.default_rng(seed)
+    x = np.repeat(rng.integers(0, 6, 500), rng.integers(1, 5, 500)).astype(float)
+    x[rng.integers(0, x.size, 5)] = np.nan
+    want, props = scipy.signal.find_peaks(x, plateau_size=1)
+    mid, left, right = mp.local_maxima(x)
+    np.testing.assert_array_equal(mid, want)
+    np.testing.assert_array_equal(left, props["left_edges"])
+    np.testing.assert_array_equal(right, props["right_edges"])

@@ -44,7 +44,7 @@ import numpy as np
 __all__ = ["find_peaks", "local_maxima", "peak_prominences"]
 
 #: at most this many samples are gathered at once by the prominence walk
-MAX_WINDOW_ELEMENTS = 1 << 20
+MAX_WINDOW_ELEMENTS = 1 << 18
 
 
 def local_maxima(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -71,16 +71,29 @@ def local_maxima(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     empty = np.empty(0, dtype=np.intp)
     if n < 3:
         return empty, empty, empty
-    # runs of equal samples (NaN != NaN: every NaN is a run of its own)
-    starts = np.concatenate(([0], np.flatnonzero(x[1:] != x[:-1]) + 1))
-    ends = np.concatenate((starts[1:] - 1, [n - 1]))
-    v = x[starts]
-    # a run is a peak when both neighbouring runs are strictly lower;
-    # the first and the last run (holding sample 0 and n - 1) never are
-    is_peak = (v[1:-1] > v[:-2]) & (v[1:-1] > v[2:])
-    k = np.flatnonzero(is_peak) + 1
-    left, right = starts[k].astype(np.intp), ends[k].astype(np.intp)
-    return (left + right) // 2, left, right
+    # comparisons of neighbours (NaN compares false: it is never part of a peak); one
+    # byte per sample, so a trace of a million points costs a few MiB here
+    up = x[1:] > x[:-1]  # up[i]: x[i + 1] > x[i]
+    down = x[1:] < x[:-1]  # down[i]: x[i + 1] < x[i]
+    single = np.flatnonzero(up[:-1] & down[1:]) + 1  # x[i - 1] < x[i] > x[i + 1]
+    same = np.flatnonzero(x[1:] == x[:-1])  # x[i] == x[i + 1]
+    if same.size == 0:
+        return single.astype(np.intp), single.astype(np.intp), single.astype(np.intp)
+    # plateaus: maximal runs of equal samples x[left..right], right > left
+    breaks = np.flatnonzero(np.diff(same) > 1)
+    left = same[np.concatenate(([0], breaks + 1))]
+    right = same[np.concatenate((breaks, [same.size - 1]))] + 1
+    # a plateau is a peak when both neighbours are strictly lower; one touching
+    # the first or the last sample never is
+    inner = (left >= 1) & (right <= n - 2)
+    left, right = left[inner], right[inner]
+    keep = up[left - 1] & down[right]
+    left, right = left[keep], right[keep]
+    mid = np.concatenate((single, (left + right) // 2))
+    lo = np.concatenate((single, left))
+    hi = np.concatenate((single, right))
+    order = np.argsort(mid, kind="stable")
+    return mid[order].astype(np.intp), lo[order].astype(np.intp), hi[order].astype(np.intp)
 
 
 def _walk(x: np.ndarray, peaks: np.ndarray, step: int) -> tuple[np.ndarray, np.ndarray]:

@@ -273,7 +273,11 @@ class Spectrum:
         """
         cp = self.cell_power_w
         top = float(cp.max())
-        cls = np.floor((np.log10(top) - np.log10(cp)) / self._CLASS_DECADES).astype(np.int64)
+        # class of each cell: floor((log10(top) - log10(cp)) / 6), in place (one scratch array)
+        cls = np.log10(cp)
+        np.subtract(np.log10(top), cls, out=cls)
+        cls /= self._CLASS_DECADES
+        np.floor(cls, out=cls)
         sums = []
         for k in range(int(cls.max()) + 1):
             w = np.where(cls == k, cp, 0.0)
@@ -291,36 +295,40 @@ class Spectrum:
         return np.concatenate(([0.0], np.cumsum(hi - lo)))
 
     @cached_property
-    def _edge_grid(self) -> tuple[np.ndarray, float, float]:
-        """The cell lower edges framed by -inf and +inf, the first edge and the mean step, Hz."""
+    def _edge_grid(self) -> tuple[float, float]:
+        """The first cell lower edge and the mean step between lower edges, Hz."""
         lo, _ = self.cell_edges_hz
-        framed = np.concatenate(([-np.inf], lo, [np.inf]))
         step = float(lo[-1] - lo[0]) / (lo.size - 1) if lo.size > 1 else 0.0
-        return framed, float(lo[0]), step
+        return float(lo[0]), step
 
     def _cells_at_or_below(self, q: np.ndarray) -> np.ndarray:
         """``np.searchsorted(lo, q, side="right")`` for the cell lower edges ``lo``.
 
         Most traces sit on an even frequency grid, where the count follows
-        from arithmetic; every guess is verified (``lo[j-1] <= q < lo[j]``
-        defines the count uniquely), and the queries it misses (an uneven
-        grid, stitched spans) fall back to the binary search, so the result
-        is exactly the search's, at a fraction of its time on large traces.
+        from arithmetic; every guess ``j`` is verified (``lo[j-1] <= q <
+        lo[j]``, with ``lo[-1] = -inf`` and ``lo[n] = +inf``, defines the
+        count uniquely), and the queries it misses (an uneven grid, stitched
+        spans) fall back to the binary search, so the result is exactly the
+        search's, at a fraction of its time on large traces.
         """
-        framed, lo0, step = self._edge_grid
-        n = framed.size - 2
+        lo, _ = self.cell_edges_hz
+        lo0, step = self._edge_grid
+        n = lo.size
         if q.size < 256 or not step > 0:
-            return np.searchsorted(framed[1:-1], q, side="right")
+            return np.searchsorted(lo, q, side="right")
         with np.errstate(invalid="ignore", over="ignore"):
             guess = np.floor((q - lo0) / step)
         guess += 1.0
         np.clip(guess, 0.0, float(n), out=guess)
         j = np.nan_to_num(guess, nan=0.0).astype(np.intp)
-        ok = framed[j] <= q
-        ok &= q < framed[j + 1]
-        if not ok.all():
-            miss = np.flatnonzero(~ok)
-            j[miss] = np.searchsorted(framed[1:-1], q[miss], side="right")
+        below = lo[np.maximum(j - 1, 0)] <= q
+        below |= j == 0
+        above = q < lo[np.minimum(j, n - 1)]
+        above |= j == n
+        below &= above
+        if not below.all():
+            miss = np.flatnonzero(~below)
+            j[miss] = np.searchsorted(lo, q[miss], side="right")
         return j
 
     @cached_property
@@ -376,6 +384,29 @@ class Spectrum:
         """Power of the whole spectrum, W (sum of the cell powers)."""
         return float(self.cell_power_w.sum())
 
+    #: band queries handled at a time: their scratch arrays (about fifteen of this
+    #: length) stay a few MiB and in the processor's cache, whatever the trace's length
+    _QUERY_CHUNK = 1 << 16
+
+    def _bands(self, centre_hz, bandwidth_hz, *, power: bool, cover: bool):
+        """Power and/or covered width of bands ``centre_hz +- bandwidth_hz / 2``, chunk by chunk."""
+        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
+        shape = c0.shape
+        c0, bw = c0.reshape(-1), bw.reshape(-1)
+        n = c0.size
+        p_out = np.empty(n) if power else None
+        c_out = np.empty(n) if cover else None
+        for s in range(0, n, self._QUERY_CHUNK):
+            e = min(n, s + self._QUERY_CHUNK)
+            a = c0[s:e] - bw[s:e] / 2.0
+            b = c0[s:e] + bw[s:e] / 2.0
+            located = (*self._locate(a), *self._locate(b))
+            if power:
+                p_out[s:e] = self._integrate(a, b, self._power_classes, self.cell_power_w, located)
+            if cover:
+                c_out[s:e] = self._integrate(a, b, [self._width_prefix], self._cell_widths_hz, located)
+        return (None if p_out is None else p_out.reshape(shape)), (None if c_out is None else c_out.reshape(shape))
+
     def band_powers_w(self, centre_hz, bandwidth_hz) -> np.ndarray:
         """Power in bands of ``bandwidth_hz`` centred on ``centre_hz``, W (arrays broadcast).
 
@@ -385,8 +416,7 @@ class Spectrum:
         its own precision whatever else the spectrum holds (see
         :attr:`_power_classes`).
         """
-        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
-        return self._integrate(c0 - bw / 2.0, c0 + bw / 2.0, self._power_classes, self.cell_power_w)
+        return self._bands(centre_hz, bandwidth_hz, power=True, cover=False)[0]
 
     def band_coverages_hz(self, centre_hz, bandwidth_hz) -> np.ndarray:
         """How much of each band of :meth:`band_powers_w` has data, Hz.
@@ -394,17 +424,11 @@ class Spectrum:
         Equal to the bandwidth except near the ends of spans; used to tell a
         band that was only partly measured.
         """
-        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
-        return self._integrate(c0 - bw / 2.0, c0 + bw / 2.0, [self._width_prefix], self._cell_widths_hz)
+        return self._bands(centre_hz, bandwidth_hz, power=False, cover=True)[1]
 
     def band_powers_and_coverages(self, centre_hz, bandwidth_hz) -> tuple[np.ndarray, np.ndarray]:
         """:meth:`band_powers_w` and :meth:`band_coverages_hz` at once (one search)."""
-        c0, bw = np.broadcast_arrays(np.asarray(centre_hz, dtype=float), np.asarray(bandwidth_hz, dtype=float))
-        a, b = c0 - bw / 2.0, c0 + bw / 2.0
-        located = (*self._locate(a), *self._locate(b))
-        power = self._integrate(a, b, self._power_classes, self.cell_power_w, located)
-        cover = self._integrate(a, b, [self._width_prefix], self._cell_widths_hz, located)
-        return power, cover
+        return self._bands(centre_hz, bandwidth_hz, power=True, cover=True)
 
     def sliding_power_w(self, bandwidth_hz) -> np.ndarray:
         """Power in a band of ``bandwidth_hz`` centred on each point, W."""
