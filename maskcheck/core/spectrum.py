@@ -193,8 +193,14 @@ class Spectrum:
     @cached_property
     def cell_edges_hz(self) -> tuple[np.ndarray, np.ndarray]:
         """Lower and upper edge of each point's cell, Hz (two read-only arrays of len n)."""
-        lo = np.empty(len(self))
-        hi = np.empty(len(self))
+        if not self.segments:
+            # one span: each cell's upper edge is the next one's lower edge, so both
+            # arrays are views of one array of n + 1 edges (half the memory)
+            edges = np.empty(len(self) + 1)
+            lo, hi = edges[:-1], edges[1:]
+        else:
+            lo = np.empty(len(self))
+            hi = np.empty(len(self))
         for k, (a, b) in enumerate(self._spans()):
             f = self.freq_hz[a:b]
             if b - a == 1:
@@ -212,6 +218,8 @@ class Spectrum:
                     lo[a] = e_lo
                 if e_hi is not None:
                     hi[b - 1] = e_hi
+        if not self.segments:
+            edges.flags.writeable = False
         lo.flags.writeable = False
         hi.flags.writeable = False
         return lo, hi
@@ -331,10 +339,10 @@ class Spectrum:
             j[miss] = np.searchsorted(lo, q[miss], side="right")
         return j
 
-    @cached_property
-    def _cell_widths_hz(self) -> np.ndarray:
+    def _cell_widths_hz(self, i: np.ndarray) -> np.ndarray:
+        """Width of the cells ``i``, Hz (gathered per query chunk rather than kept whole)."""
         lo, hi = self.cell_edges_hz
-        return hi - lo
+        return hi[i] - lo[i]
 
     def _locate(self, q: np.ndarray):
         """Cell index and fraction of the cell below each frequency ``q``.
@@ -350,14 +358,17 @@ class Spectrum:
         if not everywhere:
             i[~inside] = 0
         frac = q - lo[i]
-        frac /= self._cell_widths_hz[i]
+        frac /= self._cell_widths_hz(i)
         np.clip(frac, 0.0, 1.0, out=frac)
         if not everywhere:
             frac[~inside] = 0.0
         return i, frac, inside
 
     def _integrate(self, a: np.ndarray, b: np.ndarray, prefixes, cells, located=None) -> np.ndarray:
-        """Sum of ``cells`` over [a, b] per query (cells prorated), with ``prefixes``."""
+        """Sum of ``cells`` over [a, b] per query (cells prorated), with ``prefixes``.
+
+        ``cells`` is the array of cell values, or a function giving the values of cells ``i``.
+        """
         ia, fa, ina, ib, fb, inb = located if located is not None else (*self._locate(a), *self._locate(b))
         # F(q) = prefix[i] + cell[i] * frac, and 0 below the first cell: a query below
         # it has i = 0 and frac = 0, and every prefix starts with 0, so F is 0 there
@@ -365,7 +376,8 @@ class Spectrum:
         out = np.zeros(np.shape(a))
         for pre in prefixes:
             out += pre[ib] - pre[ia]
-        out += cells[ib] * fb - cells[ia] * fa
+        cell_b, cell_a = (cells(ib), cells(ia)) if callable(cells) else (cells[ib], cells[ia])
+        out += cell_b * fb - cell_a * fa
         return np.maximum(out, 0.0)
 
     def band_power_w(self, start_hz: float, stop_hz: float) -> float:
