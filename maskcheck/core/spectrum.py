@@ -327,8 +327,9 @@ class Spectrum:
         with np.errstate(invalid="ignore", over="ignore"):
             guess = np.floor((q - lo0) / step)
         guess += 1.0
-        np.clip(guess, 0.0, float(n), out=guess)
-        j = np.nan_to_num(guess, nan=0.0).astype(np.intp)
+        np.fmax(guess, 0.0, out=guess)  # fmax also turns NaN into 0 (then verified, and missed)
+        np.minimum(guess, float(n), out=guess)
+        j = guess.astype(np.intp)
         below = lo[np.maximum(j - 1, 0)] <= q
         below |= j == 0
         above = q < lo[np.minimum(j, n - 1)]
@@ -345,7 +346,7 @@ class Spectrum:
         return hi[i] - lo[i]
 
     def _locate(self, q: np.ndarray):
-        """Cell index and fraction of the cell below each frequency ``q``.
+        """Cell index, fraction of the cell below, inside, and the cell's width for each ``q``.
 
         A query below the first cell gets index 0 and fraction 0 (and
         ``inside`` False).
@@ -357,26 +358,30 @@ class Spectrum:
         everywhere = bool(inside.all())
         if not everywhere:
             i[~inside] = 0
+        width = self._cell_widths_hz(i)
         frac = q - lo[i]
-        frac /= self._cell_widths_hz(i)
+        frac /= width
         np.clip(frac, 0.0, 1.0, out=frac)
         if not everywhere:
             frac[~inside] = 0.0
-        return i, frac, inside
+        return i, frac, inside, width
 
     def _integrate(self, a: np.ndarray, b: np.ndarray, prefixes, cells, located=None) -> np.ndarray:
         """Sum of ``cells`` over [a, b] per query (cells prorated), with ``prefixes``.
 
-        ``cells`` is the array of cell values, or a function giving the values of cells ``i``.
+        ``cells`` is the array of cell values, or None for the cell widths (which
+        :meth:`_locate` has gathered already); ``located`` is what it gave for a and b.
         """
-        ia, fa, ina, ib, fb, inb = located if located is not None else (*self._locate(a), *self._locate(b))
+        la, lb = located if located is not None else (self._locate(a), self._locate(b))
+        ia, fa, _, wa = la
+        ib, fb, _, wb = lb
         # F(q) = prefix[i] + cell[i] * frac, and 0 below the first cell: a query below
         # it has i = 0 and frac = 0, and every prefix starts with 0, so F is 0 there
         # without a mask
         out = np.zeros(np.shape(a))
         for pre in prefixes:
             out += pre[ib] - pre[ia]
-        cell_b, cell_a = (cells(ib), cells(ia)) if callable(cells) else (cells[ib], cells[ia])
+        cell_b, cell_a = (wb, wa) if cells is None else (cells[ib], cells[ia])
         out += cell_b * fb - cell_a * fa
         return np.maximum(out, 0.0)
 
@@ -412,11 +417,11 @@ class Spectrum:
             e = min(n, s + self._QUERY_CHUNK)
             a = c0[s:e] - bw[s:e] / 2.0
             b = c0[s:e] + bw[s:e] / 2.0
-            located = (*self._locate(a), *self._locate(b))
+            located = (self._locate(a), self._locate(b))
             if power:
                 p_out[s:e] = self._integrate(a, b, self._power_classes, self.cell_power_w, located)
             if cover:
-                c_out[s:e] = self._integrate(a, b, [self._width_prefix], self._cell_widths_hz, located)
+                c_out[s:e] = self._integrate(a, b, [self._width_prefix], None, located)
         return (None if p_out is None else p_out.reshape(shape)), (None if c_out is None else c_out.reshape(shape))
 
     def band_powers_w(self, centre_hz, bandwidth_hz) -> np.ndarray:
