@@ -261,3 +261,14 @@ def test_memory_stays_bounded_whatever_the_length():
     assert large < 16 * 2**20
     assert large < 64 * block * 8 / 2  # negative control: far below holding the samples
     assert abs(large - small) < 2**20
+
+
+@pytest.mark.parametrize("spec", ["hann", "blackmanharris", "flattop", ("kaiser", 14.0), ("kaiser", 0.0), ("kaiser", 6.5)])
+@pytest.mark.parametrize("n", [1, 2, 3, 7, 4096, 4097])
+def test_numpy_windows_equal_scipy_get_window(spec, n):
+    # Reference library: scipy.signal.get_window (fftbins=True: periodic)
+    import scipy.signal
+
+    from maskcheck.core.windows import window
+
+    np.testing.assert_array_equal(window(spec, n), scipy.signal.get_window(spec, n, fftbins=True))

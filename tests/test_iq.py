@@ -498,3 +498,26 @@ def test_correction_table_interpolates_over_log_frequency(tmp_path):
     p.write_text("frequency_mhz,correction_db\n1,0\n100,2\n")
     table = read_correction(p)
     assert float(table.gain_db([10e6])[0]) == pytest.approx(1.0, abs=1e-12)
+
+
+@pytest.mark.parametrize("datatype", ["cf32_le", "ci16_le"])
+@pytest.mark.parametrize("prefetch", [False, True])
+@pytest.mark.parametrize("swap", [False, True])
+def test_blocks_hash_the_file_bytes_while_the_samples_are_used(tmp_path, datatype, prefetch, swap):
+    # the SHA-256 is computed in a thread of its own from the reused read buffers: the
+    # digest must still be the file's, and the samples those of a plain read
+    # Reference library: hashlib.sha256 of the whole file
+    import dataclasses
+    import hashlib
+
+    x = _signal(n=50_000)
+    raw = tmp_path / "rec.iq"
+    data = x.astype(np.complex64).tobytes() if datatype == "cf32_le" else _ci16(x).tobytes()
+    raw.write_bytes(data)
+    rec = open_recording(raw, datatype=datatype, sample_rate_hz=FS, centre_hz=FC)
+    rec = dataclasses.replace(rec, swap_iq=swap)
+    plain = np.concatenate([b.copy() for b in rec.blocks(block_samples=3000)])
+    h = hashlib.sha256()
+    got = [b.copy() for b in rec.blocks(block_samples=777, hasher=h, prefetch=prefetch)]
+    assert h.hexdigest() == hashlib.sha256(data).hexdigest()
+    np.testing.assert_array_equal(np.concatenate(got), plain)

@@ -663,3 +663,18 @@ def test_a_mask_file_saved_with_a_byte_order_mark_loads(tmp_path):
     path = tmp_path / "bom.toml"
     path.write_bytes(b"\xef\xbb\xbf" + text.encode("utf-8"))
     assert validate_mask_file(path).id == "us-amateur-hf-2003"
+
+
+def test_a_mask_file_is_validated_again_when_its_bytes_change(tmp_path):
+    # the per-process cache of validated masks is keyed by content: an edited file is
+    # never served from it, and the same bytes give the same (frozen) mask
+    path = tmp_path / "mine.toml"
+    path.write_text(GOOD, encoding="utf-8")
+    first = load_mask(path)
+    assert load_mask(path) is first
+    path.write_text(GOOD.replace('id = "test-mask"', 'id = "test-mask-2"'), encoding="utf-8")
+    second = load_mask(path)
+    assert second.id == "test-mask-2" and second.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
+    path.write_text(GOOD.replace('id = "test-mask"', 'id = "Not An Id!"'), encoding="utf-8")
+    with pytest.raises(MaskError):
+        load_mask(path)

@@ -116,3 +116,58 @@ def test_band_power_keeps_a_weak_floor_beside_a_strong_carrier():
     got = s.band_powers_w(np.array([150_000.0, 180_000.5]), 1000.0)
     np.testing.assert_allclose(got, 1000 * 1e-18, rtol=1e-9)
     assert s.band_power_w(999.5, 1000.5) == pytest.approx(100.0, rel=1e-12)
+
+
+@pytest.mark.parametrize("grid", ["even", "even-offset", "uneven", "stitched", "log"])
+def test_cell_search_equals_binary_search(grid):
+    # the arithmetic cell search on even grids must give np.searchsorted's answer everywhere
+    # Reference library: numpy.searchsorted (side="right")
+    rng = np.random.default_rng(11)
+    n = 5000
+    if grid == "even":
+        f = 100e6 + 100.0 * np.arange(n)
+    elif grid == "even-offset":
+        f = 7.0e6 + (12.5e3 / 3.0) * np.arange(n)  # a step with no exact binary form
+    elif grid == "uneven":
+        f = 1e6 + np.cumsum(rng.uniform(1.0, 300.0, n))
+    elif grid == "log":
+        f = np.logspace(6, 9, n)
+    else:
+        a = Spectrum(1e6 + 100.0 * np.arange(n // 2), np.ones(n // 2), np.full(n // 2, 100.0))
+        b = Spectrum(3e6 + 1000.0 * np.arange(n // 2), np.ones(n // 2), np.full(n // 2, 1000.0))
+        s = stitch([a, b])
+        f = None
+    if f is not None:
+        s = Spectrum(f, rng.uniform(0.5, 2.0, f.size), np.full(f.size, 100.0))
+    lo, hi = s.cell_edges_hz
+    q = np.concatenate((
+        rng.uniform(lo[0] - 1e3, hi[-1] + 1e3, 4000),
+        lo, hi, np.nextafter(lo, -np.inf), np.nextafter(lo, np.inf),
+        [lo[0] - 1e9, hi[-1] + 1e9, np.nan],
+    ))
+    np.testing.assert_array_equal(s._cells_at_or_below(q), np.searchsorted(lo, q, side="right"))
+
+
+def test_reference_band_power_in_chunks_equals_the_whole_array_computation(monkeypatch):
+    # Closed form of the method (judge_region step 2 before it moved here): integrate B around
+    # each point, leave out the excluded window, scale a partly covered band up to B
+    rng = np.random.default_rng(3)
+    n = 3000
+    f = 10e6 + 1e3 * np.arange(n)
+    s = Spectrum(f, rng.exponential(1e-9, n), np.full(n, 1e3))
+    points = np.arange(0, n, 2)
+    bw = np.where(points < n // 2, 10e3, 30e3)
+    excluded = [(11.0e6, 11.2e6)]
+    got_p, cov = s.band_powers_w(f[points], bw), s.band_coverages_hz(f[points], bw)
+    for ea, eb in excluded:
+        a = np.maximum(f[points] - bw / 2.0, ea)
+        b = np.minimum(f[points] + bw / 2.0, eb)
+        hit = b > a
+        got_p[hit] -= s.band_powers_w((a[hit] + b[hit]) / 2.0, b[hit] - a[hit])
+        cov[hit] -= s.band_coverages_hz((a[hit] + b[hit]) / 2.0, b[hit] - a[hit])
+    got_p = np.maximum(got_p, 0.0)
+    want = np.where(cov > 0, got_p * bw / np.where(cov > 0, cov, 1.0), s.power_w[points])
+    monkeypatch.setattr(Spectrum, "_QUERY_CHUNK", 97)
+    np.testing.assert_array_equal(s.reference_band_power_w(points, bw, excluded), want)
+    # negative control: without the exclusion the window's power is counted
+    assert np.any(s.reference_band_power_w(points, bw) != want)

@@ -12,6 +12,8 @@ names are re-exported by :mod:`maskcheck`.
 ``estimate``          streaming Welch estimate of IQ samples (RBW, windows, frames)
 ``station``           ``Station``: what the checker must know that the spectrum does not say
 ``verdict``           judging one region against plain limits
+``peaks``             local peaks with height and prominence (numpy, as scipy.signal.find_peaks)
+``windows``           the estimation windows (numpy, as scipy.signal.get_window)
 ``result``            ``CheckResult`` and its records (plain, JSON-able data)
 ``records``           the frozen records that ride along with a Spectrum and a
                       CheckResult (estimation, calibration, setup, corrections, ...)

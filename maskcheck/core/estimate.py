@@ -17,7 +17,8 @@ Conventions
   tone ``exp(j 2 pi f t)`` has power 1 (0 dBFS).
 * No detrending: a constant detrend deletes a carrier at 0 Hz (methods sheet
   1.3).  Segments are windowed with the periodic ("DFT-even") window of
-  :func:`scipy.signal.get_window`.
+  :func:`scipy.signal.get_window`, computed by :mod:`maskcheck.core.windows`
+  (the same values, without importing :mod:`scipy.signal`).
 * Each bin holds the power in the resolution bandwidth centred there (the
   "spectrum" scaling, ``|X_k|**2 / (sum w)**2``), so a CW line on a bin
   reads its power; the resolution bandwidth is the window's equivalent noise
@@ -43,6 +44,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 import queue
@@ -52,12 +54,11 @@ from dataclasses import dataclass, field
 from typing import Callable, Iterable
 
 import numpy as np
-import scipy.fft
-from scipy.signal import get_window
 
 from ..errors import SpectrumError
 from .records import EstimationRecord
 from .spectrum import Spectrum
+from .windows import window as get_window
 
 __all__ = [
     "WINDOWS",
@@ -134,7 +135,14 @@ def window_enbw_bins(window, n: int) -> float:
     >>> window_enbw_bins("hann", 4096)
     1.5
     """
-    w = get_window(window, int(n), fftbins=True)
+    return _enbw_bins(window, int(n))
+
+
+@functools.lru_cache(maxsize=256)
+def _enbw_bins(window, n: int) -> float:
+    # planning asks for the same (window, length) many times (the RBW search, every
+    # plan's enbw_hz); a window of 64 Ki points takes a millisecond to compute
+    w = get_window(window, n)
     return float(n * np.sum(w * w) / np.sum(w) ** 2)
 
 
@@ -197,7 +205,7 @@ class WelchPlan:
 
     def window_values(self) -> np.ndarray:
         """The window, float64, as :func:`scipy.signal.get_window` gives it (periodic)."""
-        return get_window(self.window_spec, self.segment_samples, fftbins=True)
+        return get_window(self.window_spec, self.segment_samples)
 
     def describe(self) -> dict:
         """The parameters as plain data (for metadata and the result)."""
@@ -280,6 +288,8 @@ def plan_welch(
 
         best = min((m for m in (n - 1, n, n + 1) if m >= 2), key=miss)
         if fast_length:
+            import scipy.fft  # here, not at the top: a check of a trace never needs it
+
             near = {scipy.fft.next_fast_len(best)}
             if hasattr(scipy.fft, "prev_fast_len"):
                 near.add(scipy.fft.prev_fast_len(best))
@@ -533,6 +543,9 @@ class WelchAccumulator:
         # whole batches go to a thread each (numpy and pocketfft release the GIL);
         # one thread alone lets pocketfft use none of its own
         self._fft_workers = 1
+        import scipy.fft  # here, not at the top: a check of a trace never needs it
+
+        self._fft = scipy.fft.fft
         self._pool = ThreadPoolExecutor(threads, thread_name_prefix="welch") if threads > 1 else None
         self._states: queue.SimpleQueue = queue.SimpleQueue()
         self._all_states = [_BatchState(self._batch_segments, n) for _ in range(threads)]
@@ -607,7 +620,7 @@ class WelchAccumulator:
             m = segs.shape[0]
             buf = st.batch[:m]
             np.multiply(segs, self._win, out=buf)
-            spec = scipy.fft.fft(buf, axis=1, overwrite_x=True, workers=self._fft_workers)
+            spec = self._fft(buf, axis=1, overwrite_x=True, workers=self._fft_workers)
             v = spec.view(np.float32)  # re, im, re, im, ... of each segment
             # sums of squares of the components, without forming |X|**2: float32 within one
             # batch (at most a few hundred terms), float64 across batches

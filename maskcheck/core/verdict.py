@@ -49,6 +49,7 @@ from typing import Protocol, Sequence
 
 import numpy as np
 
+from .peaks import find_peaks
 from .result import Curve, Emission, RegionResult
 from .spectrum import Spectrum
 from .units import format_frequency as _fmt
@@ -221,24 +222,7 @@ def _levels(spectrum: Spectrum, limits, idx, excluded, reasons, warnings):
     integrate = rbw < bw
     level_w = spectrum.power_w[idx].copy()
     if integrate.any():
-        sub = idx[integrate]
-        b_int = bw[integrate]
-        got, cov = spectrum.band_powers_and_coverages(f[sub], b_int)
-        # the part of a band that reaches into an excluded window (the
-        # fundamental) is left out: that power belongs to the fundamental
-        for ea, eb in excluded:
-            a = np.maximum(f[sub] - b_int / 2.0, ea)
-            b = np.minimum(f[sub] + b_int / 2.0, eb)
-            hit = b > a
-            if hit.any():
-                mid, width = (a[hit] + b[hit]) / 2.0, b[hit] - a[hit]
-                p_in, c_in = spectrum.band_powers_and_coverages(mid, width)
-                got[hit] -= p_in
-                cov[hit] -= c_in
-        got = np.maximum(got, 0.0)
-        # scale a partly covered band up to the full bandwidth (see step 2)
-        got = np.where(cov > 0, got * b_int / np.where(cov > 0, cov, 1.0), spectrum.power_w[sub])
-        level_w[integrate] = got
+        level_w[integrate] = spectrum.reference_band_power_w(idx[integrate], bw[integrate], excluded)
     wide = (~integrate) & (rbw > bw * (1 + 1e-9))
     if wide.any():
         warnings.append(
@@ -246,14 +230,18 @@ def _levels(spectrum: Spectrum, limits, idx, excluded, reasons, warnings):
             f"bandwidth ({_fmt(float(bw[wide].min()))}) at {int(wide.sum())} point(s); readings used as they are "
             "(exact for discrete emissions, conservative for noise-like ones)"
         )
-    return 10.0 * np.log10(level_w) + 30.0, bw
+    level_dbm = np.log10(level_w, out=level_w)  # in place: the same numbers, one array fewer
+    level_dbm *= 10.0
+    level_dbm += 30.0
+    return level_dbm, bw
 
 
 def _evaluable(spectrum: Spectrum, idx, reasons) -> np.ndarray:
     """Points that can show what lies between them and their neighbours (step 4)."""
     rbw = spectrum.rbw_hz[idx]
     lo, hi = spectrum.cell_edges_hz
-    width = (hi - lo)[idx]
+    width = hi[idx]
+    width -= lo[idx]
     evaluable = np.ones(idx.size, bool)
     if spectrum.detector != "peak":
         evaluable = width <= rbw * (1 + 1e-9)
@@ -305,11 +293,10 @@ def _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons) 
 def _emissions(spectrum, limits, idx, margin, level_dbm, limit_dbm, evaluable, genuine, ev, report_threshold_db,
                warnings) -> list[Emission]:
     """Discrete emissions near the limit: peaks of (level - limit)."""
-    from scipy.signal import find_peaks
     
     fr = spectrum.freq_hz[idx]
-    # the height filter runs before the costly prominence computation in
-    # scipy, so only peaks near the limit pay for it
+    # the height filter runs before the costly prominence computation, so
+    # only peaks near the limit pay for it
     peaks, _ = find_peaks(-margin, height=-report_threshold_db, prominence=PEAK_PROMINENCE_DB)
     peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db)] if peaks.size else peaks
     if genuine.any() and ev.size:

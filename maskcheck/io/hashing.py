@@ -13,8 +13,10 @@ from __future__ import annotations
 
 import hashlib
 import os
+import queue
+import threading
 
-__all__ = ["sha256_file", "sha256_bytes"]
+__all__ = ["sha256_file", "sha256_bytes", "BackgroundHasher"]
 
 #: Bytes read at a time by :func:`sha256_file`.
 CHUNK_BYTES = 1 << 20
@@ -67,3 +69,79 @@ def sha256_bytes(data: bytes) -> str:
     'e3b0c44298fc1c14'
     """
     return hashlib.sha256(data).hexdigest()
+
+
+class BackgroundHasher:
+    """Feed a :mod:`hashlib` object from a thread of its own.
+
+    :mod:`hashlib` releases the GIL while it hashes a large buffer, so a
+    file can be hashed on one core while its samples are transformed on the
+    others, instead of the two taking turns.  Buffers are hashed in the order
+    given; a buffer must not change until it is hashed: :meth:`update`
+    returns a ticket and :meth:`wait` blocks until that buffer is done.
+
+    Parameters
+    ----------
+    digest : hashlib object
+        Updated in place (e.g. ``hashlib.sha256()``); complete after
+        :meth:`close`.
+
+    Examples
+    --------
+    >>> h = hashlib.sha256()
+    >>> bg = BackgroundHasher(h)
+    >>> ticket = bg.update(b"ab"); _ = bg.update(b"c")
+    >>> bg.wait(ticket); bg.close()
+    >>> h.hexdigest() == hashlib.sha256(b"abc").hexdigest()
+    True
+    """
+
+    def __init__(self, digest):
+        self.digest = digest
+        self._queue: queue.SimpleQueue = queue.SimpleQueue()
+        self._cond = threading.Condition()
+        self._given = 0
+        self._done = 0
+        self._error: BaseException | None = None
+        self._thread = threading.Thread(target=self._run, name="sha256", daemon=True)
+        self._thread.start()
+
+    def _run(self) -> None:
+        while True:
+            item = self._queue.get()
+            if item is None:
+                return
+            try:
+                if self._error is None:
+                    self.digest.update(item)
+            except BaseException as exc:  # handed to the feeding thread
+                self._error = exc
+            with self._cond:
+                self._done += 1
+                self._cond.notify_all()
+
+    def update(self, data) -> int:
+        """Queue ``data`` (bytes-like, left unchanged until hashed); return its ticket."""
+        if self._thread is None:
+            raise ValueError("the hasher is closed")
+        self._given += 1
+        self._queue.put(data)
+        return self._given
+
+    def wait(self, ticket: int) -> None:
+        """Block until the buffer of ``ticket`` (and every earlier one) is hashed."""
+        with self._cond:
+            while self._done < ticket:
+                self._cond.wait()
+        if self._error is not None:
+            raise self._error
+
+    def close(self) -> None:
+        """Hash what is queued and stop the thread (idempotent)."""
+        if self._thread is None:
+            return
+        self._queue.put(None)
+        self._thread.join()
+        self._thread = None
+        if self._error is not None:
+            raise self._error

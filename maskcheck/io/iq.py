@@ -53,6 +53,7 @@ from typing import Iterator
 import numpy as np
 
 from ..errors import RecordingError
+from .hashing import BackgroundHasher
 
 __all__ = [
     "DATATYPES",
@@ -227,38 +228,51 @@ class Recording:
         block_samples = max(1, int(block_samples))
         outs = [np.empty(min(block_samples, max(count, 1)), np.complex64) for _ in range(nbuf)]
         direct = np.dtype(fmt.component) == np.dtype("<f4") and not fmt.packed24
-        raw = None if direct else bytearray(outs[0].size * bps)
+        # the file's bytes are hashed in a thread of their own while the caller works on the
+        # samples, unless the samples are the bytes and get changed in place (swapped I/Q)
+        background = hasher is not None and not (direct and self.swap_iq)
+        raws = [] if direct else [bytearray(outs[0].size * bps) for _ in range(nbuf if background else 1)]
         turn = 0
         try:
             fh = open(self.data_path, "rb", buffering=0)
         except OSError as exc:
             raise RecordingError(f"cannot read the samples: {exc.strerror or exc}", path=self.data_path) from None
-        with fh:
-            fh.seek(self.data_offset + start * bps)
-            left = count
-            while left > 0:
-                out = outs[turn % nbuf]
-                turn += 1
-                k = min(left, out.size)
-                target = memoryview(out[:k].view(np.uint8)) if direct else memoryview(raw)[: k * bps]
-                got = _read_exactly(fh, target)
-                if got != k * bps:
-                    raise RecordingError(
-                        f"the file ends after {(self.data_offset + (start + count - left) * bps + got)} bytes, "
-                        f"before the {self.num_samples} samples its description promises (truncated?)",
-                        path=self.data_path,
-                    )
-                if hasher is not None:
-                    hasher.update(target)
-                blk = out[:k]
-                if not direct:
-                    _convert(raw, k, fmt, blk)
-                if self.swap_iq:
-                    # (Q, I) pairs: x = I + jQ = j * conj(Q + jI)
-                    np.conjugate(blk, out=blk)
-                    blk *= np.complex64(1j)
-                left -= k
-                yield blk
+        bg = BackgroundHasher(hasher) if background else None
+        try:
+            with fh:
+                fh.seek(self.data_offset + start * bps)
+                left = count
+                while left > 0:
+                    out = outs[turn % nbuf]
+                    raw = None if direct else raws[turn % len(raws)]
+                    if bg is not None and turn >= nbuf:
+                        bg.wait(turn - nbuf + 1)  # this buffer's bytes of nbuf turns ago are hashed
+                    turn += 1
+                    k = min(left, out.size)
+                    target = memoryview(out[:k].view(np.uint8)) if direct else memoryview(raw)[: k * bps]
+                    got = _read_exactly(fh, target)
+                    if got != k * bps:
+                        raise RecordingError(
+                            f"the file ends after {(self.data_offset + (start + count - left) * bps + got)} bytes, "
+                            f"before the {self.num_samples} samples its description promises (truncated?)",
+                            path=self.data_path,
+                        )
+                    if bg is not None:
+                        bg.update(target)
+                    elif hasher is not None:
+                        hasher.update(target)
+                    blk = out[:k]
+                    if not direct:
+                        _convert(raw, k, fmt, blk)
+                    if self.swap_iq:
+                        # (Q, I) pairs: x = I + jQ = j * conj(Q + jI)
+                        np.conjugate(blk, out=blk)
+                        blk *= np.complex64(1j)
+                    left -= k
+                    yield blk
+        finally:
+            if bg is not None:
+                bg.close()  # the caller's hasher is complete once the blocks are
 
 
 def _prefetched(gen: Iterator[np.ndarray]) -> Iterator[np.ndarray]:

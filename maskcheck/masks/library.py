@@ -133,17 +133,33 @@ def _read(source) -> tuple[bytes, str]:
     return data, label
 
 
+#: validated masks by (file label, SHA-256 of the file's bytes): while a file's bytes stay
+#: the same it is parsed and validated once per process (a campaign loads the same masks
+#: for every measurement; validating the library costs tens of ms each time).  Keyed by
+#: content as well as by name, so an edited file is read again; masks are frozen models.
+_VALIDATED: dict[tuple[str, str], Mask] = {}
+#: files kept at most in :data:`_VALIDATED` (the oldest goes first)
+_VALIDATED_MAX = 512
+
+
 def _parse(data: bytes, label: str) -> Mask:
     def error(message, where):
         return _single(message, path=label, where=where)
 
+    digest = hashlib.sha256(data).hexdigest()
+    known = _VALIDATED.get((label, digest))
+    if known is not None:
+        return known
     raw = loads(decode_text(data, "mask files", error), error)
     try:
         mask = Mask.model_validate(raw)
     except ValidationError as exc:
         raise _combined(_validation_problems(exc, label), path=label) from None
     mask._path = label
-    mask._sha256 = hashlib.sha256(data).hexdigest()
+    mask._sha256 = digest
+    if len(_VALIDATED) >= _VALIDATED_MAX:
+        del _VALIDATED[next(iter(_VALIDATED))]
+    _VALIDATED[(label, digest)] = mask
     return mask
 
 
