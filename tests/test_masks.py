@@ -678,3 +678,40 @@ def test_a_mask_file_is_validated_again_when_its_bytes_change(tmp_path):
     path.write_text(GOOD.replace('id = "test-mask"', 'id = "Not An Id!"'), encoding="utf-8")
     with pytest.raises(MaskError):
         load_mask(path)
+
+
+# -- loading by id validates the file it returns (the rest only when it must) -------------
+def _copy_builtin(folder, mask_id, new_id=None, extra=""):
+    from maskcheck.masks.library import builtin_dir
+
+    text = (Path(str(builtin_dir())) / f"{mask_id}.toml").read_text()
+    if new_id:
+        text = text.replace(f'id = "{mask_id}"', f'id = "{new_id}"')
+    (folder / f"{new_id or mask_id}.toml").write_text(text + extra)
+
+
+def test_load_by_id_does_not_depend_on_an_unrelated_broken_file(tmp_path):
+    # Common practice, no published source: a broken user file must not stop another mask from loading,
+    # but listing the library still reports it
+    (tmp_path / "broken.toml").write_text('schema_version = 3\nid = "user-broken"\ntitle = 5\n')
+    assert load_mask("us-amateur-hf-2003", extra_dirs=[tmp_path]).id == "us-amateur-hf-2003"
+    with pytest.raises(MaskError, match="broken.toml"):
+        list_masks(extra_dirs=[tmp_path])
+    with pytest.raises(MaskError, match="broken.toml"):
+        load_mask("user-broken", extra_dirs=[tmp_path])
+
+
+def test_load_by_id_refuses_an_id_used_twice(tmp_path):
+    _copy_builtin(tmp_path, "us-amateur-hf-2003")
+    with pytest.raises(MaskError, match="already used"):
+        load_mask("us-amateur-hf-2003", extra_dirs=[tmp_path])
+
+
+def test_load_by_id_finds_a_user_mask_and_validates_it(tmp_path):
+    _copy_builtin(tmp_path, "us-amateur-hf-2003", new_id="user-hf-copy")
+    m = load_mask("user-hf-copy", extra_dirs=[tmp_path])
+    assert m.id == "user-hf-copy" and m.path.endswith("user-hf-copy.toml")
+    # the same file with an unknown key is refused, naming the file
+    _copy_builtin(tmp_path, "us-amateur-hf-2003", new_id="user-hf-bad", extra="\nnonsense_key = 1\n")
+    with pytest.raises(MaskError, match="user-hf-bad.toml"):
+        load_mask("user-hf-bad", extra_dirs=[tmp_path])

@@ -609,6 +609,25 @@ def compile_expression(text, allowed_names: Iterable[str]) -> Expression:
     allowed = frozenset(str(n) for n in allowed_names)
     if not isinstance(text, str):
         raise MaskError(f"expected an expression as text, found {type(text).__name__} {text!r}")
+    known = _COMPILED.get((text, allowed))
+    if known is not None:
+        return known
+    expression = _compile_expression(text, allowed)
+    if len(_COMPILED) >= _COMPILED_MAX:
+        del _COMPILED[next(iter(_COMPILED))]
+    _COMPILED[(text, allowed)] = expression
+    return expression
+
+
+#: compiled expressions by (text, allowed names): a library of 36 masks compiles about 150
+#: distinct texts some 800 times; an Expression is frozen, so one object serves them all
+_COMPILED: dict[tuple[str, frozenset], Expression] = {}
+#: expressions kept at most in :data:`_COMPILED` (the oldest goes first)
+_COMPILED_MAX = 4096
+
+
+def _compile_expression(text: str, allowed: frozenset) -> Expression:
+    """:func:`compile_expression` without the cache (errors are never cached)."""
     if len(text) > MAX_LENGTH:
         raise MaskError(f"expression is {len(text)} characters long; at most {MAX_LENGTH} are allowed")
     text = text.strip()
