@@ -179,3 +179,20 @@ def test_worst_point_is_the_spur_not_the_edge_of_its_integration_band():
     assert res.worst_freq_hz == pytest.approx(50e6)
     assert res.worst_margin_db == pytest.approx(7.0, abs=0.01)
     assert [round(e.freq_hz) for e in ems] == [50_000_000]
+
+
+def test_listed_emission_is_reported_at_its_peak_reading_not_where_the_noise_tips_the_integral():
+    # Closed form: integrated over B = 100 kHz, a CW spur raises every point within B/2 of it by the
+    # same power; the noise that rides on top decides where the integral is highest, anywhere in
+    # that B. The emission's frequency is that of its own peak reading (here 35.50724 MHz).
+    rng = np.random.default_rng(5)
+    f = np.arange(30e6, 40e6 + 500, 1e3)
+    p = dbm_to_w(rng.uniform(-75.0, -45.0, f.size))
+    k = np.argmin(np.abs(f - 35.50724e6))
+    p[k] += dbm_to_w(-19.0)
+    s = Spectrum(f, p, 1e3, detector="rms")
+    res, ems, _ = judge_region(s, FlatLimit(-13.0, 100e3, 31e6, 39e6))
+    assert res.verdict == "pass"
+    (e,) = [e for e in ems if abs(e.freq_hz - 35.5e6) < 100e3]
+    assert e.freq_hz == pytest.approx(f[k])
+    assert res.worst_freq_hz == pytest.approx(f[k])

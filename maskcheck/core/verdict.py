@@ -172,7 +172,7 @@ def judge_region(
         verdict = "pass"
     res = RegionResult(verdict=verdict, uncovered_hz=missing, points_evaluated=int(ev.size), reasons=reasons,
                        curve=Curve(fr.copy(), level_dbm, limit_dbm), **worst, **base)
-    emissions = _emissions(spectrum, limits, idx, margin, level_dbm, limit_dbm, evaluable, genuine, ev,
+    emissions = _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluable, genuine, ev,
                            report_threshold_db, warnings)
     return res, emissions, warnings
 
@@ -290,10 +290,9 @@ def _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons) 
     return over & ~floor_limited
 
 
-def _emissions(spectrum, limits, idx, margin, level_dbm, limit_dbm, evaluable, genuine, ev, report_threshold_db,
+def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluable, genuine, ev, report_threshold_db,
                warnings) -> list[Emission]:
-    """Discrete emissions near the limit: peaks of (level - limit)."""
-    
+    """Discrete emissions near the limit: peaks of (level - limit), each reported at its own peak reading."""
     fr = spectrum.freq_hz[idx]
     # the height filter runs before the costly prominence computation, so
     # only peaks near the limit pay for it
@@ -309,7 +308,31 @@ def _emissions(spectrum, limits, idx, margin, level_dbm, limit_dbm, evaluable, g
             f"the {MAX_LISTED_EMISSIONS} worst are listed"
         )
         peaks = np.sort(keep)
+    peaks = _at_peak_reading(peaks, fr, bw, margin, spectrum.power_w[idx], evaluable)
     return [Emission(float(fr[p]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name) for p in peaks]
+
+
+def _at_peak_reading(peaks: np.ndarray, fr: np.ndarray, bw: np.ndarray, margin: np.ndarray, reading_w: np.ndarray,
+                     evaluable: np.ndarray) -> np.ndarray:
+    """Each peak of the integrated level moved to the strongest reading that gives it.
+
+    Integrated over a reference bandwidth B, a discrete emission lifts every
+    point within B/2 of it alike, and the noise riding on top decides where
+    in that B the integral peaks.  Among the evaluated points within B/2 of
+    the peak whose margin is within 0.01 dB of it (the same near-tie rule as
+    :func:`_worst`), the one with the strongest reading is the emission
+    itself.  Peaks that land on one point are listed once.
+    """
+    if peaks.size == 0:
+        return peaks
+    lo = np.searchsorted(fr, fr[peaks] - bw[peaks] / 2.0, side="left")
+    hi = np.searchsorted(fr, fr[peaks] + bw[peaks] / 2.0, side="right")
+    moved = []
+    for p, a, b in zip(peaks, lo, hi):
+        cand = np.arange(a, b)
+        cand = cand[evaluable[cand] & (margin[cand] <= margin[p] + 0.01)]
+        moved.append(int(cand[np.argmax(reading_w[cand])]) if cand.size else int(p))
+    return np.unique(np.asarray(moved, dtype=np.intp))
 
 
 def _worst(candidates: np.ndarray, margin: np.ndarray, reading_w: np.ndarray) -> int:
