@@ -159,8 +159,9 @@ def judge_region(
     ev = np.flatnonzero(evaluable)
     worst = {}
     if ev.size:
-        w = _worst(ev, margin, spectrum.power_w[idx])
-        worst = dict(worst_margin_db=float(margin[w]), worst_freq_hz=float(fr[w]),
+        w = int(ev[np.argmin(margin[ev])])  # the lowest margin; its frequency is that of its peak reading
+        (at,) = _peak_reading(np.array([w]), fr, bw, spectrum.power_w[idx], evaluable)
+        worst = dict(worst_margin_db=float(margin[w]), worst_freq_hz=float(fr[at]),
                      worst_level_dbm=float(level_dbm[w]), worst_limit_dbm=float(limit_dbm[w]))
     if genuine.any():
         verdict = "fail"
@@ -300,7 +301,7 @@ def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluabl
     peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db)] if peaks.size else peaks
     if genuine.any() and ev.size:
         # the worst point is always listed when the region fails
-        peaks = np.union1d(peaks, [_worst(ev, margin, spectrum.power_w[idx])])
+        peaks = np.union1d(peaks, [int(ev[np.argmin(margin[ev])])])
     if peaks.size > MAX_LISTED_EMISSIONS:
         keep = peaks[np.argsort(margin[peaks])[:MAX_LISTED_EMISSIONS]]
         warnings.append(
@@ -308,40 +309,35 @@ def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluabl
             f"the {MAX_LISTED_EMISSIONS} worst are listed"
         )
         peaks = np.sort(keep)
-    peaks = _at_peak_reading(peaks, fr, bw, margin, spectrum.power_w[idx], evaluable)
-    return [Emission(float(fr[p]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name) for p in peaks]
+    at = _peak_reading(peaks, fr, bw, spectrum.power_w[idx], evaluable)
+    listed, seen = [], set()
+    for p, q in zip(peaks, at):
+        if q in seen:  # two peaks of one emission's integral
+            continue
+        seen.add(q)
+        listed.append(Emission(float(fr[q]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name))
+    return listed
 
 
-def _at_peak_reading(peaks: np.ndarray, fr: np.ndarray, bw: np.ndarray, margin: np.ndarray, reading_w: np.ndarray,
-                     evaluable: np.ndarray) -> np.ndarray:
-    """Each peak of the integrated level moved to the strongest reading that gives it.
+def _peak_reading(points: np.ndarray, fr: np.ndarray, bw: np.ndarray, reading_w: np.ndarray,
+                  evaluable: np.ndarray) -> np.ndarray:
+    """For each point, the evaluated point with the strongest reading within half its reference bandwidth.
 
     Integrated over a reference bandwidth B, a discrete emission lifts every
     point within B/2 of it alike, and the noise riding on top decides where
-    in that B the integral peaks.  Among the evaluated points within B/2 of
-    the peak whose margin is within 0.01 dB of it (the same near-tie rule as
-    :func:`_worst`), the one with the strongest reading is the emission
-    itself.  Peaks that land on one point are listed once.
+    in that B the integral peaks.  The emission's frequency is that of its
+    own peak reading; its level in the reference bandwidth (and so its
+    margin) stays the highest integral, the conservative figure.
     """
-    if peaks.size == 0:
-        return peaks
-    lo = np.searchsorted(fr, fr[peaks] - bw[peaks] / 2.0, side="left")
-    hi = np.searchsorted(fr, fr[peaks] + bw[peaks] / 2.0, side="right")
-    moved = []
-    for p, a, b in zip(peaks, lo, hi):
+    points = np.asarray(points, dtype=np.intp)
+    if points.size == 0:
+        return points
+    lo = np.searchsorted(fr, fr[points] - bw[points] / 2.0, side="left")
+    hi = np.searchsorted(fr, fr[points] + bw[points] / 2.0, side="right")
+    out = points.copy()
+    for i, (a, b) in enumerate(zip(lo, hi)):
         cand = np.arange(a, b)
-        cand = cand[evaluable[cand] & (margin[cand] <= margin[p] + 0.01)]
-        moved.append(int(cand[np.argmax(reading_w[cand])]) if cand.size else int(p))
-    return np.unique(np.asarray(moved, dtype=np.intp))
-
-
-def _worst(candidates: np.ndarray, margin: np.ndarray, reading_w: np.ndarray) -> int:
-    """Index of the worst margin; among near-ties the point with the strongest reading.
-
-    Integrated over a reference bandwidth B, a discrete spur gives the same
-    level to every point within B/2 of it; the strongest reading among them
-    is the spur itself, so that is the frequency reported.
-    """
-    m = margin[candidates]
-    near = candidates[m <= m.min() + 0.01]
-    return int(near[np.argmax(reading_w[near])])
+        cand = cand[evaluable[cand]]
+        if cand.size:
+            out[i] = cand[np.argmax(reading_w[cand])]
+    return out
