@@ -9,6 +9,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import numpy as np
+
 from ..core.bandwidth import occupied_bandwidth, xdb_bandwidth
 from ..core.result import BandwidthFigure
 from ..core.units import format_frequency
@@ -31,12 +33,22 @@ class FundamentalReadings:
     xdb : BandwidthFigure or None
         The x-dB bandwidth, reported beside it (not judged).
     warnings : tuple of str
+    peak_reading_w : float or None
+        The strongest single reading in the window, W: never above the power
+        of the emission (a reading is the power in one RBW), and the power of
+        a carrier the RBW holds whole.
+    dense : bool
+        Whether every point in the window lies within its RBW of its
+        neighbours, so that the channel power integral is sound (a sparse
+        trace integrates a single-point carrier by the width of its cell).
     """
 
     channel_power_w: float | None
     occupied: BandwidthFigure | None
     xdb: BandwidthFigure | None
     warnings: tuple[str, ...]
+    peak_reading_w: float | None = None
+    dense: bool = False
 
 
 def check_xdb(xdb_db: float) -> None:
@@ -60,7 +72,10 @@ def measure_fundamental(spectrum, fw: FundamentalWindow, *, obw_beta: float, xdb
     inside = spectrum.between(*window)
     obw_fig = _occupied(inside, fw, obw_beta, warnings)
     xdb_fig = _xdb(inside, xdb_db, warnings)
-    return FundamentalReadings(measured_w, obw_fig, xdb_fig, tuple(warnings))
+    lo, hi = spectrum.cell_edges_hz  # the whole trace's cells: a window's edge cell reaches past it
+    sel = (spectrum.freq_hz >= fw.low_hz) & (spectrum.freq_hz <= fw.high_hz)
+    dense = bool(np.all((hi - lo)[sel] <= spectrum.rbw_hz[sel] * (1 + 1e-9)))
+    return FundamentalReadings(measured_w, obw_fig, xdb_fig, tuple(warnings), float(inside.power_w.max()), dense)
 
 
 def _occupied(inside, fw: FundamentalWindow, obw_beta: float, warnings: list[str]) -> BandwidthFigure | None:

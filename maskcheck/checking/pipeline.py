@@ -39,7 +39,10 @@ Decisions written down
 * The reference power is the stated mean power (or PEP, as the mask asks);
   without a stated power the channel power measured in the fundamental
   window is used, and the result says so.  Stated and measured powers that
-  differ by more than 1 dB raise a warning.
+  differ by more than 1 dB raise a warning; by more than the power tolerance
+  (``power_tolerance_db``, by default 3 dB for a steady carrier and 10 dB for
+  single sideband) the readings cannot be judged as the transmitter's, and no
+  region can pass (:mod:`.reference`).
 * A carrier outside the mask's stated range of fundamentals cannot pass:
   the verdict is at best ``incomplete``.
 """
@@ -77,6 +80,7 @@ def check(
     necessary: NecessaryBandwidth | str | None = None,
     authorized_bw_hz: float | str | None = None,
     xdb_db: float = 26.0,
+    power_tolerance_db: float | None = None,
 ) -> CheckResult:
     """Check a spectrum against a mask for a station.
 
@@ -84,13 +88,12 @@ def check(
     ----------
     spectrum : Spectrum
         The measured (or simulated) spectrum at the transmitter output.
-    mask : maskcheck.masks.schema.Mask
+    mask : Mask
         A loaded mask (:func:`maskcheck.load_mask`).
     station : Station
         Carrier frequency and powers (and, for single sideband, the sideband).
     guard_db : float
-        Guard band, dB: margins in ``[0, guard_db)`` make the verdict
-        ``marginal``.
+        Guard band, dB: margins in ``[0, guard_db)`` are ``marginal``.
     exclude_hz : float, optional
         Half-width of the fundamental window, Hz, overriding :mod:`.window`'s rule.
     report_threshold_db : float
@@ -99,8 +102,7 @@ def check(
     obw_beta : float
         Fraction outside the occupied bandwidth (0.01: the 99 % bandwidth).
     inputs : list of InputFile, optional
-        Input files with their hashes, for the provenance record; by default
-        taken from the spectrum's metadata.
+        Input files and hashes for the record (default: the spectrum's own).
     necessary : NecessaryBandwidth or "measured", optional
         The emission's necessary bandwidth
         (:func:`maskcheck.core.necessary.resolve_necessary`), or
@@ -111,21 +113,22 @@ def check(
     xdb_db : float
         The x of the x-dB bandwidth in the fundamental window, dB (26 dB, the
         FCC "emission bandwidth"); reported, not judged.
+    power_tolerance_db : float, optional
+        How far stated and measured mean power may differ, dB (default by class, :mod:`.reference`).
 
     Returns
     -------
     CheckResult
     """
-    if not (math.isfinite(guard_db) and guard_db >= 0):
-        raise StationError(f"guard_db={float(guard_db):g} must be finite and >= 0 (the guard band, dB)", param="guard_db")
-    check_xdb(xdb_db)
+    _check_options(guard_db, xdb_db)
     facts = emission_facts(spectrum, mask, station, necessary=necessary, authorized=authorized_bw_hz,
                            exclude_hz=exclude_hz, obw_beta=obw_beta)
     station = facts.station
     window = fundamental_window(mask, station.carrier_hz, domains=facts.domains, exclude_hz=exclude_hz,
                                 rule_source=facts.rule_source)
     readings = measure_fundamental(spectrum, window, obw_beta=obw_beta, xdb_db=xdb_db)
-    reference = reference_power(spectrum, mask, station, window, readings, facts.domains)
+    reference = reference_power(spectrum, mask, station, window, readings, facts.domains, tolerance_db=power_tolerance_db,
+                                emission_class=None if facts.necessary is None else facts.necessary.emission_class)
     applicable, applies_warnings = _applicability(mask, station, reference, facts)
     limits = evaluate_mask(
         mask, power_w=reference.mean_power_w, pep_w=station.pep_w, carrier_hz=station.carrier_hz, domains=facts.domains,
@@ -144,6 +147,13 @@ def check(
                     reference=reference, judged=judged,
                     applicable=applicable and class_ok, warnings=warnings, guard_db=guard_db,
                     report_threshold_db=report_threshold_db, inputs=inputs)
+
+
+def _check_options(guard_db: float, xdb_db: float) -> None:
+    """Refuse a guard band or an x of the x-dB bandwidth that cannot be honoured, before any work."""
+    if not (math.isfinite(guard_db) and guard_db >= 0):
+        raise StationError(f"guard_db={float(guard_db):g} must be finite and >= 0 (the guard band, dB)", param="guard_db")
+    check_xdb(xdb_db)
 
 
 def _applicability(mask, station: Station, reference: Reference, facts: EmissionFacts) -> tuple[bool, list[str]]:

@@ -21,6 +21,7 @@ Decisions written down
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from ..core.result import ReferencePower
@@ -30,10 +31,70 @@ from ..masks.evaluate import reference_power_w
 from .fundamental import FundamentalReadings
 from .window import FundamentalWindow
 
-__all__ = ["Reference", "reference_power", "POWER_MISMATCH_DB", "level_scale"]
+__all__ = ["Reference", "PowerMismatch", "reference_power", "default_power_tolerance_db", "POWER_MISMATCH_DB",
+           "level_scale"]
 
 #: stated and measured reference power may differ this much before a warning, dB
 POWER_MISMATCH_DB = 1.0
+
+#: how far the stated and the measured mean power may differ before the readings cannot be
+#: trusted, dB (see :func:`default_power_tolerance_db`)
+STEADY_TOLERANCE_DB = 3.0
+VARYING_TOLERANCE_DB = 10.0
+
+
+def default_power_tolerance_db(emission_class: str | None) -> tuple[float, str]:
+    """The default tolerance between the stated and the measured mean power, dB, and why.
+
+    Common practice, no published source.  A steady carrier or a constant-
+    envelope emission (FM, PM, FSK, CW key-down, AM with its carrier) reads its
+    stated mean power within a few dB: analyser level accuracy, a cable loss,
+    a mismatch.  The mean power of single sideband (J, R, H), independent
+    sideband (B) and vestigial sideband (C) follows the modulation: speech
+    averages some 10 dB below PEP, so the stated and the measured mean can
+    differ that much on an honest bench.
+    """
+    if emission_class and emission_class[0] in "JRHBC":
+        return VARYING_TOLERANCE_DB, (f"{VARYING_TOLERANCE_DB:g} dB: the mean power of a {emission_class} emission "
+                                      "follows its modulation")
+    what = f"a {emission_class} emission" if emission_class else "an emission of unstated class"
+    return STEADY_TOLERANCE_DB, f"{STEADY_TOLERANCE_DB:g} dB for {what} (a steady carrier reads its stated power within a few dB)"
+
+
+@dataclass(frozen=True)
+class PowerMismatch:
+    """The stated and the measured mean power disagree by more than the tolerance.
+
+    The readings then cannot be judged as the transmitter's: either they are
+    not corrected to its output (an attenuator, a cable, a coupler left out)
+    or the stated power is wrong.  ``readings_low`` is True when the readings
+    are the lower: a failure found on them stands (the emission is at least
+    that strong against the stated power), a pass cannot.
+    """
+
+    stated_dbm: float
+    measured_dbm: float
+    tolerance_db: float
+    tolerance_source: str
+
+    @property
+    def difference_db(self) -> float:
+        return self.measured_dbm - self.stated_dbm
+
+    @property
+    def readings_low(self) -> bool:
+        return self.measured_dbm < self.stated_dbm
+
+    @property
+    def reason(self) -> str:
+        low = self.readings_low
+        return (
+            f"the power measured around the carrier ({self.measured_dbm:.2f} dBm) is "
+            f"{abs(self.difference_db):.1f} dB {'below' if low else 'above'} the stated mean power "
+            f"({self.stated_dbm:.2f} dBm), beyond the tolerance of {self.tolerance_source}: the readings are "
+            f"{'probably not corrected to the transmitter output (a missing --setup, --correction or --attenuator)' if low else 'higher than the stated power allows (a correction applied twice, or the stated power is too low)'}"
+            f"; nothing here can pass until the two agree (or state the tolerance with --power-tolerance)"
+        )
 
 
 @dataclass(frozen=True)
@@ -62,6 +123,7 @@ class Reference:
     relative_reference: float | None
     record: ReferencePower
     warnings: tuple[str, ...]
+    mismatch: PowerMismatch | None = None
 
 
 def level_scale(spectrum) -> str:
@@ -69,12 +131,19 @@ def level_scale(spectrum) -> str:
     return spectrum.level_scale
 
 
-def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: FundamentalReadings, domains) -> Reference:
-    """Decide the reference power of one check (see the module docstring)."""
+def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: FundamentalReadings, domains, *,
+                    emission_class: str | None = None, tolerance_db: float | None = None) -> Reference:
+    """Decide the reference power of one check (see the module docstring).
+
+    ``tolerance_db`` (default :func:`default_power_tolerance_db` for the
+    emission class) bounds how far the stated and the measured mean power may
+    differ before the readings cannot be judged as the transmitter's.
+    """
     warnings: list[str] = []
     relative = level_scale(spectrum) == "dBFS"
     measured_w = readings.channel_power_w
     power_w, source = _mean_power(station, measured_w, relative, warnings)
+    mismatch = None if relative else _mismatch(station.power_w, readings, emission_class, tolerance_db)
     ref_w, ref_note = reference_power_w(mask, power_w=power_w, pep_w=station.pep_w)
     kind = mask.reference_power.kind
     if kind == "pep" and station.pep_w is None:
@@ -93,7 +162,7 @@ def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: Fu
     measured_dbm = None if measured_w is None else float(w_to_dbm(measured_w))
     if not relative:
         record = ReferencePower(kind, float(w_to_dbm(ref_w)), source, measured_dbm)
-        return Reference(power_w, ref_w, None, record, tuple(warnings))
+        return Reference(power_w, ref_w, None, record, tuple(warnings), mismatch)
     if measured_ref_w is not None:
         ref_fs, note = measured_ref_w, "levels are relative (uncalibrated recording, dBFS): 0 dBsd is measured on the same scale"
     else:
@@ -101,6 +170,37 @@ def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: Fu
         warnings.append(note)
     record = ReferencePower(kind, float(w_to_dbm(ref_w)), f"{source}; {note}", None)
     return Reference(power_w, ref_w, ref_fs, record, tuple(warnings))
+
+
+def _mismatch(stated_w, readings: FundamentalReadings, emission_class, tolerance_db) -> PowerMismatch | None:
+    """The disagreement of the stated and the measured mean power, when it is beyond the tolerance.
+
+    Two readings of the emission's power bound it: the channel power
+    integrated over the window, and the strongest single reading (never above
+    the emission's power).  The readings are called low only when both lie
+    below the stated power by more than the tolerance; high when the strongest
+    reading alone lies above it (or the integral does, on a trace dense enough
+    for the integral to be sound).  Either way no reading of the window is
+    taken for more than it shows.
+    """
+    measured_w, peak_w = readings.channel_power_w, readings.peak_reading_w
+    if stated_w is None or measured_w is None or peak_w is None:
+        return None
+    if tolerance_db is None:
+        tolerance_db, why = default_power_tolerance_db(emission_class)
+    else:
+        if not (math.isfinite(tolerance_db) and tolerance_db >= 0):
+            raise StationError(f"power_tolerance_db={float(tolerance_db):g} must be finite and >= 0 (dB)",
+                               param="power_tolerance_db")
+        why = f"{tolerance_db:g} dB (stated)"
+    stated_dbm = float(w_to_dbm(stated_w))
+    integral_dbm, peak_dbm = float(w_to_dbm(measured_w)), float(w_to_dbm(peak_w))
+    if max(integral_dbm, peak_dbm) < stated_dbm - tolerance_db:
+        return PowerMismatch(stated_dbm, max(integral_dbm, peak_dbm), float(tolerance_db), why)
+    high = peak_dbm if not readings.dense else max(peak_dbm, integral_dbm)
+    if high > stated_dbm + tolerance_db:
+        return PowerMismatch(stated_dbm, high, float(tolerance_db), why)
+    return None
 
 
 def _mean_power(station, measured_w, relative: bool, warnings: list[str]) -> tuple[float, str]:

@@ -74,6 +74,8 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
         if res.points_evaluated:
             caveats.extend(_narrower_than_allowed(spectrum, lim))
         res = _with_caveats(res, caveats, _removed_reasons(res, removed))
+        if reference.mismatch is not None:  # readings that cannot be the transmitter's as stated
+            res = _untrusted(res, reference.mismatch)
         clause = f"{mask.provenance.citation}, region '{lim.name}'"
         # each listed emission names the limit applied and its clause
         emissions.extend(replace(e, limit_text=lim.limit_text, clause=clause) for e in _merge_close_emissions(ems, lim))
@@ -92,6 +94,12 @@ def _with_caveats(res: RegionResult, caveats: list[str], removed_reasons: list[s
         return res
     verdict = res.verdict if res.verdict == "fail" or not caveats else "incomplete"
     return replace(res, verdict=verdict, reasons=[*res.reasons, *caveats, *removed_reasons])
+
+
+def _untrusted(res: RegionResult, mismatch) -> RegionResult:
+    """A region judged on readings that disagree with the stated power: no pass; a failure stands only on low readings."""
+    keep_fail = res.verdict == "fail" and mismatch.readings_low
+    return replace(res, verdict="fail" if keep_fail else "incomplete", reasons=[*res.reasons, mismatch.reason])
 
 
 def _removed_reasons(res: RegionResult, removed) -> list[str]:

@@ -41,6 +41,7 @@ OPTIONS: dict[str, str] = {
     "exclude_hz": "--exclude",
     "report_threshold_db": "--list-within",
     "xdb_db": "--xdb",
+    "power_tolerance_db": "--power-tolerance",
     "x_db": "--xdb",
     "necessary": "--necessary-bw",
     "necessary_bw_hz": "--necessary-bw",

@@ -23,6 +23,9 @@ def register(sub) -> None:
     c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
     c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
+    c.add_argument("--power-tolerance", metavar="DB",
+                   help="how far the stated and the measured mean power may differ before the readings cannot be judged "
+                        "(default 3dB for a steady carrier, 10dB for single sideband; see the README)")
     c.add_argument("--xdb", metavar="DB", default="26dB", help="x of the x-dB bandwidth reported beside the occupied bandwidth (default 26dB)")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
     add_trace_options(c)
@@ -61,6 +64,7 @@ def run(args) -> int:
     necessary, authorized, _ = emission_from_args(args, args.designator)
     within = parse_db(args.list_within, what="--list-within")
     xdb = parse_db(args.xdb, what="--xdb")
+    tolerance = parse_db(args.power_tolerance, what="--power-tolerance") if args.power_tolerance else None
     # with --sideband, the check places the emission's centre from the suppressed carrier (checking/emission.py)
     low_mod = parse_frequency(args.low_mod, what="--low-mod", default_unit="Hz") if getattr(args, "low_mod", None) else None
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
@@ -84,6 +88,7 @@ def run(args) -> int:
         if setup is not None:
             s = setup.apply(s)
         return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
+                     power_tolerance_db=tolerance,
                      necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb)
 
     result = judge(spectrum)
