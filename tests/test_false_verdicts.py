@@ -84,3 +84,46 @@ def test_power_tolerance_option_changes_the_verdict(tmp_path):
     assert json.loads((tmp_path / "a.json").read_text())["verdict"] == "incomplete"
     assert main(base + ["--power-tolerance", "6dB", "--json", str(tmp_path / "b.json")]) == 0
     assert json.loads((tmp_path / "b.json").read_text())["verdict"] == "pass"
+
+
+def _write(path, s):
+    path.write_text("# rbw_hz: 10000\n# detector: rms\nfrequency_hz,level_dbm\n"
+                    + "\n".join(f"{float(x)!r},{float(10 * np.log10(y) + 30)!r}" for x, y in zip(s.freq_hz, s.power_w)) + "\n")
+    return path
+
+
+def _first_page_text(pdf):
+    from pypdf import PdfReader
+
+    return " ".join(PdfReader(str(pdf)).pages[0].extract_text().split())
+
+
+def test_a_fail_still_lists_every_range_it_did_not_evaluate(tmp_path, capsys):
+    # Source: 47 CFR 2.1057(a)(1): the search reaches the 10th harmonic (71 MHz for 7.1 MHz); a trace that
+    # stops at 30 MHz leaves 30-71 MHz unevaluated, and a failure below 30 MHz must not hide that
+    s = _padded_hf_trace(pad_db=0.0, spur_dbc=-30.0)
+    s = s.between(9e3, 30e6)
+    t = _write(tmp_path / "t.txt", s)
+    pdf = tmp_path / "r.pdf"
+    rc = main(["check", str(t), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "400W", "--report", str(pdf)])
+    assert rc == 1
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Not evaluated (1)" in out and "no data from 30" in out and "71 MHz" in out
+    page = _first_page_text(pdf)
+    assert "Not evaluated, so not shown to comply" in page and "71 MHz" in page
+
+
+def test_a_pass_under_a_small_guard_band_says_it_is_weak_on_the_first_page(tmp_path, capsys):
+    # Common practice, no published source: a screening guard band of a few dB (core/uncertainty.py);
+    # a PASS at 0 dB is weaker evidence, and that belongs beside the verdict, not only in section 8
+    t = _write(tmp_path / "t.txt", _padded_hf_trace(pad_db=0.0, spur_dbc=-60.0))
+    pdf = tmp_path / "r.pdf"
+    base = ["check", str(t), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "400W"]
+    assert main(base + ["--report", str(pdf)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "weaker evidence than it looks" in out
+    assert "weaker evidence than it looks" in _first_page_text(pdf)
+    # negative control: with a guard band at the suggestion the sentence goes
+    assert main(base + ["--guard", "6dB", "--quiet"]) in (0, 3)
+    assert main(base + ["--guard", "6dB"]) in (0, 3)
+    assert "weaker evidence" not in capsys.readouterr().out

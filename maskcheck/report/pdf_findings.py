@@ -37,7 +37,9 @@ from .tables import (
     reference_text,
     region_notes,
     station_rows,
+    unevaluated_lines,
     verdict_sentence,
+    weak_pass_note,
     worst_point_text,
 )
 
@@ -93,6 +95,8 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         [x.p(meaning.strip())],
         [x.p(f"Worst margin: {worst_point_text(r)}.")],
         [x.p(f"{_cap(_tally(r))}.")],
+        *([x.p(f"Not evaluated, so not shown to comply: {line}.", "warn")] for line in unevaluated_lines(r)),
+        *([[x.p(weak, "warn")]] if (weak := weak_pass_note(r)) else []),
         [x.p(f"Decision rule: {_rule_line(r)}. Margin = limit - measured level; positive is inside the limit.", "small")],
     ]
     if not r.mask.verified:

@@ -43,6 +43,8 @@ __all__ = [
     "fmt_db",
     "fmt_dbm",
     "fmt_range",
+    "unevaluated_lines",
+    "weak_pass_note",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
@@ -160,6 +162,36 @@ def verdict_sentence(result: CheckResult) -> str:
     """The verdict in words, e.g. ``'FAIL: at least one measured level is above its limit.'``."""
     meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{result.guard_db:g}")
     return f"{result.verdict.upper()}: {meaning}."
+
+
+def unevaluated_lines(result: CheckResult) -> list[str]:
+    """Every required range the check could not evaluate, one line each, whatever the verdict.
+
+    A range without data in a region, and a region that was not evaluated at
+    all (it needs an input the check did not have), each name the region.
+    """
+    lines = []
+    for r in result.regions:
+        for a, b in r.uncovered_hz:
+            lines.append(f"{r.name}: no data from {fmt_range(a, b)}")
+        if r.verdict == "incomplete" and not r.points_evaluated and not r.uncovered_hz:
+            why = r.reasons[0] if r.reasons else "not evaluated"
+            lines.append(f"{r.name}: {why}")
+    return lines
+
+
+def weak_pass_note(result: CheckResult) -> str | None:
+    """The sentence that a PASS under a guard band below common practice is weak evidence, or None."""
+    d = result.decision_rule
+    if result.verdict != "pass" or d is None:
+        return None
+    kind, suggested = d.measurement, d.suggested_guard_db
+    if suggested is None:  # the kind of measurement is not stated: the smaller suggestion
+        kind, suggested = "conducted", d.suggested_guard_db_by_kind.conducted_db
+    if not d.guard_db < suggested:
+        return None
+    return (f"The guard band used ({d.guard_db:g} dB) is smaller than the {suggested:g} dB common practice suggests for a "
+            f"{kind} screening measurement: a PASS here is weaker evidence than it looks.")
 
 
 def worst_point_text(result: CheckResult) -> str:

@@ -29,7 +29,9 @@ from .tables import (
     region_notes,
     region_rows,
     station_rows,
+    unevaluated_lines,
     verdict_sentence,
+    weak_pass_note,
     worst_point_text,
     emission_facts,
 )
@@ -92,6 +94,14 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     verdict.append(word, style=VERDICT_STYLES.get(result.verdict, "bold"))
     verdict.append(":" + meaning)
     console.print(verdict)
+    weak = weak_pass_note(result)
+    if weak:
+        console.print(Text(f"!! {weak}", style="bold yellow"))
+    missing = unevaluated_lines(result)
+    if missing:
+        console.print(Text(f"Not evaluated ({len(missing)}): these required ranges are not shown to comply", style="bold"))
+        for line in missing:
+            console.print(_indented(f"- {line}"))
 
     facts = [("Worst margin", worst_point_text(result)), ("Reference", reference_text(result))]
     obw = result.occupied_bandwidth
