@@ -289,3 +289,25 @@ def test_the_v3_step_example_in_the_format_guide_loads(tmp_path):
     # Source: fact sheet §8.5 (90.210(d), from memory): 0 dB at 5.625 kHz, 19.96 dB just beyond
     assert inner.in_scope([150e6 + 5625.0])[0] and not outer.in_scope([150e6 + 5625.0])[0]
     assert 10 * np.log10(5.0 / outer.limit_w([150e6 + 5625.01])[0]) == pytest.approx(19.96, abs=0.01)
+
+
+def test_least_stringent_of_terms_that_vary_along_the_axis(tmp_path):
+    # Closed form: with P = 1 W (30 dBm), 10 dB/kHz below P is 30 - 10 fd_khz dBm; the absolute term
+    # is "-25 + 2 fd_khz" dBm. Whichever is less stringent is the higher of the two at each fd:
+    # at fd = 2 kHz: 10 dBm vs -21 dBm -> 10 dBm; at fd = 8 kHz: -50 dBm vs -9 dBm -> -9 dBm.
+    # ("all" takes the lower one: -21 dBm and -50 dBm; a swapped min/max fails one of the two.)
+    regions = """
+    [[regions]]
+    name = "varying"
+    kind = "out-of-band"
+    detector = "any"
+    offset = { from = "1 kHz", to = "10 kHz" }
+    limit = { attenuation_db = "10 * fd_khz", level_dbm = "-25 + 2 * fd_khz", combine = "%s" }
+    reference_bandwidth = [{ bandwidth = "100 Hz" }]
+    """
+    f = 100e6 + np.array([2e3, 8e3])
+    for combine, want in (("least-stringent", [10.0, -9.0]), ("all", [-21.0, -50.0])):
+        mask = validate_mask_file(write(tmp_path, regions % combine))
+        (r,) = evaluate_with_window(mask, power_w=1.0, pep_w=None, carrier_hz=100e6)
+        got = 10 * np.log10(r.limit_w(f)) + 30
+        assert got.tolist() == pytest.approx(want, abs=1e-9), combine

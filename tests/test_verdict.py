@@ -196,3 +196,20 @@ def test_listed_emission_is_reported_at_its_peak_reading_not_where_the_noise_tip
     (e,) = [e for e in ems if abs(e.freq_hz - 35.5e6) < 100e3]
     assert e.freq_hz == pytest.approx(f[k])
     assert res.worst_freq_hz == pytest.approx(f[k])
+
+
+def test_a_reading_exactly_at_its_limit_complies():
+    # Source: 47 CFR 97.307(d) "at least 43 dB below": a margin of exactly 0 dB meets the rule
+    # (a '<=' in place of '<' would fail it; no other test puts a reading on the limit)
+    f = np.arange(1e6, 2e6 + 1, 10e3)
+    p = np.full(f.size, dbm_to_w(-90.0))
+    k = np.argmin(np.abs(f - 1.5e6))
+    p[k] = dbm_to_w(LIMIT_97307D_100W)  # the reading is the limit, to the last bit
+    s = Spectrum(f, p.copy(), 10e3, detector="rms")
+    res, _, _ = judge_region(s, FlatLimit(LIMIT_97307D_100W, 10e3, 1e6, 2e6))
+    assert res.worst_margin_db == 0.0
+    assert res.verdict == "pass"
+    # and the smallest step above it fails
+    p[k] = np.nextafter(p[k], np.inf) * (1 + 1e-12)
+    res, _, _ = judge_region(Spectrum(f, p, 10e3, detector="rms"), FlatLimit(LIMIT_97307D_100W, 10e3, 1e6, 2e6))
+    assert res.verdict == "fail"
