@@ -127,3 +127,44 @@ def test_a_pass_under_a_small_guard_band_says_it_is_weak_on_the_first_page(tmp_p
     assert main(base + ["--guard", "6dB", "--quiet"]) in (0, 3)
     assert main(base + ["--guard", "6dB"]) in (0, 3)
     assert "weaker evidence" not in capsys.readouterr().out
+
+
+def _fm_150(carrier_dbm=36.02, floor_dbm=-40.0, spur=None, seed=3):
+    # invented: an unmodulated 4 W carrier at 150.1 MHz, a zoom at 100 Hz RBW with points 50 Hz apart
+    # (the carrier drawn over its RBW: its readings sum to its power times spacing/RBW = 1/2 each side)
+    rng = np.random.default_rng(seed)
+    f = np.arange(150.05e6, 150.15e6 + 1, 50.0)
+    p = dbm_to_w(floor_dbm + rng.uniform(-3.0, 3.0, f.size))
+    k = np.argmin(np.abs(f - 150.1e6))
+    p[k] += dbm_to_w(carrier_dbm)
+    if spur is not None:
+        p[np.argmin(np.abs(f - spur[0]))] += dbm_to_w(spur[1])
+    return Spectrum(f, p, rbw_hz=100.0, detector="rms")
+
+
+def test_the_carrier_cannot_fail_or_be_marginal_against_itself():
+    # Source: 47 CFR 90.210(d)(1): 0 dB from fo to 5.625 kHz, i.e. nothing above the reference.
+    # An unmodulated 4 W carrier read as 4 W sat at +0.0 dB (marginal with any guard band) and failed
+    # by 1.2 dB when stated as 3 W; the carrier is the reference, not an unwanted emission.
+    mask = load_mask("us-90210-mask-d")
+    for stated_w in (4.0, 3.0):
+        r = check(_fm_150(), mask, Station(carrier_hz=150.1e6, power_w=stated_w), guard_db=1.5)
+        inner = r.regions[0]
+        assert inner.name == "fd up to 5.625 kHz"
+        assert inner.verdict == "pass", (stated_w, inner.reasons)
+        assert "is the wanted emission" in inner.reasons[-1]
+    # negative control: a reading 6 dB above the stated power is no longer the stated carrier
+    r = check(_fm_150(), mask, Station(carrier_hz=150.1e6, power_w=1.0), guard_db=1.5)
+    assert r.regions[0].verdict != "pass"
+
+
+def test_noise_peaks_and_the_wanted_emission_are_not_listed_as_discrete_emissions():
+    # Common practice, no published source: a discrete emission stands clear of the local floor
+    # (6 dB here); the floor's own bumps within 20 dB of the limit are not emissions, and neither is
+    # the wanted emission inside its necessary band (11K0F3E: 150.1 MHz +- 5.5 kHz)
+    mask = load_mask("us-90210-mask-d")
+    s = _fm_150(floor_dbm=-53.0, spur=(150.1e6 + 30e3, -25.0))
+    r = check(s, mask, Station(carrier_hz=150.1e6, power_w=4.0, designator="11K0F3E"))
+    listed = [e.freq_hz for e in r.emissions]
+    assert listed == [pytest.approx(150.13e6)], listed
+    assert all(e.floor_dbm is not None and e.level_dbm >= e.floor_dbm + 6.0 for e in r.emissions)

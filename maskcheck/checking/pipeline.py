@@ -138,7 +138,7 @@ def check(
     _, corrections = spectrum_records(spectrum)
     judged = judge_regions(spectrum, mask, limits, carrier_hz=station.carrier_hz, readings=readings, reference=reference,
                            guard_db=guard_db, report_threshold_db=report_threshold_db,
-                           authorized_bw_hz=facts.authorized_bw_hz,
+                           authorized_bw_hz=facts.authorized_bw_hz, wanted_band_hz=_wanted_band(facts, readings),
                            removed=() if corrections is None else corrections.removed_hz)
     class_ok, class_warnings = _emission_class(mask, facts)
     warnings = [*facts.warnings, *readings.warnings, *reference.warnings, *applies_warnings, *judged.warnings,
@@ -147,6 +147,15 @@ def check(
                     reference=reference, judged=judged,
                     applicable=applicable and class_ok, warnings=warnings, guard_db=guard_db,
                     report_threshold_db=report_threshold_db, inputs=inputs)
+
+
+def _wanted_band(facts: EmissionFacts, readings) -> tuple[float, float] | None:
+    """The band of the wanted emission: the necessary band, else the measured occupied bandwidth."""
+    if facts.domains is not None:
+        return tuple(facts.domains.necessary_band_hz)
+    if readings.occupied is not None:
+        return (readings.occupied.lower_hz, readings.occupied.upper_hz)
+    return None
 
 
 def _check_options(guard_db: float, xdb_db: float) -> None:

@@ -124,6 +124,9 @@ class Reference:
     record: ReferencePower
     warnings: tuple[str, ...]
     mismatch: PowerMismatch | None = None
+    #: how far a reading may stand above the reference before it is not the stated emission, dB, and why
+    tolerance_db: float = STEADY_TOLERANCE_DB
+    tolerance_source: str = ""
 
 
 def level_scale(spectrum) -> str:
@@ -143,7 +146,8 @@ def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: Fu
     relative = level_scale(spectrum) == "dBFS"
     measured_w = readings.channel_power_w
     power_w, source = _mean_power(station, measured_w, relative, warnings)
-    mismatch = None if relative else _mismatch(station.power_w, readings, emission_class, tolerance_db)
+    tolerance = _tolerance(emission_class, tolerance_db)
+    mismatch = None if relative else _mismatch(station.power_w, readings, tolerance)
     ref_w, ref_note = reference_power_w(mask, power_w=power_w, pep_w=station.pep_w)
     kind = mask.reference_power.kind
     if kind == "pep" and station.pep_w is None:
@@ -162,17 +166,27 @@ def reference_power(spectrum, mask, station, fw: FundamentalWindow, readings: Fu
     measured_dbm = None if measured_w is None else float(w_to_dbm(measured_w))
     if not relative:
         record = ReferencePower(kind, float(w_to_dbm(ref_w)), source, measured_dbm)
-        return Reference(power_w, ref_w, None, record, tuple(warnings), mismatch)
+        return Reference(power_w, ref_w, None, record, tuple(warnings), mismatch, *tolerance)
     if measured_ref_w is not None:
         ref_fs, note = measured_ref_w, "levels are relative (uncalibrated recording, dBFS): 0 dBsd is measured on the same scale"
     else:
         ref_fs, note = _relative_reference(measured_w, power_w, ref_w, fw)
         warnings.append(note)
     record = ReferencePower(kind, float(w_to_dbm(ref_w)), f"{source}; {note}", None)
-    return Reference(power_w, ref_w, ref_fs, record, tuple(warnings))
+    return Reference(power_w, ref_w, ref_fs, record, tuple(warnings), None, *tolerance)
 
 
-def _mismatch(stated_w, readings: FundamentalReadings, emission_class, tolerance_db) -> PowerMismatch | None:
+def _tolerance(emission_class, tolerance_db) -> tuple[float, str]:
+    """The power tolerance of this check, dB, and why (stated, or the default for the class)."""
+    if tolerance_db is None:
+        return default_power_tolerance_db(emission_class)
+    if not (math.isfinite(tolerance_db) and tolerance_db >= 0):
+        raise StationError(f"power_tolerance_db={float(tolerance_db):g} must be finite and >= 0 (dB)",
+                           param="power_tolerance_db")
+    return float(tolerance_db), f"{tolerance_db:g} dB (stated)"
+
+
+def _mismatch(stated_w, readings: FundamentalReadings, tolerance: tuple[float, str]) -> PowerMismatch | None:
     """The disagreement of the stated and the measured mean power, when it is beyond the tolerance.
 
     Two readings of the emission's power bound it: the channel power
@@ -186,13 +200,7 @@ def _mismatch(stated_w, readings: FundamentalReadings, emission_class, tolerance
     measured_w, peak_w = readings.channel_power_w, readings.peak_reading_w
     if stated_w is None or measured_w is None or peak_w is None:
         return None
-    if tolerance_db is None:
-        tolerance_db, why = default_power_tolerance_db(emission_class)
-    else:
-        if not (math.isfinite(tolerance_db) and tolerance_db >= 0):
-            raise StationError(f"power_tolerance_db={float(tolerance_db):g} must be finite and >= 0 (dB)",
-                               param="power_tolerance_db")
-        why = f"{tolerance_db:g} dB (stated)"
+    tolerance_db, why = tolerance
     stated_dbm = float(w_to_dbm(stated_w))
     integral_dbm, peak_dbm = float(w_to_dbm(measured_w)), float(w_to_dbm(peak_w))
     if max(integral_dbm, peak_dbm) < stated_dbm - tolerance_db:

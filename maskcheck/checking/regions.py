@@ -35,8 +35,16 @@ class JudgedRegions:
 
 
 def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, reference: Reference, guard_db: float,
-                  report_threshold_db: float, authorized_bw_hz: float | None = None, removed=()) -> JudgedRegions:
+                  report_threshold_db: float, authorized_bw_hz: float | None = None, removed=(),
+                  wanted_band_hz: tuple[float, float] | None = None) -> JudgedRegions:
     """Judge every evaluated region of the mask, in the order of the file.
+
+    ``wanted_band_hz`` is the band of the wanted emission (the necessary
+    band, else the measured occupied bandwidth): readings there are the
+    emission itself and are not listed as discrete emissions.  A region whose
+    limit is the reference itself (0 dB below it) cannot be failed by the
+    wanted emission's own reading within the power tolerance
+    (:func:`_against_the_reference`).
 
     With an authorised bandwidth and no occupied-bandwidth region in the
     mask, the occupied bandwidth is judged against the authorised one in a
@@ -73,12 +81,14 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
                                    report_threshold_db=report_threshold_db, anchor=lim.anchor)
         if res.points_evaluated:
             caveats.extend(_narrower_than_allowed(spectrum, lim))
+        res = _against_the_reference(res, lim, reference)
         res = _with_caveats(res, caveats, _removed_reasons(res, removed))
         if reference.mismatch is not None:  # readings that cannot be the transmitter's as stated
             res = _untrusted(res, reference.mismatch)
         clause = f"{mask.provenance.citation}, region '{lim.name}'"
         # each listed emission names the limit applied and its clause
-        emissions.extend(replace(e, limit_text=lim.limit_text, clause=clause) for e in _merge_close_emissions(ems, lim))
+        emissions.extend(replace(e, limit_text=lim.limit_text, clause=clause) for e in _merge_close_emissions(ems, lim)
+                         if wanted_band_hz is None or not wanted_band_hz[0] <= e.freq_hz <= wanted_band_hz[1])
         warnings.extend(lim.notes)
         warnings.extend(w)
         regions.append(res)
@@ -94,6 +104,29 @@ def _with_caveats(res: RegionResult, caveats: list[str], removed_reasons: list[s
         return res
     verdict = res.verdict if res.verdict == "fail" or not caveats else "incomplete"
     return replace(res, verdict=verdict, reasons=[*res.reasons, *caveats, *removed_reasons])
+
+
+def _against_the_reference(res: RegionResult, lim, reference: Reference) -> RegionResult:
+    """A 0 dB region judged as what it tests: that no reading exceeds the reference power itself.
+
+    The reference (the carrier, the channel power) is not an unwanted
+    emission: its own reading sits at 0 dB against itself, so a guard band
+    would make every such region marginal and a stated power a little low
+    would fail it.  Within the power tolerance the reading is the wanted
+    emission and agrees with the stated power: the region passes and says
+    so.  Beyond it the readings and the stated power disagree, which the
+    reference step reports (:class:`.reference.PowerMismatch`).
+    """
+    if lim.terms or lim.level_w is not None or lim.attenuation_db != 0 or reference.relative_reference is not None:
+        return res
+    if res.verdict not in ("fail", "marginal") or res.worst_margin_db is None:
+        return res
+    if res.worst_margin_db < -reference.tolerance_db:
+        return res
+    why = (f"this region asks that no reading exceed the reference power itself (0 dB); its highest reading, "
+           f"{-res.worst_margin_db:+.1f} dB against the reference, is the wanted emission and agrees with the stated "
+           f"power within the tolerance of {reference.tolerance_source}")
+    return replace(res, verdict="pass", reasons=[*res.reasons, why])
 
 
 def _untrusted(res: RegionResult, mismatch) -> RegionResult:

@@ -123,6 +123,8 @@ class Emission:
     #: the limit applied to it, in words, and the clause it came from (issue 7)
     limit_text: str = ""
     clause: str = ""
+    #: the local noise-floor estimate it stands clear of, dBm in the same bandwidth (None: not estimated)
+    floor_dbm: float | None = None
 
     def to_dict(self) -> dict:
         return asdict(self)

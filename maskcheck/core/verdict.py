@@ -154,7 +154,8 @@ def judge_region(
     evaluable = _evaluable(spectrum, idx, reasons)
     _detector_notes(spectrum, limits, reasons, warnings)
     # 5. noise floor per reference-bandwidth band
-    genuine = _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons)
+    floor_dbm = _floor(bw, level_dbm)
+    genuine = _genuine_failures(fr, floor_dbm, level_dbm, limit_dbm, margin, evaluable, reasons)
     # worst point among the evaluated points
     ev = np.flatnonzero(evaluable)
     worst = {}
@@ -173,7 +174,7 @@ def judge_region(
         verdict = "pass"
     res = RegionResult(verdict=verdict, uncovered_hz=missing, points_evaluated=int(ev.size), reasons=reasons,
                        curve=Curve(fr.copy(), level_dbm, limit_dbm), **worst, **base)
-    emissions = _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluable, genuine, ev,
+    emissions = _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, floor_dbm, evaluable, genuine, ev,
                            report_threshold_db, warnings)
     return res, emissions, warnings
 
@@ -273,12 +274,17 @@ def _detector_notes(spectrum: Spectrum, limits, reasons, warnings) -> None:
         warnings.append(f"{limits.name}: the trace does not say which detector made it; results assume it reads mean power")
 
 
-def _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons) -> np.ndarray:
-    """Points over the limit that stand clear of a floor above the limit (step 5)."""
-    floor_dbm = np.empty(fr.size)
-    runs = np.concatenate(([0], np.flatnonzero(np.diff(bw)) + 1, [fr.size]))
+def _floor(bw, level_dbm) -> np.ndarray:
+    """The noise floor estimate at each point: the 20th percentile over its run of one reference bandwidth, dBm."""
+    floor_dbm = np.empty(level_dbm.size)
+    runs = np.concatenate(([0], np.flatnonzero(np.diff(bw)) + 1, [level_dbm.size]))
     for a, b in zip(runs[:-1], runs[1:]):
         floor_dbm[a:b] = np.percentile(level_dbm[a:b], FLOOR_PERCENTILE)
+    return floor_dbm
+
+
+def _genuine_failures(fr, floor_dbm, level_dbm, limit_dbm, margin, evaluable, reasons) -> np.ndarray:
+    """Points over the limit that stand clear of a floor above the limit (step 5)."""
     over = (margin < 0) & evaluable
     floor_limited = over & (floor_dbm > limit_dbm) & (level_dbm < floor_dbm + FLOOR_CLEARANCE_DB)
     if floor_limited.any():
@@ -291,14 +297,21 @@ def _genuine_failures(fr, bw, level_dbm, limit_dbm, margin, evaluable, reasons) 
     return over & ~floor_limited
 
 
-def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluable, genuine, ev, report_threshold_db,
-               warnings) -> list[Emission]:
-    """Discrete emissions near the limit: peaks of (level - limit), each reported at its own peak reading."""
+def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, floor_dbm, evaluable, genuine, ev,
+               report_threshold_db, warnings) -> list[Emission]:
+    """Discrete emissions near the limit: peaks of (level - limit), each reported at its own peak reading.
+
+    A peak is listed only when it stands at least :data:`FLOOR_CLEARANCE_DB`
+    above the local noise floor estimate (the floor's own bumps are not
+    emissions); a failing region's worst point is always listed.
+    """
     fr = spectrum.freq_hz[idx]
     # the height filter runs before the costly prominence computation, so
     # only peaks near the limit pay for it
     peaks, _ = find_peaks(-margin, height=-report_threshold_db, prominence=PEAK_PROMINENCE_DB)
-    peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db)] if peaks.size else peaks
+    if peaks.size:
+        clear = level_dbm[peaks] >= floor_dbm[peaks] + FLOOR_CLEARANCE_DB
+        peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db) & clear]
     if genuine.any() and ev.size:
         # the worst point is always listed when the region fails
         peaks = np.union1d(peaks, [int(ev[np.argmin(margin[ev])])])
@@ -315,7 +328,8 @@ def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, evaluabl
         if q in seen:  # two peaks of one emission's integral
             continue
         seen.add(q)
-        listed.append(Emission(float(fr[q]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name))
+        listed.append(Emission(float(fr[q]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name,
+                               floor_dbm=float(floor_dbm[p])))
     return listed
 
 
