@@ -92,6 +92,8 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     verdict.append(word, style=VERDICT_STYLES.get(result.verdict, "bold"))
     verdict.append(":" + meaning)
     console.print(verdict)
+    if mask.outside_bands:  # a check asked for outside the rule's bands (--outside-bands) cannot pass
+        console.print(Text(f"!! {mask.outside_bands}", style="bold red"))
 
     facts = [("Worst margin", worst_point_text(result)), ("Reference", reference_text(result))]
     obw = result.occupied_bandwidth
@@ -199,14 +201,14 @@ def render_mask(mask, console: Console | None = None) -> None:
     console = console or Console()
     prov = mask.provenance
     console.print(Rule(f"mask {mask.id}", style="dim"))
-    lo, hi = mask.applies.fundamental
+    bands = " and ".join(f"{format_frequency(lo)} to {format_frequency(hi)}" for lo, hi in mask.applies.carrier_bands)
     facts = [
         ("Title", mask.title),
         ("Service", mask.service),
         ("Rule", f"{prov.authority} {prov.citation}"),
         ("Edition", prov.edition),
         ("Verified", "yes" if prov.verified else "no"),
-        ("Carrier range", f"{_value_text(lo)} to {_value_text(hi)}"),
+        ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
         ("Emission classes", ", ".join(mask.applies.emission_classes) or "any"),
         ("Reference power", mask.reference_power.kind),
         ("Carrier exclusion", f"+/- {_value_text(mask.fundamental.exclusion)} ({mask.fundamental.rationale})"),
