@@ -24,6 +24,7 @@ def register(sub) -> None:
     c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--xdb", metavar="DB", default="26dB", help="x of the x-dB bandwidth reported beside the occupied bandwidth (default 26dB)")
+    c.add_argument("--outside-bands", action="store_true", help="check a carrier outside the mask's carrier bands anyway (refused otherwise); every output then says so and the verdict is at best incomplete")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
     add_trace_options(c)
     add_recording_options(c)
@@ -84,7 +85,7 @@ def run(args) -> int:
         if setup is not None:
             s = setup.apply(s)
         return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
-                     necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb)
+                     necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb, outside_bands=args.outside_bands)
 
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)

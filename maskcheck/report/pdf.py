@@ -32,10 +32,10 @@ from __future__ import annotations
 
 import io
 import os
-from pathlib import Path
 
 from reportlab.lib.pagesizes import A4
 from reportlab.lib.units import mm
+from reportlab.lib.utils import simpleSplit
 from reportlab.pdfbase.pdfdoc import PDFArray, PDFDictionary, PDFName, PDFStream, PDFString
 from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import SimpleDocTemplate
@@ -57,6 +57,7 @@ from .pdf_findings import (
     warnings_section,
 )
 from .pdf_parts import ACCENT, INK, MARGIN, RULE, Parts, pdf_text, pdf_text_plain
+from .plot_axes import PALETTE
 
 __all__ = ["build_report", "write_report", "default_attachments", "Attachment", "pdf_text", "pdf_text_plain"]
 
@@ -124,7 +125,10 @@ def _page_furniture(result: CheckResult):
         canvas.setFont("Helvetica", 7)
         canvas.setFillColor(INK)
         station = result.station.name
+        outside = result.mask.outside_bands
         left = f"maskcheck emission screening | {result.mask.citation} | {result.verdict.upper()}"
+        if outside:
+            left += " | OUTSIDE THE RULE'S BANDS"
         canvas.drawString(MARGIN, h - 10.5 * mm, pdf_text_plain(left))
         canvas.drawRightString(w - MARGIN, h - 10.5 * mm, pdf_text_plain(f"{result.created_utc} UTC" if result.created_utc else ""))
         if station:
@@ -133,6 +137,13 @@ def _page_furniture(result: CheckResult):
             if len(text) > 90:
                 text = text[:87] + "..."
             canvas.drawString(MARGIN, h - 15 * mm, text)
+        if outside:  # on every page: the carrier is outside the mask's bands, checked on request
+            canvas.setFont("Helvetica-Bold", 6)
+            canvas.setFillColor(PALETTE["fail"])
+            lines = simpleSplit(pdf_text_plain(outside), "Helvetica-Bold", 6, w - 2 * MARGIN)[:2]
+            for i, line in enumerate(lines):
+                canvas.drawString(MARGIN, (14.8 + 2.2 * (len(lines) - 1 - i)) * mm, line)
+            canvas.setFillColor(INK)
         canvas.setStrokeColor(RULE)
         canvas.setLineWidth(0.5)
         canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
