@@ -44,6 +44,8 @@ from reportlab.platypus.tableofcontents import TableOfContents
 from .. import _version
 from ..core.result import CheckResult
 from ..io.output import check_writable, write_atomic
+from ..masks.library import mask_file
+from ..masks.models import BUILTIN_PREFIX
 from .cautions import SHORT_CAUTION
 from .figures import report_figures
 from .pdf_evidence import Attachment, closing_page, estimation_section, provenance_section, setup_section, uncertainty_section
@@ -171,19 +173,22 @@ def default_attachments(result: CheckResult) -> tuple[list[Attachment], list[str
                        "the result of the check, as maskcheck --json writes it", "application/json")]
     notes = []
     m = result.mask
-    if m.path:
-        p = Path(m.path)
+    source = mask_file(m.path)
+    if source is not None:
         try:
-            data = p.read_bytes()
+            data = source.read_bytes()
         except OSError as exc:
             notes.append(f"The mask file {m.path} could not be read ({exc.strerror}), so it is not attached.")
         else:
-            a = Attachment(p.name, data, f"the mask file {m.id} the check used", "application/toml")
+            a = Attachment(f"{m.id}.toml" if m.path.startswith(BUILTIN_PREFIX) else source.name, data,
+                           f"the mask file {m.id} the check used", "application/toml")
             if m.sha256 and a.sha256 != m.sha256:
                 notes.append(f"The mask file {m.path} has changed since the check (SHA-256 {a.sha256}, recorded {m.sha256}), "
                              "so it is not attached.")
             else:
                 atts.append(a)
+    elif m.path:
+        notes.append(f"The mask file {m.path} is not in this installation's library, so it is not attached.")
     else:
         notes.append(f"The mask {m.id} was built in memory, not read from a file, so no mask file is attached.")
     return atts, notes

@@ -217,6 +217,8 @@ def render_mask(mask, console: Console | None = None) -> None:
         facts.append(("Measuring", prov.measurement_note))
     if getattr(mask, "path", ""):
         facts.append(("File", mask.path))
+        if getattr(mask, "builtin", False):  # where this installation keeps it (not part of any evidence)
+            facts.append(("Installed at", str(mask.source_path)))
     if getattr(mask, "sha256", ""):
         facts.append(("SHA-256", mask.sha256))
     console.print(_facts(facts))
