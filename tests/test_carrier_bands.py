@@ -197,3 +197,10 @@ def test_the_shipped_json_schema_describes_bands():
     bad = tomllib.loads(MASK_D.read_text())
     bad["applies"]["bands"] = [["150 MHz"]]
     assert list(validator.iter_errors(bad))  # negative control: a band needs two edges
+
+
+def test_the_refusal_comes_before_any_input_is_read(tmp_path, capsys):
+    # a missing trace would be the error if the inputs were read first
+    assert main(["check", str(tmp_path / "missing.txt"), "--mask", str(MASK_D), "--carrier", "380MHz", "--power", "5W"]) == 2
+    err = capsys.readouterr().err
+    assert "--carrier 380MHz: is outside the carrier bands" in err and "missing.txt" not in err

@@ -133,3 +133,12 @@ def test_a_mask_found_in_a_relative_mask_folder_keeps_it_relative(tmp_path, monk
     (tmp_path / "mine" / "my-hf-copy.toml").write_text(text)
     mask = load_mask("my-hf-copy", extra_dirs=["mine"])
     assert mask.path == os.path.join("mine", "my-hf-copy.toml") and not mask.builtin
+
+
+def test_the_library_file_given_by_its_path_is_named_by_that_path():
+    # the same bytes by id and by path: each keeps its own name (the validated-mask cache must not mix them)
+    by_id = load_mask("us-amateur-hf-2003")
+    given = str(Path(by_id.source_path))
+    by_path = load_mask(given)
+    assert by_id.path == "builtin:us-amateur-hf-2003" and by_path.path == given and not by_path.builtin
+    assert by_id.sha256 == by_path.sha256

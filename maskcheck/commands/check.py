@@ -67,6 +67,9 @@ def run(args) -> int:
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
                       sideband=getattr(args, "sideband", None), low_mod_hz=low_mod)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    from ..masks.station_values import require_in_bands
+
+    require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # before any input is read; check() decides again
     setup = _read_setup(args)
     from ._recording import choose_trace, read_input, worst_frame_check
 
