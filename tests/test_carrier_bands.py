@@ -197,6 +197,10 @@ def test_the_shipped_json_schema_describes_bands():
     bad = tomllib.loads(MASK_D.read_text())
     bad["applies"]["bands"] = [["150 MHz"]]
     assert list(validator.iter_errors(bad))  # negative control: a band needs two edges
+    for applies in ({"fundamental": ["150 MHz", "512 MHz"], "bands": [["150 MHz", "174 MHz"]]}, {}):
+        bad = tomllib.loads(MASK_D.read_text())
+        bad["applies"] = {**{k: v for k, v in bad["applies"].items() if k != "bands"}, **applies}
+        assert list(validator.iter_errors(bad)), applies  # exactly one of fundamental and bands
 
 
 def test_the_refusal_comes_before_any_input_is_read(tmp_path, capsys):

@@ -20,7 +20,7 @@ import typing
 from typing import Literal
 
 import numpy as np
-from pydantic import BaseModel, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
 
 from .._version import MASK_SCHEMA_VERSION
 from ..core.result import MaskInfo
@@ -87,6 +87,10 @@ class Applies(Table):
     cover 380 MHz).  A file gives one of the two; :attr:`carrier_bands`
     reads either.
     """
+
+    # the schema file says it too: exactly one of the two keys
+    model_config = ConfigDict(**Table.model_config, json_schema_extra={
+        "oneOf": [{"required": ["fundamental"]}, {"required": ["bands"]}]})
 
     fundamental: tuple[FixedFrequency, FixedFrequency] | None = Field(
         None, description="carrier range [low, high], inclusive (give this or bands)"
