@@ -216,7 +216,7 @@ def require_in_bands(mask: Mask, carrier_hz: float, *, outside_bands: bool = Fal
             "or give outside_bands=True to check it anyway (the result then cannot pass)",
             param="carrier_hz",
         )
-    return (f"CHECKED OUTSIDE THE RULE'S BANDS: the carrier {format_frequency(carrier_hz)} is outside the carrier "
+    return (f"OUTSIDE THE RULE'S BANDS: the carrier {format_frequency(carrier_hz)} is outside the carrier "
             f"{what} of mask {mask.id} ({bands_text(mask)}); the rule does not cover it, so no check "
             "against this mask can pass there")
 
