@@ -208,3 +208,15 @@ def test_the_refusal_comes_before_any_input_is_read(tmp_path, capsys):
     assert main(["check", str(tmp_path / "missing.txt"), "--mask", str(MASK_D), "--carrier", "380MHz", "--power", "5W"]) == 2
     err = capsys.readouterr().err
     assert "--carrier 380MHz: is outside the carrier bands" in err and "missing.txt" not in err
+
+
+def test_masks_list_by_frequency_reads_the_bands(capsys):
+    # Source: 47 CFR 90.210 table of applicable masks (2015 edition): D and E at 450 MHz, neither at 380 MHz.
+    # (Reads the installed built-in library: this repository's masks/ once installed.)
+    ids = {}
+    for f in ("380MHz", "450MHz"):
+        assert main(["masks", "list", "--frequency", f, "--json"]) == 0
+        ids[f] = {m["id"] for m in json.loads(capsys.readouterr().out)}
+    assert {"us-90210-mask-d", "us-90210-mask-e"} <= ids["450MHz"]
+    assert not {"us-90210-mask-d", "us-90210-mask-e"} & ids["380MHz"]
+    assert "us-90210-mask-b" in ids["380MHz"]  # negative control: B's single range covers it
