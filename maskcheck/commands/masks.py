@@ -108,7 +108,7 @@ def _list(args, con, list_masks) -> int:
     if args.json:
         rows = [{"id": m.id, "title": m.title, "authority": m.provenance.authority, "citation": m.provenance.citation,
                  "service": m.service, "verified": m.provenance.verified, "edition": m.provenance.edition,
-                 "variant": m.applies.variant, "path": m.path} for m in masks]
+                 "variant": m.applies.variant, "path": m.path, "file": str(m.source_path)} for m in masks]
         print(json.dumps(rows, indent=2, ensure_ascii=False))
         return 0
     for m in masks:
