@@ -92,10 +92,11 @@ def test_validate_reports_every_file_and_problem(tmp_path, capsys):
     assert any("regions[0].detector" in x for x in lines) and any("regions[0].offset.too" in x for x in lines)
 
 
-def test_schema_is_json_and_knows_version_3_keys(capsys):
+def test_schema_is_json_and_knows_version_3_and_4_keys(capsys):
     assert main(["masks", "schema"]) == 0
     schema = json.loads(capsys.readouterr().out)
-    assert "schema_version 3" in schema["$comment"]
+    assert "schema_version 4" in schema["$comment"]
+    assert "bands" in schema["$defs"]["Applies"]["properties"]  # v4: several carrier bands
     limit = schema["$defs"]["Limit"]["properties"]
     assert {"field_uv_per_m", "distance_m", "density_dbm_per_hz", "combine", "quantity"} <= set(limit)
     assert set(schema["$defs"]["ReferencePowerSpec"]["properties"]["kind"]["enum"]) == {"mean", "pep", "carrier", "channel", "dbsd", "none"}

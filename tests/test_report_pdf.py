@@ -117,12 +117,13 @@ def test_the_attachments_are_the_result_json_and_the_mask_file(failing, failing_
     assert data == json.loads(result_to_json(failing))
     mask_bytes = att["us-amateur-hf-2003.toml"][0]
     assert hashlib.sha256(mask_bytes).hexdigest() == failing.mask.sha256
-    with open(failing.mask.path, "rb") as fh:
+    assert failing.mask.path == "builtin:us-amateur-hf-2003"  # no install folder in the evidence
+    with open(load_mask("us-amateur-hf-2003").source_path, "rb") as fh:
         assert mask_bytes == fh.read()
 
 
 def test_a_mask_file_changed_since_the_check_is_not_attached(tmp_path):
-    src = load_mask("us-amateur-hf-2003").path
+    src = load_mask("us-amateur-hf-2003").source_path
     copy = tmp_path / "my-mask.toml"
     shutil.copyfile(src, copy)
     res = check(_spectrum(), load_mask(str(copy)), Station(FC, power_w=100.0))

@@ -43,12 +43,18 @@ Decisions written down
   (``power_tolerance_db``, by default 3 dB for a steady carrier and 10 dB for
   single sideband) the readings cannot be judged as the transmitter's, and no
   region can pass (:mod:`.reference`).
-* A carrier outside the mask's stated range of fundamentals cannot pass:
-  the verdict is at best ``incomplete``.
+* A carrier outside the mask's carrier bands is refused (a ``StationError``
+  naming the bands, ``param="carrier_hz"``) unless ``outside_bands=True``
+  asks to go on; the result then says so (``result.mask.outside_bands``,
+  repeated by every output) and cannot pass: the verdict is at best
+  ``incomplete``.  A station outside the mask's ``applies.when`` condition
+  is not refused (the condition may need a value the station does not give)
+  but cannot pass either.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 from ..core.necessary import NecessaryBandwidth
@@ -56,7 +62,8 @@ from ..core.result import CheckResult, InputFile
 from ..core.spectrum import Spectrum
 from ..core.station import Station
 from ..errors import StationError
-from ..masks.evaluate import applies_to, applies_when, evaluate_mask, station_variables
+from ..masks.evaluate import applies_when, evaluate_mask, station_variables
+from ..masks.station_values import require_in_bands
 from .emission import EmissionFacts, emission_facts
 from .fundamental import check_xdb, measure_fundamental
 from .reference import Reference, reference_power
@@ -80,7 +87,7 @@ def check(
     necessary: NecessaryBandwidth | str | None = None,
     authorized_bw_hz: float | str | None = None,
     xdb_db: float = 26.0,
-    power_tolerance_db: float | None = None,
+    power_tolerance_db: float | None = None, outside_bands: bool = False,
 ) -> CheckResult:
     """Check a spectrum against a mask for a station.
 
@@ -104,17 +111,16 @@ def check(
     inputs : list of InputFile, optional
         Input files and hashes for the record (default: the spectrum's own).
     necessary : NecessaryBandwidth or "measured", optional
-        The emission's necessary bandwidth
-        (:func:`maskcheck.core.necessary.resolve_necessary`), or
-        ``"measured"`` to use the occupied bandwidth in its place.
+        The necessary bandwidth, or ``"measured"`` (the occupied bandwidth stands in).
     authorized_bw_hz : float or "necessary", optional
-        The authorised bandwidth, Hz: the occupied bandwidth is judged
-        against it, and masks may refer to it.
+        The authorised bandwidth, Hz: the occupied bandwidth is judged against it.
     xdb_db : float
         The x of the x-dB bandwidth in the fundamental window, dB (26 dB, the
         FCC "emission bandwidth"); reported, not judged.
     power_tolerance_db : float, optional
         How far stated and measured mean power may differ, dB (default by class, :mod:`.reference`).
+    outside_bands : bool
+        Go on with a carrier outside the mask's carrier bands (refused otherwise); it then cannot pass.
 
     Returns
     -------
@@ -129,7 +135,7 @@ def check(
     readings = measure_fundamental(spectrum, window, obw_beta=obw_beta, xdb_db=xdb_db)
     reference = reference_power(spectrum, mask, station, window, readings, facts.domains, tolerance_db=power_tolerance_db,
                                 emission_class=None if facts.necessary is None else facts.necessary.emission_class)
-    applicable, applies_warnings = _applicability(mask, station, reference, facts)
+    applicable, applies_warnings, outside = _applicability(mask, station, reference, facts, outside_bands)
     limits = evaluate_mask(
         mask, power_w=reference.mean_power_w, pep_w=station.pep_w, carrier_hz=station.carrier_hz, domains=facts.domains,
         authorized_bw_hz=facts.authorized_bw_hz, window_half_hz=window.half_hz, window_anchor=window.spurious_anchor,
@@ -143,10 +149,9 @@ def check(
     class_ok, class_warnings = _emission_class(mask, facts)
     warnings = [*facts.warnings, *readings.warnings, *reference.warnings, *applies_warnings, *judged.warnings,
                 *class_warnings]
-    return assemble(spectrum, mask, station=station, facts=facts, window=window, readings=readings,
-                    reference=reference, judged=judged,
-                    applicable=applicable and class_ok, warnings=warnings, guard_db=guard_db,
-                    report_threshold_db=report_threshold_db, inputs=inputs)
+    return _marked(assemble(spectrum, mask, station=station, facts=facts, window=window, readings=readings,
+                            reference=reference, judged=judged, applicable=applicable and class_ok, warnings=warnings,
+                            guard_db=guard_db, report_threshold_db=report_threshold_db, inputs=inputs), outside)
 
 
 def _wanted_band(facts: EmissionFacts, readings) -> tuple[float, float] | None:
@@ -165,12 +170,27 @@ def _check_options(guard_db: float, xdb_db: float) -> None:
     check_xdb(xdb_db)
 
 
-def _applicability(mask, station: Station, reference: Reference, facts: EmissionFacts) -> tuple[bool, list[str]]:
-    """Whether the mask applies to this carrier and station; a check where it may not cannot pass."""
+def _marked(result: CheckResult, outside: str) -> CheckResult:
+    """The result of a check made outside the mask's bands says so in its mask record (every renderer repeats it)."""
+    if outside:
+        result.mask = dataclasses.replace(result.mask, outside_bands=outside)
+    return result
+
+
+def _applicability(mask, station: Station, reference: Reference, facts: EmissionFacts,
+                   outside_bands: bool = False) -> tuple[bool, list[str], str]:
+    """Whether the mask applies to this carrier and station; a check where it may not cannot pass.
+
+    A carrier outside the mask's carrier bands is refused here
+    (:func:`~maskcheck.masks.station_values.require_in_bands`, a
+    ``StationError`` naming the bands) unless ``outside_bands``; then the
+    third item is the sentence every output repeats, and the check cannot pass.
+    """
     warnings = []
-    ok, why = applies_to(mask, station.carrier_hz)
-    if not ok:
-        warnings.append(f"the mask does not apply to this carrier: {why}; the result cannot be a pass")
+    outside = require_in_bands(mask, station.carrier_hz, outside_bands=outside_bands)
+    ok = not outside
+    if outside:
+        warnings.append(outside)
     holds, why_when = applies_when(mask, station_variables(
         power_w=reference.mean_power_w, pep_w=station.pep_w, carrier_hz=station.carrier_hz,
         necessary_bw_hz=None if facts.domains is None else facts.domains.necessary_bw_hz,
@@ -178,7 +198,7 @@ def _applicability(mask, station: Station, reference: Reference, facts: Emission
     if not holds:
         ok = False
         warnings.append(f"the mask may not apply to this station: {why_when}; the result cannot be a pass")
-    return ok, warnings
+    return ok, warnings, outside
 
 
 def _emission_class(mask, facts: EmissionFacts) -> tuple[bool, list[str]]:

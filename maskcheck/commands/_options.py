@@ -49,6 +49,7 @@ OPTIONS: dict[str, str] = {
     "authorized_bw_hz": "--authorized-bw",
     "authorized": "--authorized-bw",
     "sideband": "--sideband",
+    "outside_bands": "--outside-bands",
     # formula inputs of the necessary bandwidth
     "max_mod_hz": "--max-mod",
     "low_mod_hz": "--low-mod",
@@ -98,7 +99,7 @@ OPTIONS: dict[str, str] = {
 }
 
 #: boolean parameters whose option is a flag: ``force=True`` reads ``--force``
-FLAGS = frozenset({"force"})
+FLAGS = frozenset({"force", "outside_bands"})
 
 #: parameters library errors name that no option sets (computed values,
 #: per-frame indices, the API's own switches); the CLI prints them as they are

@@ -27,6 +27,7 @@ def register(sub) -> None:
                    help="how far the stated and the measured mean power may differ before the readings cannot be judged "
                         "(default 3dB for a steady carrier, 10dB for single sideband; see the README)")
     c.add_argument("--xdb", metavar="DB", default="26dB", help="x of the x-dB bandwidth reported beside the occupied bandwidth (default 26dB)")
+    c.add_argument("--outside-bands", action="store_true", help="check a carrier outside the mask's carrier bands anyway (refused otherwise); every output then says so and the verdict is at best incomplete")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
     add_trace_options(c)
     add_recording_options(c)
@@ -70,6 +71,9 @@ def run(args) -> int:
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
                       sideband=getattr(args, "sideband", None), low_mod_hz=low_mod)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    from ..masks.station_values import require_in_bands
+
+    require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # before any input is read; check() decides again
     setup = _read_setup(args)
     from ._recording import choose_trace, read_input, worst_frame_check
 
@@ -88,7 +92,7 @@ def run(args) -> int:
         if setup is not None:
             s = setup.apply(s)
         return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
-                     power_tolerance_db=tolerance,
+                     power_tolerance_db=tolerance, outside_bands=args.outside_bands,
                      necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb)
 
     result = judge(spectrum)

@@ -104,11 +104,11 @@ def _list(args, con, list_masks) -> int:
         masks = [m for m in masks if m.service.casefold() == args.service.casefold()]
     if args.frequency:
         f = parse_frequency(args.frequency, what="--frequency", default_unit="Hz")
-        masks = [m for m in masks if m.applies.fundamental[0].constant() <= f <= m.applies.fundamental[1].constant()]
+        masks = [m for m in masks if any(lo <= f <= hi for lo, hi in m.applies.carrier_bands)]
     if args.json:
         rows = [{"id": m.id, "title": m.title, "authority": m.provenance.authority, "citation": m.provenance.citation,
                  "service": m.service, "verified": m.provenance.verified, "edition": m.provenance.edition,
-                 "variant": m.applies.variant, "path": m.path} for m in masks]
+                 "variant": m.applies.variant, "path": m.path, "file": str(m.source_path)} for m in masks]
         print(json.dumps(rows, indent=2, ensure_ascii=False))
         return 0
     for m in masks:
@@ -129,9 +129,11 @@ def _station(args, mask) -> dict:
         carrier = parse_frequency(args.carrier, what="--carrier", default_unit="Hz")
         note = ""
     else:
-        lo, hi = (v.constant() for v in mask.applies.fundamental)
+        bands = mask.applies.carrier_bands
+        lo, hi = bands[0]
         carrier = math.sqrt(lo * hi)
-        note = "no --carrier given: the geometric middle of the mask's carrier range is used"
+        note = ("no --carrier given: the geometric middle of the mask's carrier range is used" if len(bands) == 1 else
+                "no --carrier given: the geometric middle of the mask's first carrier band is used")
     auth = parse_frequency(args.bandwidth, what="--bandwidth", default_unit="Hz") if args.bandwidth else None
     return {"power_w": power_w, "pep_w": pep_w, "carrier_hz": carrier, "authorized_bw_hz": auth, "note": note}
 

@@ -26,6 +26,7 @@ def register(sub) -> None:
     p.add_argument("--floor-margin", metavar="DB", default="6dB", help="the noise floor must lie this far below the limit at the input (default 6dB)")
     p.add_argument("--lowest", metavar="F", default="9kHz", help="lowest radio frequency the equipment generates (default 9kHz; 47 CFR 2.1057 never starts below it)")
     p.add_argument("--station", metavar="TEXT", default="", help="a label for the station or the equipment under test")
+    p.add_argument("--outside-bands", action="store_true", help="plan for a carrier outside the mask's carrier bands anyway (refused otherwise); the plan then says so")
     p.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable)")
     p.add_argument("--json", metavar="PATH", help="write the plan as JSON ('-' for standard output)")
     p.add_argument("--pdf", metavar="PATH", help="write the one-page bench checklist (PDF)")
@@ -55,6 +56,9 @@ def run(args) -> int:
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep,
                       designator=args.designator.strip().upper() if args.designator else None, name=args.station)
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    from ..masks.station_values import require_in_bands
+
+    outside = require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # refused here unless asked
     setup = None
     if args.setup:
         from ..io.setup import read_setup
@@ -62,6 +66,8 @@ def run(args) -> int:
         setup = read_setup(args.setup)
     plan = plan_measurement(mask, station, setup=setup, extra_loss_db=extra, floor_margin_db=margin, lowest_hz=lowest,
                             necessary_bw_hz=nbw)
+    if outside:  # first among the warnings: the terminal, the JSON and the checklist show them
+        plan.warnings.insert(0, outside)
     to_stdout = args.json == "-"
     if not args.quiet:
         from ._common import console

@@ -145,7 +145,15 @@ class ReferencePower:
 
 @dataclass
 class MaskInfo:
-    """Provenance of the mask used."""
+    """Provenance of the mask used.
+
+    ``path`` names the file without depending on the machine: ``builtin:<id>``
+    for a file of the built-in library (the tool version and ``sha256`` say
+    which one), the path as given for a user's file ('' for a mask built in
+    memory).  ``outside_bands`` is not empty when the carrier is outside the
+    mask's carrier bands and the check was asked to go on: the sentence every
+    output repeats (such a result cannot pass).
+    """
 
     id: str
     title: str
@@ -156,6 +164,7 @@ class MaskInfo:
     path: str = ""
     sha256: str = ""
     note: str = ""
+    outside_bands: str = ""
 
     def to_dict(self) -> dict:
         return asdict(self)

@@ -14,7 +14,8 @@ check's job.
 ``evaluate_mask``             a mask for one station -> ``RegionLimits`` per region
 ``RegionLimits``              range, detector, reference bandwidths, limit in W
 ``reference_power_w``         the power relative limits are below, with its note
-``applies_to``                is a carrier inside the mask's range, and why
+``applies_to``                is a carrier inside the mask's bands, and why
+``require_in_bands``          refuse a carrier outside them (unless asked to go on)
 ``fundamental_exclusion_hz``  the default half-width skipped around the carrier
 ``compile_expression``        the whitelisted expression compiler
 ``Expression``                a compiled expression (``evaluate``, ``names``)
@@ -25,7 +26,7 @@ check's job.
 from .._version import MASK_SCHEMA_VERSION
 from .evaluate import evaluate_mask
 from .limits import RegionLimits
-from .station_values import applies_to, fundamental_exclusion_hz, reference_power_w
+from .station_values import applies_to, fundamental_exclusion_hz, reference_power_w, require_in_bands
 from .expr import Expression, compile_expression
 from .library import list_masks, load_mask, validate_mask_file
 from .schema import Mask, mask_json_schema
@@ -41,6 +42,7 @@ __all__ = [
     "RegionLimits",
     "reference_power_w",
     "applies_to",
+    "require_in_bands",
     "fundamental_exclusion_hz",
     "compile_expression",
     "Expression",

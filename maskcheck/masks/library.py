@@ -6,6 +6,12 @@ People add their own folders with ``extra_dirs`` (a command-line option) or
 the environment variable ``MASKCHECK_MASK_PATH`` (folders separated by
 ``os.pathsep``).  Every ``*.toml`` file directly inside a folder is a mask.
 
+A mask records its file the way evidence can repeat it on any machine: a
+file of the built-in library as ``builtin:<id>`` (the tool version and the
+file's SHA-256 say which bytes), a user's file as the path was given (on the
+command line, or a mask folder as given joined with the file name), never
+resolved to an absolute path.  :func:`mask_file` finds the bytes again.
+
 Every problem of a mask file is reported at once: one
 :class:`~maskcheck.errors.MaskError` whose ``problems`` list has one line per
 problem, each naming the file and the TOML key path::
@@ -33,6 +39,7 @@ from pydantic import ValidationError
 
 from .._toml import decode_text, key_path, loads
 from ..errors import MaskError
+from .models import BUILTIN_PREFIX
 from .schema import Mask, keys_at
 
 __all__ = [
@@ -42,6 +49,7 @@ __all__ = [
     "validate_mask_file",
     "list_masks",
     "load_mask",
+    "mask_file",
 ]
 
 #: Environment variable with extra mask folders (``os.pathsep``-separated).
@@ -125,8 +133,8 @@ def _validation_problems(exc: ValidationError, label: str) -> list[str]:
     return problems
 
 
-def _read(source) -> tuple[bytes, str]:
-    label = str(source)
+def _read(source, label: str | None = None) -> tuple[bytes, str]:
+    label = str(source) if label is None else label
     try:
         data = source.read_bytes()
     except OSError as exc:
@@ -134,21 +142,23 @@ def _read(source) -> tuple[bytes, str]:
     return data, label
 
 
-#: validated masks by (file label, SHA-256 of the file's bytes): while a file's bytes stay
+#: validated masks by (file label, SHA-256 of the file's bytes, built in): while a file's bytes stay
 #: the same it is parsed and validated once per process (a campaign loads the same masks
 #: for every measurement; validating the library costs tens of ms each time).  Keyed by
 #: content as well as by name, so an edited file is read again; masks are frozen models.
-_VALIDATED: dict[tuple[str, str], Mask] = {}
+_VALIDATED: dict[tuple[str, str, bool], Mask] = {}
 #: files kept at most in :data:`_VALIDATED` (the oldest goes first)
 _VALIDATED_MAX = 512
 
 
-def _parse(data: bytes, label: str) -> Mask:
+def _parse(data: bytes, label: str, builtin: bool = False) -> Mask:
+    """Validate a file's bytes; ``label`` names it in messages (for a built-in file, where it was read)."""
     def error(message, where):
         return _single(message, path=label, where=where)
 
     digest = hashlib.sha256(data).hexdigest()
-    known = _VALIDATED.get((label, digest))
+    key = (label, digest, builtin)
+    known = _VALIDATED.get(key)
     if known is not None:
         return known
     raw = loads(decode_text(data, "mask files", error), error)
@@ -156,11 +166,12 @@ def _parse(data: bytes, label: str) -> Mask:
         mask = Mask.model_validate(raw)
     except ValidationError as exc:
         raise _combined(_validation_problems(exc, label), path=label) from None
-    mask._path = label
+    mask._path = f"{BUILTIN_PREFIX}{mask.id}" if builtin else label
+    mask._source = label
     mask._sha256 = digest
     if len(_VALIDATED) >= _VALIDATED_MAX:
         del _VALIDATED[next(iter(_VALIDATED))]
-    _VALIDATED[(label, digest)] = mask
+    _VALIDATED[key] = mask
     return mask
 
 
@@ -175,16 +186,16 @@ def validate_mask_file(path: os.PathLike | str) -> Mask:
     Returns
     -------
     Mask
-        With :attr:`~maskcheck.masks.schema.Mask.path` and
-        :attr:`~maskcheck.masks.schema.Mask.sha256` recorded.
+        With :attr:`~maskcheck.masks.schema.Mask.path` (the path as given,
+        not made absolute) and :attr:`~maskcheck.masks.schema.Mask.sha256`
+        recorded.
 
     Raises
     ------
     MaskError
         Naming the file and the line (TOML syntax) or key path of every problem.
     """
-    source = Path(path)
-    data, label = _read(source)
+    data, label = _read(Path(path), os.fspath(path))
     return _parse(data, label)
 
 
@@ -204,11 +215,11 @@ def list_masks(extra_dirs: Iterable[os.PathLike | str] = ()) -> list[Mask]:
     problems: list[str] = []
     masks: list[Mask] = []
     first_file: dict[str, str] = {}
-    for folder in search_dirs(extra_dirs):
+    for i, folder in enumerate(search_dirs(extra_dirs)):
         for source in _files(folder):
             try:
                 data, label = _read(source)
-                mask = _parse(data, label)
+                mask = _parse(data, label, builtin=i == 0)
             except MaskError as exc:
                 problems.extend(_as_lines(exc))
                 continue
@@ -279,8 +290,8 @@ def load_mask(id_or_path: os.PathLike | str, *, extra_dirs: Iterable[os.PathLike
 _ID_LINE = re.compile(rb'^id\s*=\s*(?:"([^"\\\n]*)"|\'([^\'\n]*)\')\s*(?:#.*)?$', re.M)
 
 
-def _find_by_id(wanted: str, extra_dirs) -> tuple[bytes, str] | None:
-    """The bytes and label of the one file whose id line names ``wanted``, or None to search the slow way.
+def _find_by_id(wanted: str, extra_dirs) -> tuple[bytes, str, bool] | None:
+    """The bytes, label and built-in flag of the one file whose id line names ``wanted``, or None to search the slow way.
 
     Only that file is then validated (validating all 36 library files costs
     about a tenth of a second of every check's start-up).  Any file whose id
@@ -288,7 +299,7 @@ def _find_by_id(wanted: str, extra_dirs) -> tuple[bytes, str] | None:
     :func:`list_masks`, which validates everything and reports every problem.
     """
     hit = None
-    for folder in search_dirs(extra_dirs):
+    for i, folder in enumerate(search_dirs(extra_dirs)):
         for source in _files(folder):
             try:
                 data = source.read_bytes()
@@ -302,5 +313,29 @@ def _find_by_id(wanted: str, extra_dirs) -> tuple[bytes, str] | None:
             if file_id == wanted:
                 if hit is not None:
                     return None  # an id used twice: list_masks names both files
-                hit = (data, str(source))
+                hit = (data, str(source), i == 0)
     return hit
+
+
+def mask_file(path: str):
+    """The file a result's mask ``path`` names, to read its bytes again (None if there is none).
+
+    ``builtin:<id>`` is looked up in the built-in library of this
+    installation (compare the SHA-256 with the one recorded: another version
+    of maskcheck may ship other bytes); any other path is taken as it is.
+    """
+    if not path:
+        return None
+    if not path.startswith(BUILTIN_PREFIX):
+        return Path(path)
+    wanted = path[len(BUILTIN_PREFIX):]
+    folder = builtin_dir()
+    named = folder / f"{wanted}.toml"
+    if named.is_file():
+        return named
+    for source in _files(folder):  # a file whose name is not its id
+        top = source.read_bytes().split(b"\n[", 1)[0]
+        ids = _ID_LINE.findall(top)
+        if len(ids) == 1 and (ids[0][0] or ids[0][1]).decode("utf-8", "replace") == wanted:
+            return source
+    return None

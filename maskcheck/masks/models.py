@@ -1,4 +1,4 @@
-"""The pydantic models of a mask file (``schema_version`` 1 to 3): the file and its top-level tables.
+"""The pydantic models of a mask file (``schema_version`` 1 to 4): the file and its top-level tables.
 
 Every table forbids unknown keys, so a misspelt key is an error, not a
 silently ignored line.  The values inside are :class:`~maskcheck.masks.values.Value`
@@ -20,7 +20,7 @@ import typing
 from typing import Literal
 
 import numpy as np
-from pydantic import BaseModel, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
 
 from .._version import MASK_SCHEMA_VERSION
 from ..core.result import MaskInfo
@@ -46,15 +46,27 @@ __all__ = [
     "Limit",
     "Region",
     "Mask",
+    "BUILTIN_PREFIX",
     "keys_at",
 ]
 
 #: What relative limits are taken below (v3 adds carrier, channel, dbsd, none).
 REFERENCE_POWER_KINDS: tuple[str, ...] = ("mean", "pep", "carrier", "channel", "dbsd", "none")
 
+#: How results name a file of the built-in library: ``builtin:<id>``.
+BUILTIN_PREFIX = "builtin:"
+
 _ID_PATTERN = re.compile(r"^[a-z0-9]+(?:-[a-z0-9]+)*$")
 # First three classification symbols of an emission designator (RR Appendix 1 / 47 CFR 2.201).
 _EMISSION_CLASS = re.compile(r"^[NAHRJBCFGDPKLMQVWX][0123789X][NABCDEFWX]$")
+
+
+def _band_problem(value) -> str | None:
+    """What is wrong with one carrier range ``[low, high]``, or None."""
+    lo, hi = value[0].constant(), value[1].constant()
+    if not (0 < lo < hi):
+        return f"the carrier range {format_frequency(lo)} – {format_frequency(hi)} must have 0 < low < high"
+    return None
 
 
 class Provenance(Table):
@@ -68,10 +80,25 @@ class Provenance(Table):
 
 
 class Applies(Table):
-    """Which transmissions the mask is for."""
+    """Which transmissions the mask is for.
 
-    fundamental: tuple[FixedFrequency, FixedFrequency] = Field(
-        description="carrier range [low, high], inclusive"
+    The carrier range is ``fundamental`` (one band) or, from schema v4,
+    ``bands`` (several: a rule that covers 150-174 and 421-512 MHz does not
+    cover 380 MHz).  A file gives one of the two; :attr:`carrier_bands`
+    reads either.
+    """
+
+    # the schema file says it too: exactly one of the two keys
+    model_config = ConfigDict(**Table.model_config, json_schema_extra={
+        "oneOf": [{"required": ["fundamental"]}, {"required": ["bands"]}]})
+
+    fundamental: tuple[FixedFrequency, FixedFrequency] | None = Field(
+        None, description="carrier range [low, high], inclusive (give this or bands)"
+    )
+    bands: tuple[tuple[FixedFrequency, FixedFrequency], ...] | None = Field(
+        None,
+        description="v4: the carrier bands [[low, high], ...], each inclusive, in increasing order and not "
+        "overlapping, for a rule that covers several bands (give this or fundamental)",
     )
     emission_classes: tuple[str, ...] = Field(
         (), description="first three classification symbols, e.g. 'J3E'; empty = any"
@@ -86,13 +113,51 @@ class Applies(Table):
     @field_validator("fundamental")
     @classmethod
     def _ordered(cls, value):
-        lo, hi = value[0].constant(), value[1].constant()
-        if not (0 < lo < hi):
-            raise problem(
-                f"the carrier range {format_frequency(lo)} – {format_frequency(hi)} must have "
-                "0 < low < high"
-            )
+        wrong = None if value is None else _band_problem(value)
+        if wrong:
+            raise problem(wrong)
         return value
+
+    @field_validator("bands")
+    @classmethod
+    def _bands(cls, value):
+        if value is None:
+            return value
+        if not value:
+            raise problem("give at least one band [low, high]")
+        for i, band in enumerate(value):
+            wrong = _band_problem(band)
+            if wrong:
+                raise problem(f"[{i}] {wrong}")
+        for i in range(1, len(value)):
+            prev_hi, lo = value[i - 1][1].constant(), value[i][0].constant()
+            if not lo > prev_hi:
+                raise problem(
+                    f"[{i}] starts at {format_frequency(lo)}, not above the end of [{i - 1}] "
+                    f"({format_frequency(prev_hi)}); expected bands in increasing order that do not overlap"
+                )
+        return value
+
+    @model_validator(mode="after")
+    def _one_range(self):
+        if self.fundamental is None and self.bands is None:
+            raise problem("give the carrier range: fundamental = [low, high], or (schema_version 4) "
+                          "bands = [[low, high], ...]")
+        if self.fundamental is not None and self.bands is not None:
+            raise problem("give fundamental or bands, not both (bands lists every carrier band the rule covers)")
+        return self
+
+    @property
+    def carrier_bands(self) -> tuple[tuple[float, float], ...]:
+        """The carrier bands ``((low_hz, high_hz), ...)``, each inclusive, in increasing order."""
+        pairs = self.bands if self.bands is not None else (self.fundamental,)
+        return tuple((lo.constant(), hi.constant()) for lo, hi in pairs)
+
+    @property
+    def carrier_range(self) -> tuple[float, float]:
+        """The lowest and the highest carrier of all the bands, Hz (the bands may leave gaps between)."""
+        bands = self.carrier_bands
+        return bands[0][0], bands[-1][1]
 
     @field_validator("emission_classes")
     @classmethod
@@ -160,10 +225,11 @@ class DomainsSpec(Table):
 
 
 class Mask(Table):
-    """One validated mask file (schema v1 to v3).
+    """One validated mask file (schema v1 to v4).
 
     Load it with :func:`maskcheck.masks.load_mask`; the loader records the
-    file's path and SHA-256 (:attr:`path`, :attr:`sha256`).
+    file's name in the evidence, where it was read and its SHA-256
+    (:attr:`path`, :attr:`source_path`, :attr:`sha256`).
     """
 
     schema_version: StrictInt = Field(description=f"format version; this release reads 1..{MASK_SCHEMA_VERSION}")
@@ -178,6 +244,7 @@ class Mask(Table):
     regions: tuple[Region, ...] = Field(min_length=1)
 
     _path: str = PrivateAttr("")
+    _source: str = PrivateAttr("")
     _sha256: str = PrivateAttr("")
 
     @field_validator("schema_version")
@@ -228,13 +295,29 @@ class Mask(Table):
 
     @property
     def path(self) -> str:
-        """The file the mask was read from ('' if built in memory)."""
+        """The mask file as results, reports and messages name it ('' if built in memory).
+
+        A file of the built-in library is ``builtin:<id>`` (with the tool
+        version and the SHA-256 it names one file, wherever maskcheck is
+        installed); a user's file is the path as given (on the command line,
+        or a mask folder as given joined with the file name), never resolved
+        to an absolute path.
+        """
         return self._path
 
     @property
     def source_path(self) -> str:
-        """Same as :attr:`path` (the name the result objects use)."""
-        return self._path
+        """Where the bytes were read on this machine ('' if built in memory).
+
+        For a user's file the same as :attr:`path`; for a built-in one the
+        installed file.  Not for evidence: it depends on the install folder.
+        """
+        return self._source or self._path
+
+    @property
+    def builtin(self) -> bool:
+        """Whether the mask is a file of the built-in library."""
+        return self._path.startswith(BUILTIN_PREFIX)
 
     @property
     def sha256(self) -> str:

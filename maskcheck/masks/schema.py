@@ -1,11 +1,11 @@
-"""The mask-file format (``schema_version`` 1, 2 and 3) as pydantic models.
+"""The mask-file format (``schema_version`` 1 to 4) as pydantic models.
 
 A mask file is TOML; :mod:`maskcheck.masks.library` reads it and validates it
 with :class:`Mask`.  Every table forbids unknown keys, so a misspelt key is an
 error, not a silently ignored line.  The prose description for people who
 write masks is ``docs/mask-format.md``; :func:`mask_json_schema` gives the same
 structure as JSON Schema, and the package ships it as a versioned file
-(:func:`shipped_json_schema`, ``maskcheck/schema/mask-schema-v3.json``).
+(:func:`shipped_json_schema`, ``maskcheck/schema/mask-schema-v4.json``).
 
 This module is the public entry of the format; the parts live in
 
@@ -58,6 +58,12 @@ Version 3 grows the language so that real rule sets can be written down:
 * **when**: ``applies.when`` (a condition on the station, e.g. a power
   class) and ``applies.variant`` (e.g. an installation date) choose between
   variants of a rule.
+
+Version 4 adds ``applies.bands``: the carrier bands of a rule that covers
+several (``bands = [["150 MHz", "174 MHz"], ["421 MHz", "512 MHz"]]``), in
+place of the one range ``applies.fundamental``.  A carrier between the bands
+is outside the rule; the check refuses it unless asked to go on
+(``outside_bands=True``), and then it cannot pass.
 
 Quantities and constants are checked when the file loads; expressions are
 compiled when the file loads and evaluated when a station is known

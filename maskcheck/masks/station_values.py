@@ -32,6 +32,8 @@ __all__ = [
     "reference_power_w",
     "applies_when",
     "applies_to",
+    "bands_text",
+    "require_in_bands",
     "fundamental_exclusion_hz",
 ]
 
@@ -153,8 +155,17 @@ def applies_when(mask: Mask, variables: dict) -> tuple[bool | None, str]:
     return False, f"the mask's condition '{cond.text}'{variant} does not hold for this station"
 
 
+def bands_text(mask: Mask) -> str:
+    """The mask's carrier bands in words: ``"150 MHz – 174 MHz and 421 MHz – 512 MHz"``."""
+    spans = [f"{format_frequency(lo)} – {format_frequency(hi)}" for lo, hi in mask.applies.carrier_bands]
+    return spans[0] if len(spans) == 1 else ", ".join(spans[:-1]) + " and " + spans[-1]
+
+
 def applies_to(mask: Mask, carrier_hz: float) -> tuple[bool, str]:
-    """Whether ``carrier_hz`` is inside the mask's carrier range, with the reason.
+    """Whether ``carrier_hz`` is inside one of the mask's carrier bands, with the reason.
+
+    A carrier between two bands (380 MHz for a rule of 150-174 and 421-512
+    MHz) is outside: the rule says nothing about it.
 
     Examples
     --------
@@ -163,13 +174,51 @@ def applies_to(mask: Mask, carrier_hz: float) -> tuple[bool, str]:
     False
     """
     check_station(1.0, None, carrier_hz)
-    lo_v, hi_v = mask.applies.fundamental
-    lo, hi = lo_v.constant(), hi_v.constant()
-    span = f"{format_frequency(lo)} – {format_frequency(hi)}"
+    bands = mask.applies.carrier_bands
+    what = "the carrier range" if len(bands) == 1 else "the carrier bands"
     where = f"{format_frequency(carrier_hz)}"
-    if lo <= carrier_hz <= hi:
-        return True, f"the carrier {where} is inside {span}, the carrier range of mask {mask.id}"
-    return False, f"the carrier {where} is outside {span}, the carrier range of mask {mask.id}"
+    if any(lo <= carrier_hz <= hi for lo, hi in bands):
+        return True, f"the carrier {where} is inside {bands_text(mask)}, {what} of mask {mask.id}"
+    return False, f"the carrier {where} is outside {bands_text(mask)}, {what} of mask {mask.id}"
+
+
+def require_in_bands(mask: Mask, carrier_hz: float, *, outside_bands: bool = False) -> str:
+    """Refuse a carrier outside the mask's bands, unless ``outside_bands`` asks to go on.
+
+    Returns
+    -------
+    str
+        ``""`` when the carrier is inside a band; with ``outside_bands`` and a
+        carrier outside them, the sentence every output repeats (a check made
+        so cannot pass).
+
+    Raises
+    ------
+    StationError
+        ``param="carrier_hz"``, naming the bands, when the carrier is outside
+        them and ``outside_bands`` is false.
+
+    Examples
+    --------
+    >>> from maskcheck.masks import load_mask
+    >>> require_in_bands(load_mask("us-amateur-vhf-30-225mhz"), 146e6)
+    ''
+    """
+    ok, _ = applies_to(mask, carrier_hz)
+    if ok:
+        return ""
+    bands = mask.applies.carrier_bands
+    what = "range" if len(bands) == 1 else "bands"
+    if not outside_bands:
+        raise StationError(
+            f"carrier_hz={float(carrier_hz):.10g} is outside the carrier {what} of "
+            f"mask {mask.id}: {bands_text(mask)}; give a carrier inside them, choose the mask for this band, "
+            "or give outside_bands=True to check it anyway (the result then cannot pass)",
+            param="carrier_hz",
+        )
+    return (f"OUTSIDE THE RULE'S BANDS: the carrier {format_frequency(carrier_hz)} is outside the carrier "
+            f"{what} of mask {mask.id} ({bands_text(mask)}); the rule does not cover it, so no check "
+            "against this mask can pass there")
 
 
 def fundamental_exclusion_hz(mask: Mask, carrier_hz: float) -> tuple[float, str]:

@@ -112,6 +112,7 @@ INTRODUCED: tuple[Introduced, ...] = (
     Introduced(3, "mask", "reference_power.bandwidth and .note",
                lambda m: _given(m.reference_power, ("bandwidth", "note"), "reference_power.")),
     Introduced(3, "mask", "applies.when and .variant", lambda m: _given(m.applies, ("when", "variant"), "applies.")),
+    Introduced(4, "mask", "several carrier bands (applies.bands)", lambda m: _given(m.applies, ("bands",), "applies.")),
     Introduced(2, "region", "region kinds out-of-band and occupied-bandwidth",
                lambda r: [f"kind = {r.kind!r}"] if r.kind != "spurious" else []),
     Introduced(2, "region", "regions anchored on a domain or on offsets",

@@ -32,10 +32,10 @@ from __future__ import annotations
 
 import io
 import os
-from pathlib import Path
 
 from reportlab.lib.pagesizes import A4
 from reportlab.lib.units import mm
+from reportlab.lib.utils import simpleSplit
 from reportlab.pdfbase.pdfdoc import PDFArray, PDFDictionary, PDFName, PDFStream, PDFString
 from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import SimpleDocTemplate
@@ -44,6 +44,8 @@ from reportlab.platypus.tableofcontents import TableOfContents
 from .. import _version
 from ..core.result import CheckResult
 from ..io.output import check_writable, write_atomic
+from ..masks.library import mask_file
+from ..masks.models import BUILTIN_PREFIX
 from .cautions import SHORT_CAUTION
 from .figures import report_figures
 from .pdf_evidence import Attachment, closing_page, estimation_section, provenance_section, setup_section, uncertainty_section
@@ -57,6 +59,7 @@ from .pdf_findings import (
     warnings_section,
 )
 from .pdf_parts import ACCENT, INK, MARGIN, RULE, Parts, pdf_text, pdf_text_plain
+from .plot_axes import PALETTE
 
 __all__ = ["build_report", "write_report", "default_attachments", "Attachment", "pdf_text", "pdf_text_plain"]
 
@@ -124,7 +127,10 @@ def _page_furniture(result: CheckResult):
         canvas.setFont("Helvetica", 7)
         canvas.setFillColor(INK)
         station = result.station.name
+        outside = result.mask.outside_bands
         left = f"maskcheck emission screening | {result.mask.citation} | {result.verdict.upper()}"
+        if outside:
+            left += " | OUTSIDE THE RULE'S BANDS"
         canvas.drawString(MARGIN, h - 10.5 * mm, pdf_text_plain(left))
         canvas.drawRightString(w - MARGIN, h - 10.5 * mm, pdf_text_plain(f"{result.created_utc} UTC" if result.created_utc else ""))
         if station:
@@ -133,6 +139,13 @@ def _page_furniture(result: CheckResult):
             if len(text) > 90:
                 text = text[:87] + "..."
             canvas.drawString(MARGIN, h - 15 * mm, text)
+        if outside:  # on every page: the carrier is outside the mask's bands, checked on request
+            canvas.setFont("Helvetica-Bold", 6)
+            canvas.setFillColor(PALETTE["fail"])
+            lines = simpleSplit(pdf_text_plain(outside), "Helvetica-Bold", 6, w - 2 * MARGIN)[:2]
+            for i, line in enumerate(lines):
+                canvas.drawString(MARGIN, (14.8 + 2.2 * (len(lines) - 1 - i)) * mm, line)
+            canvas.setFillColor(INK)
         canvas.setStrokeColor(RULE)
         canvas.setLineWidth(0.5)
         canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
@@ -160,19 +173,22 @@ def default_attachments(result: CheckResult) -> tuple[list[Attachment], list[str
                        "the result of the check, as maskcheck --json writes it", "application/json")]
     notes = []
     m = result.mask
-    if m.path:
-        p = Path(m.path)
+    source = mask_file(m.path)
+    if source is not None:
         try:
-            data = p.read_bytes()
+            data = source.read_bytes()
         except OSError as exc:
             notes.append(f"The mask file {m.path} could not be read ({exc.strerror}), so it is not attached.")
         else:
-            a = Attachment(p.name, data, f"the mask file {m.id} the check used", "application/toml")
+            a = Attachment(f"{m.id}.toml" if m.path.startswith(BUILTIN_PREFIX) else source.name, data,
+                           f"the mask file {m.id} the check used", "application/toml")
             if m.sha256 and a.sha256 != m.sha256:
                 notes.append(f"The mask file {m.path} has changed since the check (SHA-256 {a.sha256}, recorded {m.sha256}), "
                              "so it is not attached.")
             else:
                 atts.append(a)
+    elif m.path:
+        notes.append(f"The mask file {m.path} is not in this installation's library, so it is not attached.")
     else:
         notes.append(f"The mask {m.id} was built in memory, not read from a file, so no mask file is attached.")
     return atts, notes

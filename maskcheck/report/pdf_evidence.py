@@ -21,6 +21,7 @@ from reportlab.platypus import CondPageBreak, PageBreak, Spacer
 from ..core.records import CorrectionRecord, EstimationRecord, InstrumentRecord
 from ..core.result import CheckResult
 from ..core.units import format_frequency, format_power
+from ..masks.models import BUILTIN_PREFIX
 from .cautions import DISCLAIMER, SAFETY
 from .pdf_parts import Parts
 from .plot_axes import PALETTE
@@ -224,13 +225,21 @@ class Attachment:
         self.sha256 = hashlib.sha256(self.data).hexdigest()
 
 
+def _mask_name(result: CheckResult) -> str:
+    """The mask file as the evidence names it: ``builtin:<id>`` with the version that ships it, or the path as given."""
+    m = result.mask
+    if m.path.startswith(BUILTIN_PREFIX) and result.tool is not None:
+        return f"{m.path} (built into {result.tool.name} {result.tool.version})"
+    return m.path or m.id
+
+
 def provenance_section(x: Parts, result: CheckResult, attachments, notes=()) -> list:
     r = result
     out = [CondPageBreak(200), x.heading("Provenance")]
     w = x.width
     rows = [(f.path, f.sha256 or "not recorded") for f in r.inputs]
     m = r.mask
-    rows.append((f"{m.path or m.id} (mask file)", m.sha256 or "not recorded (mask built in memory)"))
+    rows.append((f"{_mask_name(r)} (mask file)", m.sha256 or "not recorded (mask built in memory)"))
     out += [x.sub("Input files and their SHA-256"), x.grid(("File", "SHA-256 of its bytes"), rows, [w - 100 * mm, 100 * mm], mono_cols=(1,))]
     tool = [] if r.tool is None else [("Name", r.tool.name), ("Version", r.tool.version)]
     tool += [("Mask", f"{m.id}, {m.citation}, edition: {m.edition}"), ("Created (UTC)", r.created_utc or "not recorded")]

@@ -94,6 +94,8 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     verdict.append(word, style=VERDICT_STYLES.get(result.verdict, "bold"))
     verdict.append(":" + meaning)
     console.print(verdict)
+    if mask.outside_bands:  # a check asked for outside the rule's bands (--outside-bands) cannot pass
+        console.print(Text(f"!! {mask.outside_bands}", style="bold red"))
     weak = weak_pass_note(result)
     if weak:
         console.print(Text(f"!! {weak}", style="bold yellow"))
@@ -209,14 +211,14 @@ def render_mask(mask, console: Console | None = None) -> None:
     console = console or Console()
     prov = mask.provenance
     console.print(Rule(f"mask {mask.id}", style="dim"))
-    lo, hi = mask.applies.fundamental
+    bands = " and ".join(f"{format_frequency(lo)} to {format_frequency(hi)}" for lo, hi in mask.applies.carrier_bands)
     facts = [
         ("Title", mask.title),
         ("Service", mask.service),
         ("Rule", f"{prov.authority} {prov.citation}"),
         ("Edition", prov.edition),
         ("Verified", "yes" if prov.verified else "no"),
-        ("Carrier range", f"{_value_text(lo)} to {_value_text(hi)}"),
+        ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
         ("Emission classes", ", ".join(mask.applies.emission_classes) or "any"),
         ("Reference power", mask.reference_power.kind),
         ("Carrier exclusion", f"+/- {_value_text(mask.fundamental.exclusion)} ({mask.fundamental.rationale})"),
@@ -225,6 +227,8 @@ def render_mask(mask, console: Console | None = None) -> None:
         facts.append(("Measuring", prov.measurement_note))
     if getattr(mask, "path", ""):
         facts.append(("File", mask.path))
+        if getattr(mask, "builtin", False):  # where this installation keeps it (not part of any evidence)
+            facts.append(("Installed at", str(mask.source_path)))
     if getattr(mask, "sha256", ""):
         facts.append(("SHA-256", mask.sha256))
     console.print(_facts(facts))
