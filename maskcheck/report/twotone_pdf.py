@@ -41,7 +41,7 @@ from reportlab.platypus import KeepTogether, SimpleDocTemplate, Spacer
 
 from .. import _version
 from ..core.spectrum import Spectrum
-from ..core.twotone import ORDERS, TwoToneResult
+from ..core.twotone import CLEAR_OF_FLOOR_DB, ORDERS, Product, TwoToneResult
 from ..core.units import format_frequency, w_to_dbm
 from ..io.output import check_writable, write_atomic
 from .cautions import SHORT_CAUTION
@@ -76,8 +76,19 @@ def _signed(v: float, fmt: str) -> str:
     return format(0.0, fmt) if text.lstrip("+-").strip("0.") == "" else text
 
 
-def _fmt_db(v: float | None) -> str:
+def _fmt_db(v) -> str:
+    if isinstance(v, str):
+        return v
     return "n/m" if v is None else _signed(v, ".1f")
+
+
+def _short(x, ref: str):
+    """A line's level for the ruler: a number, '<=-98.3' below the floor, or None (not measured)."""
+    if x.power_w is None:
+        return None
+    if x.below_floor:
+        return "<=" + _signed(x.at_most_dbc_tone if ref == "tone" else x.at_most_dbc_pep, ".1f")
+    return x.dbc_tone if ref == "tone" else x.dbc_pep
 
 
 def _lines(res: TwoToneResult) -> list[tuple[str, float, float | None, float | None, float | None, bool]]:
@@ -85,9 +96,13 @@ def _lines(res: TwoToneResult) -> list[tuple[str, float, float | None, float | N
     out = []
     for name, f, p in (("f1", res.f1_hz, res.tone1_w), ("f2", res.f2_hz, res.tone2_w)):
         out.append((name, f, _dbm(p), 10 * math.log10(p / res.tone_w), 10 * math.log10(p / res.pep_w), True))
-    for pr in res.products:
+    extra = list(res.products)
+    if res.carrier is not None:
+        extra += [res.carrier.leak, *res.carrier.images]
+    for pr in extra:
         lvl = None if pr.power_w is None else _dbm(pr.power_w)
-        out.append((f"IM{pr.order}", pr.freq_hz, lvl, pr.dbc_tone, pr.dbc_pep, False))
+        name = f"IM{pr.order}" if isinstance(pr, Product) else "C" if pr.name == "carrier leak" else "img"
+        out.append((name, pr.freq_hz, lvl, _short(pr, "tone"), _short(pr, "pep"), False))
     return out
 
 
@@ -193,7 +208,8 @@ def _footer(canvas, doc) -> None:
     canvas.restoreState()
 
 
-def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm") -> bytes:
+def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",
+                         resolution: str | None = None) -> bytes:
     """The two-tone PDF as bytes.
 
     Parameters
@@ -205,6 +221,8 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         The input files, each with ``path`` and ``sha256`` (attributes or keys).
     level_unit : str
         ``"dBm"`` or ``"dBFS"``.
+    resolution : str, optional
+        How the RBW was chosen (printed with the spectrum's settings).
 
     Returns
     -------
@@ -240,15 +258,31 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         ("mean power", f"{d['mean_dbm']:.2f} {level_unit} from f1 - 5 spacings to f2 + 5 spacings; "
                        f"PEP/mean {d['pep_to_mean_db']:.2f} dB"),
         ("line power", f"power in {res.band_hz:.6g} Hz around each line"),
-        ("spectrum", how),
+        ("spectrum", how + ("" if resolution is None else f"; RBW {resolution}")),
     ]
+    if res.floor_w is not None:
+        figures.append(("floor", f"{d['floor_db_re_one_tone']:.2f} dB re one tone in a line band; a line less than "
+                                 f"{CLEAR_OF_FLOOR_DB:g} dB above it is given as 'below the floor' with its bound"))
+    if res.carrier is not None:
+        c = res.carrier
+        figures.append(("suppressed carrier", f"{format_frequency(c.carrier_hz, 9)} ({c.sideband} sideband); leak "
+                                              f"{c.leak.describe('pep')} re PEP"))
+        figures.append(("opposite sideband", f"suppression {c.suppression_text()}"))
+    if spectrum.corrections is not None:
+        cr = spectrum.corrections
+        parts = "; ".join(f"{a.correction.name} {a.applied_min_db:+.2f} dB" for a in cr.applied)
+        figures.append(("level corrections", f"{cr.total_db_min:+.2f} to {cr.total_db_max:+.2f} dB added to every "
+                                             f"level ({cr.quantity}): {parts}"))
+    if spectrum.setup is not None and spectrum.setup.path:
+        figures.append(("setup file", spectrum.setup.path))
     story += [x.heading("What was found"), x.facts(figures)]
     fig = twotone_drawing(spectrum, res, x.width, 275.0, level_unit=level_unit)
     story.append(KeepTogether([
         x.heading("The spectrum around the tones"), fig,
         x.p("Above the frame, for each marked line: its name, its level in dB below one tone (the mean of the two tones' "
-            "powers) and below the PEP; n/m: the line lies outside the spectrum (not measured). A product level near the "
-            "reading floor measures the floor, not the amplifier.", "small"),
+            "powers) and below the PEP; n/m: the line lies outside the spectrum (not measured); <=: the line is below the "
+            "reading floor, and only this bound (the floor's power in its band) is known; C: the suppressed carrier, "
+            "img: the images of the tones (the opposite sideband).", "small"),
     ]))
     rows, tints = [], []
     for k in ORDERS:
@@ -258,12 +292,14 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         even = len(levels) == 2 and abs(levels[0] - levels[1]) < EQUAL_SIDES_DB
         for pr in pair:
             lvl = "not measured" if pr.power_w is None else f"{_dbm(pr.power_w):.2f}"
-            is_worst = worst is not None and pr is worst and not even
+            is_worst = worst is not None and pr is worst and not even and not pr.below_floor
             side = pr.side + (" (stronger)" if is_worst else " (sides equal)" if even else "")
-            rows.append([str(k), side, format_frequency(pr.freq_hz, 9), lvl,
-                         "not measured" if pr.dbc_tone is None else f"{pr.dbc_tone:.2f}",
-                         "not measured" if pr.dbc_pep is None else f"{pr.dbc_pep:.2f}"])
+            rows.append([str(k), side, format_frequency(pr.freq_hz, 9), lvl, pr.describe("tone"), pr.describe("pep")])
             tints.append(TINT["marginal"] if is_worst else None)
+    for ln in ([res.carrier.leak, *res.carrier.images] if res.carrier is not None else []) + list(res.other_lines):
+        lvl = "not measured" if ln.power_w is None else f"{_dbm(ln.power_w):.2f}"
+        rows.append(["-", ln.name, format_frequency(ln.freq_hz, 9), lvl, ln.describe("tone"), ln.describe("pep")])
+        tints.append(None)
     w = x.width
     story += [x.heading("The products"),
               x.grid(["order", "side", "frequency", f"level ({level_unit})", "dB re one tone", "dB re PEP"], rows,
@@ -285,7 +321,7 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
 
 
 def write_twotone_report(path, spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",
-                         force: bool = False):
+                         force: bool = False, resolution: str | None = None):
     """Build the two-tone PDF in memory, then write it atomically to ``path``.
 
     Returns
@@ -299,4 +335,5 @@ def write_twotone_report(path, spectrum: Spectrum, res: TwoToneResult, inputs, *
         target is then unchanged.
     """
     check_writable(path, force)
-    return write_atomic(path, build_twotone_report(spectrum, res, inputs, level_unit=level_unit), force=force)
+    return write_atomic(path, build_twotone_report(spectrum, res, inputs, level_unit=level_unit,
+                                                        resolution=resolution), force=force)
