@@ -229,3 +229,19 @@ def test_correction_on_a_recording_is_applied(tmp_path):
     _, corr = _run([rec, "--correction", str(table)], tmp_path, "b.json")
     assert corr["pep_dbm"] - plain["pep_dbm"] == pytest.approx(40.0, abs=1e-6)  # Closed form: the flat table
     assert corr["calibration"]["correction_table"] == str(table)
+
+
+def test_pad_on_an_uncalibrated_recording_is_refused(tmp_path, capsys):
+    # a pad added to levels relative to full scale gives no power: refused, never ignored
+    rec = _record(tmp_path, 250e3)
+    assert main(["twotone", rec, "--attenuator", "40dB", "--json", str(tmp_path / "x.json")]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "--attenuator" in err and "dBFS" in err
+    assert not (tmp_path / "x.json").exists()
+
+
+def test_too_coarse_rbw_on_a_recording_names_the_way_out(tmp_path, capsys):
+    rec = _record(tmp_path, 2e6)
+    assert main(["twotone", rec, "--full-scale", "0dBm", "--segment", "4096"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "not resolved" in err and "leave --rbw and --segment out" in err

@@ -100,7 +100,8 @@ def _read_resolved(args):
     recordings = [p for p in args.inputs if is_recording(p, args)]
     if args.rbw or args.segment or len(recordings) != len(args.inputs):
         got = read_input(args.inputs, args)
-        how = ("given (--rbw)" if args.rbw else "given (--segment)" if args.segment else "the trace's own")
+        how = ("the trace's own" if not recordings else "given (--rbw)" if args.rbw else
+               "given (--segment)" if args.segment else "as given (traces and recordings together)")
         return got, _stitch(got, label), {"method": how, "rbw_hz": None}
     # a locating pass at the finest resolution every recording affords, then the RBW from the spacing
     seg = LOCATE_MAX_SEGMENT
@@ -166,12 +167,20 @@ def run(args) -> int:
     label = " + ".join(args.inputs)
     got, spectrum, resolution = _read_resolved(args)
     if setup is not None:
+        if spectrum.level_scale == "dBFS":
+            # refused, never ignored: a pad added to levels relative to full scale gives no power
+            raise UnitError("correct levels at the transmitter output, but the recording is uncalibrated (dBFS): "
+                            "calibrate it with --full-scale or --ref-tone",
+                            where="--setup" if args.setup else "--attenuator")
         spectrum = setup.apply(spectrum)
     resolution["rbw_hz"] = float(spectrum.rbw_hz.min()) if spectrum.rbw_hz.min() == spectrum.rbw_hz.max() else None
     try:
         res = analyse_two_tone(spectrum, band_hz=band, carrier_hz=carrier)
     except SpectrumError as exc:
-        raise TraceError(exc.message, path=label, param=exc.param) from None
+        hint = ""
+        if "not resolved" in exc.message and len(traces) < len(args.inputs) and (args.rbw or args.segment):
+            hint = "; or leave --rbw and --segment out: the RBW of a recording is then chosen from the tone spacing"
+        raise TraceError(exc.message + hint, path=label, param=exc.param) from None
     unit = spectrum.level_scale
     inputs = list(got.inputs)
     if setup is not None and setup.path:
