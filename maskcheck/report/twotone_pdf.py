@@ -58,6 +58,9 @@ PLOT_HALF_SPAN_SPACINGS = 4.6
 #: The level axis spans at most this many dB below the highest reading.
 PLOT_DEPTH_DB = 140.0
 
+#: ruler labels of the carrier and images closer than this to another label are left out, points
+RULER_GAP_PT = 22.0
+
 #: The two sides of an order closer than this are reported as equal, dB.
 EQUAL_SIDES_DB = 0.01
 
@@ -80,6 +83,13 @@ def _fmt_db(v) -> str:
     if isinstance(v, str):
         return v
     return "n/m" if v is None else _signed(v, ".1f")
+
+
+def _level(x) -> str:
+    """A line's level for the table: the band power, a bound below the floor, or 'not measured'."""
+    if x.power_w is None:
+        return "not measured"
+    return ("<= " if x.below_floor else "") + f"{_dbm(x.power_w):.2f}"
 
 
 def _short(x, ref: str):
@@ -157,14 +167,21 @@ def twotone_drawing(spectrum: Spectrum, res: TwoToneResult, width_pt: float = 49
     rows_y = [bottom + ph + 22.0, bottom + ph + 13.5, bottom + ph + 5.0]
     for text, yy in zip(("line", "re tone", "re PEP"), rows_y):
         d.add(String(left - 4, yy, text, textAnchor="end", fontName="Helvetica", fontSize=5.5, fillColor=INK))
+    placed: list[float] = []
     for name, f, lvl, re_tone, re_pep, is_tone in _lines(res):
         if not lo <= f <= hi:
             continue
         color = _TONE if is_tone else _PRODUCT
         xx = float(ax.px(f))
-        d.add(String(xx, rows_y[0], name, textAnchor="middle", fontName="Helvetica-Bold", fontSize=6, fillColor=color))
-        for v, yy in ((re_tone, rows_y[1]), (re_pep, rows_y[2])):
-            d.add(String(xx, yy, _fmt_db(v), textAnchor="middle", fontName="Helvetica", fontSize=5.8, fillColor=INK))
+        # the carrier and the images come after the tones and products: their ruler labels give way
+        # where they would overprint one (the table lists them all)
+        if name in ("C", "img") and any(abs(xx - x0) < RULER_GAP_PT for x0 in placed):
+            pass
+        else:
+            placed.append(xx)
+            d.add(String(xx, rows_y[0], name, textAnchor="middle", fontName="Helvetica-Bold", fontSize=6, fillColor=color))
+            for v, yy in ((re_tone, rows_y[1]), (re_pep, rows_y[2])):
+                d.add(String(xx, yy, _fmt_db(v), textAnchor="middle", fontName="Helvetica", fontSize=5.8, fillColor=INK))
         if lvl is None:
             continue
         yl = float(ax.py(lvl))
@@ -271,8 +288,9 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
     if spectrum.corrections is not None:
         cr = spectrum.corrections
         parts = "; ".join(f"{a.correction.name} {a.applied_min_db:+.2f} dB" for a in cr.applied)
-        figures.append(("level corrections", f"{cr.total_db_min:+.2f} to {cr.total_db_max:+.2f} dB added to every "
-                                             f"level ({cr.quantity}): {parts}"))
+        total = (f"{cr.total_db_min:+.2f} dB" if cr.total_db_min == cr.total_db_max
+                 else f"{cr.total_db_min:+.2f} to {cr.total_db_max:+.2f} dB")
+        figures.append(("level corrections", f"{total} added to every level ({cr.quantity}): {parts}"))
     if spectrum.setup is not None and spectrum.setup.path:
         figures.append(("setup file", spectrum.setup.path))
     story += [x.heading("What was found"), x.facts(figures)]
@@ -291,13 +309,13 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         levels = [p.dbc_tone for p in pair if p.dbc_tone is not None]
         even = len(levels) == 2 and abs(levels[0] - levels[1]) < EQUAL_SIDES_DB
         for pr in pair:
-            lvl = "not measured" if pr.power_w is None else f"{_dbm(pr.power_w):.2f}"
+            lvl = _level(pr)
             is_worst = worst is not None and pr is worst and not even and not pr.below_floor
             side = pr.side + (" (stronger)" if is_worst else " (sides equal)" if even else "")
             rows.append([str(k), side, format_frequency(pr.freq_hz, 9), lvl, pr.describe("tone"), pr.describe("pep")])
             tints.append(TINT["marginal"] if is_worst else None)
     for ln in ([res.carrier.leak, *res.carrier.images] if res.carrier is not None else []) + list(res.other_lines):
-        lvl = "not measured" if ln.power_w is None else f"{_dbm(ln.power_w):.2f}"
+        lvl = _level(ln)
         rows.append(["-", ln.name, format_frequency(ln.freq_hz, 9), lvl, ln.describe("tone"), ln.describe("pep")])
         tints.append(None)
     w = x.width
