@@ -42,7 +42,8 @@ def _record(tmp_path, fs, *, a3=0.0, leak=0.0, gain=1.0, phase_deg=0.0, harmonic
 
 def _run(args, tmp_path, name="out.json"):
     out = tmp_path / name
-    rc = main(["twotone", *args, "--full-scale", "0dBm", "--json", str(out), "--quiet"])
+    cal = ["--full-scale", "0dBm"] if str(args[0]).endswith(".sigmf-meta") else []  # recordings only
+    rc = main(["twotone", *args, *cal, "--json", str(out), "--quiet"])
     return rc, (json.loads(out.read_text()) if rc == 0 else None)
 
 
@@ -245,3 +246,17 @@ def test_too_coarse_rbw_on_a_recording_names_the_way_out(tmp_path, capsys):
     assert main(["twotone", rec, "--full-scale", "0dBm", "--segment", "4096"]) == 2
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1 and "not resolved" in err and "leave --rbw and --segment out" in err
+
+
+def test_recording_options_on_traces_alone_are_refused_and_trace_is_honoured(tmp_path, capsys):
+    trace = _trace(tmp_path)
+    for opt in (["--full-scale", "0dBm"], ["--window", "hann"], ["--segment", "1024"], ["--trace", "max-hold"]):
+        assert main(["twotone", trace, *opt]) == 2, opt
+        err = capsys.readouterr().err.strip()
+        assert len(err.splitlines()) == 1 and opt[0] in err and "applies to IQ recordings" in err
+    # --trace on a recording changes the estimate and is recorded (on main it was ignored)
+    rec = _record(tmp_path, 250e3)
+    _, avg = _run([rec], tmp_path, "a.json")
+    _, mh = _run([rec, "--trace", "max-hold"], tmp_path, "b.json")
+    assert avg["resolution"]["trace"] == "average" and mh["resolution"]["trace"] == "max-hold"
+    assert mh["floor_db_re_one_tone"] > avg["floor_db_re_one_tone"]  # a max-hold floor reads higher

@@ -75,6 +75,29 @@ def _levels(args):
     return setup
 
 
+def _trace(args) -> str:
+    """The trace of a recording: ``--trace max-hold`` or the average (``auto``: no mask asks for a peak here)."""
+    return "max-hold" if args.trace == "max-hold" else "average"
+
+
+#: options that only recordings use, with their defaults: given for traces alone they are refused
+RECORDING_ONLY = {"segment": None, "full_scale": None, "ref_tone": None, "rate": None, "centre": None,
+                  "window": "blackmanharris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None}
+
+
+def _refuse_recording_options(args, traces) -> None:
+    """Refused, never ignored: an estimation or calibration option when every input is a trace."""
+    from ..errors import UnitError
+
+    if len(traces) != len(args.inputs):
+        return
+    for dest, default in RECORDING_ONLY.items():
+        if getattr(args, dest, default) != default:
+            opt = "--" + dest.replace("_", "-")
+            raise UnitError(f"applies to IQ recordings; every input is a trace ({traces[0]}), whose levels and RBW "
+                            "are its own", where=opt)
+
+
 def _read(args, *, rbw_hz=None):
     """Read every input; recordings with ``rbw_hz`` when given (the options otherwise)."""
     from argparse import Namespace
@@ -82,10 +105,10 @@ def _read(args, *, rbw_hz=None):
     from ._recording import read_input
 
     if rbw_hz is None:
-        return read_input(args.inputs, args)
+        return read_input(args.inputs, args, trace=_trace(args))
     a = Namespace(**vars(args))
     a.rbw, a.segment = f"{rbw_hz!r}Hz", None
-    return read_input(args.inputs, a)
+    return read_input(args.inputs, a, trace=_trace(args))
 
 
 def _read_resolved(args):
@@ -99,7 +122,7 @@ def _read_resolved(args):
     label = " + ".join(args.inputs)
     recordings = [p for p in args.inputs if is_recording(p, args)]
     if args.rbw or args.segment or len(recordings) != len(args.inputs):
-        got = read_input(args.inputs, args)
+        got = read_input(args.inputs, args, trace=_trace(args))
         how = ("the trace's own" if not recordings else "given (--rbw)" if args.rbw else
                "given (--segment)" if args.segment else "as given (traces and recordings together)")
         return got, _stitch(got, label), {"method": how, "rbw_hz": None}
@@ -112,7 +135,7 @@ def _read_resolved(args):
     seg = max(seg, 64)
     a = Namespace(**vars(args))
     a.segment = seg
-    located = read_input(args.inputs, a)
+    located = read_input(args.inputs, a, trace=_trace(args))
     coarse = _stitch(located, label)
     try:
         fa, fb = locate_tones(coarse)
@@ -164,6 +187,7 @@ def run(args) -> int:
         # refused, never ignored: the correction table of this release calibrates recordings only
         raise UnitError(f"applies to IQ recordings; {traces[0]} is a trace: give its chain with --setup or a fixed pad "
                         "with --attenuator", where="--correction")
+    _refuse_recording_options(args, traces)
     label = " + ".join(args.inputs)
     got, spectrum, resolution = _read_resolved(args)
     if setup is not None:
@@ -187,6 +211,8 @@ def run(args) -> int:
         from ..core.result import InputFile
 
         inputs.append(InputFile(setup.path, setup.sha256))
+    if len(traces) < len(args.inputs):
+        resolution["trace"] = _trace(args)
     data = {"inputs": [{"path": i.path, "sha256": i.sha256} for i in inputs], "level_unit": unit,
             "resolution": resolution, **res.to_dict(),
             "calibration": None if spectrum.calibration is None else spectrum.calibration.to_dict(),
