@@ -87,6 +87,10 @@ CLEAR_OF_FLOOR_DB = 6.0
 #: by 15 dB with a probability of about 3e-10 per point).
 OTHER_LINE_DB = 15.0
 
+#: and this far above the readings a line band away on both sides, dB (common practice,
+#: no published source: the skirt of a tone falls away on one side only)
+OTHER_LINE_PROMINENCE_DB = 10.0
+
 #: at most this many other lines are listed (the strongest)
 OTHER_LINES_MAX = 20
 
@@ -467,6 +471,10 @@ def analyse_two_tone(spectrum: Spectrum, *, band_hz: float | None = None, min_se
         for _, x in named:
             keep &= np.abs(f[idx] - x) > bw / 2
         idx = idx[keep]
+        # and out of its surroundings: a window's skirt is no line (a line band away on both sides)
+        around = np.maximum(p[np.clip(np.searchsorted(f, f[idx] - bw), 0, f.size - 1)],
+                            p[np.clip(np.searchsorted(f, f[idx] + bw), 0, f.size - 1)])
+        idx = idx[p[idx] >= around * 10 ** (OTHER_LINE_PROMINENCE_DB / 10)]
         chosen: list[int] = []
         for i in idx[np.argsort(p[idx])[::-1]]:  # strongest first; one line per band
             if all(abs(f[i] - f[j]) > bw for j in chosen):
