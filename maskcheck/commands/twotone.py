@@ -202,7 +202,8 @@ def run(args) -> int:
         res = analyse_two_tone(spectrum, band_hz=band, carrier_hz=carrier)
     except SpectrumError as exc:
         hint = ""
-        if "not resolved" in exc.message and len(traces) < len(args.inputs) and (args.rbw or args.segment):
+        about_rbw = "not resolved" in exc.message or "narrower RBW would tell" in exc.message
+        if about_rbw and len(traces) < len(args.inputs) and (args.rbw or args.segment):
             hint = "; or leave --rbw and --segment out: the RBW of a recording is then chosen from the tone spacing"
         raise TraceError(exc.message + hint, path=label, param=exc.param) from None
     unit = spectrum.level_scale

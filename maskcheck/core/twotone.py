@@ -293,9 +293,9 @@ def _not_resolved(spectrum: Spectrum, rbw: float, i1: int) -> SpectrumError | No
     spacing = max(w6 - single, step)
     need = spacing / RESOLVED_RBW / 4.0
     return SpectrumError(
-        f"the two tones are not resolved at RBW {rbw:.6g} Hz: the strongest line is {w6:.6g} Hz wide at -6 dB, where one "
-        f"line would be about {single:.3g} Hz, so two tones about {spacing:.3g} Hz apart are merged in it; measure with "
-        f"an RBW of at most {need:.3g} Hz (the tone spacing over {4 * RESOLVED_RBW:g})", param="rbw_hz")
+        f"the two tones are not resolved at RBW {rbw:.6g} Hz: the strongest line is {w6:.5g} Hz wide at -6 dB, where one "
+        f"line would be about {single:.5g} Hz, so two tones about {spacing:.4g} Hz apart are merged in it; measure with "
+        f"an RBW of at most {need:.3g} Hz (the tone spacing over {4 * RESOLVED_RBW:g})")
 
 
 def locate_tones(spectrum: Spectrum, *, min_separation_hz: float | None = None) -> tuple[float, float]:
