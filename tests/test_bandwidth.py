@@ -172,3 +172,70 @@ def test_xdb_fails_when_trace_does_not_fall_far_enough():
     p = np.exp(-0.5 * (f / 100) ** 2)
     with pytest.raises(SpectrumError, match="does not fall 26 dB"):
         xdb_bandwidth(_spec(f, p), 26.0)
+
+
+# --- issue 11, item 15: the occupied bandwidth of a trace with fewer than two points per RBW ---------
+
+
+def _gaussian_trace(sigma, rbw, points_per_rbw, phase=0.0):
+    """Readings of a Gaussian PSD (sigma) through a Gaussian RBW filter of noise bandwidth ``rbw``."""
+    df = rbw / points_per_rbw
+    n = int(10 * sigma / df) + 3
+    f = (np.arange(-n, n + 1) + phase) * df
+    sigma_read = np.hypot(sigma, rbw / np.sqrt(2 * np.pi))  # Closed form: Gaussian convolved with a Gaussian
+    p = rbw * stats.norm.pdf(f, scale=sigma_read) + 1e-300
+    return Spectrum(f + 146.52e6, p, rbw)
+
+
+@pytest.mark.parametrize("points_per_rbw", [0.25, 0.5, 1.0, 1.5])
+def test_sparse_points_bias_is_stated_and_matches_the_closed_form(points_per_rbw):
+    from maskcheck.core.bandwidth import sampling_bias
+
+    sigma = 1000.0
+    # Closed form: 99 % of a Gaussian lies within +-2.5758 sigma (scipy.stats.norm.ppf(0.995))
+    true_width = 2 * stats.norm.ppf(0.995) * sigma
+    rbw = 0.035 * true_width  # Common practice, no published source: an RBW of 1-5 % of the occupied bandwidth
+    errors = []
+    for phase in np.linspace(0, 1, 16, endpoint=False):
+        s = _gaussian_trace(sigma, rbw, points_per_rbw, phase)
+        obw = occupied_bandwidth(s)
+        errors.append(100 * (obw.width_hz / true_width - 1))
+    bias = sampling_bias(s, obw)
+    assert bias is not None and bias.points_per_rbw == pytest.approx(points_per_rbw)
+    # the stated mean bias is the one the traces show against the closed form (to 0.1 %)
+    assert bias.mean_pct == pytest.approx(float(np.mean(errors)), abs=0.1)
+    assert bias.low_pct - 0.5 <= min(errors) and max(errors) <= bias.high_pct + 0.5
+
+
+def test_enough_points_per_rbw_give_no_sampling_warning():
+    from maskcheck.core.bandwidth import sampling_bias
+
+    s = _gaussian_trace(1000.0, 180.0, 2.0)
+    assert sampling_bias(s, occupied_bandwidth(s)) is None  # negative control: 2 points per RBW
+
+
+def test_bandwidth_command_warns_about_sparse_points_with_the_bias(tmp_path, capsys, monkeypatch):
+    import json
+
+    from maskcheck.cli import main
+    from maskcheck.io.trace_write import write_trace
+
+    monkeypatch.setenv("COLUMNS", "250")
+    sigma = 1000.0
+    true_width = 2 * stats.norm.ppf(0.995) * sigma  # Closed form, as above
+    coarse, fine = tmp_path / "coarse.txt", tmp_path / "fine.txt"
+    write_trace(coarse, _gaussian_trace(sigma, 0.035 * true_width, 0.5, 0.3))
+    write_trace(fine, _gaussian_trace(sigma, 0.035 * true_width, 4.0, 0.3))
+    assert main(["bandwidth", str(coarse), "--json", str(tmp_path / "c.json")]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    # on main: nothing said about the sparse points
+    assert "0.5 points per RBW" in out and "off its true width on average" in out
+    d = json.loads((tmp_path / "c.json").read_text())
+    assert d["sampling"]["points_per_rbw"] == pytest.approx(0.5)
+    measured = 100 * (d["bandwidths"][0]["width_hz"] / true_width - 1)
+    assert d["sampling"]["gaussian_bias_low_pct"] - 0.5 <= measured <= d["sampling"]["gaussian_bias_high_pct"] + 0.5
+    assert any("points per RBW" in n for n in d["bandwidths"][0]["notes"])
+    # negative control: 4 points per RBW, no warning
+    assert main(["bandwidth", str(fine), "--json", str(tmp_path / "f.json")]) == 0
+    assert "points per RBW" not in capsys.readouterr().out
+    assert json.loads((tmp_path / "f.json").read_text())["sampling"] is None

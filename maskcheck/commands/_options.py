@@ -89,6 +89,7 @@ OPTIONS: dict[str, str] = {
     "beta": "--beta",
     "floor_threshold_db": "--floor-threshold",
     "band_hz": "--band",
+    "attenuator_db": "--attenuator",
     # plan
     "floor_margin_db": "--floor-margin",
     "extra_loss_db": "--attenuator",
@@ -115,6 +116,7 @@ NO_OPTION = frozenset({
     "mode",  # xdb_bandwidth: --inner is a flag of its own
     "reference_w",  # the reference power a mask's relative limits are below: computed by the check
     "window_half_hz",  # the fundamental window the check decided (--exclude sets exclude_hz)
+    "spacing_hz",  # twotone: the measured tone spacing
 })
 
 # Names replaced wherever they stand as a word: those with an underscore (they

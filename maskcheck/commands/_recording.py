@@ -13,7 +13,7 @@ import hashlib
 import time
 from dataclasses import dataclass, field
 
-__all__ = ["add_recording_options", "read_input", "InputSet", "is_recording"]
+__all__ = ["add_recording_options", "read_input", "InputSet", "is_recording", "open_input_recording"]
 
 #: seconds of work before a progress bar appears
 PROGRESS_AFTER_S = 2.0
@@ -158,15 +158,10 @@ def _duration(text: str) -> float:
     return v
 
 
-def read_recording(path, args, trace: str = "average"):
-    """Open and estimate one recording; return (RecordingSpectrum, [InputFile])."""
-    from ..core.result import InputFile
+def open_input_recording(path, args):
+    """Open one recording named on the command line (no samples read yet); raw I/Q needs its options."""
     from ..core.units import parse_frequency
-    from ..io.hashing import sha256_file
-    from ..io.iq import open_recording
-    from ..io.iq_spectrum import estimate_recording, reads_file_in_order
-
-    from ..io.iq import recording_kind
+    from ..io.iq import open_recording, recording_kind
 
     rate = parse_frequency(args.rate, what="--rate") if args.rate else None
     centre = parse_frequency(args.centre, what="--centre") if args.centre else None
@@ -178,7 +173,16 @@ def read_recording(path, args, trace: str = "average"):
             raise RecordingError(
                 f"is not a SigMF or WAV recording, so it is read as raw I/Q, which needs {', '.join(missing)} "
                 "(e.g. --format ci16_le --rate 2.4MHz --centre 7.1MHz)", path=path)
-    rec = open_recording(path, datatype=args.format, sample_rate_hz=rate, centre_hz=centre, i_channel=args.i_channel)
+    return open_recording(path, datatype=args.format, sample_rate_hz=rate, centre_hz=centre, i_channel=args.i_channel)
+
+
+def read_recording(path, args, trace: str = "average"):
+    """Open and estimate one recording; return (RecordingSpectrum, [InputFile])."""
+    from ..core.result import InputFile
+    from ..io.hashing import sha256_file
+    from ..io.iq_spectrum import estimate_recording, reads_file_in_order
+
+    rec = open_input_recording(path, args)
     kw = estimate_args(args, trace)
     in_order = reads_file_in_order(rec)
     hasher = hashlib.sha256() if in_order else None

@@ -26,7 +26,7 @@ def register(sub) -> None:
 def run(args) -> int:
     import json
 
-    from ..core.bandwidth import occupied_bandwidth, xdb_bandwidth
+    from ..core.bandwidth import occupied_bandwidth, sampling_bias, xdb_bandwidth
     from ..core.result import BandwidthFigure
     from ..core.units import parse_db
     from ..errors import SpectrumError, TraceError
@@ -48,7 +48,10 @@ def run(args) -> int:
     figures, notes = [], []
     try:
         obw = occupied_bandwidth(spectrum, beta, floor_threshold_db=floor)
-        figures.append(BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, beta, list(obw.warnings)))
+        # too few points per RBW bias the edges: say by how much (issue 11, item 15)
+        bias = sampling_bias(spectrum, obw)
+        obw_notes = list(obw.warnings) + ([] if bias is None else [bias.message(beta)])
+        figures.append(BandwidthFigure("occupied", obw.width_hz, obw.lower_hz, obw.upper_hz, beta, obw_notes))
     except SpectrumError as exc:
         raise TraceError(exc.message, path=args.trace, param=exc.param) from None
     try:
@@ -63,6 +66,7 @@ def run(args) -> int:
             "trace": {"path": args.trace, "sha256": spectrum.sha256},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
+            "sampling": None if bias is None else bias.to_dict(),
             "tool": {"name": "maskcheck", "version": __version__},
         }
         write_text(args.json, json.dumps(payload, indent=2, allow_nan=False) + "\n", force=args.force)

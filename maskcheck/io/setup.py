@@ -96,7 +96,8 @@ from ..core.units import format_frequency, parse_db, parse_duration, parse_frequ
 from .._toml import decode_text, key_path, loads
 from ..errors import MaskcheckError, SetupError, UnitError
 
-__all__ = ["SETUP_SCHEMA_VERSION", "CHAIN_KINDS", "SetupFile", "MeasurementSetup", "read_setup", "parse_setup"]
+__all__ = ["SETUP_SCHEMA_VERSION", "CHAIN_KINDS", "SetupFile", "MeasurementSetup", "read_setup", "parse_setup",
+           "ATTENUATOR_PART_NAME", "with_attenuator"]
 
 #: the version of the setup format this release reads
 SETUP_SCHEMA_VERSION = 1
@@ -541,3 +542,39 @@ def read_setup(path) -> MeasurementSetup:
         raise SetupError(f"cannot be read ({exc.strerror or exc})", path=p) from None
     text = decode_text(data, "setup files", lambda message, where: SetupError(message, path=p, where=where))
     return parse_setup(text, path=str(p), sha256=hashlib.sha256(data).hexdigest())
+
+
+#: the name of the chain part :func:`with_attenuator` adds (as the records and reports show it)
+ATTENUATOR_PART_NAME = "fixed attenuator given with the command"
+
+
+def with_attenuator(setup: MeasurementSetup | None, attenuator_db: float) -> MeasurementSetup:
+    """A setup whose chain ends with a fixed attenuator of ``attenuator_db`` ahead of the analyser.
+
+    The pad given on the command line (``--attenuator 40dB``) is one more
+    part of the chain, after those of ``setup`` (or the only part, without a
+    setup): :meth:`MeasurementSetup.apply` then corrects the readings and
+    records it exactly as a pad written in a setup file.  The returned setup
+    keeps the file's path and SHA-256 (it is still that file, plus the pad).
+
+    Parameters
+    ----------
+    setup : MeasurementSetup or None
+    attenuator_db : float
+        The pad's loss, dB, finite and >= 0.
+
+    Raises
+    ------
+    SetupError
+        For a negative or non-finite loss (``param="attenuator_db"``).
+    """
+    v = float(attenuator_db)
+    if not (math.isfinite(v) and v >= 0):
+        raise SetupError(f"attenuator_db={v:g} must be a finite loss >= 0 dB (a pad ahead of the analyser)",
+                         param="attenuator_db")
+    part = ChainPart(name=ATTENUATOR_PART_NAME, kind="attenuator", loss_db=v,
+                     notes="added on the command line, after the setup file's chain")
+    if setup is None:
+        return MeasurementSetup(SetupFile(schema_version=1, name="a fixed attenuator (no setup file)", chain=[part]))
+    file = setup.file.model_copy(update={"chain": [*setup.file.chain, part]})
+    return MeasurementSetup(file, setup.path, setup.sha256)

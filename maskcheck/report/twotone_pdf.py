@@ -41,7 +41,7 @@ from reportlab.platypus import KeepTogether, SimpleDocTemplate, Spacer
 
 from .. import _version
 from ..core.spectrum import Spectrum
-from ..core.twotone import ORDERS, TwoToneResult
+from ..core.twotone import CLEAR_OF_FLOOR_DB, ORDERS, Product, TwoToneResult
 from ..core.units import format_frequency, w_to_dbm
 from ..io.output import check_writable, write_atomic
 from .cautions import SHORT_CAUTION
@@ -57,6 +57,9 @@ PLOT_HALF_SPAN_SPACINGS = 4.6
 
 #: The level axis spans at most this many dB below the highest reading.
 PLOT_DEPTH_DB = 140.0
+
+#: ruler labels of the carrier and images closer than this to another label are left out, points
+RULER_GAP_PT = 22.0
 
 #: The two sides of an order closer than this are reported as equal, dB.
 EQUAL_SIDES_DB = 0.01
@@ -76,8 +79,26 @@ def _signed(v: float, fmt: str) -> str:
     return format(0.0, fmt) if text.lstrip("+-").strip("0.") == "" else text
 
 
-def _fmt_db(v: float | None) -> str:
+def _fmt_db(v) -> str:
+    if isinstance(v, str):
+        return v
     return "n/m" if v is None else _signed(v, ".1f")
+
+
+def _level(x) -> str:
+    """A line's level for the table: the band power, a bound below the floor, or 'not measured'."""
+    if x.power_w is None:
+        return "not measured"
+    return ("<= " if x.below_floor else "") + f"{_dbm(x.power_w):.2f}"
+
+
+def _short(x, ref: str):
+    """A line's level for the ruler: a number, '<=-98.3' below the floor, or None (not measured)."""
+    if x.power_w is None:
+        return None
+    if x.below_floor:
+        return "<=" + _signed(x.at_most_dbc_tone if ref == "tone" else x.at_most_dbc_pep, ".1f")
+    return x.dbc_tone if ref == "tone" else x.dbc_pep
 
 
 def _lines(res: TwoToneResult) -> list[tuple[str, float, float | None, float | None, float | None, bool]]:
@@ -85,9 +106,13 @@ def _lines(res: TwoToneResult) -> list[tuple[str, float, float | None, float | N
     out = []
     for name, f, p in (("f1", res.f1_hz, res.tone1_w), ("f2", res.f2_hz, res.tone2_w)):
         out.append((name, f, _dbm(p), 10 * math.log10(p / res.tone_w), 10 * math.log10(p / res.pep_w), True))
-    for pr in res.products:
+    extra = list(res.products)
+    if res.carrier is not None:
+        extra += [res.carrier.leak, *res.carrier.images]
+    for pr in extra:
         lvl = None if pr.power_w is None else _dbm(pr.power_w)
-        out.append((f"IM{pr.order}", pr.freq_hz, lvl, pr.dbc_tone, pr.dbc_pep, False))
+        name = f"IM{pr.order}" if isinstance(pr, Product) else "C" if pr.name == "carrier leak" else "img"
+        out.append((name, pr.freq_hz, lvl, _short(pr, "tone"), _short(pr, "pep"), False))
     return out
 
 
@@ -142,14 +167,21 @@ def twotone_drawing(spectrum: Spectrum, res: TwoToneResult, width_pt: float = 49
     rows_y = [bottom + ph + 22.0, bottom + ph + 13.5, bottom + ph + 5.0]
     for text, yy in zip(("line", "re tone", "re PEP"), rows_y):
         d.add(String(left - 4, yy, text, textAnchor="end", fontName="Helvetica", fontSize=5.5, fillColor=INK))
+    placed: list[float] = []
     for name, f, lvl, re_tone, re_pep, is_tone in _lines(res):
         if not lo <= f <= hi:
             continue
         color = _TONE if is_tone else _PRODUCT
         xx = float(ax.px(f))
-        d.add(String(xx, rows_y[0], name, textAnchor="middle", fontName="Helvetica-Bold", fontSize=6, fillColor=color))
-        for v, yy in ((re_tone, rows_y[1]), (re_pep, rows_y[2])):
-            d.add(String(xx, yy, _fmt_db(v), textAnchor="middle", fontName="Helvetica", fontSize=5.8, fillColor=INK))
+        # the carrier and the images come after the tones and products: their ruler labels give way
+        # where they would overprint one (the table lists them all)
+        if name in ("C", "img") and any(abs(xx - x0) < RULER_GAP_PT for x0 in placed):
+            pass
+        else:
+            placed.append(xx)
+            d.add(String(xx, rows_y[0], name, textAnchor="middle", fontName="Helvetica-Bold", fontSize=6, fillColor=color))
+            for v, yy in ((re_tone, rows_y[1]), (re_pep, rows_y[2])):
+                d.add(String(xx, yy, _fmt_db(v), textAnchor="middle", fontName="Helvetica", fontSize=5.8, fillColor=INK))
         if lvl is None:
             continue
         yl = float(ax.py(lvl))
@@ -193,7 +225,8 @@ def _footer(canvas, doc) -> None:
     canvas.restoreState()
 
 
-def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm") -> bytes:
+def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",
+                         resolution: str | None = None) -> bytes:
     """The two-tone PDF as bytes.
 
     Parameters
@@ -205,6 +238,8 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         The input files, each with ``path`` and ``sha256`` (attributes or keys).
     level_unit : str
         ``"dBm"`` or ``"dBFS"``.
+    resolution : str, optional
+        How the RBW was chosen (printed with the spectrum's settings).
 
     Returns
     -------
@@ -240,15 +275,32 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         ("mean power", f"{d['mean_dbm']:.2f} {level_unit} from f1 - 5 spacings to f2 + 5 spacings; "
                        f"PEP/mean {d['pep_to_mean_db']:.2f} dB"),
         ("line power", f"power in {res.band_hz:.6g} Hz around each line"),
-        ("spectrum", how),
+        ("spectrum", how + ("" if resolution is None else f"; RBW {resolution}")),
     ]
+    if res.floor_w is not None:
+        figures.append(("floor", f"{d['floor_db_re_one_tone']:.2f} dB re one tone in a line band; a line less than "
+                                 f"{CLEAR_OF_FLOOR_DB:g} dB above it is given as 'below the floor' with its bound"))
+    if res.carrier is not None:
+        c = res.carrier
+        figures.append(("suppressed carrier", f"{format_frequency(c.carrier_hz, 9)} ({c.sideband} sideband); leak "
+                                              f"{c.leak.describe('pep')} re PEP"))
+        figures.append(("opposite sideband", f"suppression {c.suppression_text()}"))
+    if spectrum.corrections is not None:
+        cr = spectrum.corrections
+        parts = "; ".join(f"{a.correction.name} {a.applied_min_db:+.2f} dB" for a in cr.applied)
+        total = (f"{cr.total_db_min:+.2f} dB" if cr.total_db_min == cr.total_db_max
+                 else f"{cr.total_db_min:+.2f} to {cr.total_db_max:+.2f} dB")
+        figures.append(("level corrections", f"{total} added to every level ({cr.quantity}): {parts}"))
+    if spectrum.setup is not None and spectrum.setup.path:
+        figures.append(("setup file", spectrum.setup.path))
     story += [x.heading("What was found"), x.facts(figures)]
     fig = twotone_drawing(spectrum, res, x.width, 275.0, level_unit=level_unit)
     story.append(KeepTogether([
         x.heading("The spectrum around the tones"), fig,
         x.p("Above the frame, for each marked line: its name, its level in dB below one tone (the mean of the two tones' "
-            "powers) and below the PEP; n/m: the line lies outside the spectrum (not measured). A product level near the "
-            "reading floor measures the floor, not the amplifier.", "small"),
+            "powers) and below the PEP; n/m: the line lies outside the spectrum (not measured); <=: the line is below the "
+            "reading floor, and only this bound (the floor's power in its band) is known; C: the suppressed carrier, "
+            "img: the images of the tones (the opposite sideband).", "small"),
     ]))
     rows, tints = [], []
     for k in ORDERS:
@@ -257,13 +309,15 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         levels = [p.dbc_tone for p in pair if p.dbc_tone is not None]
         even = len(levels) == 2 and abs(levels[0] - levels[1]) < EQUAL_SIDES_DB
         for pr in pair:
-            lvl = "not measured" if pr.power_w is None else f"{_dbm(pr.power_w):.2f}"
-            is_worst = worst is not None and pr is worst and not even
+            lvl = _level(pr)
+            is_worst = worst is not None and pr is worst and not even and not pr.below_floor
             side = pr.side + (" (stronger)" if is_worst else " (sides equal)" if even else "")
-            rows.append([str(k), side, format_frequency(pr.freq_hz, 9), lvl,
-                         "not measured" if pr.dbc_tone is None else f"{pr.dbc_tone:.2f}",
-                         "not measured" if pr.dbc_pep is None else f"{pr.dbc_pep:.2f}"])
+            rows.append([str(k), side, format_frequency(pr.freq_hz, 9), lvl, pr.describe("tone"), pr.describe("pep")])
             tints.append(TINT["marginal"] if is_worst else None)
+    for ln in ([res.carrier.leak, *res.carrier.images] if res.carrier is not None else []) + list(res.other_lines):
+        lvl = _level(ln)
+        rows.append(["-", ln.name, format_frequency(ln.freq_hz, 9), lvl, ln.describe("tone"), ln.describe("pep")])
+        tints.append(None)
     w = x.width
     story += [x.heading("The products"),
               x.grid(["order", "side", "frequency", f"level ({level_unit})", "dB re one tone", "dB re PEP"], rows,
@@ -285,7 +339,7 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
 
 
 def write_twotone_report(path, spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",
-                         force: bool = False):
+                         force: bool = False, resolution: str | None = None):
     """Build the two-tone PDF in memory, then write it atomically to ``path``.
 
     Returns
@@ -299,4 +353,5 @@ def write_twotone_report(path, spectrum: Spectrum, res: TwoToneResult, inputs, *
         target is then unchanged.
     """
     check_writable(path, force)
-    return write_atomic(path, build_twotone_report(spectrum, res, inputs, level_unit=level_unit), force=force)
+    return write_atomic(path, build_twotone_report(spectrum, res, inputs, level_unit=level_unit,
+                                                        resolution=resolution), force=force)
