@@ -168,3 +168,17 @@ def test_noise_peaks_and_the_wanted_emission_are_not_listed_as_discrete_emission
     listed = [e.freq_hz for e in r.emissions]
     assert listed == [pytest.approx(150.13e6)], listed
     assert all(e.floor_dbm is not None and e.level_dbm >= e.floor_dbm + 6.0 for e in r.emissions)
+
+
+def test_check_takes_attenuator_like_a_pad_in_a_setup_file(tmp_path):
+    # Closed form: a 40 dB pad adds 40 dB to every reading; the forgotten-attenuator trace, told of its pad,
+    # shows the spur 30 dB below a 400 W carrier and fails 97.307(d) (43 dB asked), as the uncorrected one must not pass
+    t = _write(tmp_path / "t.txt", _padded_hf_trace(pad_db=40.0, spur_dbc=-30.0))
+    base = ["check", str(t), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "400W", "--quiet"]
+    assert main(base + ["--json", str(tmp_path / "a.json")]) == 3
+    assert main(base + ["--attenuator", "40dB", "--json", str(tmp_path / "b.json")]) == 1
+    d = json.loads((tmp_path / "b.json").read_text())
+    assert d["verdict"] == "fail"
+    assert d["corrections"]["total_db_min"] == pytest.approx(40.0)
+    assert d["regions"][0]["worst_margin_db"] == pytest.approx(-13.0, abs=0.05)
+    assert main(base + ["--attenuator=-40dB"]) == 2

@@ -5,6 +5,7 @@ from __future__ import annotations
 from ._common import add_trace_options
 from ._outputs import add_output_options, check_output_options, write_outputs
 from ._recording import add_recording_options
+from ._setup_options import setup_from_args
 from .designator import add_emission_options
 
 __all__ = ["register", "run"]
@@ -21,6 +22,7 @@ def register(sub) -> None:
     c.add_argument("--authorized-bw", metavar="BW|necessary", help="authorised bandwidth: the occupied bandwidth must not exceed it ('necessary': the necessary bandwidth)")
     add_emission_options(c)
     c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
+    c.add_argument("--attenuator", metavar="DB", help="a fixed pad ahead of the analyser, e.g. 40dB, added to every reading (after the setup's chain)")
     c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--power-tolerance", metavar="DB",
@@ -74,7 +76,7 @@ def run(args) -> int:
     from ..masks.station_values import require_in_bands
 
     require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # before any input is read; check() decides again
-    setup = _read_setup(args)
+    setup = setup_from_args(args)
     from ._recording import choose_trace, read_input, worst_frame_check
 
     got = read_input(args.traces, args, trace=choose_trace(args, mask))
@@ -100,15 +102,3 @@ def run(args) -> int:
     result = worst_frame_check(result, got, judge)
     write_outputs(result, args)
     return result.exit_code
-
-
-def _read_setup(args):
-    """The ``--setup`` file, read before any work (issue 7); None without one."""
-    if not getattr(args, "setup", None):
-        return None
-    from ..errors import SetupError
-    from ..io.setup import read_setup
-
-    if getattr(args, "correction", None):
-        raise SetupError("give the chain in --setup or a --correction table, not both (the losses would be added twice)", where="--correction")
-    return read_setup(args.setup)

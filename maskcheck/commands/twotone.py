@@ -16,9 +16,9 @@ uses; the pad is one more chain part, :func:`maskcheck.io.setup.with_attenuator`
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 
+from ._setup_options import setup_from_args
 from ._common import add_trace_options, console
 from ._recording import add_recording_options
 
@@ -52,27 +52,6 @@ def register(sub) -> None:
     t.add_argument("--force", action="store_true", help="overwrite an existing JSON or PDF file")
     t.add_argument("--quiet", action="store_true", help="print no summary")
     t.set_defaults(run=run)
-
-
-def _levels(args):
-    """The setup (with the pad) that corrects the levels, or None; refused combinations raise first."""
-    from ..core.units import parse_db
-    from ..errors import SetupError, UnitError
-    from ..io.setup import read_setup, with_attenuator
-
-    setup = None
-    if args.setup:
-        if args.correction:
-            raise SetupError("give the chain in --setup or a --correction table, not both (the losses would be added "
-                             "twice)", where="--correction")
-        setup = read_setup(args.setup)
-    if args.attenuator:
-        pad = parse_db(args.attenuator, what="--attenuator")
-        if not (math.isfinite(pad) and pad >= 0):
-            raise UnitError(f"{args.attenuator!r} must be a loss of 0 dB or more (a pad ahead of the analyser)",
-                            where="--attenuator")
-        setup = with_attenuator(setup, pad)
-    return setup
 
 
 def _trace(args) -> str:
@@ -181,7 +160,7 @@ def run(args) -> int:
             raise OutputError("is given for both --json and --report; expected two different files", path=args.report)
     band = parse_frequency(args.band, what="--band", default_unit="Hz") if args.band else None
     carrier = parse_frequency(args.carrier, what="--carrier") if args.carrier else None
-    setup = _levels(args)
+    setup = setup_from_args(args)
     traces = [p for p in args.inputs if not is_recording(p, args)]
     if args.correction and traces:
         # refused, never ignored: the correction table of this release calibrates recordings only
