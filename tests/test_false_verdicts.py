@@ -182,3 +182,20 @@ def test_check_takes_attenuator_like_a_pad_in_a_setup_file(tmp_path):
     assert d["corrections"]["total_db_min"] == pytest.approx(40.0)
     assert d["regions"][0]["worst_margin_db"] == pytest.approx(-13.0, abs=0.05)
     assert main(base + ["--attenuator=-40dB"]) == 2
+
+
+def test_correction_table_is_applied_to_traces_and_recorded(tmp_path):
+    # Closed form: a flat 40 dB correction adds 40 dB to every reading, so the margin against an absolute
+    # or stated-power limit drops by exactly 40 dB; before, check ignored --correction for traces
+    t = _write(tmp_path / "t.txt", _padded_hf_trace(pad_db=40.0, spur_dbc=-30.0))
+    table = tmp_path / "pad.csv"
+    table.write_text("# flat 40 dB pad (invented)\nfrequency_mhz,correction_db\n0.001,40\n100,40\n")
+    base = ["check", str(t), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "400W", "--quiet"]
+    assert main(base + ["--correction", str(table), "--json", str(tmp_path / "c.json")]) == 1
+    d = json.loads((tmp_path / "c.json").read_text())
+    assert d["regions"][0]["worst_margin_db"] == pytest.approx(-13.0, abs=0.05)
+    assert d["spectrum"]["calibration"]["correction_table"] == str(table)
+    assert any(i["path"] == str(table) for i in d["inputs"])
+    # a table that does not reach the whole trace is refused, not extrapolated
+    table.write_text("frequency_mhz,correction_db\n1,40\n100,40\n")
+    assert main(base + ["--correction", str(table), "--force"]) == 2

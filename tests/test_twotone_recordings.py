@@ -218,9 +218,12 @@ def test_refused_combinations(tmp_path, capsys):
     table.write_text("frequency_mhz,correction_db\n1,40\n100,40\n")
     setup = tmp_path / "bench.toml"
     setup.write_text("schema_version = 1\n")
-    # --correction on a trace: refused, never ignored (on main it was silently ignored)
-    assert main(["twotone", trace, "--correction", str(table)]) == 2
-    assert "--correction" in capsys.readouterr().err
+    # --correction on a trace is applied as for a recording (it was silently ignored once):
+    # Closed form: a flat 40 dB table raises the PEP by exactly 40 dB
+    assert main(["twotone", trace, "--json", str(tmp_path / "p.json"), "--quiet"]) == 0
+    assert main(["twotone", trace, "--correction", str(table), "--json", str(tmp_path / "c.json"), "--quiet"]) == 0
+    plain, corrected = (json.loads((tmp_path / n).read_text()) for n in ("p.json", "c.json"))
+    assert corrected["pep_dbm"] - plain["pep_dbm"] == pytest.approx(40.0, abs=1e-9)
     assert main(["twotone", trace, "--setup", str(setup), "--correction", str(table)]) == 2
     capsys.readouterr()
     assert main(["twotone", trace, "--attenuator=-40dB"]) == 2

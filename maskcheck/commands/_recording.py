@@ -199,6 +199,31 @@ def read_recording(path, args, trace: str = "average"):
     return rs, files
 
 
+def _trace_correction(args):
+    """The ``--correction`` table for traces, or None (recordings read it with their calibration)."""
+    if not getattr(args, "correction", None):
+        return None
+    from ..io.correction import read_correction
+
+    return read_correction(args.correction)
+
+
+def _corrected(spectrum, table):
+    """A trace with the correction table added to every reading, recorded as its calibration.
+
+    The same table and interpolation as for a recording (linear in dB over
+    log frequency, no extrapolation: a trace beyond the table is refused).
+    """
+    from dataclasses import replace
+
+    from ..core.records import CalibrationRecord
+
+    gain_db = table.gain_db(spectrum.freq_hz)
+    cal = CalibrationRecord(level_scale="dBm", method="trace levels as read, plus the correction table",
+                            correction_table=str(table.path), calibrated=True)
+    return replace(spectrum, power_w=spectrum.power_w * 10.0 ** (gain_db / 10.0), calibration=cal)
+
+
 def read_input(paths, args, *, trace: str = "average") -> InputSet:
     """Read traces and recordings named on the command line (not yet stitched)."""
     from ..core.result import InputFile
@@ -206,6 +231,11 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
 
     spectra, inputs, recs = [], [], []
     traces = [p for p in paths if not is_recording(p, args)]
+    table = _trace_correction(args) if traces else None
+    if table is not None:
+        from ..io.hashing import sha256_file
+
+        inputs.append(InputFile(table.path, sha256_file(table.path)))
     for p in paths:
         if is_recording(p, args):
             rs, files = read_recording(p, args, trace)
@@ -214,7 +244,7 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
             recs.append(rs)
         else:
             (s,) = read_traces([p], args)
-            spectra.append(s)
+            spectra.append(s if table is None else _corrected(s, table))
             inputs.append(InputFile(s.source, s.sha256))
     if recs and traces:
         scales = {s.level_scale for s in spectra}

@@ -162,10 +162,6 @@ def run(args) -> int:
     carrier = parse_frequency(args.carrier, what="--carrier") if args.carrier else None
     setup = setup_from_args(args)
     traces = [p for p in args.inputs if not is_recording(p, args)]
-    if args.correction and traces:
-        # refused, never ignored: the correction table of this release calibrates recordings only
-        raise UnitError(f"applies to IQ recordings; {traces[0]} is a trace: give its chain with --setup or a fixed pad "
-                        "with --attenuator", where="--correction")
     _refuse_recording_options(args, traces)
     label = " + ".join(args.inputs)
     got, spectrum, resolution = _read_resolved(args)
