@@ -133,8 +133,16 @@ def _one_line(line: str, exc) -> str:
         line = line.replace(path, repr(path))
     problems = getattr(exc, "problems", None)
     if problems and len(problems) > 1 and "\n" in line:
-        head = line.split("\n", 1)[0]
-        line = "; ".join([head.rstrip(":; "), *(p.strip() for p in line.split("\n")[1:] if p.strip())])
+        # a file's several problems, one per line in the message: one line here, the file named once
+        head = line.split("\n", 1)[0].rstrip()
+        items = []
+        for q in problems:
+            q = str(q).strip()
+            for lead in ((f"{path}: ", f"{path}, ") if path else ()):
+                if q.startswith(lead):
+                    q = q[len(lead):]
+            items.append(q)
+        line = f"{head} " + "; ".join(items)
     return _quote(line)
 
 
