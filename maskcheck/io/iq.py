@@ -230,6 +230,7 @@ class Recording:
         block_samples = max(1, int(block_samples))
         outs = [np.empty(min(block_samples, max(count, 1)), np.complex64) for _ in range(nbuf)]
         direct = np.dtype(fmt.component) == np.dtype("<f4") and not fmt.packed24
+        is_float = np.dtype(fmt.component).kind == "f"  # only floating-point samples can be NaN or infinite
         # the file's bytes are hashed in a thread of their own while the caller works on the
         # samples, unless the samples are the bytes and get changed in place (swapped I/Q)
         background = hasher is not None and not (direct and self.swap_iq)
@@ -266,6 +267,8 @@ class Recording:
                     blk = out[:k]
                     if not direct:
                         _convert(raw, k, fmt, blk)
+                    if is_float:
+                        _check_finite(blk, start + count - left, self.data_path)
                     if self.swap_iq:
                         # (Q, I) pairs: x = I + jQ = j * conj(Q + jI)
                         np.conjugate(blk, out=blk)
@@ -337,6 +340,19 @@ def _read_exactly(fh, view: memoryview) -> int:
             break
         got += n
     return got
+
+
+def _check_finite(blk: np.ndarray, first: int, path) -> None:
+    """Refuse a NaN or infinite sample, naming its index (one sum per block; the exact search only on doubt)."""
+    flat = blk.view(np.float32)
+    with np.errstate(over="ignore", invalid="ignore"):
+        if math.isfinite(float(flat.sum())):
+            return
+    bad = np.flatnonzero(~np.isfinite(flat))
+    if bad.size:  # else the sum overflowed on large finite samples
+        i = int(bad[0])
+        raise RecordingError(f"holds a sample that is not finite ({float(flat[i])!r} in its {'IQ'[i % 2]} part); "
+                             "expected finite IQ samples", path=path, where=f"sample {first + i // 2}")
 
 
 def _convert(raw: bytearray, k: int, fmt: _Format, out: np.ndarray) -> None:
