@@ -607,6 +607,8 @@ def _archive_meta(archive: Path) -> bytes:
         reason = str(exc).splitlines()[0].rstrip(":") if str(exc) else type(exc).__name__
         if "could not be opened" in reason:
             reason = "not a tar file"
+        elif "end of data" in reason or "empty header" in reason:
+            reason = f"truncated: {reason}"
         raise RecordingError(f"is not a usable tar file ({reason}); {expected}", path=archive) from None
     except OSError as exc:
         raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=archive) from None
