@@ -193,3 +193,39 @@ def test_ctrl_c_during_simulate_exits_130_and_leaves_no_folder(tmp_path):
     assert "Traceback" not in err
     assert len(err.strip().splitlines()) == 1
     assert not out.exists()
+
+
+def test_ctrl_c_after_the_first_output_of_check_removes_it_and_says_so(tmp_path, capsys, monkeypatch):
+    # the JSON is written, then Ctrl-C lands while the PDF is built: on main the JSON stayed and the
+    # message said "nothing was written"
+    t = _trace(tmp_path / "t.txt")
+    import maskcheck.report.pdf as pdf
+
+    def interrupted(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(pdf, "write_report", interrupted)
+    before = _tree(tmp_path)
+    code = main(["check", str(t), *CHECK, "--json", str(tmp_path / "r.json"), "--report", str(tmp_path / "r.pdf")])
+    assert code == 130
+    err = capsys.readouterr().err.strip()
+    assert "nothing was written" not in err and "removed" in err
+    assert len(err.splitlines()) == 1
+    assert _tree(tmp_path) == before
+
+
+def test_an_output_name_with_a_newline_gets_one_quoted_line(tmp_path, capsys):
+    t = _trace(tmp_path / "t.txt")
+    bad = tmp_path / "no such folder" / "r\nx.json"
+    assert main(["check", str(t), *CHECK, "--json", str(bad)]) == 2
+    line = _one_error_line(capsys.readouterr().err)
+    assert repr(str(bad)) in line
+
+
+def test_a_newline_in_a_quoted_toml_key_stays_on_one_line(tmp_path, capsys):
+    t = _trace(tmp_path / "t.txt")
+    m = tmp_path / "m.toml"
+    m.write_text('"bad\\nkey" = 1\n' + (Path(__file__).resolve().parents[1] / "masks" / "us-amateur-hf-2003.toml").read_text())
+    assert main(["check", str(t), "--mask", str(m), "--carrier", "7.1MHz"]) == 2
+    line = _one_error_line(capsys.readouterr().err)
+    assert "bad\\nkey" in line
