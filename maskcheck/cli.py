@@ -103,6 +103,8 @@ def _run(args, outputs) -> int:
         line = _one_line(error_line(exc, args), exc)
         if outputs.remains:
             line += f" (outputs of this run left behind: {_names(outputs.remains)})"
+        elif outputs.undone:
+            line += f" (the {len(outputs.undone)} output file(s) this run had written were removed)"
         print(f"maskcheck: error: {line}", file=sys.stderr)
         return EXIT_USAGE
     except KeyboardInterrupt:

@@ -114,7 +114,8 @@ def test_a_mask_failing_only_at_check_time_leaves_no_simulated_files(tmp_path, c
     monkeypatch.setattr(checking, "check", fails)
     out = tmp_path / "sim"
     assert main(["simulate", str(FM), "--out", str(out), "--quiet"]) == 2
-    _one_error_line(capsys.readouterr().err)
+    line = _one_error_line(capsys.readouterr().err)
+    assert "this run had written were removed" in line
     assert not out.exists()  # on main: the recording and 13 wideband traces stayed
 
 
