@@ -415,3 +415,33 @@ def test_the_bounds_leave_the_examples_alone():
 
     for f in sorted((ROOT / "examples").glob("*.toml")):
         load_scenario(f)
+
+
+def test_a_trace_file_over_the_size_bound_is_refused_unread(tmp_path):
+    # a sparse file: its size is set without writing it, and the reader must refuse it from fstat alone
+    from maskcheck.io.trace_text import MAX_TRACE_BYTES
+
+    t = tmp_path / "huge.txt"
+    with open(t, "wb") as fh:
+        fh.truncate(MAX_TRACE_BYTES + 1)
+    _bounded(["check", t, *CHECK], [str(t), str(MAX_TRACE_BYTES)], tmp_path)
+
+
+def test_a_trace_from_a_pipe_is_read_in_blocks(tmp_path, capsys):
+    # negative control for the block reader: a trace arriving through a pipe is read whole, as from a file
+    t = _trace(tmp_path / "t.txt")
+    fifo = tmp_path / "pipe.txt"
+    os.mkfifo(fifo)
+    import threading
+
+    def feed():
+        with open(fifo, "wb") as fh:
+            fh.write(t.read_bytes())
+
+    th = threading.Thread(target=feed)
+    th.start()
+    try:
+        code = main(["check", str(fifo), *CHECK, "--quiet"])
+    finally:
+        th.join(timeout=30)
+    assert code in (0, 1, 3), capsys.readouterr().err
