@@ -15,7 +15,7 @@ from __future__ import annotations
 import re
 import tomllib
 
-__all__ = ["key_path", "syntax_error_position", "decode_text", "loads"]
+__all__ = ["key_path", "syntax_error_position", "decode_text", "loads", "MAX_DEPTH"]
 
 _POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 _AT_EOF = re.compile(r"\s*\(at end of document\)\s*$")
@@ -60,10 +60,68 @@ def decode_text(data: bytes, what: str, error) -> str:
         raise error(f"byte {exc.start} is not UTF-8; {what} are UTF-8 text", None) from None
 
 
+#: Deepest nesting of arrays and tables accepted in a maskcheck TOML file (the formats need 4 or 5 levels):
+#: deeper input is refused before a reader or a validator would follow it into a RecursionError.
+MAX_DEPTH = 32
+
+
+def _depth(doc) -> int:
+    """How deep arrays and tables nest in ``doc`` (without recursion; stops past :data:`MAX_DEPTH`)."""
+    deepest, stack = 0, [(doc, 1)]
+    while stack:
+        v, d = stack.pop()
+        if isinstance(v, (dict, list)):
+            deepest = max(deepest, d)
+            if deepest > MAX_DEPTH:
+                break
+            stack.extend((x, d + 1) for x in (v.values() if isinstance(v, dict) else v))
+    return deepest
+
+
+def _deep_line(text: str) -> str | None:
+    """The line where brackets and braces (outside strings and comments) first nest past :data:`MAX_DEPTH`."""
+    depth, line, quote, i, n = 0, 1, None, 0, len(text)
+    while i < n:
+        c = text[i]
+        if c == "\n":
+            line += 1
+            if quote in ('"', "'"):
+                quote = None  # a basic string ends at its line (a syntax error tomllib reports itself)
+        elif quote:
+            if c == "\\" and quote == '"':
+                i += 1
+            elif c == quote:
+                quote = None
+        elif c in "\"'":
+            quote = c
+        elif c == "#":
+            j = text.find("\n", i)
+            i = n if j < 0 else j
+            continue
+        elif c in "[{":
+            depth += 1
+            if depth > MAX_DEPTH:
+                return f"line {line}"
+        elif c in "]}":
+            depth -= 1
+        i += 1
+    return None
+
+
 def loads(text: str, error, *, hint: str = "") -> dict:
-    """Parse TOML ``text``; a syntax error becomes ``raise error(message, "line L, column C")``."""
+    """Parse TOML ``text``; a syntax error becomes ``raise error(message, "line L, column C")``.
+
+    Arrays and tables nested deeper than :data:`MAX_DEPTH` are refused (``tomllib`` itself follows
+    nesting by recursion, so a very deep file would end in a RecursionError).
+    """
+    deep = f"arrays or tables nest deeper than {MAX_DEPTH} levels; expected a maskcheck TOML file"
     try:
-        return tomllib.loads(text)
+        doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         message, where = syntax_error_position(exc, text)
         raise error(f"TOML syntax error: {message}{hint}", where) from None
+    except RecursionError:
+        raise error(deep, _deep_line(text)) from None
+    if _depth(doc) > MAX_DEPTH:
+        raise error(deep, _deep_line(text))
+    return doc

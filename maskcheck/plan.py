@@ -279,6 +279,9 @@ def plan_measurement(
         raise StationError(f"floor_margin_db={floor_margin_db:g} must be >= 0 (dB)", param="floor_margin_db")
     if not math.isfinite(extra_loss_db):
         raise StationError(f"extra_loss_db={extra_loss_db:g} is not finite (dB)", param="extra_loss_db")
+    if extra_loss_db < 0:
+        raise StationError(f"extra_loss_db={extra_loss_db:g} must be >= 0 (the loss of an attenuator, dB; a part with "
+                           "gain belongs in the setup file as kind = 'amplifier')", param="extra_loss_db")
     warnings: list[str] = []
     notes: list[str] = []
     fc = float(station.carrier_hz)

@@ -48,14 +48,9 @@ def run(args) -> int:
     from ..core.station import Station
     from ..core.units import parse_db, parse_frequency, parse_power
     from ..errors import SpectrumError, TraceError
-    from ..io.output import check_writable
     from ..masks.library import load_mask
 
-    # refuse before any work when an output exists
-    if args.json and args.json != "-":
-        check_writable(args.json, args.force)
-    if args.report:
-        check_writable(args.report, args.force)
+    # refuse before any work when an output exists, two outputs name one file, or --figures holds old figures
     check_output_options(args)
     carrier = parse_frequency(args.carrier, what="--carrier")
     power = parse_power(args.power, what="--power") if args.power else None

@@ -34,7 +34,7 @@ def run(args) -> int:
     from ..core.result import InputFile
     from ..core.units import format_frequency, format_power, parse_db
     from ..io.iq_write import write_sigmf
-    from ..io.output import check_writable
+    from ..io.output import check_writable, make_folder
     from ..io.trace_write import write_spans
     from ..sim.scenario import load_scenario, run_scenario
     from ._outputs import check_output_options, write_outputs
@@ -53,14 +53,12 @@ def run(args) -> int:
         mask = load_mask(mask_id, extra_dirs=args.mask_dir)
         args.json = args.json or str(out / "result.json")
         args.report = args.report or str(out / "report.pdf")
-    out.mkdir(parents=True, exist_ok=True)
-    # refuse before any work when an output exists
-    for p in (out / "fundamental.sigmf-meta", out / "fundamental.sigmf-data"):
-        check_writable(p, args.force)
-    for p in (args.json, args.report):
-        if p and p != "-":
-            check_writable(p, args.force)
-    check_output_options(args)
+    # the folder is noted in the run's ledger: a refusal, a failure or Ctrl-C later removes it again
+    # (when this run created it) with everything this run wrote into it
+    make_folder(out)
+    # refuse before any work when an output exists or two outputs name one file
+    planned = [("--out", out / "fundamental.sigmf-meta"), ("--out", out / "fundamental.sigmf-data")]
+    check_output_options(args, planned)
     sim = run_scenario(sc, path=args.scenario)
     notes = [f"SIMULATED by maskcheck from scenario {args.scenario} (sha256 {sha}): {sc.name}",
              "a simulation, not a measurement of any real equipment"]

@@ -72,7 +72,11 @@ __all__ = [
     "TRACES",
     "FRAME_BUDGET_BYTES",
     "FAST_LENGTH_TOLERANCE",
+    "MAX_SEGMENT_SAMPLES",
 ]
+
+#: Longest Welch segment, samples (2**24: a window and its FFT buffers of a few hundred MiB).
+MAX_SEGMENT_SAMPLES = 1 << 24
 
 #: Windows offered, with their use (methods sheet 1.1; common practice).
 WINDOWS = {
@@ -279,6 +283,14 @@ def plan_welch(
     if rbw_hz is not None:
         if not (math.isfinite(rbw_hz) and rbw_hz > 0):
             raise SpectrumError(f"rbw_hz={rbw_hz:g} must be a finite number > 0 (the RBW, Hz)", param="rbw_hz")
+        # every window's noise bandwidth is at least one bin (N sum w^2 >= (sum w)^2, Cauchy-Schwarz), so the
+        # segment is at least sample_rate / rbw samples: refused from that bound before any window is built
+        if sample_rate_hz / rbw_hz > MAX_SEGMENT_SAMPLES:
+            raise SpectrumError(
+                f"rbw_hz={rbw_hz:g} needs segments of at least {sample_rate_hz / rbw_hz:.6g} samples at "
+                f"{sample_rate_hz:g} samples/s, above the {MAX_SEGMENT_SAMPLES} a segment may hold (the RBW is too narrow)",
+                param="rbw_hz",
+            )
         n = max(2, round(window_enbw_bins(spec, 4096) * sample_rate_hz / rbw_hz))
         # ENBW in bins varies slightly with N: settle on the nearest integer
         for _ in range(3):
@@ -305,9 +317,9 @@ def plan_welch(
             f"segment length {segment_samples} is below 8 samples (rbw_hz is too wide for the sample rate)",
             param="rbw_hz",
         )
-    if segment_samples > 1 << 24:
+    if segment_samples > MAX_SEGMENT_SAMPLES:
         raise SpectrumError(
-            f"segment length {segment_samples} is above {1 << 24} samples (rbw_hz is too narrow)", param="rbw_hz"
+            f"segment length {segment_samples} is above {MAX_SEGMENT_SAMPLES} samples (rbw_hz is too narrow)", param="rbw_hz"
         )
     overlap_samples = min(int(round(overlap * segment_samples)), segment_samples - 1)
     return WelchPlan(float(sample_rate_hz), window, None if window != "kaiser" else float(kaiser_beta),

@@ -80,7 +80,9 @@ def read_correction(path) -> CorrectionTable:
         raise CorrectionError(f"cannot be read as text: {exc}", path=p) from None
     factor = None
     freqs, values = [], []
-    for lineno, line in enumerate(text.splitlines(), 1):
+    # split at "\n" only: str.splitlines also breaks at a form feed or U+2028 inside a comment, which would
+    # shift every line number after it
+    for lineno, line in enumerate(text.split("\n"), 1):
         s = line.strip()
         if not s or s.startswith("#"):
             continue

@@ -41,9 +41,11 @@ from __future__ import annotations
 
 import json
 import math
+import os
 import queue
 import re
 import struct
+import tarfile
 import threading
 import warnings
 from dataclasses import dataclass, field
@@ -228,6 +230,7 @@ class Recording:
         block_samples = max(1, int(block_samples))
         outs = [np.empty(min(block_samples, max(count, 1)), np.complex64) for _ in range(nbuf)]
         direct = np.dtype(fmt.component) == np.dtype("<f4") and not fmt.packed24
+        is_float = np.dtype(fmt.component).kind == "f"  # only floating-point samples can be NaN or infinite
         # the file's bytes are hashed in a thread of their own while the caller works on the
         # samples, unless the samples are the bytes and get changed in place (swapped I/Q)
         background = hasher is not None and not (direct and self.swap_iq)
@@ -264,6 +267,8 @@ class Recording:
                     blk = out[:k]
                     if not direct:
                         _convert(raw, k, fmt, blk)
+                    if is_float:
+                        _check_finite(blk, start + count - left, self.data_path)
                     if self.swap_iq:
                         # (Q, I) pairs: x = I + jQ = j * conj(Q + jI)
                         np.conjugate(blk, out=blk)
@@ -335,6 +340,19 @@ def _read_exactly(fh, view: memoryview) -> int:
             break
         got += n
     return got
+
+
+def _check_finite(blk: np.ndarray, first: int, path) -> None:
+    """Refuse a NaN or infinite sample, naming its index (one sum per block; the exact search only on doubt)."""
+    flat = blk.view(np.float32)
+    with np.errstate(over="ignore", invalid="ignore"):
+        if math.isfinite(float(flat.sum())):
+            return
+    bad = np.flatnonzero(~np.isfinite(flat))
+    if bad.size:  # else the sum overflowed on large finite samples
+        i = int(bad[0])
+        raise RecordingError(f"holds a sample that is not finite ({float(flat[i])!r} in its {'IQ'[i % 2]} part); "
+                             "expected finite IQ samples", path=path, where=f"sample {first + i // 2}")
 
 
 def _convert(raw: bytearray, k: int, fmt: _Format, out: np.ndarray) -> None:
@@ -531,6 +549,130 @@ def open_wav(path, *, centre_hz=None, i_channel: str = "left") -> Recording:
 
 
 # -- SigMF ---------------------------------------------------------------------------
+#: Largest SigMF metadata read, bytes: the metadata is JSON read whole (captures and annotations can be
+#: many, but 64 MiB holds about a million annotations); a larger one is refused before it is read.
+MAX_META_BYTES = 64 << 20
+#: Deepest nesting of JSON arrays and objects accepted in SigMF metadata (the format itself needs 4).
+MAX_META_DEPTH = 64
+
+_JSON_KIND = {dict: "an object", list: "a list", str: "a string", bool: "true or false", type(None): "null",
+              int: "a number", float: "a number"}
+
+
+def _kind(value) -> str:
+    return _JSON_KIND.get(type(value), type(value).__name__)
+
+
+def _read_meta_bytes(meta: Path) -> bytes:
+    try:
+        with open(meta, "rb") as fh:
+            size = os.fstat(fh.fileno()).st_size
+            if size > MAX_META_BYTES:
+                raise RecordingError(f"holds {size} bytes of metadata, more than the {MAX_META_BYTES} accepted; "
+                                     "expected SigMF metadata (JSON)", path=meta)
+            return fh.read(MAX_META_BYTES + 1)
+    except OSError as exc:
+        if isinstance(exc, RecordingError):
+            raise
+        raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=meta) from None
+
+
+def _archive_meta(archive: Path) -> bytes:
+    """The metadata member of a ``.sigmf`` archive (a tar file), after checking that the archive is usable."""
+    expected = "expected a SigMF archive (a tar file holding one .sigmf-meta and its .sigmf-data)"
+    try:
+        size = archive.stat().st_size
+        if size == 0:
+            raise RecordingError(f"is empty; {expected}", path=archive)
+        with tarfile.open(archive, "r:") as tf:
+            members = tf.getmembers()
+            metas = [m for m in members if m.isfile() and m.name.endswith(".sigmf-meta")]
+            datas = [m for m in members if m.isfile() and m.name.endswith(".sigmf-data")]
+            if not metas:
+                raise RecordingError(f"holds no .sigmf-meta member; {expected}", path=archive)
+            if not datas:
+                raise RecordingError(f"holds no .sigmf-data member; {expected}", path=archive)
+            for m in members:
+                if m.isfile() and m.offset_data + m.size > size:
+                    raise RecordingError(f"member {m.name!r} needs {m.offset_data + m.size} bytes, the file has {size} "
+                                         f"(truncated); {expected}", path=archive)
+            if metas[0].size > MAX_META_BYTES:
+                raise RecordingError(f"member {metas[0].name!r} holds {metas[0].size} bytes of metadata, more than the "
+                                     f"{MAX_META_BYTES} accepted", path=archive)
+            fh = tf.extractfile(metas[0])
+            return fh.read() if fh is not None else b""
+    except RecordingError:
+        raise
+    except (tarfile.TarError, EOFError) as exc:
+        reason = str(exc).splitlines()[0].rstrip(":") if str(exc) else type(exc).__name__
+        if "could not be opened" in reason:
+            reason = "not a tar file"
+        elif "end of data" in reason or "empty header" in reason:
+            reason = f"truncated: {reason}"
+        raise RecordingError(f"is not a usable tar file ({reason}); {expected}", path=archive) from None
+    except OSError as exc:
+        raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=archive) from None
+
+
+def _depth(doc) -> int:
+    """How deep JSON arrays and objects nest in ``doc`` (without recursion; stops past :data:`MAX_META_DEPTH`)."""
+    deepest, stack = 0, [(doc, 1)]
+    while stack:
+        v, d = stack.pop()
+        if isinstance(v, (dict, list)):
+            deepest = max(deepest, d)
+            if deepest > MAX_META_DEPTH:
+                break
+            stack.extend((x, d + 1) for x in (v.values() if isinstance(v, dict) else v))
+    return deepest
+
+
+def _check_meta(data: bytes, meta: Path, member: bool = False) -> None:
+    """Refuse SigMF metadata that is not JSON, nests too deep, or holds a wrong JSON type at a key we read.
+
+    Each refusal names the key (``global/core:datatype``, ``captures[2]/core:frequency``).
+    """
+    what = "its .sigmf-meta member " if member else ""
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        raise RecordingError(f"{what}is not UTF-8 text; SigMF metadata is JSON", path=meta) from None
+    deep = f"{what}nests JSON arrays or objects deeper than {MAX_META_DEPTH} levels; expected SigMF metadata"
+    try:
+        doc = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise RecordingError(f"{what}is not valid JSON: {exc.msg} at line {exc.lineno} column {exc.colno}", path=meta) from None
+    except RecursionError:
+        raise RecordingError(deep, path=meta) from None
+    if _depth(doc) > MAX_META_DEPTH:
+        raise RecordingError(deep, path=meta)
+
+    def need(value, types, where, expected):
+        if not isinstance(value, types) or (isinstance(value, bool) and bool not in types):
+            raise RecordingError(f"is {_kind(value)}; expected {expected}", path=meta, where=where)
+
+    need(doc, (dict,), "(top level)", "an object with 'global', 'captures' and 'annotations'")
+    need(doc.get("global"), (dict,), "global", "an object of global fields")
+    g = doc["global"]
+    dt = g.get("core:datatype")
+    if dt is not None:
+        need(dt, (str,), "global/core:datatype", "a datatype string such as cf32_le")
+        _datatype(dt, path=meta, where="global/core:datatype")
+    for key in ("core:sample_rate", "core:offset", "core:num_channels", "core:trailing_bytes"):
+        if key in g:
+            need(g[key], (int, float), f"global/{key}", "a number")
+    for section, numbers in (("captures", ("core:sample_start", "core:frequency", "core:global_index", "core:header_bytes")),
+                             ("annotations", ("core:sample_start", "core:sample_count", "core:freq_lower_edge",
+                                              "core:freq_upper_edge"))):
+        items = doc.get(section, [])
+        need(items, (list,), section, f"a list of {section[:-1]} objects")
+        for i, item in enumerate(items):
+            need(item, (dict,), f"{section}[{i}]", f"an object (one {section[:-1]})")
+            for key in numbers:
+                if key in item:
+                    need(item[key], (int, float), f"{section}[{i}]/{key}", "a number")
+
+
 def open_sigmf(path, *, centre_hz=None) -> Recording:
     """Open a SigMF recording (metadata through the ``sigmf`` package)."""
     import jsonschema
@@ -549,17 +691,12 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
     sibling = meta.with_name(meta.name[: -len(".sigmf-meta")] + ".sigmf-data") if meta.name.endswith(".sigmf-meta") else None
     if sibling is not None and sibling.is_file() and sibling.stat().st_size == 0:
         raise RecordingError("holds no samples (the dataset is empty); expected a recording", path=sibling)
+    # the metadata JSON is read and its types checked here first: the sigmf package follows deep nesting into a
+    # RecursionError, and a wrong JSON type (a number for the datatype) into an AttributeError
     if meta.name.endswith(".sigmf-meta"):
-        # check the JSON first: sigmf.fromfile leaves the file open when the JSON is broken
-        try:
-            with open(meta, "rb") as fh:
-                json.loads(fh.read())
-        except json.JSONDecodeError as exc:
-            raise RecordingError(f"is not valid JSON: {exc.msg} at line {exc.lineno} column {exc.colno}", path=meta) from None
-        except UnicodeDecodeError:
-            raise RecordingError("is not UTF-8 text; a .sigmf-meta file is JSON", path=meta) from None
-        except OSError as exc:
-            raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=meta) from None
+        _check_meta(_read_meta_bytes(meta), meta)
+    elif meta.name.lower().endswith(".sigmf"):
+        _check_meta(_archive_meta(meta), meta, member=True)
     caught = []
     try:
         with warnings.catch_warnings(record=True) as caught:
@@ -575,7 +712,10 @@ def open_sigmf(path, *, centre_hz=None) -> Recording:
     except jsonschema.ValidationError as exc:
         where = "/".join(str(x) for x in exc.absolute_path) or None
         raise RecordingError(f"does not follow the SigMF schema: {exc.message}", path=meta, where=where) from None
-    except (ValueError, TypeError, KeyError) as exc:  # what the package lets through from numpy and json
+    except RecursionError:
+        raise RecordingError(f"nests deeper than {MAX_META_DEPTH} levels; expected SigMF metadata", path=meta) from None
+    except (ValueError, TypeError, KeyError, AttributeError, IndexError, tarfile.TarError, EOFError) as exc:
+        # what the package lets through from numpy, json and tarfile
         raise RecordingError(f"cannot be read as SigMF: {str(exc).splitlines()[0] if str(exc) else type(exc).__name__}", path=meta) from None
     if not isinstance(h, sigmf.SigMFFile):
         raise RecordingError("is a SigMF collection; name one of its recordings", path=meta)

@@ -195,6 +195,12 @@ def estimate_recording(
         v = getattr(calibration, name)
         if v is not None and not (math.isfinite(v) and v > 0):
             raise RecordingError(f"{name}={float(v):g} must be a finite power > 0 (W)", path=rec.path, param=name)
+    if rbw_hz is not None and math.isfinite(rbw_hz) and rbw_hz > 0 and rec.sample_rate_hz / rbw_hz > rec.num_samples:
+        # a segment is at least sample_rate / rbw samples (any window): compared with the record before the
+        # window is built, so an RBW finer than the recording can give takes no memory
+        raise RecordingError(f"rbw_hz={rbw_hz:g} needs segments of at least {rec.sample_rate_hz / rbw_hz:.6g} samples, "
+                             f"more than the {rec.num_samples} of the recording (use a wider RBW or a longer recording)",
+                             path=rec.path, param="rbw_hz")
     plan = plan_welch(rec.sample_rate_hz, window=window, kaiser_beta=kaiser_beta, rbw_hz=rbw_hz,
                       segment_samples=segment_samples, overlap=overlap)
     groups = _group_captures(rec)

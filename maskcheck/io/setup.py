@@ -511,8 +511,16 @@ def parse_setup(text: str, *, path: str = "", sha256: str = "") -> MeasurementSe
             (where, msg), = problems
             raise SetupError(msg, path=label, where=where) from None
         lines = [f"{label}, {w}: {m}" for w, m in problems]
-        raise SetupError(f"{len(lines)} problems:\n" + "\n".join(lines), path=label, problems=lines) from None
-    return MeasurementSetup(model, path, sha256)
+        # one line, as scenario errors: the file named once, each problem with its key path
+        raise SetupError(f"{len(lines)} problems: " + "; ".join(f"{w}: {m}" for w, m in problems),
+                         path=label, problems=lines) from None
+    setup = MeasurementSetup(model, path, sha256)
+    try:  # the tables in Hz (a frequency in MHz can overflow to infinity there): checked now, with the file named
+        setup.chain_corrections()
+        setup.antenna_factor()
+    except MaskcheckError as exc:
+        raise SetupError(exc.message, path=label, where=exc.where, param=exc.param) from None
+    return setup
 
 
 def read_setup(path) -> MeasurementSetup:

@@ -50,6 +50,7 @@ from __future__ import annotations
 import math
 import os
 import re
+import stat
 import struct
 import threading
 import warnings
@@ -67,7 +68,7 @@ try:  # an optional accelerator; the numpy converter gives the same numbers
 except ImportError:  # pragma: no cover - depends on the installation
     _orjson = None
 
-__all__ = ["read_trace", "FREQ_UNITS", "LEVEL_UNITS"]
+__all__ = ["read_trace", "FREQ_UNITS", "LEVEL_UNITS", "MAX_LINE_BYTES", "MAX_TRACE_BYTES"]
 
 #: Frequency units a header or ``freq_unit`` may name, with their factor to Hz.
 FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
@@ -501,16 +502,73 @@ def _resolve(option, in_file, what, lineno, notes, path, missing_hint=""):
     return in_file
 
 
+#: Longest line a trace file may hold, bytes.  A data row is under 100 bytes and a header or note line
+#: a few hundred; a longer line is not a trace (a binary file, ``/dev/zero``), and is refused before the
+#: parser takes memory for it.
+MAX_LINE_BYTES = 1 << 20
+#: Largest trace file read, bytes (about 30 million readings): the reader holds the file in memory, so
+#: a larger one (or an endless stream) is refused before it is read.
+MAX_TRACE_BYTES = 1 << 30
+
+
 def _read_bytes(path) -> bytes:
+    """The file's bytes, with its size and its longest line checked against the bounds before parsing."""
     try:
         with open(path, "rb") as fh:
-            return fh.read()
+            st = os.fstat(fh.fileno())
+            if stat.S_ISREG(st.st_mode):
+                if st.st_size > MAX_TRACE_BYTES:
+                    raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_TRACE_BYTES} a trace file may hold; "
+                                     "expected a text trace (split the sweep into several files)", path=path)
+                raw = fh.read(MAX_TRACE_BYTES + 1)
+            else:  # a device or a pipe: read in blocks, every block checked before the next is taken
+                raw = _read_stream(fh, path)
+    except TraceError:
+        raise
     except FileNotFoundError:
         raise TraceError("file not found; expected a trace file", path=path) from None
     except IsADirectoryError:
         raise TraceError("is a directory; expected a trace file", path=path) from None
     except OSError as exc:
         raise TraceError(f"cannot be read ({exc.strerror or exc})", path=path) from None
+    _check_lines(raw, path)
+    return raw
+
+
+def _read_stream(fh, path) -> bytes:
+    blocks, total, run = [], 0, 0
+    while True:
+        b = fh.read(MAX_LINE_BYTES)
+        if not b:
+            return b"".join(blocks)
+        total += len(b)
+        i = b.find(b"\n")
+        if (run + (len(b) if i < 0 else i)) > MAX_LINE_BYTES:
+            line = sum(x.count(b"\n") for x in blocks) + 1
+            raise TraceError(f"is longer than {MAX_LINE_BYTES} bytes; expected a text trace "
+                             "(one reading per line)", path=path, where=line)
+        if total > MAX_TRACE_BYTES:
+            raise TraceError(f"holds more than the {MAX_TRACE_BYTES} bytes a trace file may hold; expected a text trace",
+                             path=path)
+        run = run + len(b) if i < 0 else len(b) - 1 - b.rfind(b"\n")
+        blocks.append(b)
+
+
+def _check_lines(raw: bytes, path) -> None:
+    """Refuse a line longer than :data:`MAX_LINE_BYTES` (memchr over blocks of that size: a few calls per MiB)."""
+    n, step, run, k = len(raw), MAX_LINE_BYTES, 0, 0
+    if n <= step:
+        return
+    while k < n:
+        end = min(k + step, n)
+        i = raw.find(b"\n", k, end)
+        if run + ((end - k) if i < 0 else (i - k)) > step:
+            start = k - run
+            line = raw.count(b"\n", 0, start) + 1
+            raise TraceError(f"is longer than {MAX_LINE_BYTES} bytes; expected a text trace "
+                             "(one reading per line)", path=path, where=line)
+        run = run + (end - k) if i < 0 else end - 1 - raw.rfind(b"\n", k, end)
+        k = end
 
 
 def read_trace(path, *, rbw_hz: float | str | None = None, freq_unit: str | None = None,

@@ -202,6 +202,17 @@ class Fundamental(Table):
     )
     rationale: Text = Field(description="why this width")
 
+    @field_validator("exclusion")
+    @classmethod
+    def _not_negative(cls, value):
+        # the same rule the check applies (station_values.fundamental_exclusion_hz), so that 'masks validate'
+        # refuses what 'check' would refuse
+        if value.is_constant:
+            v = value.constant()
+            if not (np.isfinite(v) and v >= 0):
+                raise problem(f"is {v:g} Hz; expected a half-width >= 0")
+        return value
+
 
 class DomainsSpec(Table):
     """Which out-of-band / spurious boundary rule the mask follows (v2)."""
@@ -278,10 +289,31 @@ class Mask(Table):
                         f"regions[{i}].limit.attenuation_db: reference_power.kind = 'none' has no reference to "
                         "attenuate below; give an absolute limit, or name the reference power"
                     )
+        self._exclusion_over_the_range()
         message = unknown_keys_message(self)
         if message:
             raise problem(message)
         return self
+
+    def _exclusion_over_the_range(self) -> None:
+        """An exclusion that depends on the carrier is evaluated across the carrier range: never below 0 Hz.
+
+        Sampled at both ends of ``applies.fundamental`` and at 63 carriers spread evenly over log frequency
+        between them (a piecewise expression with a negative piece narrower than that spacing can still slip
+        through; the check refuses it then).  An exclusion that uses any other variable is left to the check.
+        """
+        value = self.fundamental.exclusion
+        if value.is_constant or not value.names <= {"carrier_hz"}:
+            return
+        lo, hi = self.applies.fundamental[0].constant(), self.applies.fundamental[1].constant()
+        for fc in np.geomspace(lo, hi, 65):
+            try:
+                v = float(value.evaluate({"carrier_hz": float(fc)}))
+            except (ValueError, ArithmeticError):
+                continue  # the check names the failure of the expression itself
+            if not (np.isfinite(v) and v >= 0):
+                raise problem(f"fundamental.exclusion: is {v:g} Hz for a carrier of {format_frequency(float(fc))}; "
+                              "expected a half-width >= 0 across applies.fundamental")
 
     @field_validator("regions")
     @classmethod

@@ -71,7 +71,8 @@ from . import modulate, sources
 from .amplifier import Polynomial, Rapp, Saleh, amplify, drive
 from .baseband import Baseband, sample_count
 from .filters import IfFilter, OutputFilter
-from .scenario_models import _AUDIO, _KEYING, SCENARIO_VERSION, IfFilterTable, Scenario
+from .scenario_models import (_AUDIO, _KEYING, MAX_RECORD_SAMPLES, MAX_ZONE_SAMPLES, MIN_KEYING_UNIT_SAMPLES,
+                              SCENARIO_VERSION, IfFilterTable, Scenario)
 from .wideband import WidebandResult, wideband_spectrum
 
 __all__ = [
@@ -200,9 +201,47 @@ def _where(section: str, exc: Exception) -> str:
     return f"{section}.{key}: {msg}" if key else f"{section}: {msg}"
 
 
+def _size_problems(sc: Scenario) -> list[str]:
+    """The memory a scenario asks for, from its numbers alone (the bounds of :mod:`.scenario_models`)."""
+    out = []
+    fs, d = sc.signal.sample_rate, sc.signal.duration
+    over = sc.amplifier.oversample if sc.amplifier is not None else 1
+    n = d * fs * over
+    zones = n * (sc.analysis.max_harmonic + 1)
+    if n > MAX_RECORD_SAMPLES:
+        out.append(f"signal.duration: {d:g} s at {fs:g} samples/s" + (f" (x{over} oversampling)" if over > 1 else "")
+                   + f" is {n:g} samples, more than the {MAX_RECORD_SAMPLES} one simulated record may hold "
+                   "(expected a shorter signal.duration or a lower signal.sample_rate)")
+    elif zones > MAX_ZONE_SAMPLES:
+        out.append(f"analysis.max_harmonic: {sc.analysis.max_harmonic} harmonic zones of {n:g} samples each are "
+                   f"{zones:g} samples, more than the {MAX_ZONE_SAMPLES} a simulation may hold "
+                   "(expected fewer harmonics or a shorter signal.duration)")
+    src = sc.source
+    unit_s = None
+    if src.kind == "morse":
+        unit_s = sources.morse_unit_s(src.wpm, src.convention)
+    elif src.kind == "dots":
+        unit_s = 1.0 / (2.0 * src.dots_per_s)  # a dot and its space share one period
+    if unit_s is not None and unit_s * fs < MIN_KEYING_UNIT_SAMPLES:
+        key = "source.wpm" if src.kind == "morse" else "source.dots_per_s"
+        out.append(f"{key}: a keying unit of {unit_s:g} s lasts {unit_s * fs:g} samples at {fs:g} samples/s "
+                   f"(expected at least {MIN_KEYING_UNIT_SAMPLES}: slower keying or a higher signal.sample_rate)")
+    if src.kind == "symbols" and src.rate > fs:
+        out.append(f"source.rate: {src.rate:g} symbols/s is above the sample rate ({fs:g} samples/s)")
+    # the Welch segment is at least sample_rate / rbw samples (every window's ENBW is at least one bin):
+    # compared with the record before any window is built
+    seg = fs * over / sc.analysis.rbw
+    if seg > n:
+        out.append(f"analysis.rbw: {sc.analysis.rbw:g} Hz needs segments of at least {seg:g} samples, longer than the "
+                   f"record ({n:g} samples; expected a wider RBW or a longer signal.duration)")
+    return out
+
+
 def _chain_problems(sc: Scenario) -> list[str]:
     """Everything the schema alone cannot see: sample rate, filter edges, zone overlap, source/modulator fit."""
-    out = []
+    out = _size_problems(sc)
+    if out:  # nothing below may run on a scenario too big to hold: some of it makes arrays
+        return out
     fs = sc.signal.sample_rate
     nyq = fs / 2
     try:
@@ -233,7 +272,7 @@ def _chain_problems(sc: Scenario) -> list[str]:
         else:
             freqs = [("source.f1", src.f1), ("source.f2", src.f2)]
             if src.f1 == src.f2:
-                out.append("source.f2: the two tones are both at {src.f1:g} Hz (expected two different tones)")
+                out.append(f"source.f2: the two tones are both at {src.f1:g} Hz (expected two different tones)")
     elif src.kind == "multitone":
         freqs = [(f"source.frequencies[{i}]", f) for i, f in enumerate(src.frequencies)]
         if src.amplitudes is not None and len(src.amplitudes) != len(src.frequencies):

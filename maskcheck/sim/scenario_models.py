@@ -17,10 +17,21 @@ from ..core.units import parse_db, parse_duration, parse_frequency, parse_power
 from ..errors import MaskcheckError, UnitError
 from . import sources
 
-__all__ = ["SCENARIO_VERSION", "Scenario"]
+__all__ = ["SCENARIO_VERSION", "Scenario", "MAX_RECORD_SAMPLES", "MAX_ZONE_SAMPLES", "MIN_KEYING_UNIT_SAMPLES"]
 
 #: The scenario format version this module reads.
 SCENARIO_VERSION = 1
+
+#: Bounds on what a scenario may ask of memory, checked from the file before any sample is made.
+#: One record of the fundamental zone (signal.duration x signal.sample_rate x amplifier.oversample)
+#: holds at most this many samples: 2**24, about 350 s at 48 kS/s (each zone is a complex128 array of
+#: 256 MiB at the bound).
+MAX_RECORD_SAMPLES = 1 << 24
+#: ... and all the zones the amplifier makes (the record x (analysis.max_harmonic + 1)) at most this
+#: many: 2**26 complex128 samples, 1 GiB.
+MAX_ZONE_SAMPLES = 1 << 26
+#: A keying unit (a Morse dot, a test dot) must last at least this many samples to be drawn at all.
+MIN_KEYING_UNIT_SAMPLES = 2
 
 
 # ------------------------------------------------------------------ quantities
