@@ -1,5 +1,7 @@
 """``plan_measurement(mask, station, setup)``: what to measure, and how, before keying up.
 
+One module over the ~500-line guideline, because it holds one idea: the measurement plan is one document; its ranges, limits at the input and checklist facts are computed together from one evaluated mask and setup.
+
 A measurement plan says, for one transmitter under one mask:
 
 * the frequency ranges to investigate: the ranges the mask judges (each

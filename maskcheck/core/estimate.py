@@ -1,5 +1,7 @@
 """Power spectra from IQ samples: a streaming Welch estimate in bounded memory.
 
+One module over the ~500-line guideline, because it holds one idea: the streaming Welch estimator: planning the segments, accumulating them and turning the sums into a spectrum share one state.
+
 The samples arrive in blocks of any length (a reader's chunks); segments of
 ``segment_samples`` are cut at a fixed hop, windowed, transformed in batches
 with :func:`scipy.fft.fft` and their squared magnitudes added up on the

@@ -1,5 +1,7 @@
 """The records that ride along with a spectrum and a check: typed, frozen, documented.
 
+One module over the ~500-line guideline, because it holds one idea: every frozen record that rides along with a Spectrum or a CheckResult, kept together so that their JSON forms stay consistent.
+
 A :class:`~maskcheck.core.spectrum.Spectrum` carries how it was made (its
 estimation, calibration, recording, trace file, measurement setup and
 corrections); a :class:`~maskcheck.core.result.CheckResult` carries those and

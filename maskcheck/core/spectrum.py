@@ -1,5 +1,7 @@
 """The measured spectrum: the one object every reader makes.
 
+One module over the ~500-line guideline, because it holds one idea: the Spectrum value object and its band integration, whose cached prefix sums and cell edges the validation builds.
+
 A :class:`Spectrum` holds, for each frequency point, the power that the
 instrument's resolution filter centred there delivered (``power_w``, linear
 watts), with the resolution bandwidth of that point (``rbw_hz``), its

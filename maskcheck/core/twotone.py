@@ -1,5 +1,7 @@
 """The two-tone test read off a spectrum: the tones, PEP, mean power, the odd-order products and the other lines.
 
+One module over the ~500-line guideline, because it holds one idea: the two-tone analysis: finding the tones, the products, the carrier and the other lines are one measurement and share its line bands and floor.
+
 Two equal tones f1 < f2, spacing D = f2 - f1, through a nonlinear stage make
 odd-order products next to them: order k at ``f1 - (k-1)/2 D`` (lower) and
 ``f2 + (k-1)/2 D`` (upper), i.e. 2f1 - f2 and 2f2 - f1 for k = 3.  Each line's

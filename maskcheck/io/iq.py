@@ -1,5 +1,7 @@
 """IQ recordings: SigMF, two-channel WAV and raw interleaved files, read in chunks.
 
+One module over the ~500-line guideline, because it holds one idea: the three recording containers (SigMF, WAV, raw) behind one block reader, sharing the sample decoding and its bounds.
+
 :func:`open_recording` picks the reader by file type and returns a
 :class:`Recording`: what the file says about itself (datatype, sample rate,
 captures with their centre frequencies, annotations as notes) and where its

@@ -1,5 +1,7 @@
 """The measurement-setup file: instrument settings, the chain, antenna factors.
 
+One module over the ~500-line guideline, because it holds one idea: the setup file: its schema, the chain it describes and applying that chain to a spectrum are one idea (the file and what it does to a reading).
+
 A setup file is TOML, in a format of maskcheck's own.  It says how the
 analyser was (or will be) set, what sits between the transmitter and the
 analyser input, and for a radiated measurement the antenna and the

@@ -1,5 +1,7 @@
 """Read a spectrum-analyser trace written as delimited text.
 
+One module over the ~500-line guideline, because it holds one idea: one text format, read by a fast block parser and an exact line-by-line fallback that must agree on every error.
+
 The format (maskcheck's own; see ``docs/trace-format.md``)::
 
     # rbw_hz: 10 kHz
