@@ -15,7 +15,7 @@ from __future__ import annotations
 import re
 import tomllib
 
-__all__ = ["key_path", "syntax_error_position", "decode_text", "loads", "MAX_DEPTH"]
+__all__ = ["key_path", "syntax_error_position", "decode_text", "loads", "MAX_DEPTH", "nesting_depth"]
 
 _POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 _AT_EOF = re.compile(r"\s*\(at end of document\)\s*$")
@@ -65,14 +65,18 @@ def decode_text(data: bytes, what: str, error) -> str:
 MAX_DEPTH = 32
 
 
-def _depth(doc) -> int:
-    """How deep arrays and tables nest in ``doc`` (without recursion; stops past :data:`MAX_DEPTH`)."""
+def nesting_depth(doc, limit: int = MAX_DEPTH) -> int:
+    """How deep lists and mappings nest in a parsed document (TOML or JSON), without recursion.
+
+    Stops as soon as the depth passes ``limit``, so a hostile document costs
+    no more than the first ``limit`` levels of one branch.
+    """
     deepest, stack = 0, [(doc, 1)]
     while stack:
         v, d = stack.pop()
         if isinstance(v, (dict, list)):
             deepest = max(deepest, d)
-            if deepest > MAX_DEPTH:
+            if deepest > limit:
                 break
             stack.extend((x, d + 1) for x in (v.values() if isinstance(v, dict) else v))
     return deepest
@@ -122,6 +126,6 @@ def loads(text: str, error, *, hint: str = "") -> dict:
         raise error(f"TOML syntax error: {message}{hint}", where) from None
     except RecursionError:
         raise error(deep, _deep_line(text)) from None
-    if _depth(doc) > MAX_DEPTH:
+    if nesting_depth(doc) > MAX_DEPTH:
         raise error(deep, _deep_line(text))
     return doc

@@ -56,6 +56,7 @@ from typing import Iterator
 
 import numpy as np
 
+from .._toml import nesting_depth
 from ..errors import RecordingError
 from .hashing import BackgroundHasher
 
@@ -616,19 +617,6 @@ def _archive_meta(archive: Path) -> bytes:
         raise RecordingError(f"cannot be read: {exc.strerror or exc}", path=archive) from None
 
 
-def _depth(doc) -> int:
-    """How deep JSON arrays and objects nest in ``doc`` (without recursion; stops past :data:`MAX_META_DEPTH`)."""
-    deepest, stack = 0, [(doc, 1)]
-    while stack:
-        v, d = stack.pop()
-        if isinstance(v, (dict, list)):
-            deepest = max(deepest, d)
-            if deepest > MAX_META_DEPTH:
-                break
-            stack.extend((x, d + 1) for x in (v.values() if isinstance(v, dict) else v))
-    return deepest
-
-
 def _check_meta(data: bytes, meta: Path, member: bool = False) -> None:
     """Refuse SigMF metadata that is not JSON, nests too deep, or holds a wrong JSON type at a key we read.
 
@@ -646,7 +634,7 @@ def _check_meta(data: bytes, meta: Path, member: bool = False) -> None:
         raise RecordingError(f"{what}is not valid JSON: {exc.msg} at line {exc.lineno} column {exc.colno}", path=meta) from None
     except RecursionError:
         raise RecordingError(deep, path=meta) from None
-    if _depth(doc) > MAX_META_DEPTH:
+    if nesting_depth(doc, MAX_META_DEPTH) > MAX_META_DEPTH:
         raise RecordingError(deep, path=meta)
 
     def need(value, types, where, expected):
