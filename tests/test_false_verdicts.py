@@ -199,3 +199,48 @@ def test_correction_table_is_applied_to_traces_and_recorded(tmp_path):
     # a table that does not reach the whole trace is refused, not extrapolated
     table.write_text("frequency_mhz,correction_db\n1,40\n100,40\n")
     assert main(base + ["--correction", str(table), "--force"]) == 2
+
+
+def _gauss_rbw(f, f0, p0_w, rbw):
+    # Closed form: a CW line read through a Gaussian resolution filter of 3 dB width RBW
+    return p0_w * np.exp(-4.0 * np.log(2.0) * ((f - f0) / rbw) ** 2)
+
+
+def _vhf_overview(spur=None, rbw=100e3, step=25e3):
+    # invented: a 5 W (37 dBm) carrier at 146.52 MHz, an overview at 100 kHz RBW, 25 kHz steps
+    f = np.arange(9e3, 1.5e9 + 1, step)
+    p = np.full(f.size, dbm_to_w(-90.0)) + _gauss_rbw(f, 146.52e6, dbm_to_w(37.0), rbw)
+    if spur is not None:
+        p = p + _gauss_rbw(f, spur[0], dbm_to_w(spur[1]), rbw)
+    return Spectrum(f, p, rbw_hz=rbw, detector="rms")
+
+
+def test_the_carriers_rbw_response_is_not_a_spurious_emission():
+    # Source: 47 CFR 97.307(e): 60 dB below the mean power on 30-225 MHz (37 - 60 = -23 dBm).
+    # 88 kHz from the carrier a 100 kHz RBW still reads the carrier (~28 dBm): that failed by 51 dB as a
+    # "spurious emission"; now that range is incomplete and says a narrower-RBW zoom is needed
+    r = check(_vhf_overview(), load_mask("us-amateur-vhf-30-225mhz"), Station(carrier_hz=146.52e6, power_w=5.0))
+    assert r.verdict == "incomplete", [(g.verdict, g.reasons) for g in r.regions]
+    assert any("narrower-RBW zoom" in why for g in r.regions for why in g.reasons)
+    assert not any(abs(e.freq_hz - 146.52e6) < 300e3 for e in r.emissions)
+
+
+def test_a_real_spur_beyond_the_skirt_still_fails():
+    # Source: 47 CFR 97.307(e): -23 dBm; a spur of -10 dBm 1 MHz from the carrier (10 RBW) fails
+    r = check(_vhf_overview(spur=(147.52e6, -10.0)), load_mask("us-amateur-vhf-30-225mhz"),
+              Station(carrier_hz=146.52e6, power_w=5.0))
+    assert r.verdict == "fail"
+    assert any(abs(e.freq_hz - 147.52e6) < 30e3 for e in r.emissions)
+
+
+def test_a_narrow_zoom_over_the_skirt_is_judged():
+    # Closed form: through a 1 kHz RBW the carrier has fallen far below -23 dBm 88 kHz away, so with a zoom
+    # stitched over the skirt (the narrower RBW wins where spans overlap) the range is judged: a pass
+    from maskcheck.core.spectrum import stitch
+
+    fz = np.arange(146.3e6, 146.74e6 + 1, 500.0)
+    zoom = Spectrum(fz, np.full(fz.size, dbm_to_w(-100.0)) + _gauss_rbw(fz, 146.52e6, dbm_to_w(37.0), 1e3),
+                    rbw_hz=1e3, detector="rms")
+    r = check(stitch([_vhf_overview(), zoom]), load_mask("us-amateur-vhf-30-225mhz"),
+              Station(carrier_hz=146.52e6, power_w=5.0))
+    assert r.verdict == "pass", [(g.verdict, g.reasons) for g in r.regions]

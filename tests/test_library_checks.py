@@ -16,16 +16,18 @@ import pytest
 from maskcheck.masks import list_masks
 from mask_bench import bench_trace, run_check
 
-#: mask -> (station, spur frequency just past a boundary); carriers are invented
+#: mask -> (station, spur frequency just past a boundary); carriers are invented. A spur within 3 RBW of
+#: the wanted emission may be the carrier's response through the resolution filter and is not judged
+#: (core/verdict.py, carrier_skirt_w): where the limit is flat beyond the boundary, the spur sits 4 RBW past it
 CASES = {
-    "itu-rr-ap3-general": (dict(power_w=10.0, carrier_hz=150e6), 150e6 + 62.5e3 + 100e3),
-    "itu-rr-ap3-space": (dict(power_w=10.0, carrier_hz=2.2e9), 2.2e9 + 250e3 + 1e6),
-    "itu-rr-ap3-radiodetermination": (dict(power_w=10.0, pep_w=100.0, carrier_hz=9.4e9), 9.4e9 + 250e3 + 1e6),
+    "itu-rr-ap3-general": (dict(power_w=10.0, carrier_hz=150e6), 150e6 + 62.5e3 + 4 * 100e3),
+    "itu-rr-ap3-space": (dict(power_w=10.0, carrier_hz=2.2e9), 2.2e9 + 250e3 + 4 * 1e6),
+    "itu-rr-ap3-radiodetermination": (dict(power_w=10.0, pep_w=100.0, carrier_hz=9.4e9), 9.4e9 + 250e3 + 4 * 1e6),
     "itu-rr-ap3-broadcast-fm": (dict(power_w=1e3, carrier_hz=98.1e6), 98.1e6 + 450e3 + 100e3),
     "itu-rr-ap3-broadcast-mf-hf": (dict(power_w=1e3, carrier_hz=1e6), 1e6 + 25e3 + 10e3),
-    "itu-rr-ap3-ssb-mobile": (dict(power_w=10.0, pep_w=40.0, carrier_hz=8.3e6), 8.3e6 + 10e3 + 10e3),
-    "itu-rr-ap3-amateur-below-30mhz": (dict(power_w=50.0, pep_w=100.0, carrier_hz=7.1e6), 7.1e6 + 10e3 + 10e3),
-    "itu-rr-ap3-other-below-30mhz": (dict(power_w=10.0, carrier_hz=6.2e6), 6.2e6 + 10e3 + 10e3),
+    "itu-rr-ap3-ssb-mobile": (dict(power_w=10.0, pep_w=40.0, carrier_hz=8.3e6), 8.3e6 + 10e3 + 4 * 10e3),
+    "itu-rr-ap3-amateur-below-30mhz": (dict(power_w=50.0, pep_w=100.0, carrier_hz=7.1e6), 7.1e6 + 10e3 + 4 * 10e3),
+    "itu-rr-ap3-other-below-30mhz": (dict(power_w=10.0, carrier_hz=6.2e6), 6.2e6 + 10e3 + 4 * 10e3),
     "us-amateur-hf-2003": (dict(power_w=100.0, carrier_hz=7.1e6), 14.2e6),
     "us-amateur-hf-pre-2003": (dict(power_w=100.0, carrier_hz=7.1e6), 14.2e6),
     "us-amateur-vhf-30-225mhz": (dict(power_w=5.0, carrier_hz=146e6), 292e6),
@@ -41,7 +43,7 @@ CASES = {
     "us-fm-translator-10w": (dict(power_w=10.0, carrier_hz=98.1e6), 98.1e6 + 600e3 + 50e3),
     "us-marine-80211a": (dict(power_w=100.0, carrier_hz=4.4e6, authorized_bw_hz=2.8e3), 4.4e6 + 4.2e3 + 150.0),
     "us-marine-80211b": (dict(power_w=10.0, carrier_hz=1.64e9, authorized_bw_hz=20e3), 1.64e9 + 20e3 + 2e3),
-    "us-aviation-87139a-aircraft": (dict(power_w=10.0, carrier_hz=125e6, authorized_bw_hz=8.33e3), 125e6 + 20.825e3 + 15e3),
+    "us-aviation-87139a-aircraft": (dict(power_w=10.0, carrier_hz=125e6, authorized_bw_hz=8.33e3), 125e6 + 20.825e3 + 4 * 30e3),
     "us-aviation-87139a-ground": (dict(power_w=10.0, carrier_hz=125e6, authorized_bw_hz=8.33e3), 125e6 + 8.33e3 + 150.0),
     "us-aviation-87139b-ssb": (dict(power_w=100.0, carrier_hz=8.9e6), 8.9e6 + 6e3 + 150.0),
     "us-frs-95579": (dict(power_w=2.0, carrier_hz=462.5625e6), 462.5625e6 + 12.5e3 + 150.0),

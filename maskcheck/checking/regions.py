@@ -78,7 +78,8 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
                                             limit_text=lim_in.limit_text, detector_required=lim_in.detector, reasons=[note]))
                 continue
         res, ems, w = judge_region(spectrum, lim, excluded_hz=list(lim.excluded_hz), guard_db=guard_db,
-                                   report_threshold_db=report_threshold_db, anchor=lim.anchor)
+                                   report_threshold_db=report_threshold_db, anchor=lim.anchor,
+                                   carrier_band_hz=wanted_band_hz, carrier_reading_w=readings.peak_reading_w)
         if res.points_evaluated:
             caveats.extend(_narrower_than_allowed(spectrum, lim))
         res = _against_the_reference(res, lim, reference)

@@ -54,7 +54,8 @@ from .result import Curve, Emission, RegionResult
 from .spectrum import Spectrum
 from .units import format_frequency as _fmt
 
-__all__ = ["RegionLimitsLike", "judge_region", "FLOOR_CLEARANCE_DB", "MAX_LISTED_EMISSIONS"]
+__all__ = ["RegionLimitsLike", "judge_region", "carrier_skirt_w", "FLOOR_CLEARANCE_DB", "MAX_LISTED_EMISSIONS", "SKIRT_RBWS",
+           "SKIRT_SLACK_DB"]
 
 #: how far above the floor a reading must stand to be told from the floor, dB
 FLOOR_CLEARANCE_DB = 6.0
@@ -62,6 +63,11 @@ FLOOR_CLEARANCE_DB = 6.0
 FLOOR_PERCENTILE = 20.0
 #: prominence a local peak needs to count as a discrete emission, dB
 PEAK_PROMINENCE_DB = 3.0
+#: the carrier's response through the resolution filter is considered within this many of its
+#: own RBW of the wanted emission, and up to this much above a Gaussian filter's skirt, dB
+#: (common practice, no published source; see carrier_skirt_w)
+SKIRT_RBWS = 3.0
+SKIRT_SLACK_DB = 10.0
 #: listed emissions per region at most (the worst are kept)
 MAX_LISTED_EMISSIONS = 100
 
@@ -98,6 +104,8 @@ def judge_region(
     guard_db: float = 0.0,
     report_threshold_db: float = 20.0,
     anchor: str = "",
+    carrier_band_hz: tuple[float, float] | None = None,
+    carrier_reading_w: float | None = None,
 ) -> tuple[RegionResult, list[Emission], list[str]]:
     """Judge one region; return its result, its listed emissions and warnings.
 
@@ -115,6 +123,13 @@ def judge_region(
         Emissions with a margin below this are listed.
     anchor : str
         How the region was placed on the emission, recorded on the result.
+    carrier_band_hz, carrier_reading_w : optional
+        The band of the wanted emission and its strongest reading, W.  In a
+        spurious region, a reading that the carrier seen through the
+        analyser's resolution filter can explain (:func:`carrier_skirt_w`) is
+        not judged as a spurious emission when it would fail or fall in the
+        guard band: the region is then at best ``incomplete`` until a
+        narrower-RBW zoom covers it (a stitched zoom's own RBW then decides).
 
     Returns
     -------
@@ -152,6 +167,9 @@ def judge_region(
     margin = limit_dbm - level_dbm
     # 4. points that cannot show what lies between them; detectors
     evaluable = _evaluable(spectrum, idx, reasons)
+    if carrier_band_hz is not None and carrier_reading_w is not None and limits.kind == "spurious":
+        evaluable = _outside_carrier_skirt(spectrum, idx, margin, evaluable, guard_db, carrier_band_hz,
+                                           carrier_reading_w, reasons)
     _detector_notes(spectrum, limits, reasons, warnings)
     # 5. noise floor per reference-bandwidth band
     floor_dbm = _floor(bw, level_dbm)
@@ -255,6 +273,42 @@ def _evaluable(spectrum: Spectrum, idx, reasons) -> np.ndarray:
                 "them could be missed (use more points, a wider RBW with integration, or a peak detector)"
             )
     return evaluable
+
+
+def carrier_skirt_w(distance_hz, rbw_hz, carrier_w):
+    """The most the carrier can read through the resolution filter at ``distance_hz`` from it, W.
+
+    A Gaussian resolution filter whose 3 dB width is the RBW,
+    ``H(d) = exp(-4 ln 2 (d / RBW)^2)`` (its 60 dB / 3 dB shape factor,
+    4.5, is that of the synchronously tuned filters of swept analysers),
+    raised by :data:`SKIRT_SLACK_DB` for filters with wider skirts, and only
+    within :data:`SKIRT_RBWS` of the carrier; zero beyond.
+
+    References
+    ----------
+    Common practice, no published source: the shape factor of analyser
+    resolution filters (about 4 to 5, 60 dB : 3 dB).
+    """
+    x = np.asarray(distance_hz, dtype=float) / np.asarray(rbw_hz, dtype=float)
+    h = np.exp(-4.0 * np.log(2.0) * x * x) * 10.0 ** (SKIRT_SLACK_DB / 10.0)
+    return np.where(x < SKIRT_RBWS, carrier_w * np.minimum(h, 1.0), 0.0)
+
+
+def _outside_carrier_skirt(spectrum, idx, margin, evaluable, guard_db, band, carrier_w, reasons) -> np.ndarray:
+    """The evaluable points, less those the carrier's response through the RBW can explain (see :func:`judge_region`)."""
+    fr, rbw = spectrum.freq_hz[idx], spectrum.rbw_hz[idx]
+    distance = np.maximum(np.maximum(band[0] - fr, fr - band[1]), 0.0)
+    skirt = (evaluable & (distance > 0) & (margin < guard_db)
+             & (spectrum.power_w[idx] <= carrier_skirt_w(distance, rbw, carrier_w)))
+    if not skirt.any():
+        return evaluable
+    k = np.flatnonzero(skirt)
+    reasons.append(
+        f"from {_fmt(float(fr[k[0]]))} to {_fmt(float(fr[k[-1]]))} the readings lie within {SKIRT_RBWS:g} RBW "
+        f"({_fmt(float(rbw[k].max()))}) of the wanted emission, at levels its own reading through the resolution "
+        "filter can give: they may be the carrier, not a spurious emission; needs a narrower-RBW zoom here"
+    )
+    return evaluable & ~skirt
 
 
 def _detector_notes(spectrum: Spectrum, limits, reasons, warnings) -> None:
