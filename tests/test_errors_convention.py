@@ -275,3 +275,25 @@ def test_closed_stdout_ends_quietly_with_141(argv):
     err = p.stderr.read().decode()
     assert p.wait(timeout=120) == EXIT_BROKEN_PIPE == 141
     assert "Traceback" not in err and "BrokenPipe" not in err and "Exception ignored" not in err, err
+
+
+def test_a_closed_stdout_does_not_stop_the_files_asked_for(tmp_path):
+    # Common practice, no published source: `check ... --report r.pdf | head` keeps the report; only what
+    # goes to the closed pipe stops (before, the summary came first and its closed pipe ended the run)
+    import numpy as np
+
+    f = np.arange(9e3, 72e6 + 1, 5e3)
+    lvl = np.full(f.size, -70.0)
+    lvl[np.argmin(np.abs(f - 7.1e6))] = 50.0
+    trace = tmp_path / "t.txt"
+    trace.write_text("# rbw_hz: 10000\n# detector: rms\nfrequency_hz,level_dbm\n"
+                     + "\n".join(f"{float(a)!r},{float(b)!r}" for a, b in zip(f, lvl)) + "\n")
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(PACKAGE.parent), os.environ.get("PYTHONPATH", "")]))
+    p = subprocess.Popen([sys.executable, "-m", "maskcheck.cli", "check", str(trace), "--mask", "us-amateur-hf-2003",
+                          "--carrier", "7.1MHz", "--power", "100W", "--report", str(tmp_path / "r.pdf"),
+                          "--json", str(tmp_path / "r.json")], stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
+    p.stdout.close()
+    err = p.stderr.read().decode()
+    assert p.wait(timeout=120) == 141
+    assert "Traceback" not in err, err
+    assert (tmp_path / "r.pdf").stat().st_size > 1000 and (tmp_path / "r.json").exists()

@@ -16,25 +16,43 @@ __all__ = ["write_outputs", "add_output_options", "check_output_options", "write
 
 
 def write_outputs(result, args) -> None:
-    """The summary on the terminal and every output file a checking command was asked for."""
+    """The summary on the terminal and every output file a checking command was asked for.
+
+    A closed standard output (``| head``) stops only what goes to it: every
+    file asked for is still written, then the closed pipe is reported.
+    """
     to_stdout = args.json == "-" or getattr(args, "csv", None) == "-"
+    closed = []
+
+    def to_terminal(show) -> None:
+        if closed:
+            return
+        try:
+            show()
+        except BrokenPipeError:
+            closed.append(True)
+
     if not args.quiet:
         from ..report.terminal import render_check
 
-        render_check(result, console(stderr=to_stdout))
+        to_terminal(lambda: render_check(result, console(stderr=to_stdout)))
     if args.json:
         from ..report.tables import write_json
 
-        write_json(result, args.json, force=args.force)
+        if args.json == "-":
+            to_terminal(lambda: write_json(result, "-", force=args.force))
+        else:
+            write_json(result, args.json, force=args.force)
     if args.report:
         from ..report.pdf import write_report
 
         write_report(result, args.report, force=args.force)
     written = [p for p in (args.json, args.report) if p and p != "-"]
     written += write_tables_and_figures(result, args)
-    if not args.quiet and not to_stdout:
-        if written:
-            console().print("written: " + ", ".join(written))
+    if not args.quiet and not to_stdout and written:
+        to_terminal(lambda: console().print("written: " + ", ".join(written)))
+    if closed:
+        raise BrokenPipeError("standard output was closed")
 
 
 def add_output_options(sp) -> None:

@@ -137,7 +137,8 @@ class run_outputs:
     def __exit__(self, exc_type, exc, tb) -> bool:
         global _LEDGER
         _LEDGER = self._outer
-        if exc_type is None:
+        if exc_type is None or issubclass(exc_type, BrokenPipeError):
+            # a closed pipe: the reader left, the outputs asked for are still whole and kept
             self.ledger.commit()
         else:
             self.failed = True
