@@ -225,3 +225,18 @@ def test_masks_list_by_frequency_reads_the_bands(capsys):
     assert {"us-90210-mask-d", "us-90210-mask-e"} <= ids["450MHz"]
     assert not {"us-90210-mask-d", "us-90210-mask-e"} & ids["380MHz"]
     assert "us-90210-mask-b" in ids["380MHz"]  # negative control: B's single range covers it
+
+
+def test_simulate_refuses_a_scenario_outside_the_bands_before_simulating(tmp_path, capsys):
+    # Source: 47 CFR 90.210 (applicable masks table): Mask D covers 150-174 and 421-512 MHz
+    import re
+
+    src = Path(__file__).resolve().parent.parent / "examples" / "fm-handheld.toml"
+    text = src.read_text()
+    sc = tmp_path / "sc.toml"
+    sc.write_text(re.sub(r'(?m)^carrier = ".*"', 'carrier = "380.1 MHz"', text, count=1))
+    out = tmp_path / "out"
+    assert main(["simulate", str(sc), "--out", str(out), "--mask", "us-90210-mask-d", "--quiet"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "signal.carrier" in err and "150 MHz" in err
+    assert not out.exists()

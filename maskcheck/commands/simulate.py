@@ -51,6 +51,7 @@ def run(args) -> int:
         from ..masks.library import load_mask
 
         mask = load_mask(mask_id, extra_dirs=args.mask_dir)
+        _refuse_outside_bands(mask, sc.signal.carrier, args.scenario)
         args.json = args.json or str(out / "result.json")
         args.report = args.report or str(out / "report.pdf")
     # the folder is noted in the run's ledger: a refusal, a failure or Ctrl-C later removes it again
@@ -94,3 +95,20 @@ def run(args) -> int:
     result = check(sim.wideband.spectrum, mask, station, guard_db=guard, inputs=[InputFile(str(args.scenario), sha)])
     write_outputs(result, args)
     return result.exit_code
+
+
+def _refuse_outside_bands(mask, carrier_hz: float, scenario) -> None:
+    """A scenario whose carrier lies outside the mask's carrier bands is refused before anything is simulated."""
+    from ..core.units import format_frequency
+    from ..errors import ScenarioError, StationError
+    from ..masks.station_values import require_in_bands
+
+    try:
+        require_in_bands(mask, carrier_hz)
+    except StationError as exc:
+        import re
+
+        message = re.sub(r"^carrier_hz=\S+\s*:?\s*", "", exc.message).split("; give", 1)[0]
+        raise ScenarioError(f"{format_frequency(carrier_hz)} {message}; choose the mask for this band", path=scenario,
+                            where="signal.carrier") from None
+
