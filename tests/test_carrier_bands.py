@@ -120,6 +120,8 @@ def test_outside_bands_goes_on_says_so_everywhere_and_never_passes(tmp_path, cap
     assert note in out["warnings"]
     terminal = " ".join(capsys.readouterr().out.split())
     assert "OUTSIDE THE RULE'S BANDS" in terminal and "INCOMPLETE" in terminal
+    # the verdict line itself gives the reason (not "a required region could not be judged")
+    assert "INCOMPLETE: the carrier is outside the rule's carrier bands" in terminal
     pages = [" ".join(p.extract_text().split()) for p in PdfReader(tmp_path / "out.pdf").pages]
     assert len(pages) > 3
     for i, text in enumerate(pages):

@@ -161,6 +161,8 @@ _MEANING = {
 def verdict_sentence(result: CheckResult) -> str:
     """The verdict in words, e.g. ``'FAIL: at least one measured level is above its limit.'``."""
     meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{result.guard_db:g}")
+    if result.verdict == "incomplete" and result.mask.outside_bands:
+        meaning = "the carrier is outside the rule's carrier bands, so no check against this mask can pass there"
     return f"{result.verdict.upper()}: {meaning}."
 
 
