@@ -244,3 +244,34 @@ def test_a_narrow_zoom_over_the_skirt_is_judged():
     r = check(stitch([_vhf_overview(), zoom]), load_mask("us-amateur-vhf-30-225mhz"),
               Station(carrier_hz=146.52e6, power_w=5.0))
     assert r.verdict == "pass", [(g.verdict, g.reasons) for g in r.regions]
+
+
+def _flat(a, b, step, rbw, source):
+    f = np.arange(a, b + 1, step)
+    return Spectrum(f, np.full(f.size, dbm_to_w(-90.0)), rbw_hz=rbw, detector="rms", source=source)
+
+
+def test_an_overview_meeting_a_zoom_is_judged_and_a_real_seam_gap_is_named():
+    # Common practice, no published source: each reading covers its RBW; an overview at 30 kHz RBW and a
+    # 300 Hz zoom stitched into it meet, so the seam is judged (it was called "points farther apart than
+    # their RBW"); between an overview ending at 999.984 MHz and a sweep from 1.001 GHz at 1 MHz RBW the
+    # readings do not meet: that range has no data, and the reason names the seam and the two files
+    from maskcheck.core.spectrum import stitch
+
+    f = np.arange(146.39e6, 146.65e6 + 1, 100.0)  # overlaps the overview's readings at both ends
+    p = np.full(f.size, dbm_to_w(-100.0))
+    p[np.argmin(np.abs(f - 146.52e6))] += dbm_to_w(37.0)
+    zoom = Spectrum(f, p, rbw_hz=300.0, detector="rms", source="zoom.txt")
+    overview = _flat(9e3, 1e9, 25e3, 30e3, "overview.txt")
+    high = _flat(1.001e9, 1.5e9, 1e6, 1e6, "high.txt")
+    r = check(stitch([overview, high, zoom]), load_mask("us-amateur-vhf-30-225mhz"),
+              Station(carrier_hz=146.52e6, power_w=5.0))
+    (reg,) = r.regions
+    assert not any("farther apart" in why for why in reg.reasons), reg.reasons
+    (gap,) = [why for why in reg.reasons if why.startswith("no data")]
+    assert "overview.txt and high.txt" in gap and "overlaps both" in gap
+    # negative control: a sweep whose first reading (1.0004 GHz, 1 MHz RBW) reaches back over the seam
+    # meets the overview's last one: nothing is missing and the check passes
+    r = check(stitch([overview, _flat(1.0004e9, 1.5e9, 1e6, 1e6, "high.txt"), zoom]),
+              load_mask("us-amateur-vhf-30-225mhz"), Station(carrier_hz=146.52e6, power_w=5.0))
+    assert r.verdict == "pass", [g.reasons for g in r.regions]

@@ -112,7 +112,8 @@ class Spectrum:
     centre_hz : float or None
         The analyser's centre (or the recording's tuned) frequency, Hz.
     sources : tuple of str
-        The sources of the spans of a stitched spectrum (:func:`stitch`).
+        The source of each span of a stitched spectrum, in frequency order
+        (:func:`stitch`; empty unless every span has one).
     trace_file : TraceFileRecord or None
         How a trace text file was read.
     recording, estimation, calibration : records or None
@@ -727,7 +728,8 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
         arrays["r"].append(s.rbw_hz[a:b])
         arrays["e"].append(s.enbw_hz[a:b])
         offset += b - a
-    sources = tuple(s.source for s in spectra if s.source)
+    # one source per span, in frequency order (a span split around a zoom names its file twice)
+    sources = tuple(s.source for s, *_ in pieces) if all(s.source for s, *_ in pieces) else ()
     return Spectrum(
         np.concatenate(arrays["f"]),
         np.concatenate(arrays["p"]),

@@ -150,7 +150,7 @@ def judge_region(
     missing = _uncovered(spectrum, start, stop, base["excluded_hz"])
     reasons: list[str] = []
     if missing:
-        parts = "; ".join(f"{_fmt(a)} to {_fmt(b)}" for a, b in missing[:4])
+        parts = "; ".join(f"{_fmt(a)} to {_fmt(b)}{_seam_note(spectrum, a, b)}" for a, b in missing[:4])
         more = f" and {len(missing) - 4} more" if len(missing) > 4 else ""
         reasons.append(f"no data from {parts}{more}")
     idx = np.flatnonzero(_in_scope(spectrum.freq_hz, limits, start, stop, base["excluded_hz"]))
@@ -217,6 +217,18 @@ def _uncovered(spectrum: Spectrum, start: float, stop: float, excluded) -> list[
     return missing
 
 
+def _seam_note(spectrum: Spectrum, a: float, b: float) -> str:
+    """Where a range without data lies between two stitched spans: which, and what to do."""
+    f = spectrum.freq_hz
+    for k, seg in enumerate(spectrum.segments):
+        if f[seg - 1] <= a and b <= f[seg]:
+            names = spectrum.sources if len(spectrum.sources) == len(spectrum.segments) + 1 else ()
+            which = f" of {names[k]} and {names[k + 1]}" if names else ""
+            return (f" (the seam between the spans{which}: their readings do not meet; sweep a range that "
+                    "overlaps both)")
+    return ""
+
+
 def _in_scope(f: np.ndarray, limits, start: float, stop: float, excluded) -> np.ndarray:
     """Which trace points the region judges (boolean over the trace)."""
     # the limits know each boundary's interval convention (mask schema v3); spans the
@@ -257,21 +269,37 @@ def _levels(spectrum: Spectrum, limits, idx, excluded, reasons, warnings):
 
 
 def _evaluable(spectrum: Spectrum, idx, reasons) -> np.ndarray:
-    """Points that can show what lies between them and their neighbours (step 4)."""
-    rbw = spectrum.rbw_hz[idx]
-    lo, hi = spectrum.cell_edges_hz
-    width = hi[idx]
-    width -= lo[idx]
+    """Points that can show what lies between them and their neighbours (step 4).
+
+    Each reading covers its own RBW around its frequency.  Two neighbouring
+    readings leave nothing unseen between them when their coverages meet,
+    ``f_i + RBW_i/2 >= f_j - RBW_j/2``; that holds across the seam of two
+    spans of different RBW too (an overview meeting a zoom), where the cells
+    are stretched to meet and may be wider than one RBW.  A peak detector
+    reports the highest reading of each point's bucket, so it sees between
+    the points anyway.
+    """
     evaluable = np.ones(idx.size, bool)
-    if spectrum.detector != "peak":
-        evaluable = width <= rbw * (1 + 1e-9)
-        if not evaluable.all():
-            n_bad = int((~evaluable).sum())
-            reasons.append(
-                f"{n_bad} point(s) lie farther apart ({_fmt(float(width[~evaluable].max()))}) than their RBW "
-                f"({_fmt(float(rbw[~evaluable].min()))}) with a '{spectrum.detector}' detector: an emission between "
-                "them could be missed (use more points, a wider RBW with integration, or a peak detector)"
-            )
+    if spectrum.detector == "peak":
+        return evaluable
+    f, r = spectrum.freq_hz, spectrum.rbw_hz
+    reach_up, reach_down = f + r / 2.0, f - r / 2.0
+    tol = 1e-9 * np.maximum(r[:-1], r[1:])
+    lo, hi = spectrum.cell_edges_hz
+    # between point k and k + 1 of the whole trace; where their cells do not even touch (two spans
+    # that leave a range without data) the range is reported as having no data, not here
+    meet = (reach_up[:-1] >= reach_down[1:] - tol) | (hi[:-1] < lo[1:])
+    left = np.concatenate(([True], meet))
+    right = np.concatenate((meet, [True]))
+    evaluable = left[idx] & right[idx]
+    if not evaluable.all():
+        bad = idx[~evaluable]
+        gap = float(np.max((hi - lo)[bad]))
+        reasons.append(
+            f"{int(bad.size)} point(s) lie farther apart ({_fmt(gap)}) than their RBW "
+            f"({_fmt(float(r[bad].min()))}) with a '{spectrum.detector}' detector: an emission between "
+            "them could be missed (use more points, a wider RBW with integration, or a peak detector)"
+        )
     return evaluable
 
 
