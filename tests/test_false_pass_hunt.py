@@ -25,6 +25,16 @@ from maskcheck.core.units import dbm_to_w
 
 LIMIT_DBM = 50.0 - 43.0
 
+#: the ways one measurement reaches the check
+PRESENTATIONS = dict(
+    pad_db=st.sampled_from([0.0, 20.0, 40.0]),
+    given_back=st.sampled_from(["attenuator", "setup", "correction"]),
+    unit=st.sampled_from(["dbm", "dbw", "mw"]),
+    sep=st.sampled_from([",", ";", "\t"]),
+    freq_unit=st.sampled_from(["hz", "mhz"]),
+    split_at_mhz=st.one_of(st.none(), st.floats(1.0, 70.0)),
+)
+
 
 def _levels(pad_db: float, excess_db: float):
     f = np.arange(9e3, 72e6 + 1, 5e3)
@@ -48,15 +58,7 @@ def _write(path, f, p, unit: str, sep: str, freq_unit: str):
 
 
 @settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-@given(
-    excess_db=st.floats(0.3, 25.0),
-    pad_db=st.sampled_from([0.0, 20.0, 40.0]),
-    given_back=st.sampled_from(["attenuator", "setup", "correction"]),
-    unit=st.sampled_from(["dbm", "dbw", "mw"]),
-    sep=st.sampled_from([",", ";", "\t"]),
-    freq_unit=st.sampled_from(["hz", "mhz"]),
-    split_at_mhz=st.one_of(st.none(), st.floats(1.0, 70.0)),
-)
+@given(excess_db=st.floats(0.3, 25.0), **PRESENTATIONS)
 def test_a_harmonic_over_its_limit_never_passes(tmp_path_factory, excess_db, pad_db, given_back, unit, sep,
                                                 freq_unit, split_at_mhz):
     rc, verdict = _run(tmp_path_factory, excess_db, pad_db, given_back, unit, sep, freq_unit, split_at_mhz)
@@ -64,14 +66,7 @@ def test_a_harmonic_over_its_limit_never_passes(tmp_path_factory, excess_db, pad
 
 
 @settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-@given(
-    pad_db=st.sampled_from([0.0, 20.0, 40.0]),
-    given_back=st.sampled_from(["attenuator", "setup", "correction"]),
-    unit=st.sampled_from(["dbm", "dbw", "mw"]),
-    sep=st.sampled_from([",", ";", "\t"]),
-    freq_unit=st.sampled_from(["hz", "mhz"]),
-    split_at_mhz=st.one_of(st.none(), st.floats(1.0, 70.0)),
-)
+@given(**PRESENTATIONS)
 def test_negative_control_every_presentation_can_pass(tmp_path_factory, pad_db, given_back, unit, sep, freq_unit,
                                                       split_at_mhz):
     # the same presentations with the harmonic 3 dB under its limit pass: the hunt above cannot be
