@@ -171,3 +171,26 @@ def test_reference_band_power_in_chunks_equals_the_whole_array_computation(monke
     np.testing.assert_array_equal(s.reference_band_power_w(points, bw, excluded), want)
     # negative control: without the exclusion the window's power is counted
     assert np.any(s.reference_band_power_w(points, bw) != want)
+
+
+def test_spans_read_from_decimal_megahertz_meet_without_a_sliver_of_no_data(tmp_path):
+    # Closed form: frequencies written in MHz (f * 1e-6) and read back carry rounding of ~1e-10 Hz; two
+    # files that abut on paper (cells 2.9965-3.0015 and 3.0015-3.0065 MHz) must not leave that sliver as
+    # a range without data
+    from maskcheck.core.spectrum import stitch
+    from maskcheck.io.trace_text import read_trace
+
+    f = np.arange(9e3, 6e6 + 1, 5e3)
+    cut = np.searchsorted(f, 3.0e6)
+
+    def write(name, part, shift=0.0):
+        path = tmp_path / name
+        path.write_text("# rbw_hz: 10000\n# detector: rms\nfrequency_mhz,level_dbm\n"
+                        + "\n".join(f"{float((x + shift) * 1e-6)!r},-80.0" for x in part) + "\n")
+        return read_trace(path)
+
+    s = stitch([write("a.txt", f[:cut]), write("b.txt", f[cut:])])
+    assert s.uncovered_hz(9e3, 6e6) == []
+    # negative control: a real gap of 1 Hz is still reported
+    s2 = stitch([write("a.txt", f[:cut]), write("b.txt", f[cut:], shift=1.0)])
+    assert s2.uncovered_hz(9e3, 6e6) != []

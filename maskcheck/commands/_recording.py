@@ -224,13 +224,43 @@ def _corrected(spectrum, table):
     return replace(spectrum, power_w=spectrum.power_w * 10.0 ** (gain_db / 10.0), calibration=cal)
 
 
+#: options that act on IQ recordings only, with their defaults: refused when every input is a trace
+RECORDING_ONLY = {"segment": None, "full_scale": None, "ref_tone": None, "rate": None, "centre": None,
+                  "window": "blackmanharris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None}
+#: options that describe trace files only: refused when every input is a recording (it says these itself)
+TRACE_ONLY = {"freq_unit": None, "level_unit": None, "detector": None}
+
+
+def refuse_unused_options(args, traces, recordings) -> None:
+    """Refused, never ignored: a recording option when every input is a trace, and the converse.
+
+    Only the options the command has are looked at; a value equal to the
+    option's default counts as not given.
+    """
+    from ..errors import UnitError
+
+    if traces and not recordings:
+        unused, why = RECORDING_ONLY, f"applies to IQ recordings; every input is a trace ({traces[0]}), whose levels and RBW are its own"
+    elif recordings and not traces:
+        unused, why = TRACE_ONLY, f"describes trace files; every input is an IQ recording ({recordings[0]}), which states its own units and is estimated with an rms or max-hold trace"
+    else:
+        return
+    for dest, default in unused.items():
+        if getattr(args, dest, default) != default:
+            raise UnitError(why, where="--" + dest.replace("_", "-"))
+
+
 def read_input(paths, args, *, trace: str = "average") -> InputSet:
-    """Read traces and recordings named on the command line (not yet stitched)."""
+    """Read traces and recordings named on the command line (not yet stitched).
+
+    Options that cannot act on these inputs are refused first (:func:`refuse_unused_options`).
+    """
     from ..core.result import InputFile
     from ._common import read_traces
 
     spectra, inputs, recs = [], [], []
     traces = [p for p in paths if not is_recording(p, args)]
+    refuse_unused_options(args, traces, [p for p in paths if is_recording(p, args)])
     table = _trace_correction(args) if traces else None
     if table is not None:
         from ..io.hashing import sha256_file

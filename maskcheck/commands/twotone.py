@@ -60,23 +60,6 @@ def _trace(args) -> str:
 
 
 #: options that only recordings use, with their defaults: given for traces alone they are refused
-RECORDING_ONLY = {"segment": None, "full_scale": None, "ref_tone": None, "rate": None, "centre": None,
-                  "window": "blackmanharris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None}
-
-
-def _refuse_recording_options(args, traces) -> None:
-    """Refused, never ignored: an estimation or calibration option when every input is a trace."""
-    from ..errors import UnitError
-
-    if len(traces) != len(args.inputs):
-        return
-    for dest, default in RECORDING_ONLY.items():
-        if getattr(args, dest, default) != default:
-            opt = "--" + dest.replace("_", "-")
-            raise UnitError(f"applies to IQ recordings; every input is a trace ({traces[0]}), whose levels and RBW "
-                            "are its own", where=opt)
-
-
 def _read(args, *, rbw_hz=None):
     """Read every input; recordings with ``rbw_hz`` when given (the options otherwise)."""
     from argparse import Namespace
@@ -162,7 +145,6 @@ def run(args) -> int:
     carrier = parse_frequency(args.carrier, what="--carrier") if args.carrier else None
     setup = setup_from_args(args)
     traces = [p for p in args.inputs if not is_recording(p, args)]
-    _refuse_recording_options(args, traces)
     label = " + ".join(args.inputs)
     got, spectrum, resolution = _read_resolved(args)
     if setup is not None:

@@ -327,7 +327,12 @@ class Spectrum:
         return self.coverage_hz[-1][1]
 
     def uncovered_hz(self, start_hz: float, stop_hz: float) -> list[tuple[float, float]]:
-        """Parts of ``[start_hz, stop_hz]`` that no span covers."""
+        """Parts of ``[start_hz, stop_hz]`` that no span covers.
+
+        Two spans whose edges differ by less than 1e-12 of the frequency meet:
+        such a sliver is the rounding of decimal frequencies read from text
+        (``2.999`` MHz times 1e6), not a range without data.
+        """
         missing = []
         cursor = float(start_hz)
         for a, b in self.coverage_hz:
@@ -335,7 +340,7 @@ class Spectrum:
                 continue
             if a >= stop_hz:
                 break
-            if a > cursor:
+            if a > cursor + 1e-12 * abs(a):
                 missing.append((cursor, min(a, stop_hz)))
             cursor = max(cursor, b)
             if cursor >= stop_hz:

@@ -441,6 +441,9 @@ def open_recording(path, *, datatype=None, sample_rate_hz=None, centre_hz=None, 
         rec = open_wav(path, centre_hz=centre_hz, i_channel=i_channel)
     else:
         return open_raw(path, datatype=datatype, sample_rate_hz=sample_rate_hz, centre_hz=centre_hz)
+    if kind != "wav" and i_channel != "left":
+        raise RecordingError(f"i_channel={i_channel!r} chooses a channel of a two-channel WAV file; this "
+                             f"{kind.upper()} recording holds I and Q itself", path=path, param="i_channel")
     if datatype is not None:
         raise RecordingError(f"datatype={datatype!r} is for raw files; this {kind.upper()} recording states its own data type",
                              path=path, param="datatype")
