@@ -42,6 +42,9 @@ from pathlib import Path
 
 import numpy as np
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _process import run_process  # noqa: E402
+
 MASK = "us-amateur-vhf-30-225mhz"
 HEADER_LINES = ["# rbw_hz: 1 kHz", "# detector: rms", "# synthetic benchmark data, invented", "frequency_hz,level_dbm"]
 #: the 10,000-point trace spans 100-101 MHz; its invented 10 W carrier sits in the middle
@@ -81,20 +84,6 @@ def best_of(repeats: int, fn):
         result = fn()
         times.append(time.perf_counter() - start)
     return min(times), result
-
-
-def run_process(cmd: list[str], ok=(0,)) -> tuple[float, float]:
-    """Wall time (s) and peak RSS (MiB) of one process; raises if it fails."""
-    start = time.perf_counter()
-    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
-    _, status, usage = os.wait4(proc.pid, 0)
-    wall = time.perf_counter() - start
-    err = proc.stderr.read().decode(errors="replace")
-    proc.stderr.close()
-    proc.returncode = os.waitstatus_to_exitcode(status)
-    if proc.returncode not in ok:
-        raise SystemExit(f"{' '.join(cmd)} ended with {proc.returncode}:\n{err.strip()}")
-    return wall, usage.ru_maxrss / 1024.0  # Linux: kB
 
 
 def interleaved_best(cmds: dict[str, tuple[list[str], tuple]], repeats: int) -> dict[str, tuple[float, float]]:

@@ -57,6 +57,9 @@ from pathlib import Path
 
 import numpy as np
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _process import run_process  # noqa: E402
+
 FS = 2_400_000.0  # invented recording: 2.4 MS/s around 7.1 MHz
 CENTRE = 7_100_000.0
 NPERSEG = 4096
@@ -170,15 +173,8 @@ def run_command(path: Path, samples: int) -> dict:
     cmd = [sys.executable, "-m", "maskcheck.cli", "spectrum", str(path), "--format", "cf32_le",
            "--rate", f"{FS:g}Hz", "--centre", f"{CENTRE:g}Hz", "--window", "hann", "--segment", str(NPERSEG),
            "--overlap", f"{100 * NOVERLAP / NPERSEG:g}%"]
-    start = time.perf_counter()
-    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
-    _, status, usage = os.wait4(proc.pid, 0)
-    wall = time.perf_counter() - start
-    err = proc.stderr.read().decode(errors="replace")
-    proc.stderr.close()
-    if os.waitstatus_to_exitcode(status) != 0:
-        raise SystemExit(f"maskcheck spectrum failed:\n{err.strip()}")
-    return {"seconds": wall, "samples": samples, "rss_mib": usage.ru_maxrss / 1024.0}
+    wall, rss_mib = run_process(cmd)
+    return {"seconds": wall, "samples": samples, "rss_mib": rss_mib}
 
 
 def _ms(d: dict) -> float:
