@@ -109,7 +109,7 @@ def test_sigmf_written_by_the_package_round_trips_with_captures_and_annotations(
     assert [(c.sample_start, c.sample_count, c.centre_hz) for c in rec.captures] == [(0, half, 7.0e6), (half, half, 7.6e6)]
     assert any("annotation" in n and "key down" in n for n in rec.notes)
     assert any("invented test recording" in n for n in rec.notes)
-    s = _spectrum(meta)
+    s = _spectrum(meta, usable_fraction=1.0)  # the whole band of each capture (the edges: see test_artefacts)
     assert len(s.segments) == 1  # two spans, one per centre frequency
     lo, hi = s.coverage_hz[0], s.coverage_hz[1]
     assert lo[0] == pytest.approx(6.5e6, abs=FS / 2048) and hi[1] == pytest.approx(8.1e6, abs=FS / 2048)
@@ -120,7 +120,7 @@ def test_sigmf_written_by_the_package_round_trips_with_captures_and_annotations(
     # a capture boundary is never straddled: each half is estimated on its own samples
     direct = estimate_recording(open_recording(_write_sigmf(tmp_path / "one", x[:half], "cf32_le",
                                                             captures=((0, 7.0e6),))),
-                                window="hann", segment_samples=2048).spectrum
+                                window="hann", segment_samples=2048, usable_fraction=1.0).spectrum
     np.testing.assert_allclose(s.between(6.5e6, 7.29e6).power_w, direct.between(6.5e6, 7.29e6).power_w, rtol=1e-6)
     # where the spans overlap (7.1-7.5 MHz) they meet in the middle (common practice, no published source)
     assert s.coverage_hz[0][1] == pytest.approx(7.3e6, abs=FS / 2048) and s.coverage_hz[1][0] == s.coverage_hz[0][1]

@@ -78,6 +78,8 @@ CASES = {
     "--full-scale": ([], ["--full-scale", "20dBm"]),
     "--ref-tone": ([], ["--ref-tone", "7.1MHz=40dBm"]),
     "--workers": ([], ["--workers", "1"]),
+    "--usable-fraction": ([], ["--usable-fraction", "90%"]),
+    "--judge-artefacts": ([], ["--judge-artefacts"]),
 }
 
 #: (option, input kind) pairs where neither the result nor its record can change, and why; the audit

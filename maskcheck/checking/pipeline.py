@@ -43,6 +43,10 @@ Decisions written down
   (``power_tolerance_db``, by default 3 dB for a steady carrier and 10 dB for
   single sideband) the readings cannot be judged as the transmitter's, and no
   region can pass (:mod:`.reference`).
+* Readings of a recording flagged as its receiver's (its DC line, IQ
+  images; :mod:`maskcheck.core.artefacts`) are judged as upper bounds: one
+  over its limit makes its region ``incomplete``, unless
+  ``judge_artefacts=True`` judges them as the transmitter's.
 * A carrier outside the mask's carrier bands is refused (a ``StationError``
   naming the bands, ``param="carrier_hz"``) unless ``outside_bands=True``
   asks to go on; the result then says so (``result.mask.outside_bands``,
@@ -87,7 +91,7 @@ def check(
     necessary: NecessaryBandwidth | str | None = None,
     authorized_bw_hz: float | str | None = None,
     xdb_db: float = 26.0,
-    power_tolerance_db: float | None = None, outside_bands: bool = False,
+    power_tolerance_db: float | None = None, outside_bands: bool = False, judge_artefacts: bool = False,
 ) -> CheckResult:
     """Check a spectrum against a mask for a station.
 
@@ -121,10 +125,10 @@ def check(
         How far stated and measured mean power may differ, dB (default by class, :mod:`.reference`).
     outside_bands : bool
         Go on with a carrier outside the mask's carrier bands (refused otherwise); it then cannot pass.
+    judge_artefacts : bool
+        Judge a recording's readings flagged as its receiver's (DC line, IQ images) as the transmitter's.
 
-    Returns
-    -------
-    CheckResult
+    Returns the :class:`CheckResult`.
     """
     _check_options(guard_db, xdb_db)
     facts = emission_facts(spectrum, mask, station, necessary=necessary, authorized=authorized_bw_hz,
@@ -133,6 +137,7 @@ def check(
     window = fundamental_window(mask, station.carrier_hz, domains=facts.domains, exclude_hz=exclude_hz,
                                 rule_source=facts.rule_source)
     readings = measure_fundamental(spectrum, window, obw_beta=obw_beta, xdb_db=xdb_db)
+    spectrum = _receiver_lines(spectrum, judge_artefacts, _wanted_band(facts, readings))
     reference = reference_power(spectrum, mask, station, window, readings, facts.domains, tolerance_db=power_tolerance_db,
                                 emission_class=None if facts.necessary is None else facts.necessary.emission_class)
     applicable, applies_warnings, outside = _applicability(mask, station, reference, facts, outside_bands)
@@ -168,6 +173,27 @@ def _check_options(guard_db: float, xdb_db: float) -> None:
     if not (math.isfinite(guard_db) and guard_db >= 0):
         raise StationError(f"guard_db={float(guard_db):g} must be finite and >= 0 (the guard band, dB)", param="guard_db")
     check_xdb(xdb_db)
+
+
+def _receiver_lines(spectrum: Spectrum, judge: bool, wanted_band) -> Spectrum:
+    """The spectrum whose receiver-artefacts record says whether they are judged, less lines on the wanted emission.
+
+    A line flagged as the receiver's inside the band of the wanted emission
+    (a recording tuned to the carrier: its DC line is the carrier) is the
+    wanted emission's reading: it is dropped from the record.  Asked to judge
+    artefacts without a recording, the check refuses.
+    """
+    art = spectrum.artefacts
+    if art is None:
+        if judge:
+            raise StationError("judge_artefacts=True: the spectrum was not estimated from an IQ recording, so it holds "
+                               "no readings flagged as the receiver's to judge", param="judge_artefacts")
+        return spectrum
+    lines = art.lines if wanted_band is None else tuple(
+        ln for ln in art.lines if not wanted_band[0] <= ln.freq_hz <= wanted_band[1])
+    if lines == art.lines and not judge:
+        return spectrum
+    return dataclasses.replace(spectrum, artefacts=dataclasses.replace(art, lines=lines, judged=judge))
 
 
 def _marked(result: CheckResult, outside: str) -> CheckResult:

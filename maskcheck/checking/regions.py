@@ -55,6 +55,7 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
     there is told why.
     """
     fc = float(carrier_hz)
+    judge_artefacts = spectrum.artefacts is not None and spectrum.artefacts.judged
     regions: list[RegionResult] = []
     emissions: list = []
     warnings: list[str] = []
@@ -79,7 +80,8 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
                 continue
         res, ems, w = judge_region(spectrum, lim, excluded_hz=list(lim.excluded_hz), guard_db=guard_db,
                                    report_threshold_db=report_threshold_db, anchor=lim.anchor,
-                                   carrier_band_hz=wanted_band_hz, carrier_reading_w=readings.peak_reading_w)
+                                   carrier_band_hz=wanted_band_hz, carrier_reading_w=readings.peak_reading_w,
+                                   judge_artefacts=judge_artefacts)
         if res.points_evaluated:
             caveats.extend(_narrower_than_allowed(spectrum, lim))
         res = _against_the_reference(res, lim, reference)

@@ -124,4 +124,5 @@ def _spectrum_summary(spectrum) -> SpectrumSummary:
         recording=spectrum.recording,
         estimate_text=estimate,
         levels_text=levels,
+        receiver_artefacts=spectrum.artefacts,
     )

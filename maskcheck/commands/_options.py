@@ -78,6 +78,8 @@ OPTIONS: dict[str, str] = {
     "kaiser_beta": "--window",
     "overlap": "--overlap",
     "segment_samples": "--segment",
+    "usable_fraction": "--usable-fraction",
+    "judge_artefacts": "--judge-artefacts",
     "trace": "--trace",
     "frame_s": "--frame",
     "workers": "--workers",
@@ -100,7 +102,7 @@ OPTIONS: dict[str, str] = {
 }
 
 #: boolean parameters whose option is a flag: ``force=True`` reads ``--force``
-FLAGS = frozenset({"force", "outside_bands"})
+FLAGS = frozenset({"force", "outside_bands", "judge_artefacts"})
 
 #: parameters library errors name that no option sets (computed values,
 #: per-frame indices, the API's own switches); the CLI prints them as they are

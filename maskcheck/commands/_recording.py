@@ -42,6 +42,13 @@ def add_recording_options(sp, *, time_resolved: bool = True) -> None:
     g.add_argument("--ref-tone", metavar="F=P", help="calibration: a tone of known power in the recording, e.g. 7.1MHz=-10dBm")
     g.add_argument("--correction", metavar="FILE", help="correction table of the setup (dB added per frequency)")
     g.add_argument("--workers", type=int, metavar="N", help="estimation threads (default: all CPUs)")
+    g.add_argument("--usable-fraction", metavar="F",
+                   help="part of the sample rate about the centre kept as usable, e.g. 80%% (default) or 0.9: the band "
+                        "edges beyond it, where the receiver's anti-alias filter rolls off, are not judged")
+    if time_resolved:
+        g.add_argument("--judge-artefacts", action="store_true",
+                       help="judge the readings flagged as the receiver's (its DC line, IQ images) as the "
+                            "transmitter's; by default one over its limit makes its range incomplete")
 
 
 def is_recording(path, args) -> bool:
@@ -143,8 +150,27 @@ def estimate_args(args, trace: str):
     frame_s = None
     if frame:
         frame_s = _duration(frame)
-    return dict(window=window, kaiser_beta=beta, rbw_hz=rbw, segment_samples=args.segment, overlap=_overlap(args.overlap),
-                trace=trace, frame_s=frame_s, calibration=_calibration(args), workers=args.workers)
+    kw = dict(window=window, kaiser_beta=beta, rbw_hz=rbw, segment_samples=args.segment, overlap=_overlap(args.overlap),
+              trace=trace, frame_s=frame_s, calibration=_calibration(args), workers=args.workers)
+    if getattr(args, "usable_fraction", None) is not None:
+        kw["usable_fraction"] = _fraction(args.usable_fraction)
+    return kw
+
+
+def _fraction(text: str) -> float:
+    """``--usable-fraction``: a percentage (80%) or a fraction (0.8), above 0 and at most 1."""
+    from ..errors import UnitError
+
+    v = _overlap(text) if str(text).strip().endswith("%") else None
+    if v is None:
+        try:
+            v = float(str(text).strip())
+        except ValueError:
+            v = float("nan")
+    if not (0 < v <= 1):
+        raise UnitError(f"{text!r} is not a usable fraction; expected a percentage above 0 and at most 100 %, "
+                        "e.g. 80%, or a fraction such as 0.8", where="--usable-fraction")
+    return v
 
 
 def _duration(text: str) -> float:
@@ -226,7 +252,8 @@ def _corrected(spectrum, table):
 
 #: options that act on IQ recordings only, with their defaults: refused when every input is a trace
 RECORDING_ONLY = {"segment": None, "full_scale": None, "ref_tone": None, "rate": None, "centre": None,
-                  "window": "blackmanharris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None}
+                  "window": "blackmanharris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None,
+                  "usable_fraction": None, "judge_artefacts": False}
 #: options that describe trace files only: refused when every input is a recording (it says these itself)
 TRACE_ONLY = {"freq_unit": None, "level_unit": None, "detector": None}
 

@@ -90,7 +90,7 @@ def run(args) -> int:
             s = setup.apply(s)
         return check(s, mask, station, guard_db=guard, exclude_hz=exclude, report_threshold_db=within, inputs=inputs,
                      power_tolerance_db=tolerance, outside_bands=args.outside_bands,
-                     necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb)
+                     judge_artefacts=args.judge_artefacts, necessary=necessary, authorized_bw_hz=authorized, xdb_db=xdb)
 
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)

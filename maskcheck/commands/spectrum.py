@@ -32,6 +32,12 @@ def estimation_notes(spectrum, files) -> list[str]:
     lines.append("calibration: " + " ".join(f"{k}={_fmt(v)}" for k, v in cal.items()))
     if spectrum.recording is not None:
         lines.append("recording: " + " ".join(f"{k}={_fmt(v)}" for k, v in spectrum.recording.to_dict().items()))
+    if spectrum.artefacts is not None:
+        from ..report.tables import receiver_text
+
+        lines.append("receiver: " + receiver_text(spectrum.artefacts).replace("; judged only as upper bounds", "")
+                     + ("; a check of this trace cannot tell them from the transmitter's: check the recording itself"
+                        if spectrum.artefacts.lines else ""))
     for f in files:
         lines.append(f"input: {f.path} sha256={f.sha256}")
     lines.extend(spectrum.notes)
@@ -64,6 +70,10 @@ def run(args) -> int:
         cal = spectrum.calibration
         out = console()
         out.print(f"[bold]{args.recording}[/bold]: {len(spectrum)} points, {spectrum.start_hz:,.1f} to {spectrum.stop_hz:,.1f} Hz")
+        if spectrum.artefacts is not None:
+            from ..report.tables import receiver_text
+
+            out.print(f"receiver: {receiver_text(spectrum.artefacts).replace('; judged only as upper bounds', '')}")
         out.print(
             f"RBW (noise bandwidth) {est.enbw_hz:.6g} Hz: {est.window} window, {est.segment_samples} samples per segment, "
             f"{100 * est.overlap_fraction:.0f} % overlap, {est.averages} segments; trace: {est.trace} "

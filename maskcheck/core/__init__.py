@@ -23,6 +23,7 @@ names are re-exported by :mod:`maskcheck`.
 ``corrections``       setup corrections, field strength <-> EIRP
 ``twotone``           the two-tone test: PEP, mean power, products
 ``uncertainty``       the guard band and the decision rule
+``artefacts``         the receiver's own readings in a recording: DC line, IQ images, usable band
 ====================  ==============================================================
 """
 

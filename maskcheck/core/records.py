@@ -32,6 +32,8 @@ record is built where the fact is known, never parsed back from JSON.
 :class:`PerMeasurementKind`    a value for conducted and for radiated work
 :class:`DecisionRule`          how measurement uncertainty meets the verdict
 :class:`TimeResolvedRecord`    the worst frame of a time-resolved check
+:class:`ReceiverLine`          a reading the receiver of a recording made (DC line, IQ image)
+:class:`ReceiverArtefacts`     the receiver's artefacts and usable band of a recording
 :class:`SpectrumSummary`       the measured spectrum, in the result
 :class:`ToolRecord`            the program that made a result
 =============================  ===============================================
@@ -58,6 +60,8 @@ __all__ = [
     "DomainBoundaryRecord",
     "PerMeasurementKind",
     "DecisionRule",
+    "ReceiverLine",
+    "ReceiverArtefacts",
     "TimeResolvedRecord",
     "SpectrumSummary",
     "ToolRecord",
@@ -640,6 +644,90 @@ class TimeResolvedRecord:
 
 
 @dataclass(frozen=True)
+class ReceiverLine:
+    """A line in a recording that the receiver made, not the transmitter (:mod:`maskcheck.core.artefacts`).
+
+    Attributes
+    ----------
+    kind : str
+        ``"dc"`` (the line at the recording's centre: a DC offset of the
+        receiver's I and Q) or ``"image"`` (the mirror 2 f_centre - f of a
+        strong line, left by gain and phase imbalance of the receiver's I and Q).
+    freq_hz : float
+        The frequency of the line's strongest reading, Hz.
+    start_hz, stop_hz : float
+        The band whose readings are flagged, Hz.
+    level_dbm : float
+        Its strongest reading, in its own RBW (dBm, or dBFS for an uncalibrated recording).
+    parent_hz : float or None
+        For an image, the line it mirrors, Hz.
+    relative_db : float or None
+        For an image, its level relative to that line, dB (negative).
+    """
+
+    kind: str
+    freq_hz: float
+    start_hz: float
+    stop_hz: float
+    level_dbm: float
+    parent_hz: float | None = None
+    relative_db: float | None = None
+
+    def describe(self) -> str:
+        """The line in words, e.g. ``receiver DC line`` or ``IQ image of 7.1 MHz (-32.0 dB)``."""
+        from .units import format_frequency
+
+        if self.kind == "dc":
+            return "receiver DC line (the recording's centre)"
+        return f"receiver IQ image of {format_frequency(self.parent_hz, 9)} ({self.relative_db:+.1f} dB re that line)"
+
+    def to_dict(self) -> dict:
+        d = _plain(self, ("parent_hz", "relative_db"))
+        d["text"] = self.describe()
+        return d
+
+
+@dataclass(frozen=True)
+class ReceiverArtefacts:
+    """What the receiver of a recording adds: its usable band and its own lines.
+
+    Attributes
+    ----------
+    usable_fraction : float
+        The fraction of the sample rate, centred on each capture's centre
+        frequency, kept as usable; the band edges beyond it, where the
+        receiver's anti-alias filter rolls off, are left out of the spectrum.
+    usable_hz : tuple of (float, float)
+        The usable band of each capture, Hz.
+    edges_hz : tuple of (float, float)
+        The ranges left out at the band edges, Hz.
+    lines : tuple of ReceiverLine
+        The flagged lines (DC lines, IQ images).
+    judged : bool
+        Whether the check judged the flagged readings as the transmitter's
+        (``judge_artefacts``); set by the check.
+    """
+
+    usable_fraction: float
+    usable_hz: tuple[tuple[float, float], ...]
+    edges_hz: tuple[tuple[float, float], ...] = ()
+    lines: tuple[ReceiverLine, ...] = ()
+    judged: bool = False
+
+    def edge_overlapping(self, start_hz: float, stop_hz: float) -> tuple[float, float] | None:
+        """The band edge left out that overlaps ``[start_hz, stop_hz]``, if one does."""
+        for a, b in self.edges_hz:
+            if a < stop_hz and b > start_hz:
+                return (a, b)
+        return None
+
+    def to_dict(self) -> dict:
+        return {"usable_fraction": self.usable_fraction, "usable_hz": [list(x) for x in self.usable_hz],
+                "edges_hz": [list(x) for x in self.edges_hz], "lines": [ln.to_dict() for ln in self.lines],
+                "judged": self.judged}
+
+
+@dataclass(frozen=True)
 class SpectrumSummary:
     """The measured spectrum as the result describes it.
 
@@ -662,6 +750,8 @@ class SpectrumSummary:
         (JSON keys ``estimate`` and ``levels``; omitted when None).
     time_resolved : TimeResolvedRecord or None
         (omitted when None).
+    receiver_artefacts : ReceiverArtefacts or None
+        The usable band and the receiver's own lines of a recording (omitted when None).
     """
 
     points: int
@@ -678,6 +768,7 @@ class SpectrumSummary:
     estimate_text: str | None = None
     levels_text: str | None = None
     time_resolved: TimeResolvedRecord | None = None
+    receiver_artefacts: ReceiverArtefacts | None = None
 
     def to_dict(self) -> dict:
         d = _plain(self, tuple(f.name for f in fields(self) if f.name not in (

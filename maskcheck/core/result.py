@@ -125,9 +125,14 @@ class Emission:
     clause: str = ""
     #: the local noise-floor estimate it stands clear of, dBm in the same bandwidth (None: not estimated)
     floor_dbm: float | None = None
+    #: a reading the receiver of a recording made (its DC line, an IQ image), in words; "" for none
+    artefact: str = ""
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        d = asdict(self)
+        if not d["artefact"]:  # the key appears where a reading is flagged
+            del d["artefact"]
+        return d
 
 
 @dataclass

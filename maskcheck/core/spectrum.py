@@ -48,7 +48,9 @@ from typing import Sequence
 import numpy as np
 
 from ..errors import SpectrumError
-from .records import CalibrationRecord, CorrectionsRecord, EstimationRecord, RecordingRecord, SetupRecord, TraceFileRecord
+from .artefacts import join_artefacts
+from .records import (CalibrationRecord, CorrectionsRecord, EstimationRecord, ReceiverArtefacts, RecordingRecord, SetupRecord,
+                      TraceFileRecord)
 
 __all__ = ["Spectrum", "stitch", "DETECTORS"]
 
@@ -122,6 +124,10 @@ class Spectrum:
     setup, corrections : records or None
         The measurement setup and the corrections applied to the readings
         (:meth:`maskcheck.io.setup.MeasurementSetup.apply`).
+    artefacts : ReceiverArtefacts or None
+        The usable band and the receiver's own lines of a spectrum estimated
+        from a recording (:mod:`maskcheck.core.artefacts`); :func:`stitch`
+        keeps those of every span.
 
     The records are those of :mod:`maskcheck.core.records`; the level scale
     (:attr:`level_scale`) follows from the calibration.
@@ -146,6 +152,7 @@ class Spectrum:
     calibration: CalibrationRecord | None = None
     setup: SetupRecord | None = None
     corrections: CorrectionsRecord | None = None
+    artefacts: ReceiverArtefacts | None = None
 
     def __post_init__(self):
         f = _as_1d("freq_hz", self.freq_hz)
@@ -222,6 +229,7 @@ class Spectrum:
         "calibration": CalibrationRecord,
         "setup": SetupRecord,
         "corrections": CorrectionsRecord,
+        "artefacts": ReceiverArtefacts,
     }
 
     def _check_metadata(self) -> None:
@@ -245,7 +253,7 @@ class Spectrum:
 
     #: the metadata fields: where the spectrum came from, not what it holds
     METADATA = ("source", "sha256", "notes", "centre_hz", "sources", "trace_file", "recording", "estimation",
-                "calibration", "setup", "corrections")
+                "calibration", "setup", "corrections", "artefacts")
 
     @property
     def metadata(self) -> dict:
@@ -745,4 +753,6 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
         span_edges_hz=tuple(edges),
         sources=sources,
         notes=tuple(notes),
+        artefacts=join_artefacts([s.artefacts for s in spectra]),
     )
+

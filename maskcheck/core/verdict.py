@@ -36,6 +36,15 @@ How a region is judged
 6. Otherwise the region is ``marginal`` when its worst margin is inside the
    guard band, else ``pass``.
 
+7. In a spectrum estimated from an IQ recording, readings the receiver made
+   (its DC line, the IQ images of strong lines: ``spectrum.artefacts``, see
+   :mod:`maskcheck.core.artefacts`) are not the transmitter's.  Such a
+   reading is an upper bound on what the transmitter emits there, so one
+   that meets its limit is judged as a bound; one that exceeds it is not
+   judged (the region is ``incomplete`` and says which line), unless
+   ``judge_artefacts`` asks to judge it as the transmitter's.  Listed
+   emissions at flagged readings name the artefact either way.
+
 Discrete emissions -- local peaks of the level relative to the limit,
 standing at least 3 dB above their surroundings -- within
 ``report_threshold_db`` of the limit are listed;
@@ -106,6 +115,7 @@ def judge_region(
     anchor: str = "",
     carrier_band_hz: tuple[float, float] | None = None,
     carrier_reading_w: float | None = None,
+    judge_artefacts: bool = False,
 ) -> tuple[RegionResult, list[Emission], list[str]]:
     """Judge one region; return its result, its listed emissions and warnings.
 
@@ -130,6 +140,9 @@ def judge_region(
         not judged as a spurious emission when it would fail or fall in the
         guard band: the region is then at best ``incomplete`` until a
         narrower-RBW zoom covers it (a stitched zoom's own RBW then decides).
+    judge_artefacts : bool
+        Judge the readings flagged as the receiver's (step 7) as the
+        transmitter's.
 
     Returns
     -------
@@ -150,7 +163,8 @@ def judge_region(
     missing = _uncovered(spectrum, start, stop, base["excluded_hz"])
     reasons: list[str] = []
     if missing:
-        parts = "; ".join(f"{_fmt(a)} to {_fmt(b)}{_seam_note(spectrum, a, b)}" for a, b in missing[:4])
+        parts = "; ".join(f"{_fmt(a)} to {_fmt(b)}{_seam_note(spectrum, a, b)}{_edge_note(spectrum, a, b)}"
+                          for a, b in missing[:4])
         more = f" and {len(missing) - 4} more" if len(missing) > 4 else ""
         reasons.append(f"no data from {parts}{more}")
     idx = np.flatnonzero(_in_scope(spectrum.freq_hz, limits, start, stop, base["excluded_hz"]))
@@ -170,6 +184,9 @@ def judge_region(
     if carrier_band_hz is not None and carrier_reading_w is not None and limits.kind == "spurious":
         evaluable = _outside_carrier_skirt(spectrum, idx, margin, evaluable, guard_db, carrier_band_hz,
                                            carrier_reading_w, reasons)
+    flags = _receiver_flags(spectrum, fr, bw)
+    if flags is not None and not judge_artefacts:
+        evaluable = _attributable(spectrum.artefacts, fr, flags, margin, evaluable, reasons)
     _detector_notes(spectrum, limits, reasons, warnings)
     # 5. noise floor per reference-bandwidth band
     floor_dbm = _floor(bw, level_dbm)
@@ -193,7 +210,7 @@ def judge_region(
     res = RegionResult(verdict=verdict, uncovered_hz=missing, points_evaluated=int(ev.size), reasons=reasons,
                        curve=Curve(fr.copy(), level_dbm, limit_dbm), **worst, **base)
     emissions = _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, floor_dbm, evaluable, genuine, ev,
-                           report_threshold_db, warnings)
+                           report_threshold_db, warnings, flags, judge_artefacts)
     return res, emissions, warnings
 
 
@@ -229,6 +246,17 @@ def _seam_note(spectrum: Spectrum, a: float, b: float) -> str:
     return ""
 
 
+def _edge_note(spectrum: Spectrum, a: float, b: float) -> str:
+    """Where a range without data overlaps a band edge of a recording that was left out: why, and what to do."""
+    art = spectrum.artefacts
+    edge = None if art is None else art.edge_overlapping(a, b)
+    if edge is None:
+        return ""
+    return (f" (it reaches into a band edge of the recording, {_fmt(edge[0])} to {_fmt(edge[1])}, beyond the usable "
+            f"{100 * art.usable_fraction:g} % of the sample rate where the receiver's anti-alias filter rolls off: "
+            "record with the centre moved or a higher sample rate, or set --usable-fraction)")
+
+
 def _in_scope(f: np.ndarray, limits, start: float, stop: float, excluded) -> np.ndarray:
     """Which trace points the region judges (boolean over the trace)."""
     # the limits know each boundary's interval convention (mask schema v3); spans the
@@ -257,10 +285,12 @@ def _levels(spectrum: Spectrum, limits, idx, excluded, reasons, warnings):
         level_w[integrate] = spectrum.reference_band_power_w(idx[integrate], bw[integrate], excluded)
     wide = (~integrate) & (rbw > bw * (1 + 1e-9))
     if wide.any():
+        widths = np.unique(bw[wide])
+        named = ", ".join(_fmt(float(w)) for w in widths[:4]) + (f" and {widths.size - 4} more" if widths.size > 4 else "")
         warnings.append(
             f"{limits.name}: the trace's RBW ({_fmt(float(rbw[wide].max()))}) is wider than the reference "
-            f"bandwidth ({_fmt(float(bw[wide].min()))}) at {int(wide.sum())} point(s); readings used as they are "
-            "(exact for discrete emissions, conservative for noise-like ones)"
+            f"bandwidth{'s' if widths.size > 1 else ''} ({named}) at {int(wide.sum())} point(s); readings used as "
+            "they are (exact for discrete emissions, conservative for noise-like ones)"
         )
     level_dbm = np.log10(level_w, out=level_w)  # in place: the same numbers, one array fewer
     level_dbm *= 10.0
@@ -339,6 +369,45 @@ def _outside_carrier_skirt(spectrum, idx, margin, evaluable, guard_db, band, car
     return evaluable & ~skirt
 
 
+def _receiver_flags(spectrum: Spectrum, fr: np.ndarray, bw: np.ndarray):
+    """Index of the receiver line in each region point's reference bandwidth (-1: none), or None without any (step 7).
+
+    A point is flagged when its level integrates a flagged band: its reference
+    bandwidth ``bw`` centred on it overlaps the line's band.
+    """
+    art = spectrum.artefacts
+    if art is None or not art.lines:
+        return None
+    flags = np.full(fr.shape, -1, dtype=np.intp)
+    half = bw / 2.0
+    for k, line in enumerate(art.lines):
+        flags[(fr + half >= line.start_hz) & (fr - half <= line.stop_hz) & (flags < 0)] = k
+    return flags if (flags >= 0).any() else None
+
+
+def _attributable(artefacts, fr, flags, margin, evaluable, reasons) -> np.ndarray:
+    """The evaluable points, less those whose level holds a receiver line that exceeds its limit (step 7).
+
+    A line is judged as a whole: when any point whose level holds it is over
+    the limit, every such point is left unjudged (their levels all hold a
+    part of the line); otherwise they all stand, as upper bounds.
+    """
+    out = evaluable.copy()
+    for k in np.unique(flags[flags >= 0]):
+        touched = flags == k
+        over = evaluable & touched & (margin < 0)
+        if not over.any():
+            continue
+        line = artefacts.lines[int(k)]
+        out &= ~touched
+        reasons.append(
+            f"the reading at {_fmt(line.freq_hz, 9)} ({float(margin[over].min()):+.1f} dB against the limit) is the "
+            f"{line.describe()}, not attributable to the transmitter: retune the receiver so that it falls outside "
+            "the judged ranges, or judge it as the transmitter's (--judge-artefacts)"
+        )
+    return out
+
+
 def _detector_notes(spectrum: Spectrum, limits, reasons, warnings) -> None:
     """The rule's detector against the trace's."""
     if limits.detector == "quasi-peak" and spectrum.detector not in ("peak", "quasi-peak", "unknown"):
@@ -380,20 +449,23 @@ def _genuine_failures(fr, floor_dbm, level_dbm, limit_dbm, margin, evaluable, re
 
 
 def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, floor_dbm, evaluable, genuine, ev,
-               report_threshold_db, warnings) -> list[Emission]:
+               report_threshold_db, warnings, flags=None, judge_artefacts=False) -> list[Emission]:
     """Discrete emissions near the limit: peaks of (level - limit), each reported at its own peak reading.
 
     A peak is listed only when it stands at least :data:`FLOOR_CLEARANCE_DB`
     above the local noise floor estimate (the floor's own bumps are not
-    emissions); a failing region's worst point is always listed.
+    emissions); a failing region's worst point is always listed.  A peak at
+    a reading the receiver made (``flags``) is listed, judged or not, and
+    names the artefact.
     """
+    flagged = np.zeros(idx.size, bool) if flags is None else flags >= 0
     fr = spectrum.freq_hz[idx]
     # the height filter runs before the costly prominence computation, so
     # only peaks near the limit pay for it
     peaks, _ = find_peaks(-margin, height=-report_threshold_db, prominence=PEAK_PROMINENCE_DB)
     if peaks.size:
         clear = level_dbm[peaks] >= floor_dbm[peaks] + FLOOR_CLEARANCE_DB
-        peaks = peaks[evaluable[peaks] & (margin[peaks] < report_threshold_db) & clear]
+        peaks = peaks[(evaluable[peaks] | flagged[peaks]) & (margin[peaks] < report_threshold_db) & clear]
     if genuine.any() and ev.size:
         # the worst point is always listed when the region fails
         peaks = np.union1d(peaks, [int(ev[np.argmin(margin[ev])])])
@@ -404,14 +476,20 @@ def _emissions(spectrum, limits, idx, bw, margin, level_dbm, limit_dbm, floor_db
             f"the {MAX_LISTED_EMISSIONS} worst are listed"
         )
         peaks = np.sort(keep)
-    at = _peak_reading(peaks, fr, bw, spectrum.power_w[idx], evaluable)
+    at = _peak_reading(peaks, fr, bw, spectrum.power_w[idx], evaluable | flagged)
     listed, seen = [], set()
     for p, q in zip(peaks, at):
         if q in seen:  # two peaks of one emission's integral
             continue
         seen.add(q)
+        artefact = ""
+        if flagged[q]:
+            artefact = spectrum.artefacts.lines[int(flags[q])].describe() + (
+                "; judged as the transmitter's" if judge_artefacts else
+                "; not judged: over the limit" if margin[p] < 0 else
+                "; within the limit, an upper bound on the transmitter's emission there")
         listed.append(Emission(float(fr[q]), float(level_dbm[p]), float(limit_dbm[p]), float(margin[p]), limits.name,
-                               floor_dbm=float(floor_dbm[p])))
+                               floor_dbm=float(floor_dbm[p]), artefact=artefact))
     return listed
 
 

@@ -23,6 +23,11 @@ This joins the readers of :mod:`maskcheck.io.iq` and the estimator of
    so that ``level_dbm`` reads dBFS; a check may then judge it only against
    relative limits.
 
+4. each span keeps the middle ``usable_fraction`` of its sample rate (the
+   band edges, where the receiver's anti-alias filter rolls off, are left out
+   and recorded), and the receiver's DC line and IQ images are flagged
+   (:mod:`maskcheck.core.artefacts`; the spectrum's ``artefacts`` record).
+
 Everything used -- window, ENBW, segment length, overlap, averages, the
 4.34/sqrt(K) dB uncertainty and the calibration -- is recorded in the
 spectrum's ``estimation``, ``calibration`` and ``recording`` records
@@ -36,8 +41,9 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from ..core.artefacts import DEFAULT_USABLE_FRACTION, find_receiver_lines, join_artefacts, usable_band
 from ..core.estimate import WelchAccumulator, WelchEstimate, plan_welch
-from ..core.records import CalibrationRecord, RecordingRecord
+from ..core.records import CalibrationRecord, ReceiverArtefacts, RecordingRecord
 from ..core.spectrum import Spectrum
 from ..core.units import w_to_dbm_fast
 from ..errors import RecordingError, SpectrumError
@@ -92,6 +98,8 @@ class RecordingSpectrum:
         As the spectrum carries it.
     correction : object or None
         The correction table applied on top (``gain_db(freq_hz)``), if any.
+    usable_fraction : float
+        The fraction of the sample rate kept about each centre.
     """
 
     spectrum: Spectrum
@@ -99,6 +107,7 @@ class RecordingSpectrum:
     scale_w: float
     calibration: CalibrationRecord
     correction: object = None
+    usable_fraction: float = DEFAULT_USABLE_FRACTION
 
     def frame_spectrum(self, i: int) -> Spectrum:
         """Frame ``i`` of a time-resolved single-span estimate, on the same scale."""
@@ -115,7 +124,11 @@ class RecordingSpectrum:
 
     def _finish(self, s: Spectrum) -> Spectrum:
         gain = _gain(s.freq_hz, self.scale_w, self.correction)
-        return replace(s, power_w=s.power_w * gain)
+        s = replace(s, power_w=s.power_w * gain)
+        # a frame keeps the usable band of the whole recording and its flagged lines
+        (fc, _), = self.estimates
+        lo, hi = usable_band(fc, s.recording.sample_rate_hz, self.usable_fraction)
+        return replace(_usable_part(s, lo, hi), artefacts=self.spectrum.artefacts)
 
 
 def _gain(freq_hz, scale_w, correction):
@@ -157,6 +170,7 @@ def estimate_recording(
     frame_s: float | None = None,
     calibration: Calibration = Calibration(),
     workers: int | None = None,
+    usable_fraction: float = DEFAULT_USABLE_FRACTION,
     block_samples: int = BLOCK_SAMPLES,
     progress=None,
     hasher=None,
@@ -178,6 +192,12 @@ def estimate_recording(
     calibration : Calibration
     workers : int, optional
         Threads of the estimator.
+    usable_fraction : float
+        The fraction of the sample rate, about each centre frequency, whose
+        readings are kept (0 < fraction <= 1; default
+        :data:`~maskcheck.core.artefacts.DEFAULT_USABLE_FRACTION`): the band
+        edges beyond it, where the receiver's anti-alias filter rolls off,
+        are left out of the spectrum and recorded as such.
     block_samples : int
         Samples read at a time.
     progress : callable, optional
@@ -191,6 +211,9 @@ def estimate_recording(
     -------
     RecordingSpectrum
     """
+    if not (math.isfinite(usable_fraction) and 0 < usable_fraction <= 1):
+        raise RecordingError(f"usable_fraction={float(usable_fraction):g} must be > 0 and <= 1 (the part of the sample "
+                             "rate kept about the centre)", path=rec.path, param="usable_fraction")
     for name in ("full_scale_w", "ref_tone_w"):
         v = getattr(calibration, name)
         if v is not None and not (math.isfinite(v) and v > 0):
@@ -257,6 +280,16 @@ def estimate_recording(
         s = est.to_spectrum(fc, trace=trace, source=rec.path, recording=recording, notes=tuple(rec.notes))
         spans.append(s)
     if calibration.ref_tone_hz is not None:
+        for fc, _ in estimates:
+            lo, hi = usable_band(fc, rec.sample_rate_hz, usable_fraction)
+            if lo <= calibration.ref_tone_hz <= hi:
+                break
+        else:
+            raise RecordingError(
+                f"the reference tone at {calibration.ref_tone_hz:g} Hz lies outside the usable "
+                f"{100 * usable_fraction:g} % of the sample rate about the centre, where the receiver's anti-alias "
+                "filter rolls off; expected a tone inside it (ref_tone_hz, usable_fraction)",
+                path=rec.path, param="ref_tone_hz")
         tone = _measure_tone(rec, spans, estimates, calibration.ref_tone_hz, correction)
         scale_w = float(calibration.ref_tone_w) / tone
         cal = CalibrationRecord(
@@ -271,11 +304,31 @@ def estimate_recording(
         cal = replace(cal, correction_table=str(getattr(correction, "path", "")))
     cal = replace(cal, calibrated=cal.level_scale == "dBm")
     finished = []
-    for s in spans:
+    for s, (fc, _) in zip(spans, estimates):
         gain = _gain(s.freq_hz, scale_w, correction)
-        finished.append(replace(s, power_w=s.power_w * gain, calibration=cal))
+        s = replace(s, power_w=s.power_w * gain, calibration=cal)
+        finished.append(_with_receiver_artefacts(s, fc, rec.sample_rate_hz, usable_fraction, rec.path))
     spectrum = _join_spans(finished)
-    return RecordingSpectrum(spectrum, tuple(estimates), scale_w, cal, correction)
+    return RecordingSpectrum(spectrum, tuple(estimates), scale_w, cal, correction, usable_fraction)
+
+
+def _usable_part(s: Spectrum, lo: float, hi: float) -> Spectrum:
+    """The points of one span inside its usable band ``[lo, hi]``, its outer cells ending there."""
+    keep = s.between(lo, hi)
+    return replace(keep, span_edges_hz=((max(lo, keep.cell_edges_hz[0][0]), min(hi, keep.cell_edges_hz[1][-1])),))
+
+
+def _with_receiver_artefacts(s: Spectrum, centre_hz: float, sample_rate_hz: float, fraction: float, path) -> Spectrum:
+    """One capture's span: its usable band kept, its band edges and the receiver's lines recorded."""
+    lo, hi = usable_band(centre_hz, sample_rate_hz, fraction)
+    if not (s.freq_hz[0] <= hi and s.freq_hz[-1] >= lo):
+        raise RecordingError(f"no point of the capture at {centre_hz:g} Hz lies inside its usable band ({lo:g} to "
+                             f"{hi:g} Hz)", path=path, param="usable_fraction")
+    edges = tuple(e for e in ((s.start_hz, lo), (hi, s.stop_hz)) if e[1] > e[0])
+    kept = _usable_part(s, lo, hi) if edges else s
+    lines = tuple(find_receiver_lines(kept.freq_hz, kept.power_w, kept.rbw_hz, centre_hz))
+    record = ReceiverArtefacts(usable_fraction=float(fraction), usable_hz=((lo, hi),), edges_hz=edges, lines=lines)
+    return replace(kept, artefacts=record)
 
 
 def _measure_tone(rec, spans, estimates, f_hz, correction) -> float:
@@ -341,5 +394,6 @@ def _join_spans(spectra: list[Spectrum]) -> Spectrum:
         n += int(sel.sum())
     meta = spectra[0].metadata
     meta["centre_hz"] = None  # one centre per span: none for the whole
+    meta["artefacts"] = join_artefacts([s.artefacts for s in spectra])
     return Spectrum(np.concatenate(f), np.concatenate(p), np.concatenate(r), np.concatenate(e),
                     detector=spectra[0].detector, segments=tuple(segs), span_edges_hz=tuple(edges), **meta)

@@ -27,8 +27,10 @@ from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
 from .pdf_parts import INK, SHADE, TINT, Parts, pdf_text
 from .plot_axes import PALETTE
 from .tables import (
+    ARTEFACT_MARK,
     BANDWIDTH_HEADER,
     DASH,
+    artefact_notes,
     bandwidth_rows,
     emission_facts,
     fmt_db,
@@ -205,11 +207,16 @@ def emissions_section(x: Parts, result: CheckResult) -> list:
     header = ("Frequency", "Level", "Limit", "Margin", "Limit applied", "Clause")
     rows, tints = [], []
     for e in result.emissions:
-        rows.append((format_frequency(e.freq_hz, 7), fmt_dbm(e.level_dbm), fmt_dbm(e.limit_dbm), fmt_db(e.margin_db),
+        rows.append((format_frequency(e.freq_hz, 7) + (ARTEFACT_MARK if e.artefact else ""), fmt_dbm(e.level_dbm), fmt_dbm(e.limit_dbm), fmt_db(e.margin_db),
                      e.limit_text or DASH, e.clause or f"{result.mask.citation}, region '{e.region}'"))
         tints.append(TINT["fail"] if e.margin_db < 0 else TINT["marginal"] if e.margin_db < result.guard_db else None)
     out.append(x.grid(header, rows, [0.14 * w, 0.1 * w, 0.1 * w, 0.09 * w, 0.33 * w, 0.24 * w], tints=tints))
     out.append(x.p("Tinted rows: red above the limit, amber inside the guard band.", "small"))
+    notes = artefact_notes(result)
+    if notes:
+        out.append(x.p("* Read by the receiver of the recording, not the transmitter (its DC line, the IQ image of a "
+                       "strong line); judged as the transmitter's only when asked:", "small"))
+        out += x.bullets(notes, "small")
     return out
 
 

@@ -34,6 +34,9 @@ __all__ = [
     "region_notes",
     "REGION_HEADER",
     "emission_rows",
+    "artefact_notes",
+    "receiver_text",
+    "ARTEFACT_MARK",
     "EMISSION_HEADER",
     "station_rows",
     "emission_facts",
@@ -271,12 +274,22 @@ def region_notes(result: CheckResult) -> list[str]:
 EMISSION_HEADER = ("Frequency", "Level", "Limit", "Margin", "Region")
 
 
+#: the mark of a listed emission read by the receiver of a recording (see :func:`artefact_notes`)
+ARTEFACT_MARK = " *"
+
+
 def emission_rows(result: CheckResult) -> list[tuple[str, ...]]:
-    """One row per listed emission, in :data:`EMISSION_HEADER` order."""
+    """One row per listed emission, in :data:`EMISSION_HEADER` order; receiver artefacts carry :data:`ARTEFACT_MARK`."""
     return [
-        (format_frequency(e.freq_hz, 7), fmt_dbm(e.level_dbm), fmt_dbm(e.limit_dbm), fmt_db(e.margin_db), e.region or DASH)
+        (format_frequency(e.freq_hz, 7) + (ARTEFACT_MARK if e.artefact else ""), fmt_dbm(e.level_dbm),
+         fmt_dbm(e.limit_dbm), fmt_db(e.margin_db), e.region or DASH)
         for e in result.emissions
     ]
+
+
+def artefact_notes(result: CheckResult) -> list[str]:
+    """One line per listed emission read by the receiver of a recording (DC line, IQ image), for under the table."""
+    return [f"{format_frequency(e.freq_hz, 7)}{ARTEFACT_MARK}: {e.artefact}" for e in result.emissions if e.artefact]
 
 
 _STATION_ORDER = (
@@ -375,8 +388,25 @@ def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
     # nested records (the estimation and calibration of a recording) are for the JSON; their
     # one-line texts ("estimate", "levels") are shown instead
     flat = {k: v for k, v in result.spectrum_summary.to_dict().items() if not isinstance(v, dict)}
-    return _dict_rows(flat, ("start_hz", "stop_hz", "points", "spans", "rbw_hz", "rbw_hz_min", "rbw_hz_max", "detector", "level_scale",
-                             "estimate", "levels"))
+    rows = _dict_rows(flat, ("start_hz", "stop_hz", "points", "spans", "rbw_hz", "rbw_hz_min", "rbw_hz_max", "detector",
+                             "level_scale", "estimate", "levels"))
+    art = result.spectrum_summary.receiver_artefacts
+    if art is not None:
+        rows.append(("receiver", receiver_text(art)))
+    return rows
+
+
+def receiver_text(art) -> str:
+    """The usable band and the flagged lines of a recording's receiver, in one line."""
+    bands = ", ".join(fmt_range(a, b) for a, b in art.usable_hz)
+    text = f"usable {100 * art.usable_fraction:g} % of the sample rate ({bands}); band edges beyond it not judged"
+    if art.lines:
+        named = "; ".join(f"{ln.describe()} at {format_frequency(ln.freq_hz, 9)}" for ln in art.lines)
+        text += f"; flagged as the receiver's: {named}; " + (
+            "judged as the transmitter's (asked)" if art.judged else "judged only as upper bounds")
+    else:
+        text += "; no DC line or IQ image found"
+    return text
 
 
 BANDWIDTH_HEADER = ("Method", "Width", "Lower edge", "Upper edge")

@@ -24,6 +24,7 @@ from .tables import (
     BANDWIDTH_HEADER,
     EMISSION_HEADER,
     bandwidth_rows,
+    artefact_notes,
     emission_rows,
     reference_text,
     region_notes,
@@ -126,6 +127,11 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
 
     if result.emissions:
         console.print(_grid("Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3)))
+        notes = artefact_notes(result)
+        if notes:
+            console.print(_indented("* read by the receiver of the recording, not the transmitter:"))
+            for note in notes:
+                console.print(_indented(f"  {note}"))
     else:
         console.print(Text("Listed emissions: none within the reporting threshold."))
 
