@@ -191,3 +191,19 @@ def test_artefact_options_are_refused_for_a_trace(tmp_path, capsys):
         code = main(["check", str(trace), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "1W", *opt])
         err = capsys.readouterr().err.strip()
         assert code == 2 and opt[0] in err and len(err.splitlines()) == 1
+
+
+def test_a_two_tone_leak_on_the_dc_line_is_called_a_bound(tmp_path):
+    # an invented USB two-tone recording tuned exactly to the suppressed carrier: the leak and the receiver's DC
+    # line are one reading, which the two-tone test must not report as the transmitter's leak alone
+    from maskcheck.core.twotone import analyse_two_tone
+
+    fs, n = 250e3, 1 << 18
+    t = np.arange(n) / fs
+    x = 0.1 * (np.exp(2j * np.pi * 700 * t) + np.exp(2j * np.pi * 1900 * t)) + 2e-3 * (1 + 1j)
+    x = x + 3e-6 * (np.random.default_rng(5).standard_normal(n) + 1j * np.random.default_rng(6).standard_normal(n))
+    meta, *_ = write_sigmf(tmp_path / "tt", x.astype(np.complex64), fs, 14.2e6, full_scale_w=1.0)
+    s = estimate_recording(open_recording(meta), calibration=Calibration(full_scale_w=1.0), rbw_hz=30.0).spectrum
+    assert [ln.kind for ln in s.artefacts.lines] == ["dc"]
+    res = analyse_two_tone(s.between(14.195e6, 14.205e6), carrier_hz=14.2e6)
+    assert any("carrier leak" in w and "receiver DC line" in w and "upper bound" in w for w in res.warnings)

@@ -462,6 +462,10 @@ def analyse_two_tone(spectrum: Spectrum, *, band_hz: float | None = None, min_se
         for x in (leak, *images):
             if x.power_w is None:
                 warnings.append(f"the {x.name} at {x.freq_hz:g} Hz lies outside the spectrum: not measured")
+            elif (mine := _receiver_name(spectrum, x.freq_hz)) is not None:
+                warnings.append(f"the {x.name} at {x.freq_hz:g} Hz coincides with the {mine} of the recording: its "
+                                "reading is an upper bound, the receiver's line included (tune the receiver off the "
+                                "carrier to measure it)")
         carrier = CarrierReadings(fc, sideband, leak, images, supp, bound)
 
     # other lines: local maxima clear of the floor, away from every named line
@@ -483,11 +487,22 @@ def analyse_two_tone(spectrum: Spectrum, *, band_hz: float | None = None, min_se
                 chosen.append(int(i))
         left_out = max(0, len(chosen) - OTHER_LINES_MAX)
         for i in sorted(chosen[:OTHER_LINES_MAX], key=lambda j: f[j]):
-            x = line(_other_name(float(f[i]), fa, fb, carrier_hz, max(bw / 2, 2 * rbw)), float(f[i]))
+            name = _receiver_name(spectrum, float(f[i])) or _other_name(float(f[i]), fa, fb, carrier_hz,
+                                                                         max(bw / 2, 2 * rbw))
+            x = line(name, float(f[i]))
             if x.power_w is not None:
                 others.append(x)
     return TwoToneResult(fa, fb, t1, t2, pep, mean, bw, tuple(products), tuple(warnings), rbw, floor_band, carrier,
                          tuple(others), left_out)
+
+
+def _receiver_name(spectrum, freq: float) -> str | None:
+    """The receiver line of a recording (DC line, IQ image) whose band holds ``freq``, in words, or None."""
+    art = spectrum.artefacts
+    for ln in () if art is None else art.lines:
+        if ln.start_hz <= freq <= ln.stop_hz:
+            return ln.describe()
+    return None
 
 
 def _other_name(freq: float, fa: float, fb: float, carrier_hz: float | None, tol_hz: float) -> str:
