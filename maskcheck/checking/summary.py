@@ -91,6 +91,13 @@ def _domain_extent(spectrum, regions, dom) -> tuple[float, float]:
     return max(0.0, min(min(lo), b0)), max(max(hi), b1)
 
 
+def _k_text(e) -> str:
+    """How the statistical uncertainty of an estimate's trace was counted, in words."""
+    if e.trace_equivalent_averages is None:
+        return "a single reading: 4.34 dB"
+    return f"4.34/sqrt(K_eq), K_eq = {e.trace_equivalent_averages:.1f} independent of {e.trace_averages} overlapping"
+
+
 def _spectrum_summary(spectrum) -> SpectrumSummary:
     """The spectrum as the result describes it, with the estimation and calibration of one made from IQ."""
     e, c = spectrum.estimation, spectrum.calibration
@@ -100,7 +107,7 @@ def _spectrum_summary(spectrum) -> SpectrumSummary:
             f"Welch, {e.window} window, {e.segment_samples}-sample segments, "
             f"{100 * e.overlap_fraction:.0f} % overlap, no detrend, ENBW {format_frequency(e.enbw_hz)}, "
             f"{e.trace} ({e.detector}) of {e.trace_averages} segment(s), statistical uncertainty "
-            f"+-{e.trace_uncertainty_db:.2f} dB (1 sigma, 4.34/sqrt(K))"
+            f"+-{e.trace_uncertainty_db:.2f} dB (1 sigma, {_k_text(e)})"
         )
     if c is not None:
         levels = c.method

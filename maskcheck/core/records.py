@@ -108,7 +108,8 @@ class EstimationRecord:
     averages : int
         Segments averaged over the whole recording (K).
     uncertainty_db : float
-        One standard deviation of that average, dB (4.34/sqrt(K)).
+        One standard deviation of that average, dB (4.34/sqrt(K_eq), K_eq the
+        independent segments the K overlapping ones are worth, Welch 1967).
     samples_used, samples_total : int
         Samples that went into segments, and samples read.
     frames : int or None
@@ -120,7 +121,10 @@ class EstimationRecord:
     trace_averages : int
         Segments in this trace (K of the trace).
     trace_uncertainty_db : float
-        One standard deviation of this trace, dB (4.34/sqrt(K)).
+        One standard deviation of this trace, dB (4.34/sqrt(K_eq) for an
+        average; 4.34 dB, a single reading's, for a max-hold trace).
+    trace_equivalent_averages : float or None
+        K_eq of this trace (omitted for a max-hold trace).
     frame : int or None
         The frame, for ``trace="frame"`` (omitted when None).
     frame_start_s : float or None
@@ -155,8 +159,10 @@ class EstimationRecord:
     trace_uncertainty_db: float
     frame: int | None = None
     frame_start_s: float | None = None
+    #: the independent segments the trace's overlapping ones are worth (Welch 1967); None for a max-hold trace
+    trace_equivalent_averages: float | None = None
 
-    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s")
+    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s", "trace_equivalent_averages")
 
     def to_dict(self) -> dict:
         return _plain(self, self._OPTIONAL)

@@ -140,13 +140,22 @@ def _estimation_rows(est: EstimationRecord) -> list[tuple[str, str]]:
         ("Detrending", est.detrend),
         ("Averaging", est.averaging),
         ("Trace", f"{est.trace} ({est.detector} detector)"),
-        ("Averages K", str(est.trace_averages)),
+        ("Averages K", str(est.trace_averages) + ("" if est.trace_equivalent_averages is None else
+                                                  f" (worth {est.trace_equivalent_averages:.1f} independent)")),
         ("Samples used", f"{est.samples_used} of {est.samples_total}"),
         ("Statistical uncertainty", f"+-{est.trace_uncertainty_db:.2f} dB (1 sigma)"),
     ]
     # a time-resolved estimate: the frames, and the frame this trace is
     frames = {"frame": est.frame, "frame_start_s": est.frame_start_s, "frames": est.frames}
     return rows + _dict_rows({k: v for k, v in frames.items() if v is not None})
+
+
+def _counted(est) -> str:
+    """How the averages of an estimate were counted for its statistical uncertainty."""
+    if est.trace_equivalent_averages is None:
+        return "4.34 dB: a max-hold trace is a single reading per bin, not an average"
+    return (f"4.34/sqrt(K_eq) dB: the K = {est.trace_averages} overlapping segments are worth K_eq = "
+            f"{est.trace_equivalent_averages:.1f} independent ones by their overlap correlation, Welch 1967")
 
 
 def estimation_section(x: Parts, result: CheckResult) -> list:
@@ -158,7 +167,7 @@ def estimation_section(x: Parts, result: CheckResult) -> list:
         out += [x.sub("Estimation parameters (Welch's method)"), x.facts(_estimation_rows(est))]
         out.append(x.p(
             f"Statistical uncertainty of the averaged spectrum: +-{est.trace_uncertainty_db:.2f} dB (one standard deviation, "
-            f"about 4.34/sqrt(K) dB for K = {est.trace_averages} averages). It describes the scatter of a noise-like level "
+            f"{_counted(est)}). It describes the scatter of a noise-like level "
             "between repeated estimates, not the accuracy of the calibration.", "small"))
     else:
         out.append(x.p(
