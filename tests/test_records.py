@@ -124,7 +124,8 @@ def test_the_decision_rule_json_keeps_its_keys():
         "rule", "guard_db", "measurement", "suggested_guard_db", "published_max_uncertainty_db",
         "suggested_guard_db_by_kind", "published_max_uncertainty_db_by_kind", "published_source",
         "guard_below_suggested", "statistical_uncertainty_db", "statistical_expanded_db", "coverage_factor",
-    ])
+        "guard_source",
+    ])  # "budget" only when the setup states one
     # Common practice, no published source: 3 dB conducted, 6 dB radiated guard bands for screening
     assert j["suggested_guard_db_by_kind"] == {"conducted": 3.0, "radiated": 6.0}
     assert d.suggested_guard_db_by_kind.for_kind("radiated") == d.suggested_guard_db == 6.0

@@ -10,6 +10,8 @@ frozen record to the next (the order is that of :func:`check`):
                  -> ``FundamentalWindow``
 ``fundamental``  channel power, occupied and x-dB bandwidth in that window
                  -> ``FundamentalReadings``
+``guard``        the guard band, once: given, from the setup's uncertainty
+                 budget, or none -> ``GuardBand``
 ``reference``    the reference power, once, on the spectrum's scale
                  -> ``Reference``
 ``regions``      the region loop, occupied-bandwidth judgement, merging of

@@ -39,7 +39,7 @@ def overall_verdict(regions, applicable: bool) -> str:
 
 
 def assemble(spectrum, mask, *, station, facts, window, readings, reference, judged, applicable: bool,
-             warnings: list[str], guard_db: float, report_threshold_db: float, inputs=None) -> CheckResult:
+             warnings: list[str], guard, report_threshold_db: float, inputs=None) -> CheckResult:
     """The :class:`CheckResult` of one check from the records of its steps."""
     setup_info, corrections = spectrum_records(spectrum)
     if corrections is not None:
@@ -59,7 +59,7 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
         emissions=sorted(judged.emissions, key=lambda e: e.freq_hz),
         station=station,
         occupied_bandwidth=readings.occupied,
-        guard_db=float(guard_db),
+        guard_db=float(guard.guard_db),
         fundamental_window_hz=window.edges_hz,
         fundamental_window_source=window.source,
         spectrum_summary=summary,
@@ -76,9 +76,10 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
         xdb_bandwidth=readings.xdb,
         report_threshold_db=float(report_threshold_db),
         decision_rule=_decision_rule(
-            float(guard_db),
+            float(guard.guard_db),
             None if setup_info is None else setup_info.measurement,
             None if summary.estimation is None else summary.estimation.trace_uncertainty_db,
+            guard_source=guard.source, budget=guard.budget,
         ),
     )
 

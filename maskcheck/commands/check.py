@@ -23,7 +23,8 @@ def register(sub) -> None:
     add_emission_options(c)
     c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
     c.add_argument("--attenuator", metavar="DB", help="a fixed pad ahead of the analyser, e.g. 40dB, added to every reading (after the setup's chain)")
-    c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
+    c.add_argument("--guard", metavar="DB", help="guard band: margins below it are 'marginal' (default: the expanded uncertainty of the "
+                                                 "setup's [uncertainty] budget, else 0dB); a value typed here wins over the budget")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--power-tolerance", metavar="DB",
                    help="how far the stated and the measured mean power may differ before the readings cannot be judged "
@@ -56,7 +57,7 @@ def run(args) -> int:
     power = parse_power(args.power, what="--power") if args.power else None
     pep = parse_power(args.pep, what="--pep") if args.pep else None
     exclude = parse_frequency(args.exclude, what="--exclude") if args.exclude else None
-    guard = parse_db(args.guard, what="--guard")
+    guard = parse_db(args.guard, what="--guard") if args.guard is not None else None
     from .designator import emission_from_args
 
     necessary, authorized, _ = emission_from_args(args, args.designator)

@@ -31,6 +31,10 @@ record is built where the fact is known, never parsed back from JSON.
 :class:`DomainBoundaryRecord`  the out-of-band / spurious boundary applied
 :class:`PerMeasurementKind`    a value for conducted and for radiated work
 :class:`DecisionRule`          how measurement uncertainty meets the verdict
+:class:`UncertaintyContribution` one term of an uncertainty budget
+:class:`BudgetSpec`            the budget a setup file states
+:class:`BudgetRange`           combined and expanded uncertainty of one range
+:class:`UncertaintyBudget`     a budget evaluated over the measured span
 :class:`TimeResolvedRecord`    the worst frame of a time-resolved check
 :class:`SpectrumSummary`       the measured spectrum, in the result
 :class:`ToolRecord`            the program that made a result
@@ -58,6 +62,10 @@ __all__ = [
     "DomainBoundaryRecord",
     "PerMeasurementKind",
     "DecisionRule",
+    "UncertaintyContribution",
+    "BudgetSpec",
+    "BudgetRange",
+    "UncertaintyBudget",
     "TimeResolvedRecord",
     "SpectrumSummary",
     "ToolRecord",
@@ -433,9 +441,124 @@ class SetupRecord:
     instrument: InstrumentRecord
     chain: tuple[ChainPartRecord, ...] = ()
     radiated: RadiatedRecord | None = None
+    #: the measurement-uncertainty budget of the bench (omitted when None)
+    uncertainty: BudgetSpec | None = None
 
     def to_dict(self) -> dict:
-        return _plain(self, ("radiated",))
+        return _plain(self, ("radiated", "uncertainty"))
+
+
+@dataclass(frozen=True)
+class UncertaintyContribution:
+    """One contribution of a measurement-uncertainty budget, with its standard uncertainty.
+
+    Attributes
+    ----------
+    name, source : str
+        What it is (``"analyser level accuracy"``) and where its value comes from.
+    value_db : float
+        The value as stated, dB: a normal value at its coverage factor, the
+        half-width of a rectangular, triangular or U-shaped distribution.
+    distribution : str
+        ``"normal"``, ``"rectangular"``, ``"triangular"`` or ``"u-shaped"``.
+    coverage_factor : float or None
+        k of a normal value (1: already a standard uncertainty); None otherwise.
+    divisor : float
+        ``value_db / standard_db``: k, sqrt(3), sqrt(6) or sqrt(2).
+    standard_db : float
+        The standard uncertainty, dB.
+    start_hz, stop_hz : float or None
+        The frequency range it applies to (None: every frequency).
+    """
+
+    name: str
+    value_db: float
+    distribution: str
+    coverage_factor: float | None
+    divisor: float
+    standard_db: float
+    source: str
+    start_hz: float | None = None
+    stop_hz: float | None = None
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class BudgetSpec:
+    """The budget a setup file states: its contributions and the coverage factor of the expanded value."""
+
+    contributions: tuple[UncertaintyContribution, ...]
+    coverage_factor: float
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class BudgetRange:
+    """The combined and expanded uncertainty over one frequency range of a budget.
+
+    Attributes
+    ----------
+    start_hz, stop_hz : float
+    contributions : tuple of str
+        The contributions that apply here, by name (the statistical one as
+        ``"statistical (Welch average)"``).
+    combined_standard_db : float
+        Root sum of squares of their standard uncertainties, dB (GUM eq. 10, c_i = 1).
+    expanded_db : float
+        ``coverage_factor * combined_standard_db``, dB.
+    missing : tuple of str
+        Contributions the budget gives for other ranges but not for this one.
+    """
+
+    start_hz: float
+    stop_hz: float
+    contributions: tuple[str, ...]
+    combined_standard_db: float
+    expanded_db: float
+    missing: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class UncertaintyBudget:
+    """A budget evaluated over the measured span (:func:`maskcheck.core.uncertainty.evaluate_budget`).
+
+    Attributes
+    ----------
+    contributions : tuple of UncertaintyContribution
+        As the setup file states them.
+    statistical_standard_db : float or None
+        The statistical uncertainty of the estimate's average, dB (1 sigma),
+        which enters by itself; None for a trace file or a max-hold trace.
+    coverage_factor : float
+    ranges : tuple of BudgetRange
+        The measured span cut where a contribution starts or stops.
+    expanded_db : float
+        The largest expanded uncertainty over the ranges, dB: the guard band
+        of guarded acceptance when no guard band was given.
+    """
+
+    contributions: tuple[UncertaintyContribution, ...]
+    statistical_standard_db: float | None
+    coverage_factor: float
+    ranges: tuple[BudgetRange, ...]
+    expanded_db: float
+
+    def expanded_at(self, freq_hz: float) -> float:
+        """The expanded uncertainty of the range holding ``freq_hz`` (the largest one outside them all), dB."""
+        for r in self.ranges:
+            if r.start_hz <= freq_hz <= r.stop_hz:
+                return r.expanded_db
+        return self.expanded_db
+
+    def to_dict(self) -> dict:
+        return _plain(self)
 
 
 @dataclass(frozen=True)
@@ -598,6 +721,12 @@ class DecisionRule:
         That times the coverage factor, dB.
     coverage_factor : float
         k of the expanded uncertainty (2).
+    guard_source : str
+        ``"given"`` (a guard band typed or passed; it wins over a budget),
+        ``"uncertainty budget"`` (the budget's expanded uncertainty) or
+        ``"none given"`` (no guard band and no budget: shared risk).
+    budget : UncertaintyBudget or None
+        The setup's budget over the measured span (omitted when None).
     """
 
     rule: str
@@ -612,9 +741,13 @@ class DecisionRule:
     statistical_uncertainty_db: float | None
     statistical_expanded_db: float | None
     coverage_factor: float
+    #: where the guard band came from: "given" (typed, it wins over a budget), "uncertainty budget" or "none given"
+    guard_source: str = "given"
+    #: the bench's budget, evaluated over the measured span (omitted when None)
+    budget: UncertaintyBudget | None = None
 
     def to_dict(self) -> dict:
-        return _plain(self)
+        return _plain(self, ("budget",))
 
 
 @dataclass(frozen=True)
