@@ -161,3 +161,24 @@ def test_check_command_takes_the_budget_and_says_where_the_guard_came_from(tmp_p
                "--setup", str(setup), "--guard", "3dB", "--json", str(out), "--quiet", "--force"])
     d = json.loads(out.read_text())
     assert d["guard_db"] == 3.0 and d["decision_rule"]["guard_source"] == "given"
+
+
+def test_report_shows_the_budget_the_combined_and_expanded_values_and_the_rule():
+    # Closed form: one normal term of 4 dB at k = 2 -> u = 2 dB, U = 4 dB (GUM eq. 10 with one term)
+    import io
+
+    import pypdf
+
+    from maskcheck.report.pdf import build_report
+    from maskcheck.report.tables import decision_rule_text
+
+    r = check(_budget_setup(4).apply(_spectrum(-4.5)), load_mask("us-amateur-hf-2003"), Station(carrier_hz=7.1e6, power_w=10.0))
+    text = " ".join(p.extract_text() for p in pypdf.PdfReader(io.BytesIO(build_report(r))).pages)
+    text = " ".join(text.split())
+    assert "Uncertainty budget of the bench" in text and "Combined and expanded uncertainty per range (k = 2)" in text
+    assert "2.000" in text and "4.00" in text  # u of the term, U of the range
+    assert "Guarded acceptance. A margin of at least 4 dB was needed to pass" in text
+    assert "expanded uncertainty U (k = 2) of the setup's uncertainty budget" in decision_rule_text(r)
+    typed = check(_budget_setup(4).apply(_spectrum(-4.5)), load_mask("us-amateur-hf-2003"),
+                  Station(carrier_hz=7.1e6, power_w=10.0), guard_db=1.0)
+    assert "it wins over the setup budget's expanded uncertainty U = 4.00 dB" in decision_rule_text(typed)

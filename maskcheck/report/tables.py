@@ -45,6 +45,7 @@ __all__ = [
     "fmt_range",
     "unevaluated_lines",
     "weak_pass_note",
+    "decision_rule_text",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
@@ -160,7 +161,7 @@ _MEANING = {
 
 def verdict_sentence(result: CheckResult) -> str:
     """The verdict in words, e.g. ``'FAIL: at least one measured level is above its limit.'``."""
-    meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{result.guard_db:g}")
+    meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{round(result.guard_db, 2):g}")
     if result.verdict == "incomplete" and result.mask.outside_bands:
         meaning = "the carrier is outside the rule's carrier bands, so no check against this mask can pass there"
     return f"{result.verdict.upper()}: {meaning}."
@@ -182,11 +183,28 @@ def unevaluated_lines(result: CheckResult) -> list[str]:
     return lines
 
 
+def decision_rule_text(result: CheckResult) -> str:
+    """The decision rule applied and where its guard band came from, in one line."""
+    d = result.decision_rule
+    if d is None:
+        return f"guard band {result.guard_db:g} dB"
+    b = d.budget
+    if d.guard_source == "uncertainty budget":
+        return (f"guarded acceptance, guard band {d.guard_db:.2f} dB = the largest expanded uncertainty U (k = "
+                f"{b.coverage_factor:g}) of the setup's uncertainty budget over the measured span")
+    rule = "shared risk (guard band 0 dB)" if d.rule == "shared risk" else f"guarded acceptance, guard band {d.guard_db:g} dB"
+    if d.guard_source == "none given":
+        return rule + ": no guard band given and no uncertainty budget in a setup file"
+    if b is not None:
+        return rule + f" as given; it wins over the setup budget's expanded uncertainty U = {b.expanded_db:.2f} dB"
+    return rule + " as given"
+
+
 def weak_pass_note(result: CheckResult) -> str | None:
     """The sentence that a PASS under a guard band below common practice is weak evidence, or None."""
     d = result.decision_rule
-    if result.verdict != "pass" or d is None:
-        return None
+    if result.verdict != "pass" or d is None or d.guard_source == "uncertainty budget":
+        return None  # a guard band from the bench's own budget is what the suggestion stands in for
     kind, suggested = d.measurement, d.suggested_guard_db
     if suggested is None:  # the kind of measurement is not stated: the smaller suggestion
         kind, suggested = "conducted", d.suggested_guard_db_by_kind.conducted_db

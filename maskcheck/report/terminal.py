@@ -24,6 +24,7 @@ from .tables import (
     BANDWIDTH_HEADER,
     EMISSION_HEADER,
     bandwidth_rows,
+    decision_rule_text,
     emission_rows,
     reference_text,
     region_notes,
@@ -115,6 +116,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
     facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
+    facts.append(("Decision rule", decision_rule_text(result)))
     console.print(_facts(facts))
     if not mask.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
