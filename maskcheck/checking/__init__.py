@@ -16,6 +16,8 @@ frozen record to the next (the order is that of :func:`check`):
                  -> ``Reference``
 ``regions``      the region loop, occupied-bandwidth judgement, merging of
                  close emissions -> ``JudgedRegions``
+``remeasure``    readings taken with other settings than the rule's whose
+                 verdict those settings could change -> ``RemeasureList``
 ``summary``      verdicts combined, the ``CheckResult`` assembled as data
 ``pipeline``     ``check()`` itself: the steps in order
 ``frames``       time-resolved judging of a recording (a loop above ``check``)

@@ -14,6 +14,7 @@ from ..core.records import DomainBoundaryRecord, SpectrumSummary, ToolRecord
 from ..core.result import CheckResult, Curve, InputFile, combine_verdicts
 from ..core.units import format_frequency
 from ..core.uncertainty import decision_rule as _decision_rule
+from .remeasure import remeasure_list
 
 __all__ = ["assemble", "utc_now", "spectrum_records", "overall_verdict"]
 
@@ -75,6 +76,7 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
         corrections=corrections,
         xdb_bandwidth=readings.xdb,
         report_threshold_db=float(report_threshold_db),
+        remeasure=remeasure_list(spectrum, regions, judged.emissions, guard),
         decision_rule=_decision_rule(
             float(guard.guard_db),
             None if setup_info is None else setup_info.measurement,

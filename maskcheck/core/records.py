@@ -35,6 +35,8 @@ record is built where the fact is known, never parsed back from JSON.
 :class:`BudgetSpec`            the budget a setup file states
 :class:`BudgetRange`           combined and expanded uncertainty of one range
 :class:`UncertaintyBudget`     a budget evaluated over the measured span
+:class:`RemeasureItem`         a reading to take again with the rule's settings
+:class:`RemeasureList`         those readings and the bounds used
 :class:`TimeResolvedRecord`    the worst frame of a time-resolved check
 :class:`SpectrumSummary`       the measured spectrum, in the result
 :class:`ToolRecord`            the program that made a result
@@ -66,6 +68,8 @@ __all__ = [
     "BudgetSpec",
     "BudgetRange",
     "UncertaintyBudget",
+    "RemeasureItem",
+    "RemeasureList",
     "TimeResolvedRecord",
     "SpectrumSummary",
     "ToolRecord",
@@ -748,6 +752,87 @@ class DecisionRule:
 
     def to_dict(self) -> dict:
         return _plain(self, ("budget",))
+
+
+@dataclass(frozen=True)
+class RemeasureItem:
+    """A reading taken with other settings than the rule's whose verdict could change (:mod:`maskcheck.checking.remeasure`).
+
+    Attributes
+    ----------
+    freq_hz : float
+    region, what : str
+        The region, and ``"emission"`` (a listed emission) or ``"worst point"`` (of the region).
+    level_dbm, limit_dbm, margin_db : float
+        As judged.
+    used_detector, rule_detector : str
+    used_rbw_hz : float
+    rule_bandwidth_hz : float or None
+        The rule's reference bandwidth there (None: the mask gives none).
+    low_db, high_db : float / float or None
+        How far the margin could move with the rule's settings (high None: no bound).
+    expanded_db : float
+        The expanded uncertainty widening that range, dB.
+    reasons : tuple of str
+    centre_hz, span_hz, rbw_hz : float
+        Analyser settings for the re-measurement.
+    detector : str
+        The detector to re-measure with.
+    points : int
+        Sweep points needed over the span (cells of one RBW that meet).
+    """
+
+    freq_hz: float
+    region: str
+    what: str
+    level_dbm: float
+    limit_dbm: float
+    margin_db: float
+    used_detector: str
+    used_rbw_hz: float
+    rule_detector: str
+    rule_bandwidth_hz: float | None
+    low_db: float
+    high_db: float | None
+    expanded_db: float
+    reasons: tuple[str, ...]
+    centre_hz: float
+    span_hz: float
+    rbw_hz: float
+    detector: str
+    points: int
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class RemeasureList:
+    """The readings to measure again the rule's way, and the bounds used.
+
+    Attributes
+    ----------
+    items : tuple of RemeasureItem
+    peak_over_mean_db : float
+        The noise peak-over-mean used for a detector difference, dB.
+    peak_samples : int
+        The independent samples it assumes.
+    peak_samples_source : str
+        Where that number comes from (the max-hold's segments, or the assumption for a trace file).
+    uncertainty_source : str
+        Where the expanded uncertainty of the bound comes from.
+    guard_db : float
+    """
+
+    items: tuple[RemeasureItem, ...]
+    peak_over_mean_db: float
+    peak_samples: int
+    peak_samples_source: str
+    uncertainty_source: str
+    guard_db: float
+
+    def to_dict(self) -> dict:
+        return _plain(self)
 
 
 @dataclass(frozen=True)

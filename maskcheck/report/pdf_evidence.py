@@ -186,7 +186,7 @@ def uncertainty_section(x: Parts, result: CheckResult) -> list:
     out = [CondPageBreak(200), x.heading("Measurement uncertainty and guard band")]
     d = result.decision_rule
     if d is None:
-        return out + [x.p(f"Guard band {result.guard_db:g} dB; no decision-rule record in this result.")]
+        return out + [x.p(f"Guard band {round(result.guard_db, 2):g} dB; no decision-rule record in this result.")]
     kind = d.measurement
     by_kind = d.suggested_guard_db_by_kind
     pub = d.published_max_uncertainty_db_by_kind
@@ -211,13 +211,13 @@ def uncertainty_section(x: Parts, result: CheckResult) -> list:
                       f"(k = {d.coverage_factor:g})"))
     out.append(x.facts(pairs, label_width=48 * mm))
     if d.guard_below_suggested and d.guard_source != "uncertainty budget":
-        out += x.caution(f"The guard band used ({d.guard_db:g} dB) is smaller than the {d.suggested_guard_db:g} dB common "
+        out += x.caution(f"The guard band used ({round(d.guard_db, 2):g} dB) is smaller than the {d.suggested_guard_db:g} dB common "
                          f"practice suggests for a {kind} screening measurement: a PASS here is weaker evidence than it looks.",
                          PALETTE["marginal"])
     stat = d.statistical_expanded_db
     if stat is not None and stat > d.guard_db:
         out += x.caution(f"For noise-like levels, the expanded statistical uncertainty of the estimate alone (+-{stat:.2f} dB) "
-                         f"exceeds the guard band ({d.guard_db:g} dB); a steady discrete emission scatters far less.",
+                         f"exceeds the guard band ({round(d.guard_db, 2):g} dB); a steady discrete emission scatters far less.",
                          PALETTE["marginal"])
     if d.budget is not None:
         out += _budget_tables(x, d.budget)

@@ -29,6 +29,7 @@ from .tables import (
     reference_text,
     region_notes,
     region_rows,
+    remeasure_lines,
     station_rows,
     unevaluated_lines,
     verdict_sentence,
@@ -130,6 +131,11 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
         console.print(_grid("Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3)))
     else:
         console.print(Text("Listed emissions: none within the reporting threshold."))
+
+    if result.remeasure is not None and result.remeasure.items:
+        console.print(Text("Measure again the rule's way (the verdict could change)", style="bold"))
+        for line in remeasure_lines(result):
+            console.print(_indented(line))
 
     if result.warnings:
         console.print(Text("Warnings", style="bold"))
