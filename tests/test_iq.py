@@ -274,7 +274,7 @@ def test_check_reads_a_recording_and_states_the_estimation(tmp_path):
     assert d["reference_power"]["measured_dbm"] == pytest.approx(50 + 20 * np.log10(0.5), abs=0.05)
     assert len(d["inputs"]) == 2 and all(len(i["sha256"]) == 64 for i in d["inputs"])
     # one line each for the report: the estimate and how the levels were scaled
-    assert "blackmanharris" in sp["estimate"] and "4.34/sqrt(K)" in sp["estimate"]
+    assert "blackmanharris" in sp["estimate"] and "4.34/sqrt(K_eq)" in sp["estimate"]
     assert "50.00 dBm" in sp["levels"]
     from maskcheck.report.tables import spectrum_rows
 
