@@ -10,22 +10,16 @@ from pypdf import PdfReader
 
 import maskcheck.report.attachments as attachments_mod
 from maskcheck.cli import main
-from maskcheck.core.spectrum import Spectrum
-from maskcheck.core.units import dbm_to_w
 from maskcheck.io.iq_write import write_sigmf
 from maskcheck.io.trace_write import write_trace
+from mask_bench import hf_trace
 
 BASE = ["--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "10W", "--quiet"]
 
 
 def _trace(path, lo=9e3, hi=72e6):
     # invented: a 10 W carrier at 7.1 MHz over -90 dBm, 10 kHz RBW
-    f = np.arange(lo, hi + 1, 5e3)
-    p = np.full(f.size, dbm_to_w(-90.0))
-    if lo < 7.1e6 < hi:
-        g = np.exp(-0.5 * ((f - 7.1e6) / 1.2e3) ** 2)
-        p += dbm_to_w(40.0) * g / g.sum()
-    write_trace(path, Spectrum(f, p, rbw_hz=10e3, detector="rms"))
+    write_trace(path, hf_trace(lo_hz=lo, hi_hz=hi))
 
 
 def _sha(data: bytes) -> str:

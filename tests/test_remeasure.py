@@ -13,13 +13,12 @@ import scipy.special
 from maskcheck.checking import check
 from maskcheck.cli import main
 from maskcheck.core.remeasure import could_change, noise_peak_over_mean_db, settings_difference_db
-from maskcheck.core.spectrum import Spectrum
 from maskcheck.core.station import Station
 from maskcheck.core.units import dbm_to_w
 from maskcheck.io.remeasure import read_remeasure
-from maskcheck.io.setup import parse_setup
 from maskcheck.io.trace_write import write_trace
 from maskcheck.masks.library import load_mask
+from mask_bench import budget_setup, budget_text, hf_trace
 
 MASK = "us-amateur-hf-2003"  # 47 CFR 97.307(d): 43 dB below the mean power, rms detector
 
@@ -61,17 +60,10 @@ def test_could_change():
 
 def _spectrum(spur_dbm, detector="peak"):
     # invented: a 10 W carrier at 7.1 MHz and one spur at 14.2 MHz, 10 kHz RBW
-    f = np.arange(9e3, 72e6 + 1, 5e3)
-    p = np.full(f.size, dbm_to_w(-90.0))
-    g = np.exp(-0.5 * ((f - 7.1e6) / 1.2e3) ** 2)
-    p += dbm_to_w(40.0) * g / g.sum()
-    p[np.argmin(np.abs(f - 14.2e6))] += dbm_to_w(spur_dbm)
-    return Spectrum(f, p, rbw_hz=10e3, detector=detector)
+    return hf_trace(spur_dbm, detector=detector)
 
 
-def _budget(u_db):
-    return parse_setup(f'schema_version = 1\n[uncertainty]\n[[uncertainty.contribution]]\nname = "level"\n'
-                       f'value = "{u_db} dB"\ndistribution = "normal"\nk = 2\nsource = "invented"\n')
+_budget = budget_setup
 
 
 def _check(spur_dbm, detector="peak", u_db=2.0):
@@ -112,8 +104,7 @@ def test_a_wide_rbw_reading_is_named_with_the_rules_bandwidth():
 def test_check_writes_the_list_and_plan_reads_it(tmp_path):
     trace = tmp_path / "peak.txt"
     write_trace(trace, _spectrum(-3.5))
-    (tmp_path / "bench.toml").write_text('schema_version = 1\n[uncertainty]\n[[uncertainty.contribution]]\nname = "level"\n'
-                                         'value = "2 dB"\ndistribution = "normal"\nk = 2\nsource = "invented"\n')
+    (tmp_path / "bench.toml").write_text(budget_text(2))
     re_path = tmp_path / "again.json"
     rc = main(["check", str(trace), "--mask", MASK, "--carrier", "7.1MHz", "--power", "10W", "--setup",
                str(tmp_path / "bench.toml"), "--remeasure", str(re_path), "--quiet"])

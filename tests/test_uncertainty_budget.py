@@ -6,20 +6,20 @@ import json
 import math
 from pathlib import Path
 
-import numpy as np
 import pytest
+
+import numpy as np
 
 from maskcheck.checking import check
 from maskcheck.cli import main
 from maskcheck.core.records import BudgetSpec
-from maskcheck.core.spectrum import Spectrum
 from maskcheck.core.station import Station
 from maskcheck.core.uncertainty import contribution, evaluate_budget
-from maskcheck.core.units import dbm_to_w
 from maskcheck.errors import SetupError
 from maskcheck.io.setup import parse_setup, read_setup
 from maskcheck.io.trace_write import write_trace
 from maskcheck.masks.library import load_mask
+from mask_bench import budget_setup, hf_trace
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLE = ROOT / "examples" / "setups" / "bench-vhf-budget.toml"
@@ -109,17 +109,10 @@ def test_a_bad_budget_is_refused_naming_its_key(body, where, words):
 
 def _spectrum(spur_dbm):
     # invented: a 10 W carrier at 7.1 MHz and one spur at 14.2 MHz, 10 kHz RBW, rms detector
-    f = np.arange(9e3, 72e6 + 1, 5e3)
-    p = np.full(f.size, dbm_to_w(-90.0))
-    g = np.exp(-0.5 * ((f - 7.1e6) / 1.2e3) ** 2)
-    p += dbm_to_w(40.0) * g / g.sum()
-    p[np.argmin(np.abs(f - 14.2e6))] += dbm_to_w(spur_dbm)
-    return Spectrum(f, p, rbw_hz=10e3, detector="rms")
+    return hf_trace(spur_dbm)
 
 
-def _budget_setup(u_db):
-    return parse_setup(f'schema_version = 1\n[uncertainty]\n[[uncertainty.contribution]]\nname = "level"\n'
-                       f'value = "{u_db} dB"\ndistribution = "normal"\nk = 2\nsource = "invented"\n')
+_budget_setup = budget_setup
 
 
 def test_without_a_guard_the_budget_sets_it_and_a_given_one_wins():
@@ -182,3 +175,24 @@ def test_report_shows_the_budget_the_combined_and_expanded_values_and_the_rule()
     typed = check(_budget_setup(4).apply(_spectrum(-4.5)), load_mask("us-amateur-hf-2003"),
                   Station(carrier_hz=7.1e6, power_w=10.0), guard_db=1.0)
     assert "it wins over the setup budget's expanded uncertainty U = 4.00 dB" in decision_rule_text(typed)
+
+
+def test_the_statistical_uncertainty_of_a_recordings_average_enters_by_itself():
+    # Closed form: u_c = sqrt(u_level**2 + u_stat**2) with u_level = 1 dB / 2 and u_stat = 4.34/sqrt(K_eq) dB
+    from maskcheck.core.estimate import plan_welch, welch_stream
+
+    rng = np.random.default_rng(11)
+    x = (np.exp(2j * np.pi * 0.05 * np.arange(1 << 16)) + 1e-3 * rng.standard_normal(1 << 16)).astype(np.complex64)
+    est = welch_stream([x], plan_welch(1e6, window="hann", segment_samples=1024, overlap=0.75), max_hold=True)
+    s = est.to_spectrum(7.1e6, scale_w=10.0)
+    u_stat = s.estimation.trace_uncertainty_db
+    assert u_stat == pytest.approx(10 / math.log(10) / math.sqrt(s.estimation.trace_equivalent_averages))
+    r = check(_budget_setup(1).apply(s), load_mask("us-amateur-hf-2003"), Station(carrier_hz=7.1e6, power_w=10.0))
+    (rng_,) = r.decision_rule.budget.ranges
+    assert "statistical (Welch average)" in rng_.contributions
+    assert rng_.combined_standard_db == pytest.approx(math.hypot(0.5, u_stat), rel=1e-12)
+    assert r.guard_db == pytest.approx(2 * math.hypot(0.5, u_stat), rel=1e-12)
+    # a max-hold trace is a single reading per bin, not an average: no statistical term
+    peak = est.to_spectrum(7.1e6, trace="max-hold", scale_w=10.0)
+    rp = check(_budget_setup(1).apply(peak), load_mask("us-amateur-hf-2003"), Station(carrier_hz=7.1e6, power_w=10.0))
+    assert rp.decision_rule.budget.ranges[0].contributions == ("level",) and rp.guard_db == pytest.approx(1.0)
