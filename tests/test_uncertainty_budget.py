@@ -196,3 +196,11 @@ def test_the_statistical_uncertainty_of_a_recordings_average_enters_by_itself():
     peak = est.to_spectrum(7.1e6, trace="max-hold", scale_w=10.0)
     rp = check(_budget_setup(1).apply(peak), load_mask("us-amateur-hf-2003"), Station(carrier_hz=7.1e6, power_w=10.0))
     assert rp.decision_rule.budget.ranges[0].contributions == ("level",) and rp.guard_db == pytest.approx(1.0)
+
+
+def test_expanded_uncertainty_at_a_frequency():
+    # Closed form: the ranges of the hand calculation above; at the shared edge the larger U
+    b = evaluate_budget(BudgetSpec(_invented_terms(), 2.0), (30e6, 3e9))
+    assert b.expanded_at(100e6) == pytest.approx(1.287763, abs=1e-6)
+    assert b.expanded_at(2e9) == b.expanded_at(1e9) == pytest.approx(1.705384, abs=1e-6)
+    assert b.expanded_at(5e9) == b.expanded_db  # outside the span: the largest

@@ -555,11 +555,9 @@ class UncertaintyBudget:
     expanded_db: float
 
     def expanded_at(self, freq_hz: float) -> float:
-        """The expanded uncertainty of the range holding ``freq_hz`` (the largest one outside them all), dB."""
-        for r in self.ranges:
-            if r.start_hz <= freq_hz <= r.stop_hz:
-                return r.expanded_db
-        return self.expanded_db
+        """The expanded uncertainty of the range holding ``freq_hz``, dB: the larger at a shared edge, the largest outside them all."""
+        here = [r.expanded_db for r in self.ranges if r.start_hz <= freq_hz <= r.stop_hz]
+        return max(here) if here else self.expanded_db
 
     def to_dict(self) -> dict:
         return _plain(self)
