@@ -63,7 +63,8 @@ from .errors import StationError
 from .checking.window import fundamental_window
 from .masks.evaluate import evaluate_mask
 
-__all__ = ["PlanRange", "PlanHarmonic", "MeasurementPlan", "search_range_2_1057", "plan_measurement", "REPORT_THRESHOLD_DB"]
+__all__ = ["PlanRange", "PlanHarmonic", "MeasurementPlan", "search_range_2_1057", "plan_measurement", "REPORT_THRESHOLD_DB",
+           "input_offset_db"]
 
 #: emissions more than this far below the limit need not be reported (47 CFR 2.1057(c)), dB
 REPORT_THRESHOLD_DB = 20.0
@@ -168,8 +169,11 @@ class MeasurementPlan:
     created_utc: str = ""
     #: a fixed loss ahead of the analyser on top of the setup's chain (--attenuator), dB
     extra_loss_db: float = 0.0
+    #: the readings of an earlier check to measure again (maskcheck.plan_second), None without a re-measure list
+    second_pass: object | None = None
 
     def to_dict(self) -> dict:
+        extra = {} if self.second_pass is None else {"second_pass": self.second_pass.to_dict()}
         return {
             "mask": dict(self.mask),
             "station": self.station.to_dict(),
@@ -188,7 +192,12 @@ class MeasurementPlan:
             "notes": list(self.notes),
             "tool": {} if self.tool is None else self.tool.to_dict(),
             "created_utc": self.created_utc,
-        }
+        } | extra
+
+
+def input_offset_db(setup, extra_loss_db: float, freq_hz) -> tuple[np.ndarray, np.ndarray]:
+    """dB from a reading at the analyser input to the judged quantity, and where it is known (setup chain + pad)."""
+    return _offset(setup, extra_loss_db, freq_hz)
 
 
 def _offset(setup, extra_loss_db: float, freq_hz) -> tuple[np.ndarray, np.ndarray]:

@@ -15,7 +15,8 @@ from maskcheck.core.station import Station
 from maskcheck.core.units import w_to_dbm
 from maskcheck.masks import evaluate_mask, load_mask
 
-__all__ = ["evaluate_with_window", "regions_at", "attenuation_db", "limit_dbm", "bench_trace", "run_check"]
+__all__ = ["evaluate_with_window", "regions_at", "attenuation_db", "limit_dbm", "bench_trace", "run_check", "hf_trace",
+           "budget_setup", "budget_text"]
 
 
 def evaluate_with_window(mask, *, carrier_hz, domains=None, **station):
@@ -115,3 +116,28 @@ def run_check(mask_id, *, spur_hz=None, spur_delta_db=0.0, shift_db=0.0, **stati
     auth = station.pop("authorized_bw_hz", None)
     st = Station(carrier_hz=station["carrier_hz"], power_w=station.get("power_w"), pep_w=station.get("pep_w"))
     return check(s, load_mask(mask_id), st, authorized_bw_hz=auth)
+
+
+def hf_trace(spur_dbm=None, *, detector="rms", carrier_dbm=40.0, floor_dbm=-90.0, lo_hz=9e3, hi_hz=72e6):
+    """An invented HF trace: a carrier at 7.1 MHz (when in range) and one spur at 14.2 MHz, 10 kHz RBW, points 5 kHz apart."""
+    f = np.arange(lo_hz, hi_hz + 1, 5e3)
+    p = np.full(f.size, 10.0 ** ((floor_dbm - 30.0) / 10.0))
+    if lo_hz < 7.1e6 < hi_hz:
+        g = np.exp(-0.5 * ((f - 7.1e6) / 1.2e3) ** 2)
+        p += 10.0 ** ((carrier_dbm - 30.0) / 10.0) * g / g.sum()
+    if spur_dbm is not None:
+        p[np.argmin(np.abs(f - 14.2e6))] += 10.0 ** ((spur_dbm - 30.0) / 10.0)
+    return Spectrum(f, p, rbw_hz=10e3, detector=detector)
+
+
+def budget_setup(u_db, k=2):
+    """A setup file (invented) with no chain and one normal budget term of ``u_db`` at coverage factor ``k``."""
+    from maskcheck.io.setup import parse_setup
+
+    return parse_setup(budget_text(u_db, k))
+
+
+def budget_text(u_db, k=2):
+    """The text of :func:`budget_setup`'s file."""
+    return (f'schema_version = 1\n[uncertainty]\n[[uncertainty.contribution]]\nname = "level"\n'
+            f'value = "{u_db} dB"\ndistribution = "normal"\nk = {k}\nsource = "invented"\n')

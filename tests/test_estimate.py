@@ -8,7 +8,7 @@ import scipy.fft
 import scipy.signal
 from scipy.signal import get_window
 
-from maskcheck.core.estimate import WelchAccumulator, plan_welch, welch_stream, welch_uncertainty_db, window_enbw_bins
+from maskcheck.core.estimate import WelchAccumulator, equivalent_averages, plan_welch, welch_stream, welch_uncertainty_db, window_enbw_bins
 from maskcheck.errors import SpectrumError
 
 WINDOWS = [("hann", None), ("blackmanharris", None), ("flattop", None), ("kaiser", 14.0)]
@@ -202,7 +202,9 @@ def test_estimation_parameters_travel_with_the_spectrum():
     e = s.estimation
     assert e.window == "flattop" and e.segment_samples == 1024 and e.overlap_samples == 512
     assert e.averages == 63 and e.detrend == "none"
-    assert e.uncertainty_db == pytest.approx(4.343 / np.sqrt(63), rel=1e-3)
+    # Closed form: Welch (1967) eq. (12): 63 segments at 50 % overlap are worth K_eq independent ones
+    assert e.uncertainty_db == pytest.approx(4.343 / np.sqrt(equivalent_averages(63, "flattop", 1024, 512)), rel=1e-3)
+    assert e.trace_equivalent_averages == pytest.approx(equivalent_averages(63, "flattop", 1024, 512))
     assert e.enbw_hz == pytest.approx(window_enbw_bins("flattop", 1024) * 1e6 / 1024)
     assert s.rbw_hz[0] == pytest.approx(e.enbw_hz) and s.enbw_hz[0] == pytest.approx(e.enbw_hz)
     assert s.freq_hz[0] == pytest.approx(7.1e6 - 0.5e6)

@@ -34,3 +34,16 @@ def test_example_runs_and_is_judged(path):
         assert result.verdict == "fail"
     else:
         assert result.verdict in ("pass", "marginal")
+
+
+SETUPS = sorted((Path(__file__).resolve().parent.parent / "examples" / "setups").glob("*.toml"))
+
+
+@pytest.mark.parametrize("path", SETUPS, ids=lambda p: p.name)
+def test_example_setup_reads_and_says_it_is_invented(path):
+    # Common practice, no published source: every example says it is invented and is a valid setup file
+    from maskcheck.io.setup import read_setup
+
+    assert "INVENTED" in path.read_text()
+    setup = read_setup(path)
+    assert setup.sha256 and setup.file.name

@@ -9,6 +9,7 @@ import scipy.io.wavfile
 import sigmf
 
 from maskcheck.cli import main
+from maskcheck.core.estimate import equivalent_averages
 from maskcheck.io.iq import open_recording
 from maskcheck.io.iq_spectrum import Calibration, estimate_recording
 from maskcheck.io.trace_text import read_trace
@@ -267,11 +268,13 @@ def test_check_reads_a_recording_and_states_the_estimation(tmp_path):
     assert sp["level_scale"] == "dBm" and sp["calibration"]["method"] == "full scale"
     est = sp["estimation"]
     assert est["window"] == "blackmanharris" and est["enbw_hz"] == pytest.approx(1e3, rel=0.005)
-    assert est["uncertainty_db"] == pytest.approx(4.343 / np.sqrt(est["averages"]), rel=1e-3)
+    # Closed form: Welch (1967) eq. (12), overlapping segments counted by their correlation (tests/test_welch_overlap.py)
+    keq = equivalent_averages(est["averages"], "blackmanharris", est["segment_samples"], est["segment_samples"] - est["overlap_samples"])
+    assert est["uncertainty_db"] == pytest.approx(4.343 / np.sqrt(keq), rel=1e-3)
     assert d["reference_power"]["measured_dbm"] == pytest.approx(50 + 20 * np.log10(0.5), abs=0.05)
     assert len(d["inputs"]) == 2 and all(len(i["sha256"]) == 64 for i in d["inputs"])
     # one line each for the report: the estimate and how the levels were scaled
-    assert "blackmanharris" in sp["estimate"] and "4.34/sqrt(K)" in sp["estimate"]
+    assert "blackmanharris" in sp["estimate"] and "4.34/sqrt(K_eq)" in sp["estimate"]
     assert "50.00 dBm" in sp["levels"]
     from maskcheck.report.tables import spectrum_rows
 

@@ -24,7 +24,8 @@ from maskcheck.cli import build_parser, main
 from maskcheck.core.units import dbm_to_w
 
 #: options that choose outputs, not the result; they are tested in test_cli / test_output_safety
-OUTPUT_ONLY = {"--json", "--report", "--csv", "--figures", "--force", "--quiet", "--help"}
+OUTPUT_ONLY = {"--json", "--report", "--csv", "--figures", "--force", "--quiet", "--help",
+               "--attach-inputs", "--remeasure"}  # these two: tests/test_remeasure.py, tests/test_attach_inputs.py
 #: options the check cannot run without (every case gives them)
 REQUIRED = {"--mask", "--carrier"}
 

@@ -63,8 +63,10 @@ def test_the_estimation_record_names_the_trace_and_its_uncertainty():
     e = s.estimation
     assert isinstance(e, EstimationRecord)
     assert e.window == "hann" and e.segment_samples == 256 and e.trace == "average" and e.detector == "rms"
-    # Closed form: one standard deviation of a K-segment average is 10/ln(10)/sqrt(K) dB
-    assert e.trace_uncertainty_db == pytest.approx(10 / math.log(10) / math.sqrt(e.trace_averages))
+    # Closed form: one standard deviation of a K-segment average is 10/ln(10)/sqrt(K_eq) dB, K_eq the
+    # independent segments the overlapping ones are worth (Welch 1967 eq. (12))
+    assert e.trace_uncertainty_db == pytest.approx(10 / math.log(10) / math.sqrt(e.trace_equivalent_averages))
+    assert e.trace_equivalent_averages < e.trace_averages
     d = e.to_dict()
     # optional parts are left out of the JSON when they do not apply
     assert "frame" not in d and "frame_start_s" not in d and "frames" not in d and "requested_rbw_hz" not in d
@@ -122,7 +124,8 @@ def test_the_decision_rule_json_keeps_its_keys():
         "rule", "guard_db", "measurement", "suggested_guard_db", "published_max_uncertainty_db",
         "suggested_guard_db_by_kind", "published_max_uncertainty_db_by_kind", "published_source",
         "guard_below_suggested", "statistical_uncertainty_db", "statistical_expanded_db", "coverage_factor",
-    ])
+        "guard_source",
+    ])  # "budget" only when the setup states one
     # Common practice, no published source: 3 dB conducted, 6 dB radiated guard bands for screening
     assert j["suggested_guard_db_by_kind"] == {"conducted": 3.0, "radiated": 6.0}
     assert d.suggested_guard_db_by_kind.for_kind("radiated") == d.suggested_guard_db == 6.0

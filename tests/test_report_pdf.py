@@ -99,7 +99,7 @@ def test_every_page_the_report_promises_is_there_and_bookmarked(failing_pdf):
     reader = PdfReader(io.BytesIO(failing_pdf))
     titles = [o["/Title"] for o in reader.outline]
     wanted = ["Setup and corrections", "Spectrum and limits", "Margins by region", "Discrete emissions",
-              "Occupied and x-dB bandwidth", "Necessary bandwidth and designator",
+              "Readings to measure again the rule's way", "Occupied and x-dB bandwidth", "Necessary bandwidth and designator",
               "Spectrum estimation and statistical uncertainty", "Measurement uncertainty and guard band",
               "Warnings", "Provenance", "What this report is, and bench safety"]
     assert [t.split("  ", 1)[1] for t in titles] == wanted

@@ -10,10 +10,14 @@ frozen record to the next (the order is that of :func:`check`):
                  -> ``FundamentalWindow``
 ``fundamental``  channel power, occupied and x-dB bandwidth in that window
                  -> ``FundamentalReadings``
+``guard``        the guard band, once: given, from the setup's uncertainty
+                 budget, or none -> ``GuardBand``
 ``reference``    the reference power, once, on the spectrum's scale
                  -> ``Reference``
 ``regions``      the region loop, occupied-bandwidth judgement, merging of
                  close emissions -> ``JudgedRegions``
+``remeasure``    readings taken with other settings than the rule's whose
+                 verdict those settings could change -> ``RemeasureList``
 ``summary``      verdicts combined, the ``CheckResult`` assembled as data
 ``pipeline``     ``check()`` itself: the steps in order
 ``frames``       time-resolved judging of a recording (a loop above ``check``)

@@ -59,20 +59,19 @@ Decisions written down
 from __future__ import annotations
 
 import dataclasses
-import math
 
 from ..core.necessary import NecessaryBandwidth
 from ..core.result import CheckResult, InputFile
 from ..core.spectrum import Spectrum
 from ..core.station import Station
-from ..errors import StationError
 from ..masks.evaluate import applies_when, evaluate_mask, station_variables
 from ..masks.station_values import require_in_bands
 from .emission import EmissionFacts, emission_facts
 from .fundamental import check_xdb, measure_fundamental
+from .guard import decide_guard
 from .reference import Reference, reference_power
 from .regions import judge_regions
-from .summary import assemble, spectrum_records, utc_now
+from .summary import assemble, utc_now
 from .window import fundamental_window
 
 __all__ = ["check", "utc_now"]
@@ -83,7 +82,7 @@ def check(
     mask,
     station: Station,
     *,
-    guard_db: float = 0.0,
+    guard_db: float | None = None,
     exclude_hz: float | None = None,
     report_threshold_db: float = 20.0,
     obw_beta: float = 0.01,
@@ -103,8 +102,9 @@ def check(
         A loaded mask (:func:`maskcheck.load_mask`).
     station : Station
         Carrier frequency and powers (and, for single sideband, the sideband).
-    guard_db : float
-        Guard band, dB: margins in ``[0, guard_db)`` are ``marginal``.
+    guard_db : float, optional
+        Guard band, dB: margins in ``[0, guard_db)`` are ``marginal``; None:
+        the setup budget's expanded uncertainty, else 0 dB (:mod:`.guard`).
     exclude_hz : float, optional
         Half-width of the fundamental window, Hz, overriding :mod:`.window`'s rule.
     report_threshold_db : float
@@ -130,7 +130,8 @@ def check(
 
     Returns the :class:`CheckResult`.
     """
-    _check_options(guard_db, xdb_db)
+    guard = decide_guard(spectrum, guard_db)
+    check_xdb(xdb_db)
     facts = emission_facts(spectrum, mask, station, necessary=necessary, authorized=authorized_bw_hz,
                            exclude_hz=exclude_hz, obw_beta=obw_beta)
     station = facts.station
@@ -146,17 +147,16 @@ def check(
         authorized_bw_hz=facts.authorized_bw_hz, window_half_hz=window.half_hz, window_anchor=window.spurious_anchor,
         reference_w=reference.reference_w,
     )
-    _, corrections = spectrum_records(spectrum)
     judged = judge_regions(spectrum, mask, limits, carrier_hz=station.carrier_hz, readings=readings, reference=reference,
-                           guard_db=guard_db, report_threshold_db=report_threshold_db,
+                           guard_db=guard.guard_db, report_threshold_db=report_threshold_db,
                            authorized_bw_hz=facts.authorized_bw_hz, wanted_band_hz=_wanted_band(facts, readings),
-                           removed=() if corrections is None else corrections.removed_hz)
+                           removed=() if spectrum.corrections is None else spectrum.corrections.removed_hz)
     class_ok, class_warnings = _emission_class(mask, facts)
     warnings = [*facts.warnings, *readings.warnings, *reference.warnings, *applies_warnings, *judged.warnings,
-                *class_warnings]
+                *class_warnings, *guard.warnings]
     return _marked(assemble(spectrum, mask, station=station, facts=facts, window=window, readings=readings,
                             reference=reference, judged=judged, applicable=applicable and class_ok, warnings=warnings,
-                            guard_db=guard_db, report_threshold_db=report_threshold_db, inputs=inputs), outside)
+                            guard=guard, report_threshold_db=report_threshold_db, inputs=inputs), outside)
 
 
 def _wanted_band(facts: EmissionFacts, readings) -> tuple[float, float] | None:
@@ -166,13 +166,6 @@ def _wanted_band(facts: EmissionFacts, readings) -> tuple[float, float] | None:
     if readings.occupied is not None:
         return (readings.occupied.lower_hz, readings.occupied.upper_hz)
     return None
-
-
-def _check_options(guard_db: float, xdb_db: float) -> None:
-    """Refuse a guard band or an x of the x-dB bandwidth that cannot be honoured, before any work."""
-    if not (math.isfinite(guard_db) and guard_db >= 0):
-        raise StationError(f"guard_db={float(guard_db):g} must be finite and >= 0 (the guard band, dB)", param="guard_db")
-    check_xdb(xdb_db)
 
 
 def _receiver_lines(spectrum: Spectrum, judge: bool, wanted_band) -> Spectrum:

@@ -14,6 +14,7 @@ from ..core.records import DomainBoundaryRecord, SpectrumSummary, ToolRecord
 from ..core.result import CheckResult, Curve, InputFile, combine_verdicts
 from ..core.units import format_frequency
 from ..core.uncertainty import decision_rule as _decision_rule
+from .remeasure import remeasure_list
 
 __all__ = ["assemble", "utc_now", "spectrum_records", "overall_verdict"]
 
@@ -39,7 +40,7 @@ def overall_verdict(regions, applicable: bool) -> str:
 
 
 def assemble(spectrum, mask, *, station, facts, window, readings, reference, judged, applicable: bool,
-             warnings: list[str], guard_db: float, report_threshold_db: float, inputs=None) -> CheckResult:
+             warnings: list[str], guard, report_threshold_db: float, inputs=None) -> CheckResult:
     """The :class:`CheckResult` of one check from the records of its steps."""
     setup_info, corrections = spectrum_records(spectrum)
     if corrections is not None:
@@ -59,7 +60,7 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
         emissions=sorted(judged.emissions, key=lambda e: e.freq_hz),
         station=station,
         occupied_bandwidth=readings.occupied,
-        guard_db=float(guard_db),
+        guard_db=float(guard.guard_db),
         fundamental_window_hz=window.edges_hz,
         fundamental_window_source=window.source,
         spectrum_summary=summary,
@@ -75,10 +76,12 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
         corrections=corrections,
         xdb_bandwidth=readings.xdb,
         report_threshold_db=float(report_threshold_db),
+        remeasure=remeasure_list(spectrum, regions, judged.emissions, guard),
         decision_rule=_decision_rule(
-            float(guard_db),
+            float(guard.guard_db),
             None if setup_info is None else setup_info.measurement,
             None if summary.estimation is None else summary.estimation.trace_uncertainty_db,
+            guard_source=guard.source, budget=guard.budget,
         ),
     )
 
@@ -91,6 +94,13 @@ def _domain_extent(spectrum, regions, dom) -> tuple[float, float]:
     return max(0.0, min(min(lo), b0)), max(max(hi), b1)
 
 
+def _k_text(e) -> str:
+    """How the statistical uncertainty of an estimate's trace was counted, in words."""
+    if e.trace_equivalent_averages is None:
+        return "a single reading: 4.34 dB"
+    return f"4.34/sqrt(K_eq), K_eq = {e.trace_equivalent_averages:.1f} independent of {e.trace_averages} overlapping"
+
+
 def _spectrum_summary(spectrum) -> SpectrumSummary:
     """The spectrum as the result describes it, with the estimation and calibration of one made from IQ."""
     e, c = spectrum.estimation, spectrum.calibration
@@ -100,7 +110,7 @@ def _spectrum_summary(spectrum) -> SpectrumSummary:
             f"Welch, {e.window} window, {e.segment_samples}-sample segments, "
             f"{100 * e.overlap_fraction:.0f} % overlap, no detrend, ENBW {format_frequency(e.enbw_hz)}, "
             f"{e.trace} ({e.detector}) of {e.trace_averages} segment(s), statistical uncertainty "
-            f"+-{e.trace_uncertainty_db:.2f} dB (1 sigma, 4.34/sqrt(K))"
+            f"+-{e.trace_uncertainty_db:.2f} dB (1 sigma, {_k_text(e)})"
         )
     if c is not None:
         levels = c.method

@@ -15,8 +15,11 @@ from ._common import console
 __all__ = ["write_outputs", "add_output_options", "check_output_options", "write_tables_and_figures", "FIGURE_PATTERNS"]
 
 
-def write_outputs(result, args) -> None:
+def write_outputs(result, args, *, attachments=None) -> None:
     """The summary on the terminal and every output file a checking command was asked for.
+
+    ``attachments`` is ``(list of Attachment, list of notes)`` for the PDF
+    report beyond its default ones (``check --attach-inputs``), or None.
 
     A closed standard output (``| head``) stops only what goes to it: every
     file asked for is still written, then the closed pipe is reported.
@@ -46,7 +49,10 @@ def write_outputs(result, args) -> None:
     if args.report:
         from ..report.pdf import write_report
 
-        write_report(result, args.report, force=args.force)
+        if attachments is None:
+            write_report(result, args.report, force=args.force)
+        else:
+            write_report(result, args.report, force=args.force, attachments=attachments[0], notes=attachments[1])
     written = [p for p in (args.json, args.report) if p and p != "-"]
     written += write_tables_and_figures(result, args)
     if not args.quiet and not to_stdout and written:

@@ -23,7 +23,8 @@ def register(sub) -> None:
     add_emission_options(c)
     c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
     c.add_argument("--attenuator", metavar="DB", help="a fixed pad ahead of the analyser, e.g. 40dB, added to every reading (after the setup's chain)")
-    c.add_argument("--guard", metavar="DB", default="0dB", help="guard band: margins below it are 'marginal' (default 0dB)")
+    c.add_argument("--guard", metavar="DB", help="guard band: margins below it are 'marginal' (default: the expanded uncertainty of the "
+                                                 "setup's [uncertainty] budget, else 0dB); a value typed here wins over the budget")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--power-tolerance", metavar="DB",
                    help="how far the stated and the measured mean power may differ before the readings cannot be judged "
@@ -35,6 +36,13 @@ def register(sub) -> None:
     add_recording_options(c)
     c.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
     c.add_argument("--report", metavar="PDF", help="write the PDF evidence report (the result JSON and the mask file ride inside it as attachments)")
+    c.add_argument("--attach-inputs", action="store_true",
+                   help="with --report: embed the trace files, the recordings' metadata files, the setup file and the "
+                        "correction table in the PDF too, with their SHA-256 (files over 8 MiB are listed, not embedded)")
+    c.add_argument("--remeasure", metavar="PATH",
+                   help="write the re-measure list (JSON): readings taken with another detector or a wider RBW than the "
+                        "rule's whose verdict the rule's settings could change, with the analyser settings for a second "
+                        "pass ('maskcheck plan --remeasure PATH' reads it)")
     add_output_options(c)
     c.add_argument("--force", action="store_true", help="overwrite existing output files")
     c.add_argument("--quiet", action="store_true", help="print no summary")
@@ -51,12 +59,16 @@ def run(args) -> int:
     from ..masks.library import load_mask
 
     # refuse before any work when an output exists, two outputs name one file, or --figures holds old figures
-    check_output_options(args)
+    check_output_options(args, planned=[("--remeasure", args.remeasure)])
+    if args.attach_inputs and not args.report:
+        from ..errors import OutputError
+
+        raise OutputError("embeds the input files in the PDF report; give --report PDF too", where="--attach-inputs")
     carrier = parse_frequency(args.carrier, what="--carrier")
     power = parse_power(args.power, what="--power") if args.power else None
     pep = parse_power(args.pep, what="--pep") if args.pep else None
     exclude = parse_frequency(args.exclude, what="--exclude") if args.exclude else None
-    guard = parse_db(args.guard, what="--guard")
+    guard = parse_db(args.guard, what="--guard") if args.guard is not None else None
     from .designator import emission_from_args
 
     necessary, authorized, _ = emission_from_args(args, args.designator)
@@ -72,7 +84,7 @@ def run(args) -> int:
 
     require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # before any input is read; check() decides again
     setup = setup_from_args(args)
-    from ._recording import choose_trace, read_input, worst_frame_check
+    from ._recording import choose_trace, is_recording, read_input, worst_frame_check
 
     got = read_input(args.traces, args, trace=choose_trace(args, mask))
     spectra = got.spectra
@@ -95,5 +107,26 @@ def run(args) -> int:
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)
     result = worst_frame_check(result, got, judge)
-    write_outputs(result, args)
+    attachments = None
+    if args.attach_inputs:
+        from ..report.attachments import input_attachments
+
+        attachments = input_attachments(result, inputs, recordings=[p for p in args.traces if is_recording(p, args)])
+    write_outputs(result, args, attachments=attachments)
+    if args.remeasure:
+        write_remeasure(result, args)
     return result.exit_code
+
+
+def write_remeasure(result, args) -> None:
+    """``--remeasure PATH``: the re-measure list as JSON (written through the run's ledger)."""
+    import json
+
+    from ..io.output import write_text
+    from ..io.remeasure import remeasure_document
+
+    write_text(args.remeasure, json.dumps(remeasure_document(result), indent=2, ensure_ascii=False) + "\n", force=args.force)
+    if not args.quiet and args.json != "-" and getattr(args, "csv", None) != "-":
+        from ._common import console
+
+        console().print(f"written: {args.remeasure} ({len(result.remeasure.items)} reading(s) to re-measure)")

@@ -28,6 +28,8 @@ def register(sub) -> None:
     p.add_argument("--station", metavar="TEXT", default="", help="a label for the station or the equipment under test")
     p.add_argument("--outside-bands", action="store_true", help="plan for a carrier outside the mask's carrier bands anyway (refused otherwise); the plan then says so")
     p.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable)")
+    p.add_argument("--remeasure", metavar="PATH", help="a re-measure list written by 'maskcheck check --remeasure': its readings "
+                                                       "become the second pass of the plan and its checklist")
     p.add_argument("--json", metavar="PATH", help="write the plan as JSON ('-' for standard output)")
     p.add_argument("--pdf", metavar="PATH", help="write the one-page bench checklist (PDF)")
     p.add_argument("--force", action="store_true", help="overwrite existing output files")
@@ -68,6 +70,13 @@ def run(args) -> int:
                             necessary_bw_hz=nbw)
     if outside:  # first among the warnings: the terminal, the JSON and the checklist show them
         plan.warnings.insert(0, outside)
+    if args.remeasure:
+        from ..io.remeasure import read_remeasure
+        from ..plan import input_offset_db
+        from ..plan_second import second_pass
+
+        plan.second_pass = second_pass(read_remeasure(args.remeasure), mask, station,
+                                       lambda f: input_offset_db(setup, extra, f))
     to_stdout = args.json == "-"
     if not args.quiet:
         from ._common import console
@@ -90,6 +99,22 @@ def run(args) -> int:
 
             console().print("written: " + ", ".join(written))
     return 0
+
+
+def _render_second_pass(sp, con) -> None:
+    """The readings of the re-measure list, two lines each."""
+    from rich.markup import escape
+
+    from ..core.units import format_frequency
+
+    con.print(f"[bold]Second pass[/bold]: {len(sp.items)} reading(s) to measure again the rule's way "
+              f"(from {escape(sp.path)}, a {sp.verdict} check of {escape(sp.created_utc)})")
+    for i in sp.items:
+        at = "not stated" if i.limit_at_input_dbm is None else f"{i.limit_at_input_dbm:.1f} dBm"
+        con.print(f"  {format_frequency(i.freq_hz, 7)} ({escape(i.region)}): margin {i.margin_db:+.1f} dB, read "
+                  f"{escape(i.used)}; limit {i.limit_dbm:.1f} dBm, at the input {at}")
+        con.print(f"    set: centre {format_frequency(i.centre_hz, 7)}, span {format_frequency(i.span_hz)}, "
+                  f"RBW {format_frequency(i.rbw_hz)}, {i.detector} detector, >= {i.points} points")
 
 
 def _db(v, unit="dBm") -> str:
@@ -155,6 +180,8 @@ def render_plan(plan, con) -> None:
     for r in plan.ranges:
         for n in r.notes:
             con.print(f"note ({format_frequency(r.start_hz)} to {format_frequency(r.stop_hz)}): {escape(n)}")
+    if plan.second_pass is not None:
+        _render_second_pass(plan.second_pass, con)
     for w in plan.warnings:
         style = "bold red" if w.startswith("DANGER") or "rated" in w else "yellow"
         con.print(f"[{style}]warning:[/{style}] {escape(w)}")

@@ -22,8 +22,10 @@ names are re-exported by :mod:`maskcheck`.
 ``domains``           the out-of-band / spurious boundary
 ``corrections``       setup corrections, field strength <-> EIRP
 ``twotone``           the two-tone test: PEP, mean power, products
-``uncertainty``       the guard band and the decision rule
 ``artefacts``         the receiver's own readings in a recording: DC line, IQ images, usable band
+``uncertainty``       the guard band, the decision rule and the uncertainty budget
+``remeasure``         whether a reading with other settings than the rule's could
+                      change its verdict (noise peak-over-mean, RBW ratio)
 ====================  ==============================================================
 """
 

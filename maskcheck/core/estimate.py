@@ -28,8 +28,12 @@ Conventions
   density (the "density" scaling), whose sum times the bin width is the
   total power (Parseval).
 * The statistical uncertainty of the average of K segments is about
-  ``10 / ln(10) / sqrt(K)`` = 4.34/sqrt(K) dB (one standard deviation, white
-  noise; methods sheet 1.6).
+  ``10 / ln(10) / sqrt(K_eq)`` dB (one standard deviation, white noise;
+  methods sheet 1.6), where ``K_eq`` counts overlapping segments by their
+  correlation (Welch's correction for the overlap of the window [1]_,
+  :func:`equivalent_averages`): ``K_eq = K`` without overlap, about
+  ``K / 1.06`` (Hann) at 50 % and ``K / 1.92`` (Hann) or ``K / 1.43``
+  (Blackman-Harris) at 75 %.
 * A tail shorter than one segment at the end of a run is not used.
 
 References
@@ -71,6 +75,8 @@ __all__ = [
     "window_enbw_bins",
     "welch_stream",
     "welch_uncertainty_db",
+    "overlap_correlation",
+    "equivalent_averages",
     "TRACES",
     "FRAME_BUDGET_BYTES",
     "FAST_LENGTH_TOLERANCE",
@@ -101,17 +107,96 @@ FRAME_BUDGET_BYTES = 64 << 20
 _DB_PER_REL = 10.0 / math.log(10.0)
 
 
-def welch_uncertainty_db(averages: int) -> float:
-    """Standard deviation of a Welch average of ``averages`` segments, dB (4.34/sqrt(K)).
+def welch_uncertainty_db(averages: float) -> float:
+    """Standard deviation of a Welch average, dB: ``10 / ln(10) / sqrt(averages)``.
+
+    ``averages`` is the number of *independent* segments; for overlapping
+    segments pass :func:`equivalent_averages` (what :class:`WelchEstimate`
+    does), not the count.
 
     Examples
     --------
     >>> round(welch_uncertainty_db(64), 3)
     0.543
     """
-    if averages < 1:
-        raise ValueError(f"{averages=} is not an integer >= 1")
+    if not averages >= 1:
+        raise ValueError(f"{averages=} is not a number of averages >= 1")
     return _DB_PER_REL / math.sqrt(averages)
+
+
+def overlap_correlation(window, segment_samples: int, hop_samples: int) -> tuple[float, ...]:
+    """Correlation of the windowed segments ``j`` hops apart, ``c(j)`` for ``j = 1, 2, ...`` while they overlap.
+
+    ``c(j) = sum_n w[n] w[n + j D] / sum_n w[n]**2`` with hop ``D``: the
+    "overlap correlation" of a window [2]_.  For white noise the periodogram
+    values of two segments ``j`` hops apart are correlated by ``c(j)**2``
+    [1]_.
+
+    Parameters
+    ----------
+    window : str or tuple
+        A :func:`scipy.signal.get_window` specification (periodic window).
+    segment_samples, hop_samples : int
+        Segment length N and hop D (N minus the overlap), samples.
+
+    Returns
+    -------
+    tuple of float
+        ``c(1) ... c(J)``, ``J = ceil(N / D) - 1`` (empty without overlap).
+
+    References
+    ----------
+    .. [1] P. D. Welch (1967), eq. (10)-(12): the variance of the average of
+       overlapping modified periodograms.
+    .. [2] F. J. Harris, Proc. IEEE 66(1), 1978, Table 1 ("overlap correlation").
+
+    Examples
+    --------
+    >>> [round(c, 4) for c in overlap_correlation("hann", 1024, 512)]
+    [0.1667]
+    """
+    return _overlap_correlation(window, int(segment_samples), int(hop_samples))
+
+
+@functools.lru_cache(maxsize=64)
+def _overlap_correlation(window, n: int, hop: int) -> tuple[float, ...]:
+    if n < 1 or hop < 1:
+        raise ValueError(f"segment_samples={n} and hop_samples={hop} must be >= 1")
+    w = get_window(window, n)
+    s2 = float(np.dot(w, w))
+    return tuple(float(np.dot(w[: n - j * hop], w[j * hop:])) / s2 for j in range(1, -(-n // hop)))
+
+
+def equivalent_averages(averages: int, window, segment_samples: int, hop_samples: int) -> float:
+    """How many independent segments a Welch average of ``averages`` overlapping ones is worth.
+
+    ``K_eq = K / (1 + 2 sum_{j=1}^{K-1} (1 - j/K) c(j)**2)`` with the overlap
+    correlation ``c(j)`` of :func:`overlap_correlation` (white noise, Welch
+    1967 [1]_): the variance of the average is that of ``K_eq`` independent
+    periodograms.  ``K_eq = K`` without overlap.
+
+    Parameters
+    ----------
+    averages : int
+        Segments averaged, K (>= 1).
+    window, segment_samples, hop_samples
+        As for :func:`overlap_correlation`.
+
+    References
+    ----------
+    .. [1] P. D. Welch, IEEE Trans. Audio Electroacoust. AU-15 (1967) 70-73, eq. (12).
+
+    Examples
+    --------
+    >>> round(equivalent_averages(100, "hann", 1024, 256), 2)
+    52.22
+    """
+    k = int(averages)
+    if k < 1:
+        raise ValueError(f"{averages=} is not an integer >= 1")
+    c = overlap_correlation(window, segment_samples, hop_samples)
+    factor = 1.0 + 2.0 * sum((1.0 - j / k) * cj * cj for j, cj in enumerate(c[: k - 1], start=1))
+    return k / factor
 
 
 def _window_spec(window: str, kaiser_beta: float | None):
@@ -366,8 +451,13 @@ class WelchEstimate:
 
     @property
     def uncertainty_db(self) -> float:
-        """Standard deviation of the average, dB: 4.34/sqrt(K)."""
-        return welch_uncertainty_db(self.averages)
+        """Standard deviation of the average, dB: 4.34/sqrt(K_eq) (:func:`equivalent_averages`)."""
+        return welch_uncertainty_db(self.equivalent_averages(self.averages))
+
+    def equivalent_averages(self, k: int) -> float:
+        """The independent segments an average of ``k`` consecutive segments of this plan is worth."""
+        p = self.plan
+        return equivalent_averages(k, p.window_spec, p.segment_samples, p.hop_samples)
 
     @property
     def density_fs_per_hz(self) -> np.ndarray:
@@ -429,6 +519,7 @@ class WelchEstimate:
 
     def _record(self, trace, frame, detector, k) -> EstimationRecord:
         d = self.describe()
+        keq = None if trace == "max-hold" else self.equivalent_averages(k)
         return EstimationRecord(
             method=d["method"], window=d["window"], segment_samples=d["segment_samples"],
             overlap_samples=d["overlap_samples"], overlap_fraction=d["overlap_fraction"],
@@ -436,7 +527,8 @@ class WelchEstimate:
             enbw_hz=d["enbw_hz"], detrend=d["detrend"], averaging=d["averaging"],
             requested_rbw_hz=d.get("requested_rbw_hz"), averages=d["averages"], uncertainty_db=d["uncertainty_db"],
             samples_used=d["samples_used"], samples_total=d["samples_total"], frames=d.get("frames"),
-            trace=trace, detector=detector, trace_averages=k, trace_uncertainty_db=welch_uncertainty_db(k),
+            trace=trace, detector=detector, trace_averages=k,
+            trace_uncertainty_db=welch_uncertainty_db(1.0 if keq is None else keq), trace_equivalent_averages=keq,
             frame=None if trace != "frame" else int(frame),
             frame_start_s=None if trace != "frame" else float(self.frame_start_s[frame]),
         )

@@ -31,6 +31,12 @@ record is built where the fact is known, never parsed back from JSON.
 :class:`DomainBoundaryRecord`  the out-of-band / spurious boundary applied
 :class:`PerMeasurementKind`    a value for conducted and for radiated work
 :class:`DecisionRule`          how measurement uncertainty meets the verdict
+:class:`UncertaintyContribution` one term of an uncertainty budget
+:class:`BudgetSpec`            the budget a setup file states
+:class:`BudgetRange`           combined and expanded uncertainty of one range
+:class:`UncertaintyBudget`     a budget evaluated over the measured span
+:class:`RemeasureItem`         a reading to take again with the rule's settings
+:class:`RemeasureList`         those readings and the bounds used
 :class:`TimeResolvedRecord`    the worst frame of a time-resolved check
 :class:`ReceiverLine`          a reading the receiver of a recording made (DC line, IQ image)
 :class:`ReceiverArtefacts`     the receiver's artefacts and usable band of a recording
@@ -62,6 +68,12 @@ __all__ = [
     "DecisionRule",
     "ReceiverLine",
     "ReceiverArtefacts",
+    "UncertaintyContribution",
+    "BudgetSpec",
+    "BudgetRange",
+    "UncertaintyBudget",
+    "RemeasureItem",
+    "RemeasureList",
     "TimeResolvedRecord",
     "SpectrumSummary",
     "ToolRecord",
@@ -112,7 +124,8 @@ class EstimationRecord:
     averages : int
         Segments averaged over the whole recording (K).
     uncertainty_db : float
-        One standard deviation of that average, dB (4.34/sqrt(K)).
+        One standard deviation of that average, dB (4.34/sqrt(K_eq), K_eq the
+        independent segments the K overlapping ones are worth, Welch 1967).
     samples_used, samples_total : int
         Samples that went into segments, and samples read.
     frames : int or None
@@ -124,7 +137,10 @@ class EstimationRecord:
     trace_averages : int
         Segments in this trace (K of the trace).
     trace_uncertainty_db : float
-        One standard deviation of this trace, dB (4.34/sqrt(K)).
+        One standard deviation of this trace, dB (4.34/sqrt(K_eq) for an
+        average; 4.34 dB, a single reading's, for a max-hold trace).
+    trace_equivalent_averages : float or None
+        K_eq of this trace (omitted for a max-hold trace).
     frame : int or None
         The frame, for ``trace="frame"`` (omitted when None).
     frame_start_s : float or None
@@ -159,8 +175,10 @@ class EstimationRecord:
     trace_uncertainty_db: float
     frame: int | None = None
     frame_start_s: float | None = None
+    #: the independent segments the trace's overlapping ones are worth (Welch 1967); None for a max-hold trace
+    trace_equivalent_averages: float | None = None
 
-    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s")
+    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s", "trace_equivalent_averages")
 
     def to_dict(self) -> dict:
         return _plain(self, self._OPTIONAL)
@@ -431,9 +449,122 @@ class SetupRecord:
     instrument: InstrumentRecord
     chain: tuple[ChainPartRecord, ...] = ()
     radiated: RadiatedRecord | None = None
+    #: the measurement-uncertainty budget of the bench (omitted when None)
+    uncertainty: BudgetSpec | None = None
 
     def to_dict(self) -> dict:
-        return _plain(self, ("radiated",))
+        return _plain(self, ("radiated", "uncertainty"))
+
+
+@dataclass(frozen=True)
+class UncertaintyContribution:
+    """One contribution of a measurement-uncertainty budget, with its standard uncertainty.
+
+    Attributes
+    ----------
+    name, source : str
+        What it is (``"analyser level accuracy"``) and where its value comes from.
+    value_db : float
+        The value as stated, dB: a normal value at its coverage factor, the
+        half-width of a rectangular, triangular or U-shaped distribution.
+    distribution : str
+        ``"normal"``, ``"rectangular"``, ``"triangular"`` or ``"u-shaped"``.
+    coverage_factor : float or None
+        k of a normal value (1: already a standard uncertainty); None otherwise.
+    divisor : float
+        ``value_db / standard_db``: k, sqrt(3), sqrt(6) or sqrt(2).
+    standard_db : float
+        The standard uncertainty, dB.
+    start_hz, stop_hz : float or None
+        The frequency range it applies to (None: every frequency).
+    """
+
+    name: str
+    value_db: float
+    distribution: str
+    coverage_factor: float | None
+    divisor: float
+    standard_db: float
+    source: str
+    start_hz: float | None = None
+    stop_hz: float | None = None
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class BudgetSpec:
+    """The budget a setup file states: its contributions and the coverage factor of the expanded value."""
+
+    contributions: tuple[UncertaintyContribution, ...]
+    coverage_factor: float
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class BudgetRange:
+    """The combined and expanded uncertainty over one frequency range of a budget.
+
+    Attributes
+    ----------
+    start_hz, stop_hz : float
+    contributions : tuple of str
+        The contributions that apply here, by name (the statistical one as
+        ``"statistical (Welch average)"``).
+    combined_standard_db : float
+        Root sum of squares of their standard uncertainties, dB (GUM eq. 10, c_i = 1).
+    expanded_db : float
+        ``coverage_factor * combined_standard_db``, dB.
+    missing : tuple of str
+        Contributions the budget gives for other ranges but not for this one.
+    """
+
+    start_hz: float
+    stop_hz: float
+    contributions: tuple[str, ...]
+    combined_standard_db: float
+    expanded_db: float
+    missing: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class UncertaintyBudget:
+    """A budget evaluated over the measured span (:func:`maskcheck.core.uncertainty.evaluate_budget`).
+
+    Attributes
+    ----------
+    contributions : tuple of UncertaintyContribution
+        As the setup file states them.
+    statistical_standard_db : float or None
+        The statistical uncertainty of the estimate's average, dB (1 sigma),
+        which enters by itself; None for a trace file or a max-hold trace.
+    coverage_factor : float
+    ranges : tuple of BudgetRange
+        The measured span cut where a contribution starts or stops.
+    expanded_db : float
+        The largest expanded uncertainty over the ranges, dB: the guard band
+        of guarded acceptance when no guard band was given.
+    """
+
+    contributions: tuple[UncertaintyContribution, ...]
+    statistical_standard_db: float | None
+    coverage_factor: float
+    ranges: tuple[BudgetRange, ...]
+    expanded_db: float
+
+    def expanded_at(self, freq_hz: float) -> float:
+        """The expanded uncertainty of the range holding ``freq_hz``, dB: the larger at a shared edge, the largest outside them all."""
+        here = [r.expanded_db for r in self.ranges if r.start_hz <= freq_hz <= r.stop_hz]
+        return max(here) if here else self.expanded_db
+
+    def to_dict(self) -> dict:
+        return _plain(self)
 
 
 @dataclass(frozen=True)
@@ -596,6 +727,12 @@ class DecisionRule:
         That times the coverage factor, dB.
     coverage_factor : float
         k of the expanded uncertainty (2).
+    guard_source : str
+        ``"given"`` (a guard band typed or passed; it wins over a budget),
+        ``"uncertainty budget"`` (the budget's expanded uncertainty) or
+        ``"none given"`` (no guard band and no budget: shared risk).
+    budget : UncertaintyBudget or None
+        The setup's budget over the measured span (omitted when None).
     """
 
     rule: str
@@ -610,6 +747,91 @@ class DecisionRule:
     statistical_uncertainty_db: float | None
     statistical_expanded_db: float | None
     coverage_factor: float
+    #: where the guard band came from: "given" (typed, it wins over a budget), "uncertainty budget" or "none given"
+    guard_source: str = "given"
+    #: the bench's budget, evaluated over the measured span (omitted when None)
+    budget: UncertaintyBudget | None = None
+
+    def to_dict(self) -> dict:
+        return _plain(self, ("budget",))
+
+
+@dataclass(frozen=True)
+class RemeasureItem:
+    """A reading taken with other settings than the rule's whose verdict could change (:mod:`maskcheck.checking.remeasure`).
+
+    Attributes
+    ----------
+    freq_hz : float
+    region, what : str
+        The region, and ``"emission"`` (a listed emission) or ``"worst point"`` (of the region).
+    level_dbm, limit_dbm, margin_db : float
+        As judged.
+    used_detector, rule_detector : str
+    used_rbw_hz : float
+    rule_bandwidth_hz : float or None
+        The rule's reference bandwidth there (None: the mask gives none).
+    low_db, high_db : float / float or None
+        How far the margin could move with the rule's settings (high None: no bound).
+    expanded_db : float
+        The expanded uncertainty widening that range, dB.
+    reasons : tuple of str
+    centre_hz, span_hz, rbw_hz : float
+        Analyser settings for the re-measurement.
+    detector : str
+        The detector to re-measure with.
+    points : int
+        Sweep points needed over the span (cells of one RBW that meet).
+    """
+
+    freq_hz: float
+    region: str
+    what: str
+    level_dbm: float
+    limit_dbm: float
+    margin_db: float
+    used_detector: str
+    used_rbw_hz: float
+    rule_detector: str
+    rule_bandwidth_hz: float | None
+    low_db: float
+    high_db: float | None
+    expanded_db: float
+    reasons: tuple[str, ...]
+    centre_hz: float
+    span_hz: float
+    rbw_hz: float
+    detector: str
+    points: int
+
+    def to_dict(self) -> dict:
+        return _plain(self)
+
+
+@dataclass(frozen=True)
+class RemeasureList:
+    """The readings to measure again the rule's way, and the bounds used.
+
+    Attributes
+    ----------
+    items : tuple of RemeasureItem
+    peak_over_mean_db : float
+        The noise peak-over-mean used for a detector difference, dB.
+    peak_samples : int
+        The independent samples it assumes.
+    peak_samples_source : str
+        Where that number comes from (the max-hold's segments, or the assumption for a trace file).
+    uncertainty_source : str
+        Where the expanded uncertainty of the bound comes from.
+    guard_db : float
+    """
+
+    items: tuple[RemeasureItem, ...]
+    peak_over_mean_db: float
+    peak_samples: int
+    peak_samples_source: str
+    uncertainty_source: str
+    guard_db: float
 
     def to_dict(self) -> dict:
         return _plain(self)

@@ -15,7 +15,15 @@ import numpy as np
 
 from .domains import DomainSpan
 from .necessary import NecessaryBandwidth
-from .records import CorrectionsRecord, DecisionRule, DomainBoundaryRecord, SetupRecord, SpectrumSummary, ToolRecord
+from .records import (
+    CorrectionsRecord,
+    DecisionRule,
+    DomainBoundaryRecord,
+    RemeasureList,
+    SetupRecord,
+    SpectrumSummary,
+    ToolRecord,
+)
 from .station import Station
 
 __all__ = [
@@ -241,6 +249,8 @@ class CheckResult:
     decision_rule: DecisionRule | None = None
     #: discrete emissions within this many dB of their limit are listed (issue 7: shown with the table)
     report_threshold_db: float | None = None
+    #: readings taken with other settings than the rule's whose verdict could change (checking/remeasure.py)
+    remeasure: RemeasureList | None = None
     #: the whole trace as read (for plots; not in the JSON)
     trace: Curve | None = field(default=None, repr=False)
 
@@ -285,4 +295,5 @@ class CheckResult:
             "xdb_bandwidth": None if self.xdb_bandwidth is None else self.xdb_bandwidth.to_dict(),
             "decision_rule": None if self.decision_rule is None else self.decision_rule.to_dict(),
             "report_threshold_db": self.report_threshold_db,
+            "remeasure": None if self.remeasure is None else self.remeasure.to_dict(),
         }

@@ -13,6 +13,8 @@ the line or key.
 ``iq_write``      writing a SigMF recording
 ``correction``    correction tables of recordings
 ``setup``         measurement-setup files (chain, instrument, antenna factor)
+``setup_budget``  the uncertainty budget of a setup file
+``remeasure``     the re-measure list file (``check --remeasure``, ``plan --remeasure``)
 ``output``        atomic writes, refusing to overwrite without ``force``
 ``hashing``       SHA-256 of inputs
 ================  ==================================================================

@@ -29,7 +29,8 @@ This joins the readers of :mod:`maskcheck.io.iq` and the estimator of
    (:mod:`maskcheck.core.artefacts`; the spectrum's ``artefacts`` record).
 
 Everything used -- window, ENBW, segment length, overlap, averages, the
-4.34/sqrt(K) dB uncertainty and the calibration -- is recorded in the
+4.34/sqrt(K_eq) dB uncertainty (overlapping segments counted by their
+correlation) and the calibration -- is recorded in the
 spectrum's ``estimation``, ``calibration`` and ``recording`` records
 (:mod:`maskcheck.core.records`).
 """

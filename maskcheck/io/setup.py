@@ -58,6 +58,14 @@ parts; a loss is >= 0, a coupler's loss is its coupling factor) or
 ``[radiated]`` (``measurement = "radiated"`` only): ``distance_m``,
 ``antenna``, and ``[radiated.antenna_factor]`` with ``db_per_m``.
 
+``[uncertainty]`` (optional): the bench's measurement-uncertainty budget,
+``coverage_factor`` (default 2) and ``[[uncertainty.contribution]]`` with
+``name``, ``value``, ``distribution``, ``k`` (normal only), ``source`` and
+an optional ``frequency_range`` (:mod:`maskcheck.io.setup_budget`).  When
+``check`` is given no ``--guard``, the largest expanded uncertainty over the
+measured span is the guard band (guarded acceptance); a ``--guard`` typed
+wins, and the result says so.
+
 Tables give their frequencies as ``frequency_hz`` / ``_khz`` / ``_mhz`` /
 ``_ghz`` (numbers) or ``frequency`` (strings with units), at least two
 rows, strictly increasing, and one value per frequency (``db`` or
@@ -96,6 +104,7 @@ from ..core.records import ChainPartRecord, CorrectionsRecord, InstrumentRecord,
 from ..core.spectrum import Spectrum
 from ..core.units import format_frequency, parse_db, parse_duration, parse_frequency, parse_power, w_to_dbm
 from .._toml import decode_text, key_path, loads
+from .setup_budget import BudgetContribution, UncertaintyTable
 from ..errors import MaskcheckError, SetupError, UnitError
 
 __all__ = ["SETUP_SCHEMA_VERSION", "CHAIN_KINDS", "SetupFile", "MeasurementSetup", "read_setup", "parse_setup",
@@ -302,6 +311,7 @@ class SetupFile(_Model):
     instrument: Instrument = Instrument()
     chain: list[ChainPart] = []
     radiated: Radiated | None = None
+    uncertainty: UncertaintyTable | None = None
 
     @model_validator(mode="after")
     def _radiated(self):
@@ -320,6 +330,8 @@ _TABLES = {
     ("chain", "gain_table"): LossTable,
     ("radiated",): Radiated,
     ("radiated", "antenna_factor"): AntennaFactorTable,
+    ("uncertainty",): UncertaintyTable,
+    ("uncertainty", "contribution"): BudgetContribution,
 }
 
 
@@ -483,7 +495,8 @@ class MeasurementSetup:
             radiated = RadiatedRecord(distance_m=f.radiated.distance_m, antenna=f.radiated.antenna,
                                       antenna_factor=self.antenna_factor().record())
         return SetupRecord(path=self.path, sha256=self.sha256, schema_version=f.schema_version, name=f.name, notes=f.notes,
-                           measurement=f.measurement, instrument=inst, chain=chain, radiated=radiated)
+                           measurement=f.measurement, instrument=inst, chain=chain, radiated=radiated,
+                           uncertainty=None if f.uncertainty is None else f.uncertainty.spec())
 
     def to_dict(self) -> dict:
         """The setup as plain data, for results and plans (SI units): ``record().to_dict()``."""

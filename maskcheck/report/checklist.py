@@ -266,6 +266,31 @@ class _Checklist:
                                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2), ("LEFTPADDING", (0, 0), (-1, -1), 1)]))
         return [self.p("Harmonics to look at (order: frequency, limit at the analyser input)", "head"), t]
 
+    def second_pass(self):
+        """The readings of a re-measure list, one ticked line each, with the settings to use."""
+        sp = getattr(self.plan, "second_pass", None)
+        if sp is None:
+            return []
+        head = ["", "Reading at", "Read with", "Margin", "Set: centre / span / RBW / detector / points", "Limit at input"]
+        data = [[self.p(h, "cellh") for h in head]]
+        for i in sp.items:
+            at = "not stated" if i.limit_at_input_dbm is None else _dbm(i.limit_at_input_dbm)
+            data.append([_TickBox(), self.p(format_frequency(i.freq_hz, 7), "cellr"), self.p(i.used, "cell"),
+                         self.p(f"{i.margin_db:+.1f} dB", "cellr"),
+                         self.p(f"{format_frequency(i.centre_hz, 7)} / {format_frequency(i.span_hz)} / "
+                                f"{format_frequency(i.rbw_hz)} / {i.detector} / >= {i.points}", "cell"),
+                         self.p(at, "cellr")])
+        w = self.width - 6 * mm
+        t = Table(data, colWidths=[6 * mm] + [x * w for x in (0.14, 0.17, 0.1, 0.43, 0.16)], repeatRows=1)
+        t.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LINEBELOW", (0, 0), (-1, 0), 0.8, BAND),
+                               ("LINEBELOW", (0, 1), (-1, -1), 0.25, LINE), ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                               ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5), ("LEFTPADDING", (0, 0), (-1, -1), 2)]))
+        title = (f"Second pass: {len(sp.items)} reading(s) of an earlier check to measure again with the rule's detector "
+                 f"and reference bandwidth (list of {sp.created_utc})")
+        if not sp.items:
+            return [self.p(title, "head"), self.p("The list is empty: no reading needs measuring again.", "small")]
+        return [self.p(title, "head"), t]
+
     def notes(self):
         pl = self.plan
         other = [w for w in pl.warnings if not (w.startswith("DANGER") or "rated" in w or "no setup" in w or "unattenuated" in w)]
@@ -299,7 +324,8 @@ class _Checklist:
         doc = SimpleDocTemplate(buf, pagesize=A4, leftMargin=_MARGIN, rightMargin=_MARGIN, topMargin=_MARGIN, bottomMargin=13 * mm,
                                 title=pdf_text_plain(f"maskcheck bench checklist: {self.plan.mask['id']}"), author="maskcheck",
                                 subject="measurement plan", creator=f"maskcheck {_version.__version__}", **kw)
-        story = self.header() + self.summary() + self.before_keying() + self.ranges() + self.harmonics() + self.notes() + self.safety()
+        story = (self.header() + self.summary() + self.before_keying() + self.ranges() + self.harmonics() + self.second_pass()
+                 + self.notes() + self.safety())
         frame_h = A4[1] - _MARGIN - 13 * mm - 2
         doc.build([KeepInFrame(self.width, frame_h, story, mode="shrink")], onFirstPage=self.on_page, onLaterPages=self.on_page)
         return buf.getvalue()

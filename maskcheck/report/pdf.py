@@ -10,7 +10,8 @@
 The pages, in order: summary; setup and corrections; the spectrum with the
 limits and the domains, and a closer view of every place that failed or is
 inside the guard band; margins by region; discrete emissions with the limit
-and clause of each; occupied and x-dB bandwidth with the edges drawn;
+and clause of each; readings to measure again with the rule's detector and
+reference bandwidth; occupied and x-dB bandwidth with the edges drawn;
 necessary bandwidth and designator; spectrum estimation and statistical
 uncertainty; measurement uncertainty and guard band; warnings; provenance;
 what the report is, and bench safety.  Every section is a PDF bookmark and
@@ -54,6 +55,7 @@ from .pdf_findings import (
     emissions_section,
     margins_section,
     necessary_section,
+    remeasure_section,
     spectrum_section,
     summary_page,
     warnings_section,
@@ -223,6 +225,7 @@ def build_report(result: CheckResult, attachments: list[Attachment] | None = Non
     story += spectrum_section(x, result, figs)
     story += margins_section(x, result)
     story += emissions_section(x, result)
+    story += remeasure_section(x, result)
     story += bandwidth_section(x, result, figs)
     story += necessary_section(x, result)
     story += estimation_section(x, result)
@@ -242,7 +245,8 @@ def build_report(result: CheckResult, attachments: list[Attachment] | None = Non
     return buf.getvalue()
 
 
-def write_report(result: CheckResult, path, *, force: bool = False, attachments: list[Attachment] | None = None):
+def write_report(result: CheckResult, path, *, force: bool = False, attachments: list[Attachment] | None = None,
+                 notes=None):
     """Build the PDF report in memory, then write it atomically to ``path``.
 
     Parameters
@@ -253,6 +257,8 @@ def write_report(result: CheckResult, path, *, force: bool = False, attachments:
     force : bool
         Whether an existing file may be replaced.
     attachments : list of Attachment, optional
+        As for :func:`build_report`.
+    notes : list of str, optional
         As for :func:`build_report`.
 
     Returns
@@ -267,5 +273,5 @@ def write_report(result: CheckResult, path, *, force: bool = False, attachments:
         or if it cannot be written.  The target is then unchanged.
     """
     check_writable(path, force)
-    return write_atomic(path, build_report(result, attachments), force=force)
+    return write_atomic(path, build_report(result, attachments, notes), force=force)
 

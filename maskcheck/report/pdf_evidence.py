@@ -19,13 +19,14 @@ from reportlab.lib.units import mm
 from reportlab.platypus import CondPageBreak, PageBreak, Spacer
 
 from ..core.records import CorrectionRecord, EstimationRecord, InstrumentRecord
+from ..core.uncertainty import STATISTICAL_NAME
 from ..core.result import CheckResult
 from ..core.units import format_frequency, format_power
 from ..masks.models import BUILTIN_PREFIX
 from .cautions import DISCLAIMER, SAFETY
 from .pdf_parts import Parts
 from .plot_axes import PALETTE
-from .tables import DASH, _dict_rows, fmt_range, spectrum_rows
+from .tables import DASH, _dict_rows, decision_rule_text, fmt_range, spectrum_rows
 
 __all__ = ["setup_section", "estimation_section", "uncertainty_section", "provenance_section", "closing_page", "Attachment"]
 
@@ -140,13 +141,22 @@ def _estimation_rows(est: EstimationRecord) -> list[tuple[str, str]]:
         ("Detrending", est.detrend),
         ("Averaging", est.averaging),
         ("Trace", f"{est.trace} ({est.detector} detector)"),
-        ("Averages K", str(est.trace_averages)),
+        ("Averages K", str(est.trace_averages) + ("" if est.trace_equivalent_averages is None else
+                                                  f" (worth {est.trace_equivalent_averages:.1f} independent)")),
         ("Samples used", f"{est.samples_used} of {est.samples_total}"),
         ("Statistical uncertainty", f"+-{est.trace_uncertainty_db:.2f} dB (1 sigma)"),
     ]
     # a time-resolved estimate: the frames, and the frame this trace is
     frames = {"frame": est.frame, "frame_start_s": est.frame_start_s, "frames": est.frames}
     return rows + _dict_rows({k: v for k, v in frames.items() if v is not None})
+
+
+def _counted(est) -> str:
+    """How the averages of an estimate were counted for its statistical uncertainty."""
+    if est.trace_equivalent_averages is None:
+        return "4.34 dB: a max-hold trace is a single reading per bin, not an average"
+    return (f"4.34/sqrt(K_eq) dB: the K = {est.trace_averages} overlapping segments are worth K_eq = "
+            f"{est.trace_equivalent_averages:.1f} independent ones by their overlap correlation, Welch 1967")
 
 
 def estimation_section(x: Parts, result: CheckResult) -> list:
@@ -158,7 +168,7 @@ def estimation_section(x: Parts, result: CheckResult) -> list:
         out += [x.sub("Estimation parameters (Welch's method)"), x.facts(_estimation_rows(est))]
         out.append(x.p(
             f"Statistical uncertainty of the averaged spectrum: +-{est.trace_uncertainty_db:.2f} dB (one standard deviation, "
-            f"about 4.34/sqrt(K) dB for K = {est.trace_averages} averages). It describes the scatter of a noise-like level "
+            f"{_counted(est)}). It describes the scatter of a noise-like level "
             "between repeated estimates, not the accuracy of the calibration.", "small"))
     else:
         out.append(x.p(
@@ -176,7 +186,7 @@ def uncertainty_section(x: Parts, result: CheckResult) -> list:
     out = [CondPageBreak(200), x.heading("Measurement uncertainty and guard band")]
     d = result.decision_rule
     if d is None:
-        return out + [x.p(f"Guard band {result.guard_db:g} dB; no decision-rule record in this result.")]
+        return out + [x.p(f"Guard band {round(result.guard_db, 2):g} dB; no decision-rule record in this result.")]
     kind = d.measurement
     by_kind = d.suggested_guard_db_by_kind
     pub = d.published_max_uncertainty_db_by_kind
@@ -185,9 +195,10 @@ def uncertainty_section(x: Parts, result: CheckResult) -> list:
                 "passes although the measurement uncertainty could put the true level above it, and the reverse. This is how "
                 "some harmonised standards decide, provided the laboratory's uncertainty stays within their maximum.")
     else:
-        rule = (f"Guarded acceptance. A margin of at least {d.guard_db:g} dB was needed to pass; a margin between 0 and "
-                f"{d.guard_db:g} dB is reported as MARGINAL, neither a pass nor a fail.")
-    pairs = [("Decision rule applied", rule), ("Guard band used", f"{d.guard_db:g} dB"),
+        g = f"{round(d.guard_db, 2):g}"
+        rule = (f"Guarded acceptance. A margin of at least {g} dB was needed to pass; a margin between 0 and "
+                f"{g} dB is reported as MARGINAL, neither a pass nor a fail.")
+    pairs = [("Decision rule applied", rule), ("Guard band used", decision_rule_text(result)),
              ("Kind of measurement", kind if kind != "not stated" else "not stated (no setup file)")]
     suggested = (f"{d.suggested_guard_db:g} dB for a {kind} measurement" if d.suggested_guard_db is not None
                  else f"{by_kind.conducted_db:g} dB conducted, {by_kind.radiated_db:g} dB radiated")
@@ -199,21 +210,54 @@ def uncertainty_section(x: Parts, result: CheckResult) -> list:
                       f"+-{d.statistical_uncertainty_db:.2f} dB (1 sigma); +-{d.statistical_expanded_db:.2f} dB expanded "
                       f"(k = {d.coverage_factor:g})"))
     out.append(x.facts(pairs, label_width=48 * mm))
-    if d.guard_below_suggested:
-        out += x.caution(f"The guard band used ({d.guard_db:g} dB) is smaller than the {d.suggested_guard_db:g} dB common "
+    if d.guard_below_suggested and d.guard_source != "uncertainty budget":
+        out += x.caution(f"The guard band used ({round(d.guard_db, 2):g} dB) is smaller than the {d.suggested_guard_db:g} dB common "
                          f"practice suggests for a {kind} screening measurement: a PASS here is weaker evidence than it looks.",
                          PALETTE["marginal"])
     stat = d.statistical_expanded_db
     if stat is not None and stat > d.guard_db:
         out += x.caution(f"For noise-like levels, the expanded statistical uncertainty of the estimate alone (+-{stat:.2f} dB) "
-                         f"exceeds the guard band ({d.guard_db:g} dB); a steady discrete emission scatters far less.",
+                         f"exceeds the guard band ({round(d.guard_db, 2):g} dB); a steady discrete emission scatters far less.",
                          PALETTE["marginal"])
-    out.append(x.p(
-        "Not included in any margin of this report: the analyser's amplitude accuracy (about +-1 to 2 dB overall for a typical "
-        "analyser, several dB for an uncalibrated SDR front end), mismatch between the parts of the chain, the uncertainty of "
-        "the attenuator, cable and antenna-factor values, and the rise of a reading close to the noise floor. Combine the "
-        "standard uncertainties of the bench as a root sum of squares and expand with k = 2 (GUM) to choose a guard band.",
-        "small"))
+    if d.budget is not None:
+        out += _budget_tables(x, d.budget)
+        out.append(x.p(
+            "Each standard uncertainty is the stated value divided by its divisor (a normal value by its k, a rectangular "
+            "half-width by sqrt(3), a triangular one by sqrt(6), a U-shaped one by sqrt(2); GUM 4.3). Per range the combined "
+            "standard uncertainty is the root sum of their squares (GUM eq. 10, sensitivity 1, uncorrelated) and the expanded "
+            "uncertainty U is k times it. Guarded acceptance takes the guard band w = U (ILAC-G8, JCGM 106); this check uses "
+            "one guard band for every region, the largest U of the ranges. The budget is the user's: maskcheck does not "
+            "check its values against the bench.", "small"))
+    else:
+        out.append(x.p(
+            "Not included in any margin of this report: the analyser's amplitude accuracy (about +-1 to 2 dB overall for a "
+            "typical analyser, several dB for an uncalibrated SDR front end), mismatch between the parts of the chain, the "
+            "uncertainty of the attenuator, cable and antenna-factor values, and the rise of a reading close to the noise "
+            "floor. State them as an [uncertainty] budget in the setup file: maskcheck then combines the standard "
+            "uncertainties as a root sum of squares, expands with k = 2 (GUM) and takes the result as the guard band.",
+            "small"))
+    return out
+
+
+def _budget_tables(x: Parts, b) -> list:
+    """The budget's contributions, then the combined and expanded uncertainty of each range."""
+    w = x.width
+    rows = []
+    for c in b.contributions:
+        where = "all" if c.start_hz is None else f"{format_frequency(c.start_hz)} - {format_frequency(c.stop_hz)}"
+        dist = f"normal, k = {c.coverage_factor:g}" if c.distribution == "normal" else c.distribution
+        rows.append((c.name, f"{c.value_db:g}", dist, f"{c.divisor:.4g}", f"{c.standard_db:.3f}", where, c.source))
+    if b.statistical_standard_db is not None:
+        rows.append((STATISTICAL_NAME, f"{b.statistical_standard_db:.3f}", "normal, k = 1", "1", f"{b.statistical_standard_db:.3f}",
+                     "all", "the estimate itself: 4.34/sqrt(K_eq)"))
+    out = [x.sub("Uncertainty budget of the bench (from the setup file)"),
+           x.grid(("Contribution", "Value dB", "Distribution", "Divisor", "u dB", "Range", "Source"), rows,
+                  [0.19 * w, 0.08 * w, 0.13 * w, 0.08 * w, 0.07 * w, 0.17 * w, 0.28 * w])]
+    ranges = [(f"{format_frequency(r.start_hz)} - {format_frequency(r.stop_hz)}", str(len(r.contributions)),
+               f"{r.combined_standard_db:.3f}", f"{r.expanded_db:.2f}", ", ".join(r.missing) or "-") for r in b.ranges]
+    out += [x.sub(f"Combined and expanded uncertainty per range (k = {b.coverage_factor:g})"),
+            x.grid(("Range", "Terms", "u_c dB", "U dB", "Not given here"), ranges,
+                   [0.3 * w, 0.08 * w, 0.12 * w, 0.1 * w, 0.4 * w])]
     return out
 
 

@@ -31,6 +31,7 @@ from .tables import (
     BANDWIDTH_HEADER,
     DASH,
     artefact_notes,
+    REMEASURE_HEADER,
     bandwidth_rows,
     emission_facts,
     fmt_db,
@@ -38,6 +39,8 @@ from .tables import (
     fmt_range,
     reference_text,
     region_notes,
+    remeasure_note,
+    remeasure_rows,
     station_rows,
     unevaluated_lines,
     verdict_sentence,
@@ -74,10 +77,10 @@ def _tally(result: CheckResult) -> str:
 def _rule_line(result: CheckResult) -> str:
     d = result.decision_rule
     if d is None:
-        return f"guard band {result.guard_db:g} dB"
+        return f"guard band {round(result.guard_db, 2):g} dB"
     if d.rule == "shared risk":
         return "shared risk: each level is compared directly with its limit (guard band 0 dB)"
-    return f"guarded acceptance: a margin below the {d.guard_db:g} dB guard band makes the outcome marginal"
+    return f"guarded acceptance: a margin below the {round(d.guard_db, 2):g} dB guard band makes the outcome marginal"
 
 
 def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
@@ -182,7 +185,7 @@ def margins_section(x: Parts, result: CheckResult) -> list:
     else:
         out.append(x.p("No region was judged."))
     out.append(Spacer(1, 3))
-    out.append(x.p(f"Verdict per region: FAIL when a margin is below 0 dB; MARGINAL when it is below the {result.guard_db:g} dB guard "
+    out.append(x.p(f"Verdict per region: FAIL when a margin is below 0 dB; MARGINAL when it is below the {round(result.guard_db, 2):g} dB guard "
                    "band; INCOMPLETE when part of the region has no data or the data cannot show compliance there; PASS otherwise. "
                    "Level and limit are in the rule's reference bandwidth.", "small"))
     notes = region_notes(result)
@@ -217,6 +220,21 @@ def emissions_section(x: Parts, result: CheckResult) -> list:
         out.append(x.p("* Read by the receiver of the recording, not the transmitter (its DC line, the IQ image of a "
                        "strong line); judged as the transmitter's only when asked:", "small"))
         out += x.bullets(notes, "small")
+    return out
+
+
+def remeasure_section(x: Parts, result: CheckResult) -> list:
+    """The readings to measure again with the rule's detector and reference bandwidth."""
+    w = x.width
+    out = [CondPageBreak(120), x.heading("Readings to measure again the rule's way")]
+    out.append(x.p(remeasure_note(result), "small"))
+    rows = remeasure_rows(result)
+    if rows:
+        out.append(Spacer(1, 3))
+        out.append(x.grid(REMEASURE_HEADER, rows, [0.13 * w, 0.13 * w, 0.13 * w, 0.09 * w, 0.18 * w, 0.34 * w]))
+        reasons = [f"{format_frequency(i.freq_hz, 7)} ({i.what} of '{i.region}'): " + "; ".join(i.reasons)
+                   for i in result.remeasure.items]
+        out += x.bullets(reasons, "small")
     return out
 
 

@@ -48,6 +48,11 @@ __all__ = [
     "fmt_range",
     "unevaluated_lines",
     "weak_pass_note",
+    "decision_rule_text",
+    "REMEASURE_HEADER",
+    "remeasure_rows",
+    "remeasure_note",
+    "remeasure_lines",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
@@ -163,7 +168,7 @@ _MEANING = {
 
 def verdict_sentence(result: CheckResult) -> str:
     """The verdict in words, e.g. ``'FAIL: at least one measured level is above its limit.'``."""
-    meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{result.guard_db:g}")
+    meaning = _MEANING.get(result.verdict, "unknown verdict").format(g=f"{round(result.guard_db, 2):g}")
     if result.verdict == "incomplete" and result.mask.outside_bands:
         meaning = "the carrier is outside the rule's carrier bands, so no check against this mask can pass there"
     return f"{result.verdict.upper()}: {meaning}."
@@ -185,17 +190,84 @@ def unevaluated_lines(result: CheckResult) -> list[str]:
     return lines
 
 
+def decision_rule_text(result: CheckResult) -> str:
+    """The decision rule applied and where its guard band came from, in one line."""
+    d = result.decision_rule
+    if d is None:
+        return f"guard band {round(result.guard_db, 2):g} dB"
+    b = d.budget
+    if d.guard_source == "uncertainty budget":
+        return (f"guarded acceptance, guard band {d.guard_db:.2f} dB = the largest expanded uncertainty U (k = "
+                f"{b.coverage_factor:g}) of the setup's uncertainty budget over the measured span")
+    rule = "shared risk (guard band 0 dB)" if d.rule == "shared risk" else f"guarded acceptance, guard band {round(d.guard_db, 2):g} dB"
+    if d.guard_source == "none given":
+        return rule + ": no guard band given and no uncertainty budget in a setup file"
+    if b is not None:
+        return rule + f" as given; it wins over the setup budget's expanded uncertainty U = {b.expanded_db:.2f} dB"
+    return rule + " as given"
+
+
+#: the columns of the re-measure list (terminal and PDF)
+REMEASURE_HEADER = ("Frequency", "Used", "Rule asks", "Margin", "Could move", "Re-measure with")
+
+
+def remeasure_rows(result: CheckResult) -> list[tuple[str, ...]]:
+    """One row per reading to measure again with the rule's settings."""
+    rl = result.remeasure
+    rows = []
+    for i in (() if rl is None else rl.items):
+        rule_bw = DASH if i.rule_bandwidth_hz is None else format_frequency(i.rule_bandwidth_hz)
+        high = "no bound" if i.high_db is None else f"{i.high_db:+.1f}"
+        rows.append((
+            format_frequency(i.freq_hz, 7),
+            f"{i.used_detector}, {format_frequency(i.used_rbw_hz)}",
+            f"{i.rule_detector}, {rule_bw}",
+            fmt_db(i.margin_db),
+            f"{i.low_db:+.1f} to {high} dB, +-{i.expanded_db:.1f} dB U",
+            f"centre {format_frequency(i.centre_hz, 7)}, span {format_frequency(i.span_hz)}, RBW "
+            f"{format_frequency(i.rbw_hz)}, {i.detector}, >= {i.points} points",
+        ))
+    return rows
+
+
+def remeasure_lines(result: CheckResult) -> list[str]:
+    """Two lines per reading to measure again: what was read and what the rule asks; the settings."""
+    out = []
+    rl = result.remeasure
+    for i, row in zip(() if rl is None else rl.items, remeasure_rows(result)):
+        out.append(f"{row[0]} ({i.what} of '{i.region}'): margin {row[3]}; read {row[1]}, the rule asks {row[2]}; "
+                   f"the margin could move {row[4]}")
+        out.append(f"  re-measure: {row[5]}")
+    return out
+
+
+def remeasure_note(result: CheckResult) -> str:
+    """What the re-measure list holds and the bound it used, in one paragraph."""
+    rl = result.remeasure
+    if rl is None:
+        return "No re-measure list in this result."
+    n = len(rl.items)
+    head = (f"{n} reading(s) were taken with another detector or a wider RBW than the rule's, and their verdict could "
+            "change when measured the rule's way." if n else
+            "No reading taken with another detector or a wider RBW than the rule's is close enough to a verdict "
+            "boundary for the rule's settings to change it.")
+    return (f"{head} Bound: the margin could move by the settings' difference (a peak reading of noise over its mean "
+            f"power: {rl.peak_over_mean_db:.1f} dB, {rl.peak_samples_source}; an RBW wider than the reference bandwidth B: "
+            f"10 log10(RBW/B)), widened by the expanded uncertainty U ({rl.uncertainty_source}); a reading is listed when "
+            f"its verdict (guard band {round(rl.guard_db, 2):g} dB) could differ within that range.")
+
+
 def weak_pass_note(result: CheckResult) -> str | None:
     """The sentence that a PASS under a guard band below common practice is weak evidence, or None."""
     d = result.decision_rule
-    if result.verdict != "pass" or d is None:
-        return None
+    if result.verdict != "pass" or d is None or d.guard_source == "uncertainty budget":
+        return None  # a guard band from the bench's own budget is what the suggestion stands in for
     kind, suggested = d.measurement, d.suggested_guard_db
     if suggested is None:  # the kind of measurement is not stated: the smaller suggestion
         kind, suggested = "conducted", d.suggested_guard_db_by_kind.conducted_db
     if not d.guard_db < suggested:
         return None
-    return (f"The guard band used ({d.guard_db:g} dB) is smaller than the {suggested:g} dB common practice suggests for a "
+    return (f"The guard band used ({round(d.guard_db, 2):g} dB) is smaller than the {suggested:g} dB common practice suggests for a "
             f"{kind} screening measurement: a PASS here is weaker evidence than it looks.")
 
 

@@ -25,10 +25,12 @@ from .tables import (
     EMISSION_HEADER,
     bandwidth_rows,
     artefact_notes,
+    decision_rule_text,
     emission_rows,
     reference_text,
     region_notes,
     region_rows,
+    remeasure_lines,
     station_rows,
     unevaluated_lines,
     verdict_sentence,
@@ -116,6 +118,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
     facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
+    facts.append(("Decision rule", decision_rule_text(result)))
     console.print(_facts(facts))
     if not mask.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
@@ -134,6 +137,11 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
                 console.print(_indented(f"  {note}"))
     else:
         console.print(Text("Listed emissions: none within the reporting threshold."))
+
+    if result.remeasure is not None and result.remeasure.items:
+        console.print(Text("Measure again the rule's way (the verdict could change)", style="bold"))
+        for line in remeasure_lines(result):
+            console.print(_indented(line))
 
     if result.warnings:
         console.print(Text("Warnings", style="bold"))
