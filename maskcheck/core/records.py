@@ -92,7 +92,8 @@ class EstimationRecord:
     method : str
         ``"welch"``.
     window : str
-        The window, as :func:`scipy.signal.get_window` names it (``"kaiser(8.6)"``).
+        The window by its spelled name (``"blackman-harris"``, ``"flat-top"``,
+        ``"hann"``, ``"kaiser (beta 8.6)"``).
     segment_samples, overlap_samples : int
         Samples per segment, and shared by consecutive segments.
     overlap_fraction : float
@@ -125,6 +126,10 @@ class EstimationRecord:
         The frame, for ``trace="frame"`` (omitted when None).
     frame_start_s : float or None
         Start of that frame from the start of the recording, s (omitted when None).
+    workers : int or None
+        The estimation threads asked for (omitted when None: all CPUs).  The
+        estimate is the same to the bit for any number of threads; the number
+        is recorded so that an option given is never without a trace in the result.
 
     References
     ----------
@@ -155,8 +160,9 @@ class EstimationRecord:
     trace_uncertainty_db: float
     frame: int | None = None
     frame_start_s: float | None = None
+    workers: int | None = None
 
-    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s")
+    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s", "workers")
 
     def to_dict(self) -> dict:
         return _plain(self, self._OPTIONAL)

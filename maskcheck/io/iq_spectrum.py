@@ -148,7 +148,7 @@ def _group_captures(rec: Recording):
 def estimate_recording(
     rec: Recording,
     *,
-    window: str = "blackmanharris",
+    window: str = "blackman-harris",
     kaiser_beta: float | None = None,
     rbw_hz: float | None = None,
     segment_samples: int | None = None,
