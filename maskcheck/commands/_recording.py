@@ -30,7 +30,7 @@ def add_recording_options(sp, *, time_resolved: bool = True) -> None:
 
     add_option(g, "--format")
     add_option(g, "--rate")
-    add_option(g, "--centre")
+    add_option(g, "--centre", alias="--center")
     add_option(g, "--i-channel", choices=["left", "right"], default="left")
     add_option(g, "--window", default="blackman-harris")
     add_option(g, "--overlap", default="50%")

@@ -83,6 +83,9 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     # outputs
     "--json": ("PATH", "write the result as JSON to PATH ('-' for standard output)"),
     "--report": ("PDF", "write the PDF report"),
+    "--csv": ("PATH", "write the margins table as CSV: one row per region, then one per listed emission ('-' for "
+                      "standard output)"),
+    "--figures": ("DIR", "write every plot of the report as an SVG file into this folder (created if missing)"),
     "--out": ("PATH", "where to write"),
     "--force": (None, "overwrite existing output files"),
     "--quiet": (None, "print no summary"),
@@ -111,7 +114,8 @@ def usage_hint(message: str) -> str:
     return JSON_BARE_HINT if message == "argument --json: expected one argument" else message
 
 
-def add_option(p, option: str, *, detail: str | None = None, metavar: str | None = None, **kwargs):
+def add_option(p, option: str, *, detail: str | None = None, metavar: str | None = None, alias: str | None = None,
+               **kwargs):
     """Add ``option`` to ``p`` (a parser or an argument group) with the table's metavar and help.
 
     Parameters
@@ -122,6 +126,9 @@ def add_option(p, option: str, *, detail: str | None = None, metavar: str | None
     metavar : str, optional
         Only where the command takes more than the table's metavar says
         (``check --necessary-bw BW|measured``).
+    alias : str, optional
+        An older spelling this command still parses, hidden from ``--help``;
+        one of :data:`HIDDEN_ALIASES`, for this option.
     **kwargs
         Passed to ``add_argument`` (``default``, ``required``, ``choices``, ``action``, ``dest``).
     """
@@ -134,10 +141,11 @@ def add_option(p, option: str, *, detail: str | None = None, metavar: str | None
     elif metavar:
         kwargs["metavar"] = metavar
     action = p.add_argument(*names, help=help_text, **kwargs)
-    for alias, (target, _why) in HIDDEN_ALIASES.items():
-        if target == option:
-            extra = {k: v for k, v in kwargs.items() if k not in ("required", "default", "metavar", "dest")}
-            p.add_argument(alias, dest=action.dest, help=argparse.SUPPRESS, default=argparse.SUPPRESS, **extra)
+    if alias is not None:
+        if HIDDEN_ALIASES[alias][0] != option:
+            raise ValueError(f"{alias} is listed as an alias of {HIDDEN_ALIASES[alias][0]}, not of {option}")
+        extra = {k: v for k, v in kwargs.items() if k not in ("required", "default", "metavar", "dest")}
+        p.add_argument(alias, dest=action.dest, help=argparse.SUPPRESS, default=argparse.SUPPRESS, **extra)
     return action
 
 

@@ -64,7 +64,10 @@ def run(args) -> int:
         notes.append(f"{x_db:g} dB bandwidth not measured: {exc.message}")
     if args.json:
         payload = {
-            "trace": {"path": args.trace, "sha256": spectrum.sha256},
+            # what the trace was read as: the RBW and the detector (the file's or the options'), and the notes
+            "trace": {"path": args.trace, "sha256": spectrum.sha256, "rbw_hz_min": float(spectrum.rbw_hz.min()),
+                      "rbw_hz_max": float(spectrum.rbw_hz.max()), "detector": spectrum.detector,
+                      "notes": list(spectrum.notes)},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
             "sampling": None if bias is None else bias.to_dict(),

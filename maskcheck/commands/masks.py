@@ -37,7 +37,7 @@ def register(sub) -> None:
         add_option(sp, "--power")
         add_option(sp, "--pep")
         add_option(sp, "--carrier", detail="default: the middle of the mask's carrier range")
-        add_option(sp, "--authorized-bw", dest="bandwidth", detail="percentage steps need it")
+        add_option(sp, "--authorized-bw", dest="bandwidth", detail="percentage steps need it", alias="--bandwidth")
         if name == "plot":
             add_option(sp, "--out", required=True, metavar="FILE.pdf|FILE.svg", detail="a PDF or SVG, by the name's ending")
             add_option(sp, "--force", action="store_true")
@@ -144,8 +144,37 @@ def _station(args, mask) -> dict:
         carrier = math.sqrt(lo * hi)
         note = ("no --carrier given: the geometric middle of the mask's carrier range is used" if len(bands) == 1 else
                 "no --carrier given: the geometric middle of the mask's first carrier band is used")
-    auth = parse_frequency(args.bandwidth, what="--bandwidth", default_unit="Hz") if args.bandwidth else None
-    return {"power_w": power_w, "pep_w": pep_w, "carrier_hz": carrier, "authorized_bw_hz": auth, "note": note}
+    auth = parse_frequency(args.bandwidth, what="--authorized-bw", default_unit="Hz") if args.bandwidth else None
+    st = {"power_w": power_w, "pep_w": pep_w, "carrier_hz": carrier, "authorized_bw_hz": auth, "note": note}
+    _refuse_what_changes_nothing(mask, st)
+    return st
+
+
+def _refuse_what_changes_nothing(mask, st) -> None:
+    """Refused, never ignored: ``--pep`` or ``--authorized-bw`` when no limit of this mask depends on it.
+
+    The limits are evaluated with and without the value: when they are the
+    same, the option cannot be honoured for this mask (a mean-power rule has
+    no use for the PEP), and saying so beats drawing the same limits.
+    """
+    def limits(station):
+        return [(r["values"], r["where"]) for r in evaluated_rows(mask, station)]
+
+    base = limits(st)
+    if not any(values for values, _ in base):
+        return  # nothing could be evaluated (another value is missing): the comparison would tell nothing
+    ref = {"mean": "the mean power", "carrier": "the carrier power", "none": "no power"}.get(mask.reference_power.kind,
+                                                                                            mask.reference_power.kind)
+    for key, option, what in (("pep_w", "--pep", f"the peak envelope power (its limits refer to {ref})"),
+                              ("authorized_bw_hz", "--authorized-bw", "the authorised bandwidth")):
+        if st[key] is None:
+            continue
+        try:
+            same = limits({**st, key: None}) == base
+        except MaskcheckError:  # the mask cannot be evaluated without it: it depends on it
+            same = False
+        if same:
+            raise MaskcheckError(f"no limit of mask {mask.id} depends on {what}; leave {option} out", where=option)
 
 
 def _evaluate(mask, st):

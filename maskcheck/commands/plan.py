@@ -31,7 +31,7 @@ def register(sub) -> None:
     add_option(p, "--outside-bands", action="store_true")
     add_option(p, "--mask-dir", action="append", default=[])
     add_option(p, "--json", detail="the plan")
-    add_option(p, "--report", detail="the one-page bench checklist")
+    add_option(p, "--report", detail="the one-page bench checklist", alias="--pdf")
     add_option(p, "--force", action="store_true")
     add_option(p, "--quiet", action="store_true")
     p.set_defaults(run=run)

@@ -175,6 +175,8 @@ def run(args) -> int:
         resolution["trace"] = _trace(args)
     data = {"inputs": [{"path": i.path, "sha256": i.sha256} for i in inputs], "level_unit": unit,
             "resolution": resolution, **res.to_dict(),
+            "detector": spectrum.detector, "notes": list(spectrum.notes),
+            "estimation": None if spectrum.estimation is None else spectrum.estimation.to_dict(),
             "calibration": None if spectrum.calibration is None else spectrum.calibration.to_dict(),
             "setup": None if spectrum.setup is None else spectrum.setup.to_dict(),
             "corrections": None if spectrum.corrections is None else spectrum.corrections.to_dict()}
