@@ -109,7 +109,8 @@ def check(
     obw_beta : float
         Fraction outside the occupied bandwidth (0.01: the 99 % bandwidth).
     inputs : list of InputFile, optional
-        Input files and hashes for the record (default: the spectrum's own).
+        Input files and hashes for the record (default: the spectrum's own, and the setup file that
+        corrected it, as the command line lists them).
     necessary : NecessaryBandwidth or "measured", optional
         The necessary bandwidth, or ``"measured"`` (the occupied bandwidth stands in).
     authorized_bw_hz : float or "necessary", optional
