@@ -165,6 +165,7 @@ def test_an_option_changes_the_result_or_is_refused(option, kind, tmp_path, caps
 
 import argparse  # noqa: E402
 
+from invented_scenarios import short_scenario  # noqa: E402
 from maskcheck.commands._spelling import HIDDEN_ALIASES, OPTION_TEXTS  # noqa: E402
 
 #: the invented two-tone test: tones 700 Hz and 1900 Hz above a suppressed carrier at 14.2 MHz,
@@ -172,16 +173,7 @@ from maskcheck.commands._spelling import HIDDEN_ALIASES, OPTION_TEXTS  # noqa: E
 TT_CARRIER_HZ, TT_TONES_HZ = 14.2e6, (700.0, 1900.0)
 
 #: a scenario of our own: a 7 MHz carrier through a mildly non-linear amplifier (invented)
-SCENARIO = """
-scenario_version = 1
-name = "audit carrier (invented)"
-[signal]
-carrier = "7 MHz"
-sample_rate = "48 kHz"
-duration = "0.1 s"
-[source]
-kind = "tone"
-frequency = "1 kHz"
+SCENARIO = short_scenario("audit carrier", """
 [modulator]
 kind = "am"
 index = 0.3
@@ -195,12 +187,7 @@ order = 5
 cutoff = "9 MHz"
 [antenna]
 power = "100 W"
-[analysis]
-rbw = "100 Hz"
-max_harmonic = 3
-[check]
-mask = "us-amateur-hf-2003"
-"""
+""", mask="us-amateur-hf-2003")
 
 
 def _two_tone_trace(tmp):

@@ -11,6 +11,7 @@ import numpy as np
 import pytest
 import scipy.signal
 
+from invented_scenarios import short_scenario
 from maskcheck.cli import main
 from maskcheck.core.estimate import WINDOWS, plan_welch, window_name
 from maskcheck.errors import SpectrumError
@@ -105,16 +106,8 @@ def test_the_if_filter_takes_both_names_and_describes_itself_by_the_spelled_one(
         filter_kind("chebyshev-2", offered={"butterworth": "", "chebyshev-1": "", "elliptic": ""})
 
 
-SCENARIO = """
-scenario_version = 1
-name = "filter names (invented)"
-[signal]
-carrier = "7 MHz"
-sample_rate = "48 kHz"
-duration = "0.1 s"
-[source]
-kind = "tone"
-frequency = "1 kHz"
+def _scenario(if_kind, lpf_kind, window):
+    return short_scenario("filter names", f"""
 [modulator]
 kind = "ssb-filter"
 [if_filter]
@@ -129,18 +122,14 @@ cutoff = "9 MHz"
 ripple = "0.1 dB"
 [antenna]
 power = "10 W"
-[analysis]
-rbw = "100 Hz"
-window = "{window}"
-max_harmonic = 3
-"""
+""", analysis=f'rbw = "100 Hz"\nwindow = "{window}"\nmax_harmonic = 3')
 
 
 def test_a_scenario_reads_the_same_with_the_aliases_and_records_the_spelled_names(tmp_path):
     from maskcheck.sim.scenario import parse_scenario, run_scenario
 
-    spelled = parse_scenario(SCENARIO.format(if_kind="elliptic", lpf_kind="chebyshev-1", window="flat-top"))
-    alias = parse_scenario(SCENARIO.format(if_kind="ellip", lpf_kind="cheby1", window="flattop"))
+    spelled = parse_scenario(_scenario("elliptic", "chebyshev-1", "flat-top"))
+    alias = parse_scenario(_scenario("ellip", "cheby1", "flattop"))
     assert spelled == alias
     assert (alias.if_filter.kind, alias.output_filter.kind, alias.analysis.window) == ("elliptic", "chebyshev-1", "flat-top")
     sim = run_scenario(alias, workers=1)
@@ -153,5 +142,5 @@ def test_a_scenario_with_an_unknown_filter_names_the_spelled_families(tmp_path):
     from maskcheck.sim.scenario import parse_scenario
 
     with pytest.raises(ScenarioError) as e:
-        parse_scenario(SCENARIO.format(if_kind="bessel", lpf_kind="butterworth", window="hann"), path="s.toml")
+        parse_scenario(_scenario("bessel", "butterworth", "hann"), path="s.toml")
     assert "if_filter.kind" in str(e.value) and "elliptic" in str(e.value) and "\n" not in str(e.value)

@@ -11,6 +11,7 @@ import numpy as np
 import pytest
 from pypdf import PdfReader
 
+from invented_scenarios import short_scenario
 from maskcheck.cli import main
 from maskcheck.core.units import dbm_to_w
 
@@ -103,16 +104,7 @@ def test_twotone_names_them_in_the_json_every_page_and_the_summary(tmp_path, cap
     _on_every_page(pdf, NAME, EQUIPMENT)
 
 
-SCENARIO = """
-scenario_version = 1
-name = "labelled carrier (invented)"
-[signal]
-carrier = "7 MHz"
-sample_rate = "48 kHz"
-duration = "0.1 s"
-[source]
-kind = "tone"
-frequency = "1 kHz"
+SCENARIO = short_scenario("labelled carrier", """
 [modulator]
 kind = "am"
 index = 0.0
@@ -120,12 +112,7 @@ index = 0.0
 model = "linear"
 [antenna]
 power = "10 W"
-[analysis]
-rbw = "100 Hz"
-max_harmonic = 2
-[check]
-mask = "us-amateur-hf-2003"
-"""
+""", analysis='rbw = "100 Hz"\nmax_harmonic = 2', mask="us-amateur-hf-2003")
 
 
 @pytest.mark.parametrize("given", [True, False])

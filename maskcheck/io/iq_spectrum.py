@@ -345,25 +345,14 @@ def _join_spans(spectra: list[Spectrum]) -> Spectrum:
                     detector=spectra[0].detector, segments=tuple(segs), span_edges_hz=tuple(edges), **meta)
 
 
-def read_recording(
-    path,
-    *,
-    datatype: str | None = None,
-    sample_rate_hz: float | None = None,
-    centre_hz: float | None = None,
-    i_channel: str = "left",
-    full_scale_w: float | None = None,
-    ref_tone_hz: float | None = None,
-    ref_tone_w: float | None = None,
-    correction=None,
-    window: str = "blackman-harris",
-    kaiser_beta: float | None = None,
-    rbw_hz: float | None = None,
-    segment_samples: int | None = None,
-    overlap: float = 0.5,
-    trace: str = "average",
-    workers: int | None = None,
-) -> Spectrum:
+#: the keywords of :func:`estimate_recording` that :func:`read_recording` passes on
+_ESTIMATE_OPTIONS = frozenset({"window", "kaiser_beta", "rbw_hz", "segment_samples", "overlap", "trace", "workers"})
+
+
+def read_recording(path, *, datatype: str | None = None, sample_rate_hz: float | None = None,
+                   centre_hz: float | None = None, i_channel: str = "left", full_scale_w: float | None = None,
+                   ref_tone_hz: float | None = None, ref_tone_w: float | None = None, correction=None,
+                   **estimate) -> Spectrum:
     """Read an IQ recording and estimate its calibrated spectrum: one call, as ``maskcheck check REC`` does.
 
     Parameters
@@ -381,9 +370,11 @@ def read_recording(
         with this known power (W).
     correction : str, os.PathLike or CorrectionTable, optional
         A correction table (dB added per frequency) on top of the calibration.
-    window, kaiser_beta, rbw_hz, segment_samples, overlap, trace, workers
-        The estimate (:func:`estimate_recording`); ``window`` by its spelled
-        name or the library alias.
+    **estimate
+        How to estimate (:func:`estimate_recording`): ``window`` (by its
+        spelled name, ``"blackman-harris"`` by default, or the library
+        alias), ``kaiser_beta``, ``rbw_hz``, ``segment_samples``,
+        ``overlap``, ``trace``, ``workers``.
 
     Returns
     -------
@@ -407,7 +398,8 @@ def read_recording(
                          i_channel=i_channel)
     if correction is not None and not hasattr(correction, "gain_db"):
         correction = read_correction(correction)
-    rs = estimate_recording(rec, window=window, kaiser_beta=kaiser_beta, rbw_hz=rbw_hz,
-                            segment_samples=segment_samples, overlap=overlap, trace=trace, workers=workers,
-                            calibration=Calibration(full_scale_w, ref_tone_hz, ref_tone_w, correction))
+    bad = sorted(set(estimate) - _ESTIMATE_OPTIONS)
+    if bad:
+        raise TypeError(f"read_recording() got unexpected keyword argument(s) {', '.join(map(repr, bad))}")
+    rs = estimate_recording(rec, calibration=Calibration(full_scale_w, ref_tone_hz, ref_tone_w, correction), **estimate)
     return replace(rs.spectrum, source=str(path), sha256=sha256_file(path))
