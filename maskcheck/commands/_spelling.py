@@ -28,7 +28,7 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     "--carrier": ("F", "carrier frequency, e.g. 7.1MHz"),
     "--power": ("P", "mean power at the antenna port, e.g. 100W or 50dBm"),
     "--pep": ("P", "peak envelope power at the antenna port, e.g. 400W (PEP-referenced rules)"),
-    "--designator": ("CODE", "emission designator, e.g. 2K70J3E, or the class alone (J3E) with the formula inputs"),
+    "--designator": ("CODE", "emission designator, e.g. 2K70J3E"),
     "--necessary-bw": ("BW", "necessary bandwidth, e.g. 2.7kHz, when the designator has no bandwidth code"),
     "--authorized-bw": ("BW", "authorised bandwidth, e.g. 12.5kHz"),
     # formula inputs of the necessary bandwidth
@@ -55,8 +55,9 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
                               "then says so"),
     # the measurement chain
     "--setup": ("TOML", "measurement-setup file: its chain (attenuators, cables; antenna factor and distance if "
-                        "radiated) corrects every level; see 'maskcheck plan'"),
-    "--attenuator": ("DB", "a fixed pad ahead of the analyser, e.g. 40dB, added to every level after the setup's chain"),
+                        "radiated) corrects every level"),
+    "--attenuator": ("DB", "a fixed pad ahead of the analyser, e.g. 40dB, after the setup's chain (its loss is added "
+                           "to every reading)"),
     "--correction": ("FILE", "correction table of the setup: dB added to every level, per frequency"),
     # traces
     "--rbw": ("BW", "resolution bandwidth, e.g. 10kHz: of traces that do not state it; for IQ recordings the RBW "
@@ -86,7 +87,7 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     "--csv": ("PATH", "write the margins table as CSV: one row per region, then one per listed emission ('-' for "
                       "standard output)"),
     "--figures": ("DIR", "write every plot of the report as an SVG file into this folder (created if missing)"),
-    "--out": ("PATH", "where to write"),
+    "--out": ("PATH", "where the output goes"),
     "--force": (None, "overwrite existing output files"),
     "--quiet": (None, "print no summary"),
 }

@@ -25,7 +25,7 @@ def register(sub) -> None:
                detail="the occupied bandwidth must not exceed it ('necessary': the necessary bandwidth)")
     add_emission_options(c)
     add_identity_options(c)
-    add_option(c, "--setup")
+    add_option(c, "--setup", detail="see 'maskcheck plan'")
     add_option(c, "--attenuator")
     add_option(c, "--guard", default="0dB", detail="default 0dB")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")

@@ -10,7 +10,7 @@ __all__ = ["register", "run"]
 
 def register(sub) -> None:
     d = sub.add_parser("demo", help="run the invented demo scenario end to end")
-    add_option(d, "--out", default="maskcheck-demo", metavar="DIR", detail="the output folder (default ./maskcheck-demo)")
+    add_option(d, "--out", default="maskcheck-demo", metavar="DIR", detail="a folder (default ./maskcheck-demo)")
     add_option(d, "--force", action="store_true", detail="those of an earlier demo run")
     d.set_defaults(run=run)
 

@@ -22,7 +22,7 @@ def add_emission_options(p, *, with_designator: bool = True) -> None:
 
     g = p.add_argument_group("emission (necessary bandwidth and domains)")
     if with_designator:
-        add_option(g, "--designator")
+        add_option(g, "--designator", detail="or the class alone (J3E) with the formula inputs")
     add_option(g, "--necessary-bw", metavar="BW|measured", detail="or 'measured' to use the occupied bandwidth")
     add_option(g, "--max-mod")
     add_option(g, "--low-mod")

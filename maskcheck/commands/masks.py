@@ -39,7 +39,7 @@ def register(sub) -> None:
         add_option(sp, "--carrier", detail="default: the middle of the mask's carrier range")
         add_option(sp, "--authorized-bw", dest="bandwidth", detail="percentage steps need it", alias="--bandwidth")
         if name == "plot":
-            add_option(sp, "--out", required=True, metavar="FILE.pdf|FILE.svg", detail="a PDF or SVG, by the name's ending")
+            add_option(sp, "--out", required=True, metavar="FILE.pdf|FILE.svg", detail="a PDF or SVG file, by the name's ending")
             add_option(sp, "--force", action="store_true")
     mv = msub.add_parser("validate", help="check mask files and report every problem")
     mv.add_argument("files", nargs="+", metavar="FILE")

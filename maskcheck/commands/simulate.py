@@ -14,7 +14,7 @@ def register(sub) -> None:
                                    "fundamental as a SigMF recording and the wideband spectrum as trace files, "
                                    "and with --mask judge it like 'maskcheck check'.")
     s.add_argument("scenario", metavar="SCENARIO.toml", help="the scenario file")
-    add_option(s, "--out", required=True, metavar="DIR", detail="the output folder (created if missing)")
+    add_option(s, "--out", required=True, metavar="DIR", detail="a folder, created if missing")
     add_option(s, "--mask", detail="judge the wideband spectrum against it (default: the scenario's [check] mask, if any)")
     add_option(s, "--designator", detail="for the check (default: the scenario's)")
     add_option(s, "--guard", detail="of the check (default: the scenario's, else 0dB)")

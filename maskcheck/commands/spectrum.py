@@ -18,7 +18,7 @@ def register(sub) -> None:
     s.add_argument("recording", metavar="RECORDING", help="SigMF, WAV, or raw I/Q file (raw needs --format, --rate, --centre)")
     add_option(s, "--rbw")
     add_recording_options(s, time_resolved=False)
-    add_option(s, "--out", detail="the spectrum as a trace text file")
+    add_option(s, "--out", detail="a trace text file holding the spectrum")
     add_option(s, "--force", action="store_true")
     add_option(s, "--quiet", action="store_true")
     s.set_defaults(run=run)

@@ -43,7 +43,7 @@ def register(sub) -> None:
                                    "or --segment is given.")
     t.add_argument("inputs", nargs="+", metavar="REC|TRACE", help="an IQ recording or trace file(s) around the fundamental")
     t.add_argument("--band", metavar="BW", help="band integrated around each line (default 8 RBW)")
-    add_option(t, "--carrier", detail="the suppressed carrier (e.g. 14.2MHz): its leak and the opposite sideband are measured")
+    add_option(t, "--carrier", detail="the suppressed carrier: its leak and the opposite sideband are measured")
     add_identity_options(t)
     add_option(t, "--setup")
     add_option(t, "--attenuator")
