@@ -599,3 +599,25 @@ def test_the_bare_json_flag_is_refused_with_a_hint(capsys):
     assert json.loads(capsys.readouterr().out)["designator"] == "2K70J3E"
     assert main(["masks", "list", "--json", "-", "--authority", "FCC"]) == 0
     assert {m["authority"] for m in json.loads(capsys.readouterr().out)} == {"FCC"}
+
+
+def test_json_dash_writes_only_the_json_to_standard_output_on_every_command_that_writes_json(tmp_path, capsys):
+    # one way to say it: '--json -' on every command that writes JSON; standard output then holds the JSON alone
+    names = _shared_files(tmp_path)  # writes the check's trace too
+    trace, tt = str(tmp_path / "t.txt"), _two_tone_trace(tmp_path)
+    runs = {
+        "check": ["check", trace, *BASE],
+        "twotone": ["twotone", tt],
+        "plan": ["plan", "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W"],
+        "bandwidth": ["bandwidth", trace],
+        "simulate": ["simulate", names["SCENARIO"], "--out", str(tmp_path / "sim")],
+        "designator": ["designator", "2K70J3E"],
+        "masks list": ["masks", "list"],
+    }
+    writes_json = {c for c, p in _all_parsers() if "--json" in _option_strings(p)}
+    assert writes_json == set(runs)
+    for command, argv in runs.items():
+        rc = main([*argv, "--json", "-"])
+        out = capsys.readouterr().out
+        assert rc in (0, 1, 3), command
+        assert json.loads(out), command  # nothing but the JSON on standard output
