@@ -43,6 +43,7 @@ def add_recording_options(sp, *, time_resolved: bool = True) -> None:
     add_option(g, "--correction")
     add_option(g, "--workers", type=int)
 
+
 def is_recording(path, args) -> bool:
     from ..io.iq import recording_kind
 

@@ -81,6 +81,11 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     "--ref-tone": ("F=P", "calibration of a recording: a tone of known power in it, e.g. 7.1MHz=-10dBm"),
     "--workers": ("N", "estimation threads (default: all CPUs); the estimate is the same for any number, and the "
                        "number asked for is recorded"),
+    # receiver artefacts of recordings (the texts of the options as the lead wrote them in commands/_recording.py)
+    "--usable-fraction": ("F", "part of the sample rate about the centre kept as usable, e.g. 80%% (default) or 0.9: the "
+                               "band edges beyond it, where the receiver's anti-alias filter rolls off, are not judged"),
+    "--judge-artefacts": (None, "judge the readings flagged as the receiver's (its DC line, IQ images) as the "
+                                "transmitter's; by default one over its limit makes its range incomplete"),
     # outputs
     "--json": ("PATH", "write the result as JSON to PATH ('-' for standard output)"),
     "--report": ("PDF", "write the PDF report"),
