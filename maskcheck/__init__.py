@@ -5,32 +5,40 @@ laboratories decide.
 
 Public names
 ------------
-========================  ==========================================================
-``read_trace(path)``      read a spectrum-analyser trace in the maskcheck text format
-``load_mask(id_or_path)`` load a mask from the built-in library or a TOML file
-``list_masks()``          every mask the library (and user folders) hold
-``Station(...)``          carrier frequency, mean power, PEP of the transmitter
-``check(s, mask, st)``    judge a spectrum against a mask -> ``CheckResult``
-``CheckResult``           the conclusion as plain data; ``.to_dict()`` for JSON
-``Spectrum``              the validated spectrum every reader makes
-``stitch(spectra)``       join several spans into one spectrum
-``occupied_bandwidth``    the beta/2 (99 %) bandwidth of a spectrum
-``xdb_bandwidth``         the x-dB bandwidth of a spectrum
-``__version__``           version of the package
-``MASK_SCHEMA_VERSION``   newest mask-file schema version this release reads
-``MaskcheckError``        base of every error bad input or usage causes (``.path``,
-                          ``.where``, ``.param``)
-``UnitError``             a quantity that cannot be parsed or has the wrong unit
-``SpectrumError``         arrays that cannot form a valid spectrum
-``TraceError``            a malformed trace file
-``RecordingError``        a malformed IQ recording or its missing description
-``CorrectionError``       a malformed correction table, or one that does not cover
-``SetupError``            a malformed measurement-setup file
-``MaskError``             a malformed or inconsistent mask file (``.problems``)
-``StationError``          station data that is missing or impossible
-``OutputError``           an output file that cannot or must not be written
-``ScenarioError``         a malformed or impossible simulation scenario file
-========================  ==========================================================
+==========================  ==========================================================
+``read_trace(path)``        read a spectrum-analyser trace in the maskcheck text format
+``read_recording(path)``    read an IQ recording and estimate its calibrated spectrum
+``read_setup(path)``        read a measurement-setup file (the chain, the instrument)
+``apply_setup(s, setup)``   correct a spectrum for a setup and/or a fixed pad
+                            (``attenuator_db=``), as ``check --setup --attenuator``
+``load_mask(id_or_path)``   load a mask from the built-in library or a TOML file
+``list_masks()``            every mask the library (and user folders) hold
+``Station(...)``            carrier frequency, mean power, PEP of the transmitter
+``check(s, mask, st)``      judge a spectrum against a mask -> ``CheckResult``
+``CheckResult``             the conclusion as plain data; ``.to_dict()`` for JSON
+``write_json(r, path)``     write a result as ``check --json`` does (``"-"``: standard output)
+``write_report(r, path)``   write the PDF evidence report, as ``check --report``
+``write_csv(r, path)``      write the margins table, as ``check --csv``
+``write_figures(r, dir)``   write the report's plots as SVG files, as ``check --figures``
+``Spectrum``                the validated spectrum every reader makes
+``stitch(spectra)``         join several spans into one spectrum
+``occupied_bandwidth``      the beta/2 (99 %) bandwidth of a spectrum
+``xdb_bandwidth``           the x-dB bandwidth of a spectrum
+``__version__``             version of the package
+``MASK_SCHEMA_VERSION``     newest mask-file schema version this release reads
+``MaskcheckError``          base of every error bad input or usage causes (``.path``,
+                            ``.where``, ``.param``)
+``UnitError``               a quantity that cannot be parsed or has the wrong unit
+``SpectrumError``           arrays that cannot form a valid spectrum
+``TraceError``              a malformed trace file
+``RecordingError``          a malformed IQ recording or its missing description
+``CorrectionError``         a malformed correction table, or one that does not cover
+``SetupError``              a malformed measurement-setup file
+``MaskError``               a malformed or inconsistent mask file (``.problems``)
+``StationError``            station data that is missing or impossible
+``OutputError``             an output file that cannot or must not be written
+``ScenarioError``           a malformed or impossible simulation scenario file
+==========================  ==========================================================
 
 Names are loaded on first use, so ``maskcheck --version`` starts without
 numpy, scipy or pydantic.  Every error is also the matching built-in
@@ -59,11 +67,18 @@ from ._version import MASK_SCHEMA_VERSION, __version__
 
 __all__ = [
     "read_trace",
+    "read_recording",
+    "read_setup",
+    "apply_setup",
     "load_mask",
     "list_masks",
     "Station",
     "check",
     "CheckResult",
+    "write_json",
+    "write_report",
+    "write_csv",
+    "write_figures",
     "Spectrum",
     "stitch",
     "occupied_bandwidth",
@@ -85,6 +100,13 @@ __all__ = [
 
 _LAZY = {
     "read_trace": "maskcheck.io.trace_text",
+    "read_recording": "maskcheck.io.iq_spectrum",
+    "read_setup": "maskcheck.io.setup",
+    "apply_setup": "maskcheck.io.setup",
+    "write_json": "maskcheck.report.tables",
+    "write_report": "maskcheck.report.pdf",
+    "write_csv": "maskcheck.report.margins_csv",
+    "write_figures": "maskcheck.report.figures",
     "load_mask": "maskcheck.masks.library",
     "list_masks": "maskcheck.masks.library",
     "Station": "maskcheck.core.station",

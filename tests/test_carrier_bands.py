@@ -222,7 +222,7 @@ def test_masks_list_by_frequency_reads_the_bands(capsys):
         pytest.skip("the installed mask library is not this checkout's masks/ folder")
     ids = {}
     for f in ("380MHz", "450MHz"):
-        assert main(["masks", "list", "--frequency", f, "--json"]) == 0
+        assert main(["masks", "list", "--frequency", f, "--json", "-"]) == 0
         ids[f] = {m["id"] for m in json.loads(capsys.readouterr().out)}
     assert {"us-90210-mask-d", "us-90210-mask-e"} <= ids["450MHz"]
     assert not {"us-90210-mask-d", "us-90210-mask-e"} & ids["380MHz"]

@@ -166,7 +166,7 @@ def test_cli_computes_16k0f3e_with_the_arithmetic():
 def test_cli_decodes_with_domains_as_json():
     import json
 
-    out = _cli("designator", "16K0F3EJN", "--carrier", "450MHz", "--json")
+    out = _cli("designator", "16K0F3EJN", "--carrier", "450MHz", "--json", "-")
     assert out.returncode == 0, out.stderr
     data = json.loads(out.stdout)
     assert data["necessary_bandwidth"]["bandwidth_hz"] == 16000.0

@@ -200,7 +200,7 @@ def test_estimation_parameters_travel_with_the_spectrum():
     est = _estimate(x + 1e-3, 1e6, "flattop", None, 1024, overlap=0.5)
     s = est.to_spectrum(7.1e6)
     e = s.estimation
-    assert e.window == "flattop" and e.segment_samples == 1024 and e.overlap_samples == 512
+    assert e.window == "flat-top" and e.segment_samples == 1024 and e.overlap_samples == 512
     assert e.averages == 63 and e.detrend == "none"
     # Closed form: Welch (1967) eq. (12): 63 segments at 50 % overlap are worth K_eq independent ones
     assert e.uncertainty_db == pytest.approx(4.343 / np.sqrt(equivalent_averages(63, "flattop", 1024, 512)), rel=1e-3)

@@ -236,7 +236,7 @@ def test_spectrum_command_writes_a_trace_with_its_parameters(tmp_path):
     text = out.read_text()
     # Source: methods sheet 1.4 [C]: Blackman-Harris at 1 MS/s and 1 kHz needs 2004 samples; 2000, the
     # nearest FFT-friendly length, gives 1.0022 kHz (within the half per cent allowed)
-    assert "window=blackmanharris" in text and "segment_samples=2000" in text and "averages=" in text
+    assert "window=blackman-harris" in text and "segment_samples=2000" in text and "averages=" in text
     assert "uncertainty_db=" in text and "full_scale_dbm=10" in text and "sha256=" in text
     t = read_trace(out)
     s = _spectrum(raw, datatype="ci16_le", sample_rate_hz=FS, centre_hz=FC, window="blackmanharris", rbw_hz=1e3,
@@ -267,14 +267,14 @@ def test_check_reads_a_recording_and_states_the_estimation(tmp_path):
     sp = d["spectrum"]
     assert sp["level_scale"] == "dBm" and sp["calibration"]["method"] == "full scale"
     est = sp["estimation"]
-    assert est["window"] == "blackmanharris" and est["enbw_hz"] == pytest.approx(1e3, rel=0.005)
+    assert est["window"] == "blackman-harris" and est["enbw_hz"] == pytest.approx(1e3, rel=0.005)
     # Closed form: Welch (1967) eq. (12), overlapping segments counted by their correlation (tests/test_welch_overlap.py)
     keq = equivalent_averages(est["averages"], "blackmanharris", est["segment_samples"], est["segment_samples"] - est["overlap_samples"])
     assert est["uncertainty_db"] == pytest.approx(4.343 / np.sqrt(keq), rel=1e-3)
     assert d["reference_power"]["measured_dbm"] == pytest.approx(50 + 20 * np.log10(0.5), abs=0.05)
     assert len(d["inputs"]) == 2 and all(len(i["sha256"]) == 64 for i in d["inputs"])
     # one line each for the report: the estimate and how the levels were scaled
-    assert "blackmanharris" in sp["estimate"] and "4.34/sqrt(K_eq)" in sp["estimate"]
+    assert "blackman-harris" in sp["estimate"] and "4.34/sqrt(K_eq)" in sp["estimate"]
     assert "50.00 dBm" in sp["levels"]
     from maskcheck.report.tables import spectrum_rows
 

@@ -16,13 +16,13 @@ def _no_user_mask_path(monkeypatch):
 
 
 def test_list_filters_by_authority_service_and_frequency(capsys):
-    assert main(["masks", "list", "--json", "--authority", "FCC", "--frequency", "150MHz"]) == 0
+    assert main(["masks", "list", "--json", "-", "--authority", "FCC", "--frequency", "150MHz"]) == 0
     rows = json.loads(capsys.readouterr().out)
     ids = {r["id"] for r in rows}
     assert {"us-90210-mask-d", "us-90210-mask-e", "us-amateur-vhf-30-225mhz"} <= ids
     assert all(r["authority"] == "FCC" for r in rows)
     assert "us-am-broadcast-7344" not in ids  # 535-1705 kHz carriers only
-    assert main(["masks", "list", "--json", "--service", "personal"]) == 0
+    assert main(["masks", "list", "--json", "-", "--service", "personal"]) == 0
     rows = json.loads(capsys.readouterr().out)
     assert rows and all(r["service"] == "personal" for r in rows)
     assert {"verified", "citation", "title"} <= set(rows[0])

@@ -113,7 +113,7 @@ def check(
     obw_beta : float
         Fraction outside the occupied bandwidth (0.01: the 99 % bandwidth).
     inputs : list of InputFile, optional
-        Input files and hashes for the record (default: the spectrum's own).
+        Input files and hashes for the record (default: the spectrum's own and its setup file's).
     necessary : NecessaryBandwidth or "measured", optional
         The necessary bandwidth, or ``"measured"`` (the occupied bandwidth stands in).
     authorized_bw_hz : float or "necessary", optional

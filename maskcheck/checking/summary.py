@@ -48,8 +48,10 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
     if not mask.provenance.verified:
         warnings = [*warnings, "rule data not verified against the official text: check the mask against the current rule"]
     regions = list(judged.regions)
-    if inputs is None:
+    if inputs is None:  # the spectrum's own file, and the setup file that corrected it (as the command line lists them)
         inputs = [InputFile(spectrum.source, spectrum.sha256)] if spectrum.source else []
+        if setup_info is not None and setup_info.path:
+            inputs.append(InputFile(setup_info.path, setup_info.sha256))
     summary = _spectrum_summary(spectrum)
     nb, dom = facts.necessary, facts.domains
     return CheckResult(

@@ -14,6 +14,9 @@ class Parser(argparse.ArgumentParser):
     """argparse with a one-line usage error and exit code 2."""
 
     def error(self, message):
+        from ._spelling import usage_hint
+
+        message = usage_hint(message)
         self.exit(EXIT_USAGE, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
 
 
@@ -36,11 +39,12 @@ def console(stderr: bool = False):
 
 def add_trace_options(sp) -> None:
     """Options for trace files that do not describe themselves."""
-    sp.add_argument("--rbw", metavar="BW", help="RBW of traces that do not state it, e.g. 10kHz; for IQ recordings the RBW to estimate with")
-    sp.add_argument("--freq-unit", choices=["hz", "khz", "mhz", "ghz"], help="frequency unit of traces whose header does not say")
-    sp.add_argument("--level-unit", choices=["dbm", "dbw", "dbuv", "w", "mw"], help="level unit of traces whose header does not say")
-    sp.add_argument("--detector", choices=["rms", "average", "peak", "sample", "quasi-peak"], help="detector of traces that do not state it")
+    from ._spelling import add_option
 
+    add_option(sp, "--rbw")
+    add_option(sp, "--freq-unit", choices=["hz", "khz", "mhz", "ghz"])
+    add_option(sp, "--level-unit", choices=["dbm", "dbw", "dbuv", "w", "mw"])
+    add_option(sp, "--detector", choices=["rms", "average", "peak", "sample", "quasi-peak"])
 
 def read_traces(paths, args):
     """Read every trace file named on the command line (not yet stitched)."""

@@ -92,6 +92,7 @@ OPTIONS: dict[str, str] = {
     "floor_threshold_db": "--floor-threshold",
     "band_hz": "--band",
     "attenuator_db": "--attenuator",
+    "setup": "--setup",
     # plan
     "floor_margin_db": "--floor-margin",
     "extra_loss_db": "--attenuator",

@@ -63,8 +63,10 @@ def write_outputs(result, args, *, attachments=None) -> None:
 
 def add_output_options(sp) -> None:
     """``--csv PATH`` and ``--figures DIR``."""
-    sp.add_argument("--csv", metavar="PATH", help="write the margins table as CSV: one row per region, then one per listed emission ('-' for standard output)")
-    sp.add_argument("--figures", metavar="DIR", help="write every plot of the report as an SVG file into this folder (created if missing)")
+    from ._spelling import add_option
+
+    add_option(sp, "--csv")
+    add_option(sp, "--figures")
 
 
 #: the SVG files ``--figures`` writes (``report.figures.report_figures``): their names depend on the result

@@ -26,29 +26,25 @@ def add_recording_options(sp, *, time_resolved: bool = True) -> None:
         "SigMF (.sigmf-meta/.sigmf-data/.sigmf), two-channel WAV (.wav) or raw I/Q (with --format). "
         "--rbw chooses the segment length whose noise bandwidth is that RBW.",
     )
-    g.add_argument("--format", metavar="TYPE", help="datatype of a raw file: cf32_le, ci16_le, ci8, cu8, ... (SigMF names)")
-    g.add_argument("--rate", metavar="F", help="sample rate of a raw file, e.g. 2.4MHz")
-    g.add_argument("--centre", "--center", dest="centre", metavar="F", help="centre frequency of a raw or WAV file, e.g. 7.1MHz")
-    g.add_argument("--i-channel", choices=["left", "right"], default="left", help="WAV channel holding I (default left)")
-    g.add_argument("--window", default="blackmanharris", metavar="NAME",
-                   help="hann, blackmanharris (default), flattop, or kaiser:BETA (e.g. kaiser:14)")
-    g.add_argument("--overlap", default="50%", metavar="PCT", help="segment overlap, e.g. 50%% (default) or 0.75")
-    g.add_argument("--segment", type=int, metavar="N", help="segment length in samples (instead of --rbw; default 4096)")
-    g.add_argument("--trace", choices=["auto", "average", "max-hold"], default="auto",
-                   help="average (rms detector) or max-hold (peak-detector emulation); auto: max-hold only if the mask asks for peak")
+    from ._spelling import add_option
+
+    add_option(g, "--format")
+    add_option(g, "--rate")
+    add_option(g, "--centre", alias="--center")
+    add_option(g, "--i-channel", choices=["left", "right"], default="left")
+    add_option(g, "--window", default="blackman-harris")
+    add_option(g, "--overlap", default="50%")
+    add_option(g, "--segment", type=int)
+    add_option(g, "--trace", choices=["auto", "average", "max-hold"], default="auto")
     if time_resolved:
-        g.add_argument("--frame", metavar="T", help="time-resolved: judge frames of this duration (e.g. 50ms) and report the worst")
-    g.add_argument("--full-scale", metavar="P", help="calibration: a full-scale tone reads this power, e.g. 0dBm")
-    g.add_argument("--ref-tone", metavar="F=P", help="calibration: a tone of known power in the recording, e.g. 7.1MHz=-10dBm")
-    g.add_argument("--correction", metavar="FILE", help="correction table of the setup (dB added per frequency)")
-    g.add_argument("--workers", type=int, metavar="N", help="estimation threads (default: all CPUs)")
-    g.add_argument("--usable-fraction", metavar="F",
-                   help="part of the sample rate about the centre kept as usable, e.g. 80%% (default) or 0.9: the band "
-                        "edges beyond it, where the receiver's anti-alias filter rolls off, are not judged")
+        add_option(g, "--frame")
+    add_option(g, "--full-scale")
+    add_option(g, "--ref-tone")
+    add_option(g, "--correction")
+    add_option(g, "--workers", type=int)
+    add_option(g, "--usable-fraction")
     if time_resolved:
-        g.add_argument("--judge-artefacts", action="store_true",
-                       help="judge the readings flagged as the receiver's (its DC line, IQ images) as the "
-                            "transmitter's; by default one over its limit makes its range incomplete")
+        add_option(g, "--judge-artefacts", action="store_true")
 
 
 def is_recording(path, args) -> bool:
@@ -78,12 +74,12 @@ def _overlap(text: str) -> float:
 
 
 def _window(text: str):
+    """``--window NAME`` or ``kaiser:BETA`` -> (the spelled name, beta or None); library names are aliases."""
+    from ..core.estimate import window_name
     from ..errors import UnitError
 
     name, _, beta = str(text).partition(":")
-    name = name.strip().lower().replace("-", "").replace("_", "")
-    if name in ("blackmanharris4", "bh"):
-        name = "blackmanharris"
+    name = window_name(name)
     if beta:
         try:
             return name, float(beta)
@@ -252,7 +248,7 @@ def _corrected(spectrum, table):
 
 #: options that act on IQ recordings only, with their defaults: refused when every input is a trace
 RECORDING_ONLY = {"segment": None, "full_scale": None, "ref_tone": None, "rate": None, "centre": None,
-                  "window": "blackmanharris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None,
+                  "window": "blackman-harris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None,
                   "usable_fraction": None, "judge_artefacts": False}
 #: options that describe trace files only: refused when every input is a recording (it says these itself)
 TRACE_ONLY = {"freq_unit": None, "level_unit": None, "detector": None}

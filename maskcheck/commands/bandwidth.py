@@ -5,6 +5,7 @@ from __future__ import annotations
 from .._version import __version__
 from ..errors import MaskcheckError
 from ._common import add_trace_options, console, read_traces
+from ._spelling import add_option
 
 __all__ = ["register", "run"]
 
@@ -13,12 +14,12 @@ def register(sub) -> None:
     b = sub.add_parser("bandwidth", help="occupied and x-dB bandwidth of a trace")
     b.add_argument("trace", metavar="TRACE")
     b.add_argument("--beta", default="0.01", metavar="FRACTION", help="power fraction outside the occupied bandwidth (default 0.01: 99 %%)")
-    b.add_argument("--xdb", default="26dB", metavar="DB", help="x of the x-dB bandwidth (default 26dB)")
+    add_option(b, "--xdb", default="26dB", detail="default 26dB")
     b.add_argument("--inner", action="store_true", help="x-dB edges nearest the peak instead of outermost")
     b.add_argument("--floor-threshold", metavar="DB", help="ignore points less than this above the noise floor (e.g. 6dB)")
     add_trace_options(b)
-    b.add_argument("--json", metavar="PATH", help="write the figures as JSON ('-' for standard output)")
-    b.add_argument("--force", action="store_true", help="overwrite an existing output file")
+    add_option(b, "--json", detail="the figures")
+    add_option(b, "--force", action="store_true")
 
     b.set_defaults(run=run)
 
@@ -63,7 +64,10 @@ def run(args) -> int:
         notes.append(f"{x_db:g} dB bandwidth not measured: {exc.message}")
     if args.json:
         payload = {
-            "trace": {"path": args.trace, "sha256": spectrum.sha256},
+            # what the trace was read as: the RBW and the detector (the file's or the options'), and the notes
+            "trace": {"path": args.trace, "sha256": spectrum.sha256, "rbw_hz_min": float(spectrum.rbw_hz.min()),
+                      "rbw_hz_max": float(spectrum.rbw_hz.max()), "detector": spectrum.detector,
+                      "notes": list(spectrum.notes)},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
             "sampling": None if bias is None else bias.to_dict(),

@@ -6,6 +6,7 @@ from ._common import add_trace_options
 from ._outputs import add_output_options, check_output_options, write_outputs
 from ._recording import add_recording_options
 from ._setup_options import setup_from_args
+from ._spelling import add_identity_options, add_option
 from .designator import add_emission_options
 
 __all__ = ["register", "run"]
@@ -14,38 +15,35 @@ __all__ = ["register", "run"]
 def register(sub) -> None:
     c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
     c.add_argument("traces", nargs="+", metavar="INPUT", help="trace file(s) or IQ recording(s); several spans are stitched, a narrower RBW wins where they overlap")
-    c.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
-    c.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; with --sideband, the suppressed carrier of an SSB emission), e.g. 7.1MHz")
-    c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
-    c.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules")
+    add_option(c, "--mask", required=True)
+    add_option(c, "--carrier", required=True,
+               detail="the assigned frequency, the centre of the emission (with --sideband, the suppressed carrier of an SSB emission)")
+    add_option(c, "--power", detail="default: the measured channel power")
+    add_option(c, "--pep")
     c.add_argument("--exclude", metavar="BW", help="half-width of the fundamental window around the carrier, an explicit override (default: the out-of-band domain of the emission, else the mask's)")
-    c.add_argument("--authorized-bw", metavar="BW|necessary", help="authorised bandwidth: the occupied bandwidth must not exceed it ('necessary': the necessary bandwidth)")
+    add_option(c, "--authorized-bw", metavar="BW|necessary",
+               detail="the occupied bandwidth must not exceed it ('necessary': the necessary bandwidth)")
     add_emission_options(c)
-    c.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (attenuators, cables; antenna factor and distance if radiated) corrects every reading; see 'maskcheck plan'")
-    c.add_argument("--attenuator", metavar="DB", help="a fixed pad ahead of the analyser, e.g. 40dB, added to every reading (after the setup's chain)")
-    c.add_argument("--guard", metavar="DB", help="guard band: margins below it are 'marginal' (default: the expanded uncertainty of the "
-                                                 "setup's [uncertainty] budget, else 0dB); a value typed here wins over the budget")
+    add_identity_options(c)
+    add_option(c, "--setup", detail="see 'maskcheck plan'")
+    add_option(c, "--attenuator")
+    add_option(c, "--guard", detail="default: the expanded uncertainty of the setup's [uncertainty] budget, else 0dB; a value typed here wins over the budget")
     c.add_argument("--list-within", metavar="DB", default="20dB", help="list emissions within this of the limit (default 20dB, after 47 CFR 2.1057(c))")
     c.add_argument("--power-tolerance", metavar="DB",
                    help="how far the stated and the measured mean power may differ before the readings cannot be judged "
                         "(default 3dB for a steady carrier, 10dB for single sideband; see the README)")
-    c.add_argument("--xdb", metavar="DB", default="26dB", help="x of the x-dB bandwidth reported beside the occupied bandwidth (default 26dB)")
-    c.add_argument("--outside-bands", action="store_true", help="check a carrier outside the mask's carrier bands anyway (refused otherwise); every output then says so and the verdict is at best incomplete")
-    c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
+    add_option(c, "--xdb", default="26dB", detail="reported beside the occupied bandwidth (default 26dB)")
+    add_option(c, "--outside-bands", action="store_true", detail="the verdict is then at best incomplete")
+    add_option(c, "--mask-dir", action="append", default=[])
     add_trace_options(c)
     add_recording_options(c)
-    c.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
-    c.add_argument("--report", metavar="PDF", help="write the PDF evidence report (the result JSON and the mask file ride inside it as attachments)")
-    c.add_argument("--attach-inputs", action="store_true",
-                   help="with --report: embed the trace files, the recordings' metadata files, the setup file and the "
-                        "correction table in the PDF too, with their SHA-256 (files over 8 MiB are listed, not embedded)")
-    c.add_argument("--remeasure", metavar="PATH",
-                   help="write the re-measure list (JSON): readings taken with another detector or a wider RBW than the "
-                        "rule's whose verdict the rule's settings could change, with the analyser settings for a second "
-                        "pass ('maskcheck plan --remeasure PATH' reads it)")
+    add_option(c, "--json")
+    add_option(c, "--report", detail="the result JSON and the mask file ride inside it as attachments")
+    add_option(c, "--attach-inputs", action="store_true")
+    add_option(c, "--remeasure", detail="written by check; 'maskcheck plan --remeasure PATH' reads it")
     add_output_options(c)
-    c.add_argument("--force", action="store_true", help="overwrite existing output files")
-    c.add_argument("--quiet", action="store_true", help="print no summary")
+    add_option(c, "--force", action="store_true")
+    add_option(c, "--quiet", action="store_true")
 
     c.set_defaults(run=run)
 
@@ -78,7 +76,8 @@ def run(args) -> int:
     # with --sideband, the check places the emission's centre from the suppressed carrier (checking/emission.py)
     low_mod = parse_frequency(args.low_mod, what="--low-mod", default_unit="Hz") if getattr(args, "low_mod", None) else None
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
-                      sideband=getattr(args, "sideband", None), low_mod_hz=low_mod)
+                      sideband=getattr(args, "sideband", None), low_mod_hz=low_mod, name=args.station.strip(),
+                      equipment=args.equipment.strip())
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
     from ..masks.station_values import require_in_bands
 

@@ -3,14 +3,15 @@
 from __future__ import annotations
 
 from ._common import console
+from ._spelling import add_option
 
 __all__ = ["register", "run"]
 
 
 def register(sub) -> None:
     d = sub.add_parser("demo", help="run the invented demo scenario end to end")
-    d.add_argument("--out", default="maskcheck-demo", metavar="DIR", help="output folder (default ./maskcheck-demo)")
-    d.add_argument("--force", action="store_true", help="overwrite outputs of an earlier demo run")
+    add_option(d, "--out", default="maskcheck-demo", metavar="DIR", detail="a folder (default ./maskcheck-demo)")
+    add_option(d, "--force", action="store_true", detail="those of an earlier demo run")
     d.set_defaults(run=run)
 
 

@@ -11,32 +11,31 @@ import math
 from contextlib import contextmanager
 
 from ._common import console
+from ._spelling import add_option
 
 __all__ = ["register", "run", "add_emission_options", "formula_inputs", "emission_from_args"]
 
 
 def add_emission_options(p, *, with_designator: bool = True) -> None:
     """Options that say what the emission is and give the inputs of its formula."""
+    from ._spelling import add_option
+
     g = p.add_argument_group("emission (necessary bandwidth and domains)")
     if with_designator:
-        g.add_argument("--designator", metavar="CODE", help="emission designator, e.g. 2K70J3E, or the class alone (J3E) with the formula inputs")
-    g.add_argument("--necessary-bw", metavar="BW|measured", help="state the necessary bandwidth, or 'measured' to use the occupied bandwidth")
-    g.add_argument("--max-mod", metavar="F", help="highest modulation frequency M, e.g. 3kHz")
-    g.add_argument("--low-mod", metavar="F", help="lowest modulation frequency (J3E), e.g. 300Hz")
+        add_option(g, "--designator", detail="or the class alone (J3E) with the formula inputs")
+    add_option(g, "--necessary-bw", metavar="BW|measured", detail="or 'measured' to use the occupied bandwidth")
+    add_option(g, "--max-mod")
+    add_option(g, "--low-mod")
     if with_designator:
-        g.add_argument("--sideband", choices=["upper", "lower"],
-                       help="single sideband only: --carrier is then the suppressed carrier, and the emission's centre "
-                            "is placed f_low + Bn/2 above (upper) or below (lower) it")
-    g.add_argument("--deviation", metavar="F", help="peak frequency deviation D, e.g. 5kHz")
-    g.add_argument("--baud", metavar="BD", help="modulation (symbol) rate B in baud, e.g. 100")
-    g.add_argument("--wpm", metavar="N", help="Morse speed in words per minute (A1A, A2A)")
-    g.add_argument("--wpm-convention", choices=["itu", "paris"], default="itu",
-                   help="wpm to baud: 'itu' B = 0.8 x wpm (the ITU worked example; default) or 'paris' B = wpm x 50/60")
-    g.add_argument("--shift", metavar="F", help="frequency shift of FSK (F1B, F1D), e.g. 170Hz")
-    g.add_argument("--k-factor", metavar="K", help="the formula's factor K (default 5 for Morse, 1 for FM, 1.2 for FSK)")
-    g.add_argument("--roll-off", metavar="A", help="roll-off of a linear digital modulation, e.g. 0.35")
-    g.add_argument("--channels", metavar="N", help="number of channels (B8E), default 2")
-
+        add_option(g, "--sideband", choices=["upper", "lower"])
+    add_option(g, "--deviation")
+    add_option(g, "--baud")
+    add_option(g, "--wpm")
+    add_option(g, "--wpm-convention", choices=["itu", "paris"], default="itu")
+    add_option(g, "--shift")
+    add_option(g, "--k-factor")
+    add_option(g, "--roll-off")
+    add_option(g, "--channels")
 
 def _number(text, option):
     from ..errors import UnitError
@@ -109,12 +108,13 @@ def register(sub) -> None:
     )
     d.add_argument("code", nargs="?", metavar="CODE", help="a designator such as 2K70J3E (or the symbols alone with the formula inputs)")
     d.add_argument("--emission", metavar="CLASS", help="classification symbols to compute the designator for, e.g. F3E")
-    d.add_argument("--carrier", metavar="F", help="carrier frequency: also show the domain boundaries")
+    add_option(d, "--carrier", detail="also show the domain boundaries")
     d.add_argument("--boundary", choices=["sm1539", "percent"], default="sm1539", help="boundary rule (default sm1539)")
     d.add_argument("--percent", metavar="P", default="250", help="for --boundary percent: percent of the bandwidth (default 250)")
-    d.add_argument("--authorized-bw", metavar="BW", help="authorised bandwidth, for --boundary percent of it")
+    add_option(d, "--authorized-bw", detail="for --boundary percent of it")
     add_emission_options(d, with_designator=False)
-    d.add_argument("--json", action="store_true", help="print JSON instead of text")
+    add_option(d, "--json", detail="the decoded designator, its necessary bandwidth and domains")
+    add_option(d, "--force", action="store_true")
     d.set_defaults(run=run)
 
 
@@ -142,6 +142,10 @@ def run(args) -> int:
     from ..core.units import format_frequency, parse_frequency
     from ..errors import StationError
 
+    if args.json and args.json != "-":
+        from ..io.output import check_writable
+
+        check_writable(args.json, args.force)
     if args.code and args.emission:
         raise StationError("give a designator or --emission, not both", where="--emission")
     text = args.code or args.emission
@@ -182,8 +186,11 @@ def run(args) -> int:
             "notes": list(dom.notes),
         }
     if args.json:
-        print(json.dumps(out, indent=2))
-        return 0
+        from ..io.output import write_text
+
+        write_text(args.json, json.dumps(out, indent=2) + "\n", force=args.force)
+        if args.json == "-":
+            return 0
     con = console()
     con.print(f"[bold]{out['designator']}[/bold]")
     for part in out["parts"]:
@@ -208,4 +215,6 @@ def run(args) -> int:
     for w in warnings:
         con.print(f"[yellow]warning:[/yellow] {w}")
     con.print("[italic]Screening aid: the regulator decides the necessary and authorised bandwidth of a station.[/italic]")
+    if args.json:
+        con.print(f"written: {args.json}")
     return 0

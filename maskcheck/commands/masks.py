@@ -14,6 +14,7 @@ import sys
 
 from ..errors import MaskcheckError
 from ._common import Parser, console
+from ._spelling import add_option
 
 __all__ = ["register", "run", "evaluated_rows", "mask_drawing"]
 
@@ -22,23 +23,24 @@ def register(sub) -> None:
     m = sub.add_parser("masks", help="list, show, plot or validate masks; print the mask-file JSON Schema")
     msub = m.add_subparsers(dest="masks_command", metavar="ACTION", parser_class=Parser)
     ml = msub.add_parser("list", help="the masks available")
-    ml.add_argument("--mask-dir", action="append", default=[], metavar="DIR")
+    add_option(ml, "--mask-dir", action="append", default=[])
     ml.add_argument("--authority", metavar="NAME", help="only masks of this authority (FCC, ITU, CEPT, ETSI, ...)")
     ml.add_argument("--service", metavar="NAME", help="only masks of this service (amateur, land-mobile, ...)")
     ml.add_argument("--frequency", metavar="F", help="only masks whose carrier range holds this frequency, e.g. 146MHz")
-    ml.add_argument("--json", action="store_true", help="the list as JSON on standard output")
+    add_option(ml, "--json", detail="the list")
+    add_option(ml, "--force", action="store_true")
     for name, text in (("show", "one mask in detail; with --power, its limits evaluated for that station"),
                        ("plot", "draw a mask's limits for a station (PDF or SVG)")):
         sp = msub.add_parser(name, help=text)
         sp.add_argument("mask", metavar="ID|FILE")
-        sp.add_argument("--mask-dir", action="append", default=[], metavar="DIR")
-        sp.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 5W or 37dBm")
-        sp.add_argument("--pep", metavar="P", help="peak envelope power (PEP-referenced rules)")
-        sp.add_argument("--carrier", metavar="F", help="carrier frequency (default: the middle of the mask's carrier range)")
-        sp.add_argument("--bandwidth", "--authorized-bw", dest="bandwidth", metavar="BW", help="authorised bandwidth, e.g. 12.5kHz (percentage steps need it)")
+        add_option(sp, "--mask-dir", action="append", default=[])
+        add_option(sp, "--power")
+        add_option(sp, "--pep")
+        add_option(sp, "--carrier", detail="default: the middle of the mask's carrier range")
+        add_option(sp, "--authorized-bw", dest="bandwidth", detail="percentage steps need it", alias="--bandwidth")
         if name == "plot":
-            sp.add_argument("--out", required=True, metavar="FILE.pdf|FILE.svg", help="where to draw (PDF or SVG, by the name's ending)")
-            sp.add_argument("--force", action="store_true", help="replace an existing file")
+            add_option(sp, "--out", required=True, metavar="FILE.pdf|FILE.svg", detail="a PDF or SVG file, by the name's ending")
+            add_option(sp, "--force", action="store_true")
     mv = msub.add_parser("validate", help="check mask files and report every problem")
     mv.add_argument("files", nargs="+", metavar="FILE")
     msub.add_parser("schema", help="the JSON Schema of mask files (for editors)")
@@ -51,6 +53,10 @@ def run(args) -> int:
     con = console()
     cmd = args.masks_command
     if cmd == "list":
+        if args.json and args.json != "-":
+            from ..io.output import check_writable
+
+            check_writable(args.json, args.force)
         return _list(args, con, list_masks)
     if cmd == "show":
         mask = load_mask(args.mask, extra_dirs=args.mask_dir)
@@ -106,10 +112,14 @@ def _list(args, con, list_masks) -> int:
         f = parse_frequency(args.frequency, what="--frequency", default_unit="Hz")
         masks = [m for m in masks if any(lo <= f <= hi for lo, hi in m.applies.carrier_bands)]
     if args.json:
+        from ..io.output import write_text
+
         rows = [{"id": m.id, "title": m.title, "authority": m.provenance.authority, "citation": m.provenance.citation,
                  "service": m.service, "verified": m.provenance.verified, "edition": m.provenance.edition,
                  "variant": m.applies.variant, "path": m.path, "file": str(m.source_path)} for m in masks]
-        print(json.dumps(rows, indent=2, ensure_ascii=False))
+        write_text(args.json, json.dumps(rows, indent=2, ensure_ascii=False) + "\n", force=args.force)
+        if args.json != "-":
+            con.print(f"{len(masks)} masks written: {args.json}")
         return 0
     for m in masks:
         flag = "verified" if m.provenance.verified else "not verified: rule data not checked against the official text"
@@ -134,8 +144,37 @@ def _station(args, mask) -> dict:
         carrier = math.sqrt(lo * hi)
         note = ("no --carrier given: the geometric middle of the mask's carrier range is used" if len(bands) == 1 else
                 "no --carrier given: the geometric middle of the mask's first carrier band is used")
-    auth = parse_frequency(args.bandwidth, what="--bandwidth", default_unit="Hz") if args.bandwidth else None
-    return {"power_w": power_w, "pep_w": pep_w, "carrier_hz": carrier, "authorized_bw_hz": auth, "note": note}
+    auth = parse_frequency(args.bandwidth, what="--authorized-bw", default_unit="Hz") if args.bandwidth else None
+    st = {"power_w": power_w, "pep_w": pep_w, "carrier_hz": carrier, "authorized_bw_hz": auth, "note": note}
+    _refuse_what_changes_nothing(mask, st)
+    return st
+
+
+def _refuse_what_changes_nothing(mask, st) -> None:
+    """Refused, never ignored: ``--pep`` or ``--authorized-bw`` when no limit of this mask depends on it.
+
+    The limits are evaluated with and without the value: when they are the
+    same, the option cannot be honoured for this mask (a mean-power rule has
+    no use for the PEP), and saying so beats drawing the same limits.
+    """
+    def limits(station):
+        return [(r["values"], r["where"]) for r in evaluated_rows(mask, station)]
+
+    base = limits(st)
+    if not any(values for values, _ in base):
+        return  # nothing could be evaluated (another value is missing): the comparison would tell nothing
+    ref = {"mean": "the mean power", "carrier": "the carrier power", "none": "no power"}.get(mask.reference_power.kind,
+                                                                                            mask.reference_power.kind)
+    for key, option, what in (("pep_w", "--pep", f"the peak envelope power (its limits refer to {ref})"),
+                              ("authorized_bw_hz", "--authorized-bw", "the authorised bandwidth")):
+        if st[key] is None:
+            continue
+        try:
+            same = limits({**st, key: None}) == base
+        except MaskcheckError:  # the mask cannot be evaluated without it: it depends on it
+            same = False
+        if same:
+            raise MaskcheckError(f"no limit of mask {mask.id} depends on {what}; leave {option} out", where=option)
 
 
 def _evaluate(mask, st):

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from ._spelling import add_identity_options, add_option
+
 __all__ = ["register", "run", "render_plan"]
 
 
@@ -15,25 +17,25 @@ def register(sub) -> None:
             "and warnings when the fundamental would exceed the instrument's safe input."
         ),
     )
-    p.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
-    p.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; for SSB not the suppressed carrier), e.g. 7.1MHz")
-    p.add_argument("--power", required=True, metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm")
-    p.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules and the safe-input check")
-    p.add_argument("--designator", metavar="D", help="emission designator, e.g. 2K70J3E: its necessary band and domains set the fundamental window")
-    p.add_argument("--necessary-bw", metavar="BW", help="necessary bandwidth, when the designator has no bandwidth code")
-    p.add_argument("--setup", metavar="TOML", help="measurement setup: the chain (and antenna factor), the instrument's limits")
-    p.add_argument("--attenuator", metavar="DB", help="a fixed loss ahead of the analyser, on top of the setup's chain, e.g. 40dB")
+    add_option(p, "--mask", required=True)
+    add_option(p, "--carrier", required=True, detail="the assigned frequency, the centre of the emission (for SSB not the suppressed carrier)")
+    add_option(p, "--power", required=True)
+    add_option(p, "--pep", detail="also for the safe-input check")
+    add_option(p, "--designator", detail="its necessary band and domains set the fundamental window")
+    add_option(p, "--necessary-bw")
+    add_option(p, "--setup", detail="the plan also reads the instrument's limits from it")
+    add_option(p, "--attenuator")
     p.add_argument("--floor-margin", metavar="DB", default="6dB", help="the noise floor must lie this far below the limit at the input (default 6dB)")
     p.add_argument("--lowest", metavar="F", default="9kHz", help="lowest radio frequency the equipment generates (default 9kHz; 47 CFR 2.1057 never starts below it)")
-    p.add_argument("--station", metavar="TEXT", default="", help="a label for the station or the equipment under test")
-    p.add_argument("--outside-bands", action="store_true", help="plan for a carrier outside the mask's carrier bands anyway (refused otherwise); the plan then says so")
-    p.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable)")
-    p.add_argument("--remeasure", metavar="PATH", help="a re-measure list written by 'maskcheck check --remeasure': its readings "
-                                                       "become the second pass of the plan and its checklist")
-    p.add_argument("--json", metavar="PATH", help="write the plan as JSON ('-' for standard output)")
-    p.add_argument("--pdf", metavar="PATH", help="write the one-page bench checklist (PDF)")
-    p.add_argument("--force", action="store_true", help="overwrite existing output files")
-    p.add_argument("--quiet", action="store_true", help="print nothing but errors")
+    add_identity_options(p)
+    add_option(p, "--outside-bands", action="store_true")
+    add_option(p, "--mask-dir", action="append", default=[])
+    add_option(p, "--remeasure", detail="one written by 'maskcheck check --remeasure': its readings become the "
+                                         "second pass of the plan and its checklist")
+    add_option(p, "--json", detail="the plan")
+    add_option(p, "--report", detail="the one-page bench checklist", alias="--pdf")
+    add_option(p, "--force", action="store_true")
+    add_option(p, "--quiet", action="store_true")
     p.set_defaults(run=run)
 
 
@@ -46,8 +48,8 @@ def run(args) -> int:
 
     if args.json and args.json != "-":
         check_writable(args.json, args.force)
-    if args.pdf:
-        check_writable(args.pdf, args.force)
+    if args.report:
+        check_writable(args.report, args.force)
     carrier = parse_frequency(args.carrier, what="--carrier")
     power = parse_power(args.power, what="--power")
     pep = parse_power(args.pep, what="--pep") if args.pep else None
@@ -56,7 +58,8 @@ def run(args) -> int:
     lowest = parse_frequency(args.lowest, what="--lowest")
     nbw = parse_frequency(args.necessary_bw, what="--necessary-bw", default_unit="Hz") if args.necessary_bw else None
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep,
-                      designator=args.designator.strip().upper() if args.designator else None, name=args.station)
+                      designator=args.designator.strip().upper() if args.designator else None, name=args.station.strip(),
+                      equipment=args.equipment.strip())
     mask = load_mask(args.mask, extra_dirs=args.mask_dir)
     from ..masks.station_values import require_in_bands
 
@@ -88,12 +91,12 @@ def run(args) -> int:
         from ..io.output import write_text
 
         write_text(args.json, json.dumps(plan.to_dict(), indent=2, ensure_ascii=False) + "\n", force=args.force)
-    if args.pdf:
+    if args.report:
         from ..report.checklist import write_checklist
 
-        write_checklist(plan, args.pdf, force=args.force)
+        write_checklist(plan, args.report, force=args.force)
     if not args.quiet and not to_stdout:
-        written = [x for x in (args.json, args.pdf) if x]
+        written = [x for x in (args.json, args.report) if x]
         if written:
             from ._common import console
 
@@ -139,7 +142,7 @@ def render_plan(plan, con) -> None:
     con.print(f"[bold]Measurement plan[/bold]: {escape(m['id'])} ({escape(m['citation'])})")
     if not m["verified"]:
         con.print(f"[bold red]{escape(UNVERIFIED_NOTE)}[/bold red]")
-    label = f" - {escape(st.name)}" if st.name else ""
+    label = f" - {escape(st.label())}" if st.label() else ""
     pep = f", PEP {st.pep_w:g} W" if st.pep_w else ""
     con.print(f"carrier {format_frequency(st.carrier_hz)}, mean power {st.power_w:g} W{pep}"
               f"{', ' + escape(st.designator) if st.designator else ''}{label}")

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from ._common import console
+from ._spelling import add_identity_options, add_option
 
 __all__ = ["register", "run"]
 
@@ -13,18 +14,19 @@ def register(sub) -> None:
                                    "fundamental as a SigMF recording and the wideband spectrum as trace files, "
                                    "and with --mask judge it like 'maskcheck check'.")
     s.add_argument("scenario", metavar="SCENARIO.toml", help="the scenario file")
-    s.add_argument("--out", required=True, metavar="DIR", help="output folder (created if missing)")
-    s.add_argument("--mask", metavar="ID|FILE", help="judge the wideband spectrum against this mask (default: the scenario's [check] mask, if any)")
-    s.add_argument("--designator", metavar="CODE", help="emission designator for the check (default: the scenario's)")
-    s.add_argument("--guard", metavar="DB", help="guard band of the check (default: the scenario's, else 0dB)")
-    s.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files")
-    s.add_argument("--json", metavar="PATH", help="result JSON (default with a mask: DIR/result.json; '-' for standard output)")
-    s.add_argument("--report", metavar="PDF", help="PDF report (default with a mask: DIR/report.pdf)")
+    add_option(s, "--out", required=True, metavar="DIR", detail="a folder, created if missing")
+    add_option(s, "--mask", detail="judge the wideband spectrum against it (default: the scenario's [check] mask, if any)")
+    add_option(s, "--designator", detail="for the check (default: the scenario's)")
+    add_option(s, "--guard", detail="of the check (default: the scenario's, else 0dB)")
+    add_identity_options(s)
+    add_option(s, "--mask-dir", action="append", default=[])
+    add_option(s, "--json", detail="default with a mask: DIR/result.json")
+    add_option(s, "--report", detail="default with a mask: DIR/report.pdf")
     from ._outputs import add_output_options
 
     add_output_options(s)  # --csv, --figures (issue 7)
-    s.add_argument("--force", action="store_true", help="overwrite existing output files")
-    s.add_argument("--quiet", action="store_true", help="print no summary")
+    add_option(s, "--force", action="store_true")
+    add_option(s, "--quiet", action="store_true")
     s.set_defaults(run=run)
 
 
@@ -91,7 +93,8 @@ def run(args) -> int:
     designator = args.designator or sc.check.designator
     station = Station(carrier_hz=sim.carrier_hz, power_w=sim.mean_power_w, pep_w=sim.pep_w,
                       designator=designator.strip().upper() if designator else None,
-                      name=f"simulated: {sc.name}", notes=("simulated scenario, not a measurement",))
+                      name=args.station.strip() or f"simulated: {sc.name}", equipment=args.equipment.strip(),
+                      notes=("simulated scenario, not a measurement",))
     result = check(sim.wideband.spectrum, mask, station, guard_db=guard, inputs=[InputFile(str(args.scenario), sha)])
     write_outputs(result, args)
     return result.exit_code

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from ._recording import add_recording_options
+from ._spelling import add_option
 
 __all__ = ["register", "run", "estimation_notes"]
 
@@ -15,11 +16,11 @@ def register(sub) -> None:
         "in the trace text format, with every estimation parameter in its header.",
     )
     s.add_argument("recording", metavar="RECORDING", help="SigMF, WAV, or raw I/Q file (raw needs --format, --rate, --centre)")
-    s.add_argument("--rbw", metavar="BW", help="resolution (noise) bandwidth, e.g. 1kHz: sets the segment length for the window")
+    add_option(s, "--rbw")
     add_recording_options(s, time_resolved=False)
-    s.add_argument("--out", metavar="PATH", help="write the spectrum as a trace text file")
-    s.add_argument("--force", action="store_true", help="overwrite an existing output file")
-    s.add_argument("--quiet", action="store_true", help="print no summary")
+    add_option(s, "--out", detail="a trace text file holding the spectrum")
+    add_option(s, "--force", action="store_true")
+    add_option(s, "--quiet", action="store_true")
     s.set_defaults(run=run)
 
 

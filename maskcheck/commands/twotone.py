@@ -21,6 +21,7 @@ from pathlib import Path
 from ._setup_options import setup_from_args
 from ._common import add_trace_options, console
 from ._recording import add_recording_options
+from ._spelling import add_identity_options, add_option
 
 __all__ = ["register", "run", "LOCATE_AVERAGES", "LOCATE_MAX_SEGMENT", "LOCATE_FINEST_RBW_HZ"]
 
@@ -42,15 +43,16 @@ def register(sub) -> None:
                                    "or --segment is given.")
     t.add_argument("inputs", nargs="+", metavar="REC|TRACE", help="an IQ recording or trace file(s) around the fundamental")
     t.add_argument("--band", metavar="BW", help="band integrated around each line (default 8 RBW)")
-    t.add_argument("--carrier", metavar="F", help="the suppressed carrier, e.g. 14.2MHz: measure its leak and the opposite sideband")
-    t.add_argument("--setup", metavar="TOML", help="measurement setup: its chain (attenuators, cables) corrects every level, as for 'check'")
-    t.add_argument("--attenuator", metavar="DB", help="a fixed pad ahead of the analyser, e.g. 40dB, added to every level (after the setup's chain)")
+    add_option(t, "--carrier", detail="the suppressed carrier: its leak and the opposite sideband are measured")
+    add_identity_options(t)
+    add_option(t, "--setup")
+    add_option(t, "--attenuator")
     add_trace_options(t)
     add_recording_options(t, time_resolved=False)
-    t.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
-    t.add_argument("--report", metavar="PDF", help="write a PDF with the plot around the tones, the products and the cautions")
-    t.add_argument("--force", action="store_true", help="overwrite an existing JSON or PDF file")
-    t.add_argument("--quiet", action="store_true", help="print no summary")
+    add_option(t, "--json")
+    add_option(t, "--report", detail="the plot around the tones, the products and the cautions")
+    add_option(t, "--force", action="store_true")
+    add_option(t, "--quiet", action="store_true")
     t.set_defaults(run=run)
 
 
@@ -173,6 +175,8 @@ def run(args) -> int:
         resolution["trace"] = _trace(args)
     data = {"inputs": [{"path": i.path, "sha256": i.sha256} for i in inputs], "level_unit": unit,
             "resolution": resolution, **res.to_dict(),
+            "detector": spectrum.detector, "notes": list(spectrum.notes),
+            "estimation": None if spectrum.estimation is None else spectrum.estimation.to_dict(),
             "calibration": None if spectrum.calibration is None else spectrum.calibration.to_dict(),
             "setup": None if spectrum.setup is None else spectrum.setup.to_dict(),
             "corrections": None if spectrum.corrections is None else spectrum.corrections.to_dict()}
@@ -181,6 +185,10 @@ def run(args) -> int:
         warnings.append("the suppressed carrier was not given (--carrier): its leak and the opposite sideband are not "
                         "measured; such lines are listed among the other lines")
     data["warnings"] = warnings
+    from ..core.station import Station
+
+    who = Station(carrier_hz=carrier or res.f1_hz, name=args.station.strip(), equipment=args.equipment.strip())
+    data["station"] = {"name": who.name, "equipment": who.equipment}
     to_stdout = args.json == "-"
     if not args.quiet:
         from rich.markup import escape
@@ -189,6 +197,8 @@ def run(args) -> int:
         con = console(stderr=to_stdout)
         d = res.to_dict()
         con.print(f"[bold]two-tone test[/bold] of {escape(label)}")
+        if who.label():
+            con.print(f"station: {escape(who.label())}")
         con.print(f"tones {format_frequency(res.f1_hz)} and {format_frequency(res.f2_hz)} "
                   f"(spacing {res.spacing_hz:.6g} Hz, imbalance {res.tone_imbalance_db:+.2f} dB)")
         con.print(f"RBW {res.rbw_hz:.4g} Hz ({resolution['method']}; spacing = {res.spacing_hz / res.rbw_hz:.3g} RBW)")
@@ -226,7 +236,7 @@ def run(args) -> int:
         from ..report.twotone_pdf import build_twotone_report
 
         how = resolution["method"] + (f" ({resolution['note']})" if resolution.get("note") else "")
-        pdf = build_twotone_report(spectrum, res, inputs, level_unit=unit, resolution=how)  # built before anything is written
+        pdf = build_twotone_report(spectrum, res, inputs, level_unit=unit, resolution=how, station=who.label())  # built before anything is written
     if args.json:
         write_text(args.json, json.dumps(data, indent=2, allow_nan=False) + "\n", force=args.force)
     if args.report:

@@ -68,6 +68,8 @@ from .windows import window as get_window
 
 __all__ = [
     "WINDOWS",
+    "WINDOW_ALIASES",
+    "window_name",
     "WelchPlan",
     "WelchEstimate",
     "WelchAccumulator",
@@ -86,13 +88,45 @@ __all__ = [
 #: Longest Welch segment, samples (2**24: a window and its FFT buffers of a few hundred MiB).
 MAX_SEGMENT_SAMPLES = 1 << 24
 
-#: Windows offered, with their use (methods sheet 1.1; common practice).
+#: Windows offered, by the name people read (results record it), with their use (methods sheet 1.1; common practice).
 WINDOWS = {
     "hann": "cheap general default",
-    "blackmanharris": "4-term, -92 dB sidelobes: spurs next to a strong carrier",
-    "flattop": "best amplitude of CW lines (0.01 dB scalloping), widest noise bandwidth",
+    "blackman-harris": "4-term, -92 dB sidelobes: spurs next to a strong carrier",
+    "flat-top": "best amplitude of CW lines (0.01 dB scalloping), widest noise bandwidth",
     "kaiser": "Kaiser window of a chosen beta (kaiser:14 is close to Blackman-Harris)",
 }
+
+#: the short names of scipy.signal.get_window, accepted as aliases of the spelled names
+WINDOW_ALIASES = {"blackmanharris": "blackman-harris", "flattop": "flat-top", "blackmanharris4": "blackman-harris",
+                  "bh": "blackman-harris", "hanning": "hann"}
+
+#: spelled name -> the :func:`scipy.signal.get_window` name (and :mod:`maskcheck.core.windows`')
+_LIBRARY_NAME = {"hann": "hann", "blackman-harris": "blackmanharris", "flat-top": "flattop", "kaiser": "kaiser"}
+
+
+def window_name(name: str) -> str:
+    """The spelled name of a window (one of :data:`WINDOWS`), from it or from a library alias.
+
+    Case, ``_`` for ``-`` and a missing hyphen are forgiven: ``"blackmanharris"``,
+    ``"Blackman_Harris"`` and ``"blackman-harris"`` all give ``"blackman-harris"``.
+
+    Examples
+    --------
+    >>> window_name("flattop"), window_name("Blackman-Harris"), window_name("hann")
+    ('flat-top', 'blackman-harris', 'hann')
+    """
+    key = str(name).strip().lower().replace("_", "-")
+    if key in WINDOWS:
+        return key
+    bare = key.replace("-", "")
+    if bare in WINDOW_ALIASES:
+        return WINDOW_ALIASES[bare]
+    for spelled in WINDOWS:
+        if spelled.replace("-", "") == bare:
+            return spelled
+    raise SpectrumError(f"window={name!r} is not one of {', '.join(WINDOWS)} (or the library names "
+                        f"{', '.join(sorted(set(WINDOW_ALIASES) - {'bh', 'blackmanharris4', 'hanning'}))})", param="window")
+
 
 #: Traces an estimate can give as a Spectrum.
 TRACES = ("average", "max-hold", "frame")
@@ -200,15 +234,15 @@ def equivalent_averages(averages: int, window, segment_samples: int, hop_samples
 
 
 def _window_spec(window: str, kaiser_beta: float | None):
-    if window not in WINDOWS:
-        raise SpectrumError(f"window={window!r} is not one of {', '.join(WINDOWS)}", param="window")
+    """The :func:`scipy.signal.get_window` specification of a window named as people or the library name it."""
+    window = window_name(window)
     if window == "kaiser":
         if kaiser_beta is None or not (math.isfinite(kaiser_beta) and kaiser_beta >= 0):
             raise SpectrumError(f"kaiser_beta={kaiser_beta} must be a finite number >= 0 for the Kaiser window (e.g. 14)", param="kaiser_beta")
         return ("kaiser", float(kaiser_beta))
     if kaiser_beta is not None:
         raise SpectrumError(f"kaiser_beta={kaiser_beta} is given for the {window} window; only the Kaiser window takes one", param="kaiser_beta")
-    return window
+    return _LIBRARY_NAME[window]
 
 
 def window_enbw_bins(window, n: int) -> float:
@@ -246,7 +280,7 @@ class WelchPlan:
     sample_rate_hz : float
         Complex sample rate, Hz.
     window : str
-        One of :data:`WINDOWS`.
+        One of :data:`WINDOWS`, as spelled there (:func:`plan_welch` turns an alias into it).
     kaiser_beta : float or None
         The beta of a Kaiser window.
     segment_samples : int
@@ -321,7 +355,7 @@ class WelchPlan:
 def plan_welch(
     sample_rate_hz: float,
     *,
-    window: str = "blackmanharris",
+    window: str = "blackman-harris",
     kaiser_beta: float | None = None,
     rbw_hz: float | None = None,
     segment_samples: int | None = None,
@@ -336,7 +370,8 @@ def plan_welch(
         Complex sample rate, Hz.
     window : str
         One of :data:`WINDOWS` (default Blackman-Harris: low leakage next to
-        a strong carrier).
+        a strong carrier), or its library alias (``"blackmanharris"``,
+        ``"flattop"``); the plan holds the spelled name.
     kaiser_beta : float, optional
         Beta of the Kaiser window.
     rbw_hz : float, optional
@@ -363,6 +398,7 @@ def plan_welch(
     if not (isinstance(sample_rate_hz, (int, float)) and math.isfinite(sample_rate_hz) and sample_rate_hz > 0):
         raise SpectrumError(f"sample_rate_hz={sample_rate_hz} must be a finite number > 0 (Hz)", param="sample_rate_hz")
     spec = _window_spec(window, kaiser_beta)
+    window = window_name(window)
     if not (math.isfinite(overlap) and 0 <= overlap < 1):
         raise SpectrumError(f"overlap={overlap:g} must be at least 0 and below 1 (a fraction of a segment, e.g. 0.5)", param="overlap")
     if rbw_hz is not None and segment_samples is not None:
@@ -435,6 +471,10 @@ class WelchEstimate:
     frame_start_s : ndarray or None
         Start time of each frame from the start of the recording, s.
     samples_used, samples_total : int
+    workers : int or None
+        The estimation threads asked for (None: all CPUs).  The estimate is
+        the same to the bit for any number; it is recorded so that what was
+        asked for is in the result.
     """
 
     plan: WelchPlan
@@ -448,6 +488,7 @@ class WelchEstimate:
     samples_used: int = 0
     samples_total: int = 0
     notes: tuple[str, ...] = field(default_factory=tuple)
+    workers: int | None = None
 
     @property
     def uncertainty_db(self) -> float:
@@ -531,6 +572,7 @@ class WelchEstimate:
             trace_uncertainty_db=welch_uncertainty_db(1.0 if keq is None else keq), trace_equivalent_averages=keq,
             frame=None if trace != "frame" else int(frame),
             frame_start_s=None if trace != "frame" else float(self.frame_start_s[frame]),
+            workers=self.workers,
         )
 
     def to_spectrum(
@@ -640,6 +682,7 @@ class WelchAccumulator:
         self._seen = 0
         self._used_to = 0  # samples of the stream up to the end of the last full segment
         self._run_start = 0
+        self._workers = None if workers is None else int(workers)
         threads = (os.cpu_count() or 1) if workers is None else int(workers)
         if threads < 1:
             raise SpectrumError(f"workers={threads} must be at least 1 (estimation threads)", param="workers")
@@ -815,6 +858,7 @@ class WelchAccumulator:
             frame_start_s=starts,
             samples_used=self._used_to,
             samples_total=self._seen,
+            workers=self._workers,
         )
 
 

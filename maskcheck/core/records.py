@@ -108,7 +108,8 @@ class EstimationRecord:
     method : str
         ``"welch"``.
     window : str
-        The window, as :func:`scipy.signal.get_window` names it (``"kaiser(8.6)"``).
+        The window by its spelled name (``"blackman-harris"``, ``"flat-top"``,
+        ``"hann"``, ``"kaiser (beta 8.6)"``).
     segment_samples, overlap_samples : int
         Samples per segment, and shared by consecutive segments.
     overlap_fraction : float
@@ -145,6 +146,10 @@ class EstimationRecord:
         The frame, for ``trace="frame"`` (omitted when None).
     frame_start_s : float or None
         Start of that frame from the start of the recording, s (omitted when None).
+    workers : int or None
+        The estimation threads asked for (omitted when None: all CPUs).  The
+        estimate is the same to the bit for any number of threads; the number
+        is recorded so that an option given is never without a trace in the result.
 
     References
     ----------
@@ -177,8 +182,9 @@ class EstimationRecord:
     frame_start_s: float | None = None
     #: the independent segments the trace's overlapping ones are worth (Welch 1967); None for a max-hold trace
     trace_equivalent_averages: float | None = None
+    workers: int | None = None
 
-    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s", "trace_equivalent_averages")
+    _OPTIONAL = ("requested_rbw_hz", "frames", "frame", "frame_start_s", "trace_equivalent_averages", "workers")
 
     def to_dict(self) -> dict:
         return _plain(self, self._OPTIONAL)

@@ -28,7 +28,10 @@ class Station:
     designator : str, optional
         Emission designator, e.g. ``"2K70J3E"`` (recorded; used by later releases).
     name : str, optional
-        A label for reports.
+        The station's name for reports (a call sign, a site, a client's
+        label); shown on every page, in the JSON and on the terminal.
+    equipment : str, optional
+        The equipment under test (make, model, serial number), shown likewise.
     notes : tuple of str
         Sentences about the station for the result (how its centre was placed).
     sideband : {"upper", "lower"}, optional
@@ -45,6 +48,7 @@ class Station:
     pep_w: float | None = None
     designator: str | None = None
     name: str = ""
+    equipment: str = ""
     notes: tuple[str, ...] = field(default_factory=tuple)
     sideband: str | None = None
     low_mod_hz: float | None = None
@@ -69,5 +73,13 @@ class Station:
             "pep_w": self.pep_w,
             "designator": self.designator,
             "name": self.name,
+            **({"equipment": self.equipment} if self.equipment else {}),
             "notes": list(self.notes),
         }
+
+    def label(self) -> str:
+        """``"NAME | equipment EQUIPMENT"`` for page headers ("" when neither is given)."""
+        parts = [self.name] if self.name else []
+        if self.equipment:
+            parts.append(f"equipment under test: {self.equipment}")
+        return " | ".join(parts)

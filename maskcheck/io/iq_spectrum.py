@@ -50,7 +50,7 @@ from ..core.units import w_to_dbm_fast
 from ..errors import RecordingError, SpectrumError
 from .iq import BLOCK_SAMPLES, Recording
 
-__all__ = ["Calibration", "RecordingSpectrum", "estimate_recording", "reads_file_in_order", "TONE_HALF_WIDTH_ENBW", "TONE_MIN_SNR_DB"]
+__all__ = ["Calibration", "RecordingSpectrum", "estimate_recording", "read_recording", "reads_file_in_order", "TONE_HALF_WIDTH_ENBW", "TONE_MIN_SNR_DB"]
 
 #: what 0 dBFS is stored as in an uncalibrated spectrum, W (so that level_dbm reads dBFS)
 UNCALIBRATED_FULL_SCALE_W = 1e-3
@@ -162,7 +162,7 @@ def _group_captures(rec: Recording):
 def estimate_recording(
     rec: Recording,
     *,
-    window: str = "blackmanharris",
+    window: str = "blackman-harris",
     kaiser_beta: float | None = None,
     rbw_hz: float | None = None,
     segment_samples: int | None = None,
@@ -398,3 +398,63 @@ def _join_spans(spectra: list[Spectrum]) -> Spectrum:
     meta["artefacts"] = join_artefacts([s.artefacts for s in spectra])
     return Spectrum(np.concatenate(f), np.concatenate(p), np.concatenate(r), np.concatenate(e),
                     detector=spectra[0].detector, segments=tuple(segs), span_edges_hz=tuple(edges), **meta)
+
+
+#: the keywords of :func:`estimate_recording` that :func:`read_recording` passes on
+_ESTIMATE_OPTIONS = frozenset({"window", "kaiser_beta", "rbw_hz", "segment_samples", "overlap", "trace", "workers"})
+
+
+def read_recording(path, *, datatype: str | None = None, sample_rate_hz: float | None = None,
+                   centre_hz: float | None = None, i_channel: str = "left", full_scale_w: float | None = None,
+                   ref_tone_hz: float | None = None, ref_tone_w: float | None = None, correction=None,
+                   **estimate) -> Spectrum:
+    """Read an IQ recording and estimate its calibrated spectrum: one call, as ``maskcheck check REC`` does.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        A SigMF recording (``.sigmf-meta``, ``.sigmf-data`` or a ``.sigmf``
+        archive), a two-channel WAV file, or raw I/Q (then ``datatype``,
+        ``sample_rate_hz`` and ``centre_hz`` are needed).
+    datatype, sample_rate_hz, centre_hz, i_channel
+        What a raw or WAV file does not say (:func:`maskcheck.io.iq.open_recording`).
+    full_scale_w : float, optional
+        Calibration: the power a full-scale tone reads, W (``1e-3`` for 0 dBm).
+    ref_tone_hz, ref_tone_w : float, optional
+        Calibration instead: a tone in the recording at this frequency (Hz)
+        with this known power (W).
+    correction : str, os.PathLike or CorrectionTable, optional
+        A correction table (dB added per frequency) on top of the calibration.
+    **estimate
+        How to estimate (:func:`estimate_recording`): ``window`` (by its
+        spelled name, ``"blackman-harris"`` by default, or the library
+        alias), ``kaiser_beta``, ``rbw_hz``, ``segment_samples``,
+        ``overlap``, ``trace``, ``workers``.
+
+    Returns
+    -------
+    Spectrum
+        Calibrated in dBm when ``full_scale_w`` or a reference tone is given,
+        else relative to full scale (``level_scale == "dBFS"``).  Its
+        ``source`` is ``path`` and ``sha256`` that file's SHA-256 (for a
+        SigMF pair named by its metadata, the metadata file's: give
+        :func:`maskcheck.check` ``inputs=`` to list the data file too).
+
+    Raises
+    ------
+    RecordingError, CorrectionError
+        With the file and the parameter named.
+    """
+    from .correction import read_correction
+    from .hashing import sha256_file
+    from .iq import open_recording
+
+    rec = open_recording(path, datatype=datatype, sample_rate_hz=sample_rate_hz, centre_hz=centre_hz,
+                         i_channel=i_channel)
+    if correction is not None and not hasattr(correction, "gain_db"):
+        correction = read_correction(correction)
+    bad = sorted(set(estimate) - _ESTIMATE_OPTIONS)
+    if bad:
+        raise TypeError(f"read_recording() got unexpected keyword argument(s) {', '.join(map(repr, bad))}")
+    rs = estimate_recording(rec, calibration=Calibration(full_scale_w, ref_tone_hz, ref_tone_w, correction), **estimate)
+    return replace(rs.spectrum, source=str(path), sha256=sha256_file(path))

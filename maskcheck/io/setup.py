@@ -108,7 +108,7 @@ from .setup_budget import BudgetContribution, UncertaintyTable
 from ..errors import MaskcheckError, SetupError, UnitError
 
 __all__ = ["SETUP_SCHEMA_VERSION", "CHAIN_KINDS", "SetupFile", "MeasurementSetup", "read_setup", "parse_setup",
-           "ATTENUATOR_PART_NAME", "with_attenuator"]
+           "ATTENUATOR_PART_NAME", "with_attenuator", "apply_setup"]
 
 #: the version of the setup format this release reads
 SETUP_SCHEMA_VERSION = 1
@@ -601,3 +601,55 @@ def with_attenuator(setup: MeasurementSetup | None, attenuator_db: float) -> Mea
         return MeasurementSetup(SetupFile(schema_version=1, name="a fixed attenuator (no setup file)", chain=[part]))
     file = setup.file.model_copy(update={"chain": [*setup.file.chain, part]})
     return MeasurementSetup(file, setup.path, setup.sha256)
+
+
+def apply_setup(spectrum: Spectrum, setup=None, *, attenuator_db: float | None = None) -> Spectrum:
+    """The spectrum corrected by a measurement setup and/or a fixed pad: one call, as ``check --setup --attenuator``.
+
+    Without it a script judges the levels at the analyser input; with it the
+    levels are those at the transmitter output (or, radiated, the far-field
+    EIRP equivalent), and the spectrum carries the ``setup`` and
+    ``corrections`` records that :func:`maskcheck.check` copies into the
+    result (the setup file is listed among its inputs).
+
+    Parameters
+    ----------
+    spectrum : Spectrum
+        Readings at the analyser input, in dBm (a calibrated spectrum).
+    setup : MeasurementSetup, str or os.PathLike, optional
+        A setup read with :func:`read_setup`, or the path of a setup file.
+    attenuator_db : float, optional
+        A fixed pad ahead of the analyser, dB >= 0, after the setup's chain
+        (:func:`with_attenuator`; ``check --attenuator``).
+
+    Returns
+    -------
+    Spectrum
+
+    Raises
+    ------
+    SetupError
+        For a bad setup file, a negative pad (``param="attenuator_db"``), a
+        spectrum relative to full scale (``param="spectrum"``: a loss added
+        to dBFS gives no power), or neither a setup nor a pad
+        (``param="setup"``).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from maskcheck.core.spectrum import Spectrum
+    >>> s = Spectrum(np.array([7.0e6, 7.1e6]), np.array([1e-6, 1e-3]), 1e3)
+    >>> float(apply_setup(s, attenuator_db=40.0).level_dbm[1])
+    40.0
+    """
+    if setup is None and attenuator_db is None:
+        raise SetupError("give a setup (a MeasurementSetup or the path of a setup file), attenuator_db, or both",
+                         param="setup")
+    if spectrum.level_scale == "dBFS":
+        raise SetupError("spectrum is relative to full scale (dBFS): calibrate it first (read_recording with "
+                         "full_scale_w or ref_tone_hz), then correct it for the setup", param="spectrum")
+    if setup is not None and not isinstance(setup, MeasurementSetup):
+        setup = read_setup(setup)
+    if attenuator_db is not None:
+        setup = with_attenuator(setup, attenuator_db)
+    return setup.apply(spectrum)

@@ -98,7 +98,7 @@ class _Checklist:
         pl = self.plan
         m = pl.mask
         st = pl.station
-        label = f" - {st.name}" if st.name else ""
+        label = f" - {st.name}" if st.name else ""  # the equipment under test is in the summary and the footer
         rows = [
             [self.p(f"Bench checklist{label}", "title")],
             [self.p(f"Measurement plan for {m['id']} ({m['citation']}). Carrier {format_frequency(st.carrier_hz)}, "
@@ -122,7 +122,8 @@ class _Checklist:
         st, m, f = pl.station, pl.mask, pl.fundamental
         lo, hi = pl.fundamental_window_hz
         left = [
-            ("Transmitter", st.name or "not named"),
+            ("Station", st.name or "not named"),
+            *([("Equipment under test", st.equipment)] if st.equipment else []),
             ("Carrier", format_frequency(st.carrier_hz)),
             ("Mean power", format_power(st.power_w)),
         ]
@@ -315,7 +316,7 @@ class _Checklist:
         canvas.drawString(_MARGIN, 8 * mm, pdf_text_plain(
             f"{'maskcheck' if pl.tool is None else pl.tool.name} "
             f"{_version.__version__ if pl.tool is None else pl.tool.version} | plan made {pl.created_utc} UTC | "
-            "pre-compliance aid, not a certification"))
+            "pre-compliance aid, not a certification" + (f" | {pl.station.label()}" if pl.station.label() else "")))
         canvas.restoreState()
 
     def build(self) -> bytes:

@@ -128,7 +128,7 @@ def _page_furniture(result: CheckResult):
         canvas.line(MARGIN, h - 12 * mm, w - MARGIN, h - 12 * mm)
         canvas.setFont("Helvetica", 7)
         canvas.setFillColor(INK)
-        station = result.station.name
+        station = result.station.label()  # the station and the equipment under test, on every page
         outside = result.mask.outside_bands
         left = f"maskcheck emission screening | {result.mask.citation} | {result.verdict.upper()}"
         if outside:

@@ -118,7 +118,9 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
 
     st = r.station
     station = [("Station", st.name or "not named")]
-    station += [(_cap(k), v) for k, v in station_rows(r) if k not in ("name",)]
+    if st.equipment:
+        station.append(("Equipment under test", st.equipment))
+    station += [(_cap(k), v) for k, v in station_rows(r) if k not in ("station", "equipment under test")]
     station.append(("Reference power", reference_text(r)))
     m = r.mask
     rule = [

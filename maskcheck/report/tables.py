@@ -365,6 +365,8 @@ def artefact_notes(result: CheckResult) -> list[str]:
 
 
 _STATION_ORDER = (
+    "name",
+    "equipment",
     "carrier_hz",
     "assigned_hz",
     "power_w",
@@ -421,16 +423,20 @@ def _value(key: str, value) -> str:
     return str(value)
 
 
-def _dict_rows(data: dict, order=()) -> list[tuple[str, str]]:
+def _shown_keys(data: dict, order=()) -> list[str]:
     keys = [k for k in order if k in data] + sorted(k for k in data if k not in order)
     # empty text and empty lists say nothing; None is shown as "not stated"
-    keys = [k for k in keys if not (isinstance(data[k], (str, list, tuple, dict)) and len(data[k]) == 0)]
-    return [(_label(k), _value(k, data[k])) for k in keys]
+    return [k for k in keys if not (isinstance(data[k], (str, list, tuple, dict)) and len(data[k]) == 0)]
+
+
+def _dict_rows(data: dict, order=(), labels=None) -> list[tuple[str, str]]:
+    labels = labels or {}
+    return [(labels.get(k) or _label(k), _value(k, data[k])) for k in _shown_keys(data, order)]
 
 
 def station_rows(result: CheckResult) -> list[tuple[str, str]]:
     """(label, value) pairs of the station; units come from the key suffixes."""
-    return _dict_rows(result.station.to_dict(), _STATION_ORDER)
+    return _dict_rows(result.station.to_dict(), _STATION_ORDER, {"name": "station", "equipment": "equipment under test"})
 
 
 def emission_facts(result: CheckResult) -> list[tuple[str, str]]:

@@ -209,6 +209,20 @@ def _now_utc() -> str:
     return time.strftime("%Y-%m-%d %H:%M:%S", time.gmtime(t))
 
 
+def _furniture(label: str):
+    """The header and footer of every page, with the station and the equipment under test when given."""
+    def on_page(canvas, doc) -> None:
+        _footer(canvas, doc)
+        if label:
+            canvas.saveState()
+            canvas.setFont("Helvetica", 6.5)
+            canvas.setFillColor(INK)
+            text = pdf_text_plain(label)
+            canvas.drawRightString(A4[0] - MARGIN, A4[1] - 12.5 * mm, text if len(text) <= 110 else text[:107] + "...")
+            canvas.restoreState()
+    return on_page
+
+
 def _footer(canvas, doc) -> None:
     canvas.saveState()
     w, h = A4
@@ -226,7 +240,7 @@ def _footer(canvas, doc) -> None:
 
 
 def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",
-                         resolution: str | None = None) -> bytes:
+                         resolution: str | None = None, station: str = "") -> bytes:
     """The two-tone PDF as bytes.
 
     Parameters
@@ -240,6 +254,9 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         ``"dBm"`` or ``"dBFS"``.
     resolution : str, optional
         How the RBW was chosen (printed with the spectrum's settings).
+    station : str, optional
+        The station and the equipment under test
+        (:meth:`maskcheck.core.station.Station.label`), printed on every page.
 
     Returns
     -------
@@ -334,7 +351,8 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
                             bottomMargin=19 * mm, title="maskcheck two-tone test", author="maskcheck",
                             subject="two-tone intermodulation (pre-compliance screening, not a certification)",
                             creator=f"maskcheck {_version.__version__}", **kw)
-    doc.build(story, onFirstPage=_footer, onLaterPages=_footer)
+    furniture = _furniture(station)
+    doc.build(story, onFirstPage=furniture, onLaterPages=furniture)
     return buf.getvalue()
 
 

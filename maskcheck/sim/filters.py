@@ -42,22 +42,42 @@ import scipy.signal
 from .baseband import require_finite, require_positive
 from ..errors import format_value
 
-__all__ = ["IF_FILTER_KINDS", "OUTPUT_FILTER_KINDS", "IfFilter", "OutputFilter", "sos_response", "zpk_response"]
+__all__ = ["IF_FILTER_KINDS", "OUTPUT_FILTER_KINDS", "FILTER_ALIASES", "filter_kind", "IfFilter", "OutputFilter", "sos_response", "zpk_response"]
 
-#: Low-pass families offered for the IF filter, and what the passband edge means for each.
+#: Low-pass families offered for the IF filter, by the name people read (results record it), and what the
+#: passband edge means for each.
 IF_FILTER_KINDS = {
-    "butter": "Butterworth; passband edges at the -3 dB points",
-    "cheby1": "Chebyshev type I; passband edges where the ripple band ends",
-    "ellip": "elliptic; passband edges where the ripple band ends",
+    "butterworth": "Butterworth; passband edges at the -3 dB points",
+    "chebyshev-1": "Chebyshev type I; passband edges where the ripple band ends",
+    "elliptic": "elliptic; passband edges where the ripple band ends",
 }
 
 #: Analog low-pass families offered for the output filter, and what the cut-off means for each.
 OUTPUT_FILTER_KINDS = {
-    "butter": "Butterworth; cut-off at -3 dB",
-    "cheby1": "Chebyshev type I; cut-off where the passband ripple ends",
-    "cheby2": "Chebyshev type II; cut-off where the stop band (stopband_db) begins",
-    "ellip": "elliptic; cut-off where the passband ripple ends",
+    "butterworth": "Butterworth; cut-off at -3 dB",
+    "chebyshev-1": "Chebyshev type I; cut-off where the passband ripple ends",
+    "chebyshev-2": "Chebyshev type II; cut-off where the stop band (stopband_db) begins",
+    "elliptic": "elliptic; cut-off where the passband ripple ends",
 }
+
+#: the short names of scipy.signal's design functions, accepted as aliases of the spelled names
+FILTER_ALIASES = {"butter": "butterworth", "cheby1": "chebyshev-1", "cheby2": "chebyshev-2", "ellip": "elliptic"}
+
+
+def filter_kind(kind, offered=OUTPUT_FILTER_KINDS) -> str:
+    """The spelled name of a filter family (one of ``offered``), from it or from its scipy alias.
+
+    Examples
+    --------
+    >>> filter_kind("ellip"), filter_kind("Chebyshev-1"), filter_kind("butterworth")
+    ('elliptic', 'chebyshev-1', 'butterworth')
+    """
+    key = str(kind).strip().lower().replace("_", "-")
+    key = FILTER_ALIASES.get(key, key)
+    if key not in offered:
+        raise ValueError(f"kind={format_value(kind)} is not one of {', '.join(offered)} (or the scipy names "
+                         f"{', '.join(a for a, k in FILTER_ALIASES.items() if k in offered)})")
+    return key
 
 
 def _order(order) -> int:
@@ -68,13 +88,13 @@ def _order(order) -> int:
 
 def _ripples(kind: str, ripple_db, stopband_db) -> tuple[float | None, float | None]:
     rp = rs = None
-    if kind in ("cheby1", "ellip"):
+    if kind in ("chebyshev-1", "elliptic"):
         if ripple_db is None:
             raise ValueError(f"a {kind} filter needs ripple_db (the passband ripple, dB > 0)")
         rp = require_positive("ripple_db", ripple_db)
     elif ripple_db is not None:
         raise ValueError(f"ripple_db={format_value(ripple_db)} given for a {kind} filter, which has no passband ripple")
-    if kind in ("cheby2", "ellip"):
+    if kind in ("chebyshev-2", "elliptic"):
         if stopband_db is None:
             raise ValueError(f"a {kind} filter needs stopband_db (the stop-band attenuation, dB > 0)")
         rs = require_positive("stopband_db", stopband_db)
@@ -86,11 +106,11 @@ def _ripples(kind: str, ripple_db, stopband_db) -> tuple[float | None, float | N
 
 
 def _design(kind: str, order: int, cutoff, rp, rs, **kw):
-    if kind == "butter":
+    if kind == "butterworth":
         return scipy.signal.butter(order, cutoff, **kw)
-    if kind == "cheby1":
+    if kind == "chebyshev-1":
         return scipy.signal.cheby1(order, rp, cutoff, **kw)
-    if kind == "cheby2":
+    if kind == "chebyshev-2":
         return scipy.signal.cheby2(order, rs, cutoff, **kw)
     return scipy.signal.ellip(order, rp, rs, cutoff, **kw)
 
@@ -222,25 +242,25 @@ class IfFilter:
         (the filter passes ``low_hz..high_hz`` for the upper sideband and
         ``-high_hz..-low_hz`` for the lower).  What an edge means depends on
         ``kind`` (:data:`IF_FILTER_KINDS`).
-    kind : {"butter", "cheby1", "ellip"}
-        Filter family.
+    kind : {"butterworth", "chebyshev-1", "elliptic"}
+        Filter family (the scipy names "butter", "cheby1", "ellip" are aliases).
     order : int
         Order of the low-pass prototype (1..20).
     ripple_db : float, optional
-        Passband ripple, dB (cheby1, ellip).
+        Passband ripple, dB (chebyshev-1, elliptic).
     stopband_db : float, optional
-        Stop-band attenuation, dB (ellip).
+        Stop-band attenuation, dB (elliptic).
 
     Examples
     --------
-    >>> f = IfFilter(300.0, 3000.0, "ellip", 8, ripple_db=0.5, stopband_db=70.0)
+    >>> f = IfFilter(300.0, 3000.0, "elliptic", 8, ripple_db=0.5, stopband_db=70.0)
     >>> round(float(f.attenuation_db(1650.0, 48000.0, "upper")), 2)
     0.5
     """
 
     low_hz: float = 300.0
     high_hz: float = 3000.0
-    kind: str = "ellip"
+    kind: str = "elliptic"
     order: int = 8
     ripple_db: float | None = 0.5
     stopband_db: float | None = 70.0
@@ -250,8 +270,7 @@ class IfFilter:
         hi = require_positive("high_hz", self.high_hz)
         if not lo < hi:
             raise ValueError(f"low_hz={format_value(self.low_hz)} is not below high_hz={format_value(self.high_hz)}")
-        if self.kind not in IF_FILTER_KINDS:
-            raise ValueError(f"kind={format_value(self.kind)} is not one of {', '.join(IF_FILTER_KINDS)}")
+        object.__setattr__(self, "kind", filter_kind(self.kind, IF_FILTER_KINDS))
         object.__setattr__(self, "order", _order(self.order))
         _ripples(self.kind, self.ripple_db, self.stopband_db)
 
@@ -296,32 +315,31 @@ class OutputFilter:
     cutoff_hz : float
         Cut-off frequency, Hz; its meaning depends on ``kind``
         (:data:`OUTPUT_FILTER_KINDS`).
-    kind : {"butter", "cheby1", "cheby2", "ellip"}
-        Filter family.
+    kind : {"butterworth", "chebyshev-1", "chebyshev-2", "elliptic"}
+        Filter family (the scipy names "butter", "cheby1", "cheby2", "ellip" are aliases).
     order : int
         Filter order (1..20); a five-pole low-pass is order 5.
     ripple_db : float, optional
-        Passband ripple, dB (cheby1, ellip).
+        Passband ripple, dB (chebyshev-1, elliptic).
     stopband_db : float, optional
-        Stop-band attenuation, dB (cheby2, ellip).
+        Stop-band attenuation, dB (chebyshev-2, elliptic).
 
     Examples
     --------
-    >>> lpf = OutputFilter(8.0e6, "butter", 5)
+    >>> lpf = OutputFilter(8.0e6, "butterworth", 5)
     >>> round(float(lpf.attenuation_db(8.0e6)), 4)
     3.0103
     """
 
     cutoff_hz: float
-    kind: str = "butter"
+    kind: str = "butterworth"
     order: int = 5
     ripple_db: float | None = None
     stopband_db: float | None = None
 
     def __post_init__(self):
         require_positive("cutoff_hz", self.cutoff_hz)
-        if self.kind not in OUTPUT_FILTER_KINDS:
-            raise ValueError(f"kind={format_value(self.kind)} is not one of {', '.join(OUTPUT_FILTER_KINDS)}")
+        object.__setattr__(self, "kind", filter_kind(self.kind, OUTPUT_FILTER_KINDS))
         object.__setattr__(self, "order", _order(self.order))
         _ripples(self.kind, self.ripple_db, self.stopband_db)
 

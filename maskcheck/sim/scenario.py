@@ -155,9 +155,9 @@ def load_scenario(path) -> tuple["Scenario", str]:
 def _if_filter(sc: Scenario) -> IfFilter:
     t = sc.if_filter or IfFilterTable()
     rp, rs = t.ripple, t.stopband
-    if sc.if_filter is None or (t.kind == "ellip" and rp is None and rs is None):
-        rp, rs = (0.5, 70.0) if t.kind == "ellip" else (rp, rs)
-    if t.kind == "cheby1" and rp is None:
+    if sc.if_filter is None or (t.kind == "elliptic" and rp is None and rs is None):
+        rp, rs = (0.5, 70.0) if t.kind == "elliptic" else (rp, rs)
+    if t.kind == "chebyshev-1" and rp is None:
         rp = 0.5
     return IfFilter(t.low, t.high, t.kind, t.order, ripple_db=rp, stopband_db=rs)
 

@@ -12,7 +12,7 @@ from typing import Annotated, Literal, Optional, Union
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field
 from pydantic_core import PydanticCustomError
 
-from ..core.estimate import WINDOWS
+from ..core.estimate import WINDOWS, window_name
 from ..core.units import parse_db, parse_duration, parse_frequency, parse_power
 from ..errors import MaskcheckError, UnitError
 from . import sources
@@ -32,6 +32,40 @@ MAX_RECORD_SAMPLES = 1 << 24
 MAX_ZONE_SAMPLES = 1 << 26
 #: A keying unit (a Morse dot, a test dot) must last at least this many samples to be drawn at all.
 MIN_KEYING_UNIT_SAMPLES = 2
+
+
+# ------------------------------------------------------------------ names
+
+def _spelled(convert):
+    """A validator turning a library alias ("ellip", "blackmanharris") into the spelled name ("elliptic", ...).
+
+    A name that is neither is left as it is, so that the Literal reports it with the names offered.
+    """
+    def validate(v):
+        if not isinstance(v, str):
+            return v
+        try:
+            return convert(v)
+        except (MaskcheckError, ValueError):
+            return v
+    return BeforeValidator(validate)
+
+
+def _filter_name(v: str) -> str:
+    from .filters import filter_kind  # scipy.signal: imported when a filter is named, not with the schema
+
+    return filter_kind(v)
+
+
+def _window_name(v: str) -> str:
+    return window_name(v)
+
+
+#: filter families by their spelled names; scipy's short names ("butter", "cheby1", "cheby2", "ellip") are aliases
+IfFilterKind = Annotated[Literal["butterworth", "chebyshev-1", "elliptic"], _spelled(_filter_name)]
+OutputFilterKind = Annotated[Literal["butterworth", "chebyshev-1", "chebyshev-2", "elliptic"], _spelled(_filter_name)]
+#: estimation windows by their spelled names ("blackmanharris", "flattop" are aliases); no Kaiser here
+WindowName = Annotated[Literal[tuple(w for w in WINDOWS if w != "kaiser")], _spelled(_window_name)]  # type: ignore[valid-type]
 
 
 # ------------------------------------------------------------------ quantities
@@ -206,7 +240,7 @@ class IfFilterTable(_Table):
 
     low: NonNegHz = 300.0
     high: PosHz = 3000.0
-    kind: Literal["butter", "cheby1", "ellip"] = "ellip"
+    kind: IfFilterKind = "elliptic"
     order: Order = 8
     ripple: Optional[PosDb] = None
     stopband: Optional[PosDb] = None
@@ -233,7 +267,7 @@ class AmplifierTable(_Table):
 class OutputFilterTable(_Table):
     """``[output_filter]``: the harmonic low-pass at RF."""
 
-    kind: Literal["butter", "cheby1", "cheby2", "ellip"] = "butter"
+    kind: OutputFilterKind = "butterworth"
     order: Order = 5
     cutoff: PosHz
     ripple: Optional[PosDb] = None
@@ -251,7 +285,7 @@ class Analysis(_Table):
     """``[analysis]``: how the wideband spectrum is estimated."""
 
     rbw: PosHz = 10.0
-    window: Literal[tuple(w for w in WINDOWS if w != "kaiser")] = "blackmanharris"  # type: ignore[valid-type]
+    window: WindowName = "blackman-harris"
     overlap: Annotated[float, Field(ge=0, lt=1)] = 0.5
     start: PosHz = 9e3
     max_harmonic: Annotated[int, Field(ge=1, le=40, strict=True)] = 10
