@@ -1,0 +1,560 @@
+"""The head of a trace file: ``#`` lines, a settings block, the header row and a units row.
+
+What comes before the data rows of a trace text file, read by our own rules
+(``docs/trace-format.md``, "What the reader infers"):
+
+* ``# key: value`` lines with the keys of our own format (:data:`META_KEYS`);
+  any other ``#`` line is a note;
+* a **settings block**: lines of a key, a value and maybe a unit, separated
+  by the file's delimiter (``RBW;10000;Hz``), or written ``key: value`` in
+  one cell.  Keys in :data:`SETTINGS_WORDS` (plain words and the usual
+  abbreviations) are read as the facts of the ``#`` keys; any other line is
+  kept as a note;
+* the **header row**: one cell per column, each a word for the frequency,
+  the level or the RBW (:data:`COLUMN_WORDS`), with its unit written
+  ``frequency_hz``, ``Frequency [Hz]``, ``Frequency (Hz)``,
+  ``Frequency / Hz`` or ``Frequency in Hz``; a trailing delimiter is allowed;
+* a **units row** right under the header row (``Hz;dBm``), for a header
+  whose names carry no units.
+
+Nothing here decides between sources: :func:`read_head` returns every fact
+with the line it came from, and the reader
+(:mod:`maskcheck.io.trace_text`) refuses two that disagree, or records the
+option that overrides them.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, field
+
+from ..core.spectrum import DETECTORS
+from ..core.units import dbuv_to_dbm, parse_frequency
+from ..errors import MaskcheckError, TraceError
+
+__all__ = ["FREQ_UNITS", "LEVEL_UNITS", "META_KEYS", "SETTINGS_WORDS", "COLUMN_WORDS", "MAX_HEAD_LINES",
+           "Fact", "Head", "read_head", "decode_line", "number", "split_cells", "normalise_words", "parse_fact",
+           "show_unit"]
+
+#: Frequency units a header or ``freq_unit`` may name, with their factor to Hz.
+FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
+#: Level units a header or ``level_unit`` may name.
+LEVEL_UNITS = ("dbm", "dbw", "dbuv", "w", "mw")
+_SHOW = {"hz": "Hz", "khz": "kHz", "mhz": "MHz", "ghz": "GHz",
+         "dbm": "dBm", "dbw": "dBW", "dbuv": "dBµV", "w": "W", "mw": "mW"}
+
+#: the ``# key: value`` keys of our own format (``center_hz`` is read as ``centre_hz``)
+META_KEYS = ("rbw_hz", "enbw_hz", "vbw_hz", "detector", "centre_hz", "span_hz", "reference_level_dbm", "sweep_points")
+_KEY_ALIASES = {"center_hz": "centre_hz"}
+
+#: The words of a settings block's first cell that name a fact, after :func:`normalise_words`
+#: (lower case, every run of other characters one blank).  Matched whole: "ref level offset" is a note.
+SETTINGS_WORDS = {
+    "rbw_hz": ("rbw", "res bw", "resolution bw", "resolution bandwidth", "res bandwidth", "resolution band width"),
+    "vbw_hz": ("vbw", "video bw", "video bandwidth"),
+    "enbw_hz": ("enbw", "noise bw", "noise bandwidth", "equivalent noise bandwidth"),
+    "detector": ("detector", "det", "trace detector", "detector mode"),
+    "centre_hz": ("centre", "center", "cf", "centre frequency", "center frequency", "centre freq", "center freq"),
+    "span_hz": ("span", "frequency span", "freq span", "sweep span"),
+    "reference_level_dbm": ("ref level", "reference level", "ref lvl", "reflevel", "ref level dbm"),
+    "sweep_points": ("sweep points", "points", "trace points", "number of points", "no of points", "num points",
+                     "nr of points"),
+    "freq_unit": ("frequency unit", "freq unit", "x unit", "x axis unit"),
+    "level_unit": ("level unit", "amplitude unit", "power unit", "y unit", "y axis unit"),
+    "unit": ("unit", "units"),  # a frequency or a level unit, told apart by the unit itself
+}
+_SETTING_OF = {w: fact for fact, words in SETTINGS_WORDS.items() for w in words}
+
+#: The words of a header cell that name a column (after :func:`normalise_words`).
+COLUMN_WORDS = {
+    "frequency": ("frequency", "freq", "f"),
+    "level": ("level", "power", "amplitude", "ampl", "magnitude", "mag"),
+    "rbw": ("rbw", "res bw", "resolution bandwidth"),
+}
+_COLUMN_OF = {w: name for name, words in COLUMN_WORDS.items() for w in words}
+
+#: Most lines before the data (settings, notes, header): a longer head is not a trace's.
+MAX_HEAD_LINES = 10_000
+
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+_DETECTOR_ALIASES = {"avg": "average", "av": "average", "qp": "quasi-peak", "quasi peak": "quasi-peak",
+                     "quasipeak": "quasi-peak", "pos peak": "peak", "positive peak": "peak", "max peak": "peak"}
+# a unit written after the name: "name [unit]", "name (unit)", "name / unit", "name in unit"
+_UNIT_FORMS = (re.compile(r"^(.*?)\s*\[\s*([^\]]*?)\s*\]$"), re.compile(r"^(.*?)\s*\(\s*([^)]*?)\s*\)$"),
+               re.compile(r"^(.*?)\s*/\s*([^/\s]+)$"), re.compile(r"^(.*?)\s+in\s+(\S+)$", re.IGNORECASE))
+_FREQ_FACTS = ("rbw_hz", "enbw_hz", "vbw_hz", "centre_hz", "span_hz")
+
+
+def show_unit(unit: str) -> str:
+    """A unit as people write it (``"khz"`` -> ``"kHz"``)."""
+    return _SHOW.get(unit, unit)
+
+
+def decode_line(line: bytes, path, lineno: int) -> str:
+    try:
+        return line.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise TraceError(
+            f"byte {line[exc.start:exc.start + 1]!r} at column {exc.start + 1} is not UTF-8; "
+            "expected a text file saved as UTF-8", path=path, where=lineno) from None
+
+
+def number(text: str) -> float | None:
+    return float(text) if _NUMBER.fullmatch(text) else None
+
+
+def split_cells(text: str, delim: str | None) -> list[str]:
+    return text.split() if delim is None else [c.strip() for c in text.split(delim)]
+
+
+def normalise_words(text: str) -> str:
+    """``"Res. BW:"`` -> ``"res bw"``: lower case, every run of other characters one blank."""
+    return " ".join(re.sub(r"[^a-z0-9]+", " ", text.lower().replace("µ", "u").replace("μ", "u")).split())
+
+
+def _unit_key(text: str) -> str:
+    return text.strip().lower().replace("µ", "u").replace("μ", "u").replace(" ", "")
+
+
+def _name_and_unit(cell: str) -> tuple[str, str | None]:
+    """``"Frequency [Hz]"`` -> ``("Frequency", "Hz")``; a cell without a unit -> ``(cell, None)``."""
+    text = cell.strip()
+    for form in _UNIT_FORMS:
+        m = form.match(text)
+        if m and m.group(1).strip():
+            return m.group(1).strip(), m.group(2).strip()
+    return text, None
+
+
+def _detector(value: str, path, lineno) -> str:
+    name = " ".join(value.lower().replace("_", " ").replace("-", " ").split())
+    name = _DETECTOR_ALIASES.get(name, name.replace(" ", "-") if name == "quasi peak" else name)
+    if name not in DETECTORS:
+        raise TraceError(f"detector {value!r} is not one of {', '.join(DETECTORS)}", path=path, where=lineno)
+    return name
+
+
+def parse_fact(key: str, value: str, unit: str | None, path, lineno, *, decimal_comma: bool = False):
+    """The value of one fact (a ``#`` key or a setting) in SI units; TraceError naming the line otherwise."""
+    if not value:
+        raise TraceError(f"'{key}' has no value", path=path, where=lineno)
+    if decimal_comma and "." not in value:
+        value = value.replace(",", ".")
+    if key == "detector":
+        return _detector(value, path, lineno)
+    if key in ("freq_unit", "level_unit", "unit"):
+        u = _unit_key(value.strip("[]()"))
+        allowed = tuple(FREQ_UNITS) if key == "freq_unit" else LEVEL_UNITS if key == "level_unit" else (
+            *FREQ_UNITS, *LEVEL_UNITS)
+        if u not in allowed:
+            raise TraceError(f"{key} {value!r} is not one of {', '.join(show_unit(a) for a in allowed)}",
+                             path=path, where=lineno)
+        return u
+    if key == "sweep_points":
+        n = number(value)
+        if n is None or n != int(n) or n < 1 or n > 1e12:
+            raise TraceError(f"sweep_points {value!r} is not a count of points such as 1001", path=path, where=lineno)
+        return int(n)
+    if key == "reference_level_dbm":
+        text, u = value, unit
+        m = re.fullmatch(r"(.*?)\s*(dbm|dbw|dbuv|dbµv|dbμv)", value.strip(), re.IGNORECASE)
+        if m and u is None:
+            text, u = m.group(1), m.group(2)
+        u = _unit_key(u) if u else "dbm"
+        level = number(text.replace(" ", ""))
+        if level is None or not math.isfinite(level) or u not in ("dbm", "dbw", "dbuv"):
+            raise TraceError(f"reference_level_dbm {value!r}{' ' + unit if unit else ''} is not a level such as "
+                             "'-10' or '-10 dBm'", path=path, where=lineno)
+        return level if u == "dbm" else level + 30.0 if u == "dbw" else float(dbuv_to_dbm(level))
+    try:
+        freq = parse_frequency(f"{value} {unit}" if unit else value, what=key, default_unit="Hz")
+    except MaskcheckError as exc:
+        raise TraceError(exc.message, path=path, where=lineno) from None
+    if key != "centre_hz" and not freq > 0:
+        raise TraceError(f"{key} {value!r} is {freq:g} Hz; expected a bandwidth > 0", path=path, where=lineno)
+    return freq
+
+
+@dataclass
+class Fact:
+    """One fact of the head: its value (SI), the line it is on and that line as found."""
+
+    value: object
+    lineno: int
+    text: str
+    origin: str  # "comment" (a '#' line), "settings" (the settings block), "header", "units row", "layout"
+
+
+@dataclass
+class Head:
+    """What the head of a trace file says, each fact with its line."""
+
+    meta: dict  # '#' key -> Fact
+    settings: dict  # fact -> Fact, from the settings block
+    notes: list
+    delim: str | None
+    decimal_comma: bool
+    trailing: bool  # every data row ends with the delimiter
+    columns: list  # [(name, unit or None)], name in frequency / level / rbw / skip
+    labels: list  # the header's cells, as written (or "column N")
+    unit_facts: dict = field(default_factory=dict)  # "frequency"/"level"/"rbw" -> [Fact] (header, units row, settings)
+    header_line: int = 0  # the last line of the head
+    data_pos: int = 0  # byte offset of the data
+    settings_lines: int = 0
+    header_row: int | None = None
+    units_row: int | None = None
+    native: bool = True  # the head is written in our own format only (nothing inferred)
+
+
+# ---------------------------------------------------------------------------
+# cells of the header row and the units row
+# ---------------------------------------------------------------------------
+def _column(cell: str) -> tuple[str | None, str | None, str]:
+    """(name, unit, problem): name is frequency / level / rbw or None when the cell names no column."""
+    text = cell.strip().lower().replace("µ", "u").replace("μ", "u")
+    name, sep, unit = text.partition("_")  # our own spelling: frequency_mhz, level_dbm, rbw_khz
+    if sep and name in ("frequency", "level", "rbw") and " " not in unit:
+        return _checked_unit(name, unit, cell)
+    words, unit_text = _name_and_unit(cell)
+    name = _COLUMN_OF.get(normalise_words(words))
+    if name is None:
+        return None, None, f"{cell.strip()!r} is not a known column name"
+    if unit_text is None:
+        return name, None, ""
+    return _checked_unit(name, _unit_key(unit_text), cell)
+
+
+def _checked_unit(name: str, unit: str, cell: str) -> tuple[str | None, str | None, str]:
+    if name in ("frequency", "rbw") and unit in FREQ_UNITS:
+        return name, unit, ""
+    if name == "level" and unit in LEVEL_UNITS:
+        return name, unit, ""
+    if name == "level" and "/hz" in unit:
+        return None, None, (f"column {cell.strip()!r} holds a density (per Hz); expected a level in each point's "
+                            f"RBW, one of {', '.join(show_unit(u) for u in LEVEL_UNITS)}")
+    expected = FREQ_UNITS if name != "level" else LEVEL_UNITS
+    kind = "frequency" if name != "level" else "level"
+    return None, None, (f"unknown {kind} unit {unit!r} in column {cell.strip()!r}; expected one of "
+                        f"{', '.join(show_unit(u) for u in expected)}")
+
+
+def _merge_blank_cells(cells: list[str]) -> list[str]:
+    """For a blank-delimited header: ``Frequency [Hz] Level [dBm]`` -> two cells, not four."""
+    out: list[str] = []
+    glue = False
+    for c in cells:
+        if out and (glue or c[:1] in "[(" or c == "/" or c.lower() == "in"):
+            out[-1] = f"{out[-1]} {c}"
+            glue = c == "/" or c.lower() == "in"
+        else:
+            out.append(c)
+            glue = False
+    return out
+
+
+def _header_cells(text: str, delim: str | None) -> list[str]:
+    cells = split_cells(text, delim)
+    if delim is None:
+        cells = _merge_blank_cells(cells)
+    while len(cells) > 1 and cells[-1] == "":  # a trailing delimiter
+        cells.pop()
+    return cells
+
+
+def _as_header(cells: list[str]) -> tuple[list | None, str]:
+    """The columns of a header row, or None and why these cells are not one."""
+    if len(cells) < 2:
+        return None, f"{cells[0]!r} names one column, expected a frequency and a level column"
+    columns = []
+    for c in cells:
+        name, unit, problem = _column(c)
+        if name is None:
+            return None, problem
+        columns.append((name, unit))
+    names = [n for n, _ in columns]
+    for name in ("frequency", "level"):
+        if names.count(name) != 1:
+            return None, (f"the header has {names.count(name)} {name} columns, expected one "
+                          "(a layout file names the one to read)")
+    if names.count("rbw") > 1:
+        return None, "the header has more than one rbw column"
+    if names.count("rbw") == 1 and columns[names.index("rbw")][1] is None:
+        return None, "the rbw column needs a unit, e.g. 'rbw_hz' or 'RBW [kHz]'"
+    return columns, ""
+
+
+def _units_row(cells: list[str], ncols: int) -> list[str | None] | None:
+    """The units of a units row (``Hz;dBm`` or ``[Hz];[dBm]``), or None when these cells are not one."""
+    if len(cells) != ncols:
+        return None
+    units = []
+    for c in cells:
+        u = _unit_key(c.strip("[]()"))
+        if u and u not in FREQ_UNITS and u not in LEVEL_UNITS:
+            return None
+        units.append(u or None)
+    return units if any(units) else None
+
+
+# ---------------------------------------------------------------------------
+# the settings block
+# ---------------------------------------------------------------------------
+def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: bool, words: dict, notes: list,
+             found: dict) -> None:
+    cells = split_cells(text, delim)
+    while len(cells) > 1 and cells[-1] == "":
+        cells.pop()
+    if len(cells) == 1:  # "RBW: 10 kHz" or "RBW = 10 kHz" in one cell
+        m = re.match(r"^([^:=]+?)\s*[:=]\s*(.*)$", cells[0])
+        if m:
+            cells = [m.group(1), m.group(2)]
+    key_text, key_unit = _name_and_unit(cells[0])
+    word = normalise_words(key_text)
+    fact = words.get(word, _SETTING_OF.get(word))
+    value = cells[1] if len(cells) > 1 else ""
+    unit = cells[2] if len(cells) > 2 and cells[2] else key_unit
+    if fact is None or fact == "note" or (fact == "unit" and not value):
+        notes.append(f"{cells[0]}: {' '.join(c for c in cells[1:] if c)}".rstrip(": ") if len(cells) > 1 else cells[0])
+        return
+    if len(cells) > 3 and any(cells[3:]):
+        raise TraceError(f"setting {cells[0]!r} holds {len(cells)} cells {text[:60]!r}; expected a key, a value "
+                         "and maybe a unit", path=path, where=lineno)
+    v = parse_fact(fact, value, unit, path, lineno, decimal_comma=decimal_comma)
+    if fact == "unit":
+        fact = "freq_unit" if v in FREQ_UNITS else "level_unit"
+    if fact in found and found[fact].value != v:
+        raise TraceError(f"{cells[0]!r} says {_show_fact(fact, v)}, but line {found[fact].lineno} "
+                         f"({found[fact].text!r}) says {_show_fact(fact, found[fact].value)}; expected one value",
+                         path=path, where=lineno)
+    found.setdefault(fact, Fact(v, lineno, text.rstrip(delim or " ").rstrip(), "settings"))
+
+
+def _show_fact(fact: str, v) -> str:
+    if fact in _FREQ_FACTS:
+        from ..core.units import format_frequency
+
+        return format_frequency(float(v))
+    if fact == "reference_level_dbm":
+        return f"{float(v):g} dBm"
+    if fact in ("freq_unit", "level_unit"):
+        return show_unit(str(v))
+    return str(v)
+
+
+def _comment(text: str, lineno: int, path, meta: dict, notes: list) -> None:
+    body = text[1:].strip()
+    key, colon, value = body.partition(":")
+    key = key.strip().lower()
+    key = _KEY_ALIASES.get(key, key)
+    if colon and key in META_KEYS:
+        if key in meta:
+            raise TraceError(f"'{key}' is given twice (first on line {meta[key].lineno})", path=path, where=lineno)
+        meta[key] = Fact(parse_fact(key, value.strip(), None, path, lineno), lineno, text, "comment")
+    elif body:
+        notes.append(body)
+
+
+def _guess_delim(text: str) -> str | None:
+    return ";" if ";" in text else "," if "," in text else "\t" if "\t" in text else None
+
+
+def _is_data(text: str, delim: str | None, decimal_comma: bool) -> bool:
+    first = split_cells(text, delim)[0]
+    return number(first.replace(",", ".") if decimal_comma else first) is not None
+
+
+# ---------------------------------------------------------------------------
+# the head as a whole
+# ---------------------------------------------------------------------------
+def _lines(raw: bytes, pos: int, path):
+    """(lineno, stripped text, byte offset of the line) of each line from ``pos``."""
+    lineno = 0
+    while pos < len(raw):
+        end = raw.find(b"\n", pos)
+        end = len(raw) if end < 0 else end
+        lineno += 1
+        yield lineno, decode_line(raw[pos:end], path, lineno).strip(), pos
+        pos = end + 1
+
+
+@dataclass
+class _Scan:
+    """The head as it is read, line by line."""
+
+    meta: dict = field(default_factory=dict)
+    notes: list = field(default_factory=list)
+    pending: list = field(default_factory=list)  # settings lines (lineno, text), read once the delimiter is known
+    header: list | None = None
+    header_cells: list | None = None
+    header_line: int | None = None
+    units: list | None = None
+    units_line: int | None = None
+    delim: str | None = None
+    delim_fixed: bool = False
+    last: tuple = (0, "", "")  # the last settings line and why it is not a header row
+    last_line: int = 0  # the last line that is not blank
+
+
+def read_head(raw: bytes, pos: int, path, layout=None) -> Head:
+    """Read the head of a trace file (everything above the first data row).
+
+    ``layout`` (a :class:`~maskcheck.io.trace_layout.TraceLayout`) names the
+    delimiter, the decimal mark, the number of head lines and the columns
+    when the file's own words do not.  Raises TraceError naming the line.
+    """
+    sc = _Scan()
+    if layout is not None and layout.delimiter_set:
+        sc.delim, sc.delim_fixed = layout.delimiter, True
+    dec_layout = None if layout is None else layout.decimal_comma
+    head_limit = None if layout is None else layout.header_lines
+    checked_units = saw_any = False
+    lineno, data_pos = 0, len(raw)
+    for lineno, text, start in _lines(raw, pos, path):
+        if head_limit is not None and lineno > head_limit:
+            data_pos = start
+            break
+        if lineno > MAX_HEAD_LINES:
+            raise TraceError(f"no data within the first {MAX_HEAD_LINES} lines; expected a trace file "
+                             "(a head of settings, then rows of numbers)", path=path, where=lineno)
+        if not text:
+            continue
+        saw_any = True
+        sc.last_line = lineno
+        if text.startswith("#"):
+            if sc.header is None:
+                _comment(text, lineno, path, sc.meta, sc.notes)
+            continue
+        d = sc.delim if sc.delim_fixed else _guess_delim(text)
+        dec = dec_layout if dec_layout is not None else d == ";"
+        if sc.header is not None and not checked_units:
+            checked_units = True
+            u = _units_row(_header_cells(text, d), len(sc.header))
+            if u is not None:
+                sc.units, sc.units_line = u, lineno
+                continue
+        if head_limit is None and (sc.header is not None or _is_data(text, d, dec)):
+            if sc.header is None and layout is None:
+                raise _no_header(sc, text, lineno, path)
+            data_pos = start
+            break
+        if sc.header is None:
+            cells = _header_cells(text, d)
+            columns, why = _as_header(cells)
+            if columns is not None:
+                sc.header, sc.header_cells, sc.header_line = columns, cells, lineno
+                sc.delim, sc.delim_fixed = d, True
+                continue
+            sc.last = (lineno, text, why)
+        sc.pending.append((lineno, text))
+    else:
+        lineno += 1
+        if head_limit is None:
+            raise _no_data(sc, saw_any, path)
+    return _finish(raw, path, layout, sc, dec_layout, lineno, data_pos)
+
+
+def _no_header(sc: _Scan, text: str, lineno: int, path) -> TraceError:
+    last_line, last_text, problem = sc.last
+    why = (f"line {last_line} ({last_text[:40]!r}) is not a header row: {problem}" if last_line
+           else f"found data {text[:40]!r} where the header row was expected")
+    return TraceError(f"{why}; expected a header naming the columns, e.g. 'frequency_hz,level_dbm' or "
+                      "'Frequency [Hz];Level [dBm]', or a layout file naming them (layout=FILE)",
+                      path=path, where=last_line or lineno, param="layout")
+
+
+def _no_data(sc: _Scan, saw_any: bool, path) -> TraceError:
+    if not saw_any:
+        return TraceError("the file is empty; expected optional '# key: value' lines, a header row "
+                          "such as 'frequency_hz,level_dbm' and data rows", path=path)
+    if sc.header is not None:
+        return TraceError("no data rows after the header row", path=path, where=sc.units_line or sc.header_line)
+    last = sc.last_line
+    if not sc.pending:
+        return TraceError("no header row: the file holds only comment lines; expected a header "
+                          "such as 'frequency_hz,level_dbm' followed by data rows", path=path, where=last or None)
+    return TraceError("no header row and no data: the file holds only comment and settings lines; expected a header "
+                      "such as 'Frequency [Hz];Level [dBm]' followed by data rows", path=path, where=last or None)
+
+
+def _finish(raw, path, layout, sc: _Scan, dec_layout, data_lineno: int, data_pos: int) -> Head:
+    """The head once the first data line (``data_lineno``, at byte ``data_pos``) is known."""
+    first_text = _first_row(raw, data_pos, data_lineno, path)
+    delim = sc.delim if sc.delim_fixed else _guess_delim(first_text)
+    dec = dec_layout if dec_layout is not None else delim == ";"
+    words = {} if layout is None else dict(layout.settings)
+    found: dict = {}
+    for lineno, text in sc.pending:
+        _setting(text, delim, lineno, path, dec, words, sc.notes, found)
+    data_cells = split_cells(first_text, delim) if first_text else []
+    # a trailing delimiter: one empty cell more than the header names (with a layout: any empty last cell)
+    trailing = (delim is not None and len(data_cells) > 1 and data_cells[-1] == ""
+                and (sc.header is None or len(data_cells) == len(sc.header) + 1))
+    if trailing:
+        data_cells.pop()
+    head = Head(meta=sc.meta, settings=found, notes=sc.notes, delim=delim, decimal_comma=dec, trailing=trailing,
+                columns=[], labels=[], header_line=data_lineno - 1, data_pos=data_pos,
+                settings_lines=len(sc.pending), header_row=sc.header_line, units_row=sc.units_line)
+    if layout is not None:
+        _columns_from_layout(head, layout, sc, data_cells, path, data_lineno)
+    else:
+        head.columns, head.labels = list(sc.header), list(sc.header_cells)
+        _unit_facts(head, sc.header, sc.header_cells, sc.units, sc.header_line, sc.units_line)
+    for name, unit_key in (("frequency", "freq_unit"), ("level", "level_unit")):
+        if unit_key in found:
+            head.unit_facts.setdefault(name, []).append(found[unit_key])
+    head.native = (not sc.pending and sc.units_line is None and not trailing and layout is None
+                   and all("_" in c and c.strip().lower().partition("_")[0] in ("frequency", "level", "rbw")
+                           for c in head.labels))
+    return head
+
+
+def _first_row(raw: bytes, pos: int, lineno: int, path) -> str:
+    """The first line from ``pos`` that is neither blank nor a ``#`` line ("" when none is near)."""
+    for _ in range(MAX_HEAD_LINES):
+        if pos >= len(raw):
+            return ""
+        end = raw.find(b"\n", pos)
+        end = len(raw) if end < 0 else end
+        text = decode_line(raw[pos:end], path, lineno).strip()
+        if text and not text.startswith("#"):
+            return text
+        pos, lineno = end + 1, lineno + 1
+    return ""
+
+
+def _unit_facts(head: Head, columns, cells, units, header_line, units_line) -> None:
+    for i, (name, unit) in enumerate(columns):
+        if name == "skip":
+            continue
+        if unit is not None:
+            head.unit_facts.setdefault(name, []).append(Fact(unit, header_line, cells[i], "header"))
+        if units is not None and units[i] is not None:
+            head.unit_facts.setdefault(name, []).append(Fact(units[i], units_line, units[i], "units row"))
+
+
+def _columns_from_layout(head: Head, layout, sc: _Scan, data_cells, path, lineno) -> None:
+    ncols = len(data_cells)
+    cols: list = [("skip", None)] * max(ncols, 1)
+    labels = [f"column {i + 1} (not read)" for i in range(len(cols))]
+    for name, (index, unit) in layout.columns.items():
+        if index >= ncols:
+            raise TraceError(f"the layout {layout.path} names column {index + 1} as the {name} (columns.{name}), "
+                             f"but the first data row holds {ncols} cell(s)", path=path, where=lineno)
+        cols[index] = (name, unit)
+        labels[index] = f"{name} (column {index + 1})"
+        if unit is not None:
+            head.unit_facts.setdefault(name, []).append(Fact(unit, 0, f"{layout.path}: columns.{name}_unit", "layout"))
+    head.columns, head.labels = cols, labels
+    if sc.header is None:
+        return
+    if len(sc.header) != ncols:
+        raise TraceError(f"the header row names {len(sc.header)} columns but the first data row (line {lineno}) "
+                         f"holds {ncols} cells; expected one cell per column", path=path, where=sc.header_line)
+    for i, (name, _) in enumerate(sc.header):
+        if cols[i][0] not in (name, "skip"):
+            raise TraceError(f"the layout {layout.path} reads column {i + 1} as the {cols[i][0]}, but the header "
+                             f"row names it {sc.header_cells[i]!r}; expected a layout of this file",
+                             path=path, where=sc.header_line)
+    _unit_facts(head, [(cols[i][0], sc.header[i][1]) for i in range(ncols)], sc.header_cells, sc.units,
+                sc.header_line, sc.units_line)
