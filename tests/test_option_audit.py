@@ -65,6 +65,9 @@ CASES = {
     "--freq-unit": ([], ["--freq-unit", "mhz"]),
     "--level-unit": ([], ["--level-unit", "dbw"]),
     "--detector": ([], ["--detector", "peak"]),
+    # a layout that agrees with the trace's header: the same readings, and the result records the layout
+    # (the trace's input names it and what was read with it); refused for a recording
+    "--layout": ([], ["--layout", "LAYOUT"]),
     "--format": ([], ["--format", "cf32_le"]),
     "--rate": ([], ["--rate", "2MHz"]),
     "--centre": ([], ["--centre", "7.2MHz"]),  # the recording says 7.1 MHz: a different centre is refused
@@ -110,6 +113,7 @@ def _inputs(tmp):
     (tmp / "s.toml").write_text('schema_version = 1\nname = "pad (invented)"\n\n[[chain]]\nname = "pad"\n'
                                 'kind = "attenuator"\nloss_db = 10\n')
     (tmp / "c.csv").write_text("frequency_mhz,correction_db\n0.001,10\n100,10\n")
+    (tmp / "layout.toml").write_text("layout_version = 1\n[columns]\nfrequency = 1\nlevel = 2\n")
     (tmp / "masks").mkdir()  # a second file with the same id: the folder is searched, so the id clashes
     from maskcheck.masks.library import builtin_dir
     from pathlib import Path
@@ -119,7 +123,8 @@ def _inputs(tmp):
 
 
 def _run(tmp, inputs, extra, name):
-    extra = [{"SETUP": str(tmp / "s.toml"), "CORRECTION": str(tmp / "c.csv"), "MASKDIR": str(tmp / "masks")}.get(a, a)
+    extra = [{"SETUP": str(tmp / "s.toml"), "CORRECTION": str(tmp / "c.csv"), "MASKDIR": str(tmp / "masks"),
+              "LAYOUT": str(tmp / "layout.toml")}.get(a, a)
              for a in extra]
     out = tmp / f"{name}.json"
     rc = main(["check", *inputs, *BASE, *extra, "--json", str(out), "--quiet", "--force"])

@@ -63,7 +63,8 @@ def run(args) -> int:
         notes.append(f"{x_db:g} dB bandwidth not measured: {exc.message}")
     if args.json:
         payload = {
-            "trace": {"path": args.trace, "sha256": spectrum.sha256},
+            "trace": {"path": args.trace, "sha256": spectrum.sha256,
+                      **({"reading": spectrum.trace_file.reading} if spectrum.trace_file.inferred else {})},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
             "sampling": None if bias is None else bias.to_dict(),

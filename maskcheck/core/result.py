@@ -172,11 +172,22 @@ class MaskInfo:
 
 @dataclass
 class InputFile:
+    """One input file and the SHA-256 of its bytes.
+
+    ``reading`` says, for a trace export, what the reader inferred from the
+    file's own words or its layout file (:attr:`maskcheck.core.records.TraceFileRecord.reading`);
+    None for a file in maskcheck's own format and for other inputs (the JSON then has no key).
+    """
+
     path: str
     sha256: str
+    reading: str | None = None
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        d = asdict(self)
+        if self.reading is None:
+            del d["reading"]
+        return d
 
 
 @dataclass

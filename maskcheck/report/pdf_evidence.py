@@ -237,7 +237,8 @@ def provenance_section(x: Parts, result: CheckResult, attachments, notes=()) -> 
     r = result
     out = [CondPageBreak(200), x.heading("Provenance")]
     w = x.width
-    rows = [(f.path, f.sha256 or "not recorded") for f in r.inputs]
+    rows = [(f.path if not getattr(f, "reading", None) else f"{f.path} (read as: {f.reading})", f.sha256 or "not recorded")
+            for f in r.inputs]
     m = r.mask
     rows.append((f"{_mask_name(r)} (mask file)", m.sha256 or "not recorded (mask built in memory)"))
     out += [x.sub("Input files and their SHA-256"), x.grid(("File", "SHA-256 of its bytes"), rows, [w - 100 * mm, 100 * mm], mono_cols=(1,))]
