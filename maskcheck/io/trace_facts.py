@@ -26,8 +26,8 @@ FACT_WORDS = {"rbw_hz": "RBW", "enbw_hz": "ENBW", "vbw_hz": "VBW", "detector": "
 #: facts the command line can give, and the parameter that gives them
 _OPTION_OF = {"rbw_hz": "rbw_hz", "detector": "detector", "frequency": "freq_unit", "level": "level_unit",
               "rbw": "rbw_hz"}
-_ORIGIN = {"comment": "the '#' line", "settings": "the settings block", "header": "the header row",
-           "units row": "the units row", "layout": "the layout file"}
+_ORIGIN = {"comment": "the line", "settings": "the setting", "header": "the header cell",
+           "units row": "the units row's cell", "layout": "the layout file's"}
 
 
 def show_fact(key: str, value) -> str:
@@ -48,7 +48,13 @@ def _same(a, b) -> bool:
 
 
 def _where(f: Fact) -> str:
-    return f"{_ORIGIN[f.origin]} ({f.text!r})" if f.origin == "layout" else f"line {f.lineno} ({f.text!r})"
+    """A fact's source, for a message that names its line in front."""
+    return f"{_ORIGIN[f.origin]} {f.text!r}" if f.origin != "layout" else f"the layout's {f.text}"
+
+
+def _where_line(f: Fact) -> str:
+    """A fact's source with its line, for a message placed at another line."""
+    return f"line {f.lineno} ({f.text!r})" if f.origin != "layout" else f"the layout's {f.text}"
 
 
 def _disagree(key: str, a: Fact, b: Fact, path, *, option: str | None) -> TraceError:
@@ -57,7 +63,7 @@ def _disagree(key: str, a: Fact, b: Fact, path, *, option: str | None) -> TraceE
     fix = (f"; correct the file, or give {option}=VALUE to choose (the override is recorded)" if option
            else "; correct the file, or keep one of them as a note with a layout file (layout=FILE)")
     where = b.lineno if b.origin != "layout" else a.lineno or None
-    return TraceError(f"{_where(b)} gives the {what} as {show_fact(key, b.value)}, but {_where(a)} gives "
+    return TraceError(f"{_where(b)} gives the {what} as {show_fact(key, b.value)}, but {_where_line(a)} gives "
                       f"{show_fact(key, a.value)}; expected one value{fix}", path=path, where=where,
                       param=option or "layout")
 

@@ -284,8 +284,8 @@ def _as_header(cells: list[str]) -> tuple[list | None, str]:
     return columns, ""
 
 
-def _units_row(cells: list[str], ncols: int) -> list[str | None] | None:
-    """The units of a units row (``Hz;dBm`` or ``[Hz];[dBm]``), or None when these cells are not one."""
+def _units_row(cells: list[str], ncols: int) -> list[tuple[str, str] | None] | None:
+    """The units of a units row (``Hz;dBm`` or ``[Hz];[dBm]``) with each cell as written, or None."""
     if len(cells) != ncols:
         return None
     units = []
@@ -293,7 +293,7 @@ def _units_row(cells: list[str], ncols: int) -> list[str | None] | None:
         u = _unit_key(c.strip("[]()"))
         if u and u not in FREQ_UNITS and u not in LEVEL_UNITS:
             return None
-        units.append(u or None)
+        units.append((u, c) if u else None)
     return units if any(units) else None
 
 
@@ -324,7 +324,7 @@ def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: boo
     if fact == "unit":
         fact = "freq_unit" if v in FREQ_UNITS else "level_unit"
     if fact in found and found[fact].value != v:
-        raise TraceError(f"{cells[0]!r} says {_show_fact(fact, v)}, but line {found[fact].lineno} "
+        raise TraceError(f"setting {cells[0]!r} says {_show_fact(fact, v)}, but line {found[fact].lineno} "
                          f"({found[fact].text!r}) says {_show_fact(fact, found[fact].value)}; expected one value",
                          path=path, where=lineno)
     found.setdefault(fact, Fact(v, lineno, text.rstrip(delim or " ").rstrip(), "settings"))
@@ -456,11 +456,14 @@ def read_head(raw: bytes, pos: int, path, layout=None) -> Head:
 
 def _no_header(sc: _Scan, text: str, lineno: int, path) -> TraceError:
     last_line, last_text, problem = sc.last
-    why = (f"line {last_line} ({last_text[:40]!r}) is not a header row: {problem}" if last_line
-           else f"found data {text[:40]!r} where the header row was expected")
+    key = normalise_words(_name_and_unit(split_cells(last_text, _guess_delim(last_text))[0])[0]) if last_line else ""
+    if last_line and key not in _SETTING_OF:
+        why, where = f"line {last_line} ({last_text[:40]!r}) is not a header row: {problem}", last_line
+    else:  # the data follow '#' lines or settings directly
+        why, where = f"found data {text[:40]!r} with no header row above it", lineno
     return TraceError(f"{why}; expected a header naming the columns, e.g. 'frequency_hz,level_dbm' or "
                       "'Frequency [Hz];Level [dBm]', or a layout file naming them (layout=FILE)",
-                      path=path, where=last_line or lineno, param="layout")
+                      path=path, where=where, param="layout")
 
 
 def _no_data(sc: _Scan, saw_any: bool, path) -> TraceError:
@@ -530,7 +533,7 @@ def _unit_facts(head: Head, columns, cells, units, header_line, units_line) -> N
         if unit is not None:
             head.unit_facts.setdefault(name, []).append(Fact(unit, header_line, cells[i], "header"))
         if units is not None and units[i] is not None:
-            head.unit_facts.setdefault(name, []).append(Fact(units[i], units_line, units[i], "units row"))
+            head.unit_facts.setdefault(name, []).append(Fact(units[i][0], units_line, units[i][1], "units row"))
 
 
 def _columns_from_layout(head: Head, layout, sc: _Scan, data_cells, path, lineno) -> None:
