@@ -431,3 +431,20 @@ def test_fast_and_exact_paths_agree_on_trailing_delimiters_and_decimal_commas():
         cut = raw.rstrip(b"\r\n")
         bad = cut[:-1] + b"\n" + cut.rsplit(b"\n", 1)[-1]
         assert tt._rows_fast(bad, head.data_pos, head.delim, lay.ncols, head.decimal_comma, head.trailing) is None
+
+
+def test_the_layout_example_of_the_format_note_reads_an_export(tmp_path):
+    # Source: docs/trace-format.md, "Layout files" (our own format): its example must be a valid layout
+    import re
+    from pathlib import Path
+
+    doc = (Path(__file__).resolve().parents[1] / "docs" / "trace-format.md").read_text()
+    example = re.search(r"```toml\n(.*?)```", doc, re.S).group(1)
+    layout = tmp_path / "example.toml"
+    layout.write_text(example)
+    lay = read_layout(layout)
+    assert lay.columns == {"frequency": (1, "hz"), "level": (2, "dbm")} and lay.header_lines == 6
+    export = tmp_path / "e.csv"
+    export.write_text(FOREIGN.replace("Kommentar;invented", "Ref Level;-10;dBm"))
+    s = read_trace(export, layout=lay)
+    assert s.rbw_hz[0] == RBW_HZ and "Ref Level: -10 dBm" in s.notes and s.trace_file.reference_level_dbm is None

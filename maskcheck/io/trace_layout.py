@@ -17,9 +17,9 @@ of the file's settings block that name a fact.  An example, invented::
     level = 3
     level_unit = "dBm"
 
-    [settings]                 # settings-block words -> facts ("note" keeps a line as a note)
+    [settings]                 # fact = the settings-block word(s) that name it
     rbw_hz = ["Bandbreite", "BW res"]
-    reference_level_dbm = "note"
+    note = "Ref Level"         # lines with this key are kept as notes
 
 Every key is optional except ``layout_version`` and ``columns.frequency`` /
 ``columns.level``.  Errors name the file and the key.
