@@ -448,3 +448,26 @@ def test_the_layout_example_of_the_format_note_reads_an_export(tmp_path):
     export.write_text(FOREIGN.replace("Kommentar;invented", "Ref Level;-10;dBm"))
     s = read_trace(export, layout=lay)
     assert s.rbw_hz[0] == RBW_HZ and "Ref Level: -10 dBm" in s.notes and s.trace_file.reference_level_dbm is None
+
+
+def test_the_format_note_lists_exactly_the_words_the_reader_knows():
+    # Source: docs/trace-format.md, "What the reader infers" (our own rules): the note and the code say the same
+    import re
+    from pathlib import Path
+
+    from maskcheck.io.trace_words import COLUMN_WORDS, SETTINGS_WORDS
+
+    doc = (Path(__file__).resolve().parents[1] / "docs" / "trace-format.md").read_text()
+    named = {"frequency unit": "freq_unit", "level unit": "level_unit", "either unit, told apart by the unit": "unit"}
+    settings, columns = {}, {}
+    for first, words in re.findall(r"^\| ([^|]+?) \| ([^|]+?) \|$", doc, re.M):
+        listed = tuple(w.strip() for w in re.sub(r"\s*\(.*?\)", "", words).split(","))
+        key = re.search(r"\(`(\w+)`\)", first)
+        if key:
+            settings[key.group(1)] = listed
+        elif first in named:
+            settings[named[first]] = listed
+        elif first in ("frequency", "level", "per-row RBW"):
+            columns["rbw" if first == "per-row RBW" else first] = listed
+    assert settings == SETTINGS_WORDS
+    assert columns == COLUMN_WORDS

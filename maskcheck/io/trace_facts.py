@@ -15,9 +15,10 @@ import math
 
 from ..core.units import format_frequency
 from ..errors import TraceError
-from .trace_head import META_KEYS, Fact, Head, show_unit
+from .trace_head import Fact, Head
+from .trace_words import META_KEYS, show_fact
 
-__all__ = ["FACT_WORDS", "merge_facts", "file_unit", "check_against_data", "inferred_clauses", "show_fact"]
+__all__ = ["FACT_WORDS", "merge_facts", "file_unit", "check_against_data", "inferred_clauses"]
 
 #: how each fact is named in messages and in the line that says what was inferred
 FACT_WORDS = {"rbw_hz": "RBW", "enbw_hz": "ENBW", "vbw_hz": "VBW", "detector": "detector", "centre_hz": "centre",
@@ -28,17 +29,6 @@ _OPTION_OF = {"rbw_hz": "rbw_hz", "detector": "detector", "frequency": "freq_uni
               "rbw": "rbw_hz"}
 _ORIGIN = {"comment": "the line", "settings": "the setting", "header": "the header cell",
            "units row": "the units row's cell", "layout": "the layout file's"}
-
-
-def show_fact(key: str, value) -> str:
-    """A fact's value as people read it (``10000.0`` -> ``"10 kHz"``)."""
-    if key.endswith("_hz"):
-        return format_frequency(float(value))
-    if key == "reference_level_dbm":
-        return f"{float(value):g} dBm"
-    if key in ("freq_unit", "level_unit", "frequency", "level", "rbw"):
-        return show_unit(str(value))
-    return str(value)
 
 
 def _same(a, b) -> bool:

@@ -7,11 +7,11 @@ What comes before the data rows of a trace text file, read by our own rules
   any other ``#`` line is a note;
 * a **settings block**: lines of a key, a value and maybe a unit, separated
   by the file's delimiter (``RBW;10000;Hz``), or written ``key: value`` in
-  one cell.  Keys in :data:`SETTINGS_WORDS` (plain words and the usual
+  one cell.  Keys in :data:`~maskcheck.io.trace_words.SETTINGS_WORDS` (plain words and the usual
   abbreviations) are read as the facts of the ``#`` keys; any other line is
   kept as a note;
 * the **header row**: one cell per column, each a word for the frequency,
-  the level or the RBW (:data:`COLUMN_WORDS`), with its unit written
+  the level or the RBW (:data:`~maskcheck.io.trace_words.COLUMN_WORDS`), with its unit written
   ``frequency_hz``, ``Frequency [Hz]``, ``Frequency (Hz)``,
   ``Frequency / Hz`` or ``Frequency in Hz``; a trailing delimiter is allowed;
 * a **units row** right under the header row (``Hz;dBm``), for a header
@@ -25,156 +25,18 @@ option that overrides them.
 
 from __future__ import annotations
 
-import math
 import re
 from dataclasses import dataclass, field
 
-from ..core.spectrum import DETECTORS
-from ..core.units import dbuv_to_dbm, parse_frequency
-from ..errors import MaskcheckError, TraceError
+from ..errors import TraceError
+from .trace_words import (COLUMN_OF, FREQ_UNITS, KEY_ALIASES, LEVEL_UNITS, META_KEYS, SETTING_OF, decode_line,
+                          name_and_unit, normalise_words, number, parse_fact, show_fact, show_unit, split_cells,
+                          unit_key)
 
-__all__ = ["FREQ_UNITS", "LEVEL_UNITS", "META_KEYS", "SETTINGS_WORDS", "COLUMN_WORDS", "MAX_HEAD_LINES",
-           "Fact", "Head", "read_head", "decode_line", "number", "split_cells", "normalise_words", "parse_fact",
-           "show_unit"]
-
-#: Frequency units a header or ``freq_unit`` may name, with their factor to Hz.
-FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
-#: Level units a header or ``level_unit`` may name.
-LEVEL_UNITS = ("dbm", "dbw", "dbuv", "w", "mw")
-_SHOW = {"hz": "Hz", "khz": "kHz", "mhz": "MHz", "ghz": "GHz",
-         "dbm": "dBm", "dbw": "dBW", "dbuv": "dBµV", "w": "W", "mw": "mW"}
-
-#: the ``# key: value`` keys of our own format (``center_hz`` is read as ``centre_hz``)
-META_KEYS = ("rbw_hz", "enbw_hz", "vbw_hz", "detector", "centre_hz", "span_hz", "reference_level_dbm", "sweep_points")
-_KEY_ALIASES = {"center_hz": "centre_hz"}
-
-#: The words of a settings block's first cell that name a fact, after :func:`normalise_words`
-#: (lower case, every run of other characters one blank).  Matched whole: "ref level offset" is a note.
-SETTINGS_WORDS = {
-    "rbw_hz": ("rbw", "res bw", "resolution bw", "resolution bandwidth", "res bandwidth", "resolution band width"),
-    "vbw_hz": ("vbw", "video bw", "video bandwidth"),
-    "enbw_hz": ("enbw", "noise bw", "noise bandwidth", "equivalent noise bandwidth"),
-    "detector": ("detector", "det", "trace detector", "detector mode"),
-    "centre_hz": ("centre", "center", "cf", "centre frequency", "center frequency", "centre freq", "center freq"),
-    "span_hz": ("span", "frequency span", "freq span", "sweep span"),
-    "reference_level_dbm": ("ref level", "reference level", "ref lvl", "reflevel", "ref level dbm"),
-    "sweep_points": ("sweep points", "points", "trace points", "number of points", "no of points", "num points",
-                     "nr of points"),
-    "freq_unit": ("frequency unit", "freq unit", "x unit", "x axis unit"),
-    "level_unit": ("level unit", "amplitude unit", "power unit", "y unit", "y axis unit"),
-    "unit": ("unit", "units"),  # a frequency or a level unit, told apart by the unit itself
-}
-_SETTING_OF = {w: fact for fact, words in SETTINGS_WORDS.items() for w in words}
-
-#: The words of a header cell that name a column (after :func:`normalise_words`).
-COLUMN_WORDS = {
-    "frequency": ("frequency", "freq", "f"),
-    "level": ("level", "power", "amplitude", "ampl", "magnitude", "mag"),
-    "rbw": ("rbw", "res bw", "resolution bandwidth"),
-}
-_COLUMN_OF = {w: name for name, words in COLUMN_WORDS.items() for w in words}
+__all__ = ["MAX_HEAD_LINES", "Fact", "Head", "read_head"]
 
 #: Most lines before the data (settings, notes, header): a longer head is not a trace's.
 MAX_HEAD_LINES = 10_000
-
-_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
-_DETECTOR_ALIASES = {"avg": "average", "av": "average", "qp": "quasi-peak", "quasi peak": "quasi-peak",
-                     "quasipeak": "quasi-peak", "pos peak": "peak", "positive peak": "peak", "max peak": "peak"}
-# a unit written after the name: "name [unit]", "name (unit)", "name / unit", "name in unit"
-_UNIT_FORMS = (re.compile(r"^(.*?)\s*\[\s*([^\]]*?)\s*\]$"), re.compile(r"^(.*?)\s*\(\s*([^)]*?)\s*\)$"),
-               re.compile(r"^(.*?)\s*/\s*([^/\s]+)$"), re.compile(r"^(.*?)\s+in\s+(\S+)$", re.IGNORECASE))
-_FREQ_FACTS = ("rbw_hz", "enbw_hz", "vbw_hz", "centre_hz", "span_hz")
-
-
-def show_unit(unit: str) -> str:
-    """A unit as people write it (``"khz"`` -> ``"kHz"``)."""
-    return _SHOW.get(unit, unit)
-
-
-def decode_line(line: bytes, path, lineno: int) -> str:
-    try:
-        return line.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise TraceError(
-            f"byte {line[exc.start:exc.start + 1]!r} at column {exc.start + 1} is not UTF-8; "
-            "expected a text file saved as UTF-8", path=path, where=lineno) from None
-
-
-def number(text: str) -> float | None:
-    return float(text) if _NUMBER.fullmatch(text) else None
-
-
-def split_cells(text: str, delim: str | None) -> list[str]:
-    return text.split() if delim is None else [c.strip() for c in text.split(delim)]
-
-
-def normalise_words(text: str) -> str:
-    """``"Res. BW:"`` -> ``"res bw"``: lower case, every run of other characters one blank."""
-    return " ".join(re.sub(r"[^a-z0-9]+", " ", text.lower().replace("µ", "u").replace("μ", "u")).split())
-
-
-def _unit_key(text: str) -> str:
-    return text.strip().lower().replace("µ", "u").replace("μ", "u").replace(" ", "")
-
-
-def _name_and_unit(cell: str) -> tuple[str, str | None]:
-    """``"Frequency [Hz]"`` -> ``("Frequency", "Hz")``; a cell without a unit -> ``(cell, None)``."""
-    text = cell.strip()
-    for form in _UNIT_FORMS:
-        m = form.match(text)
-        if m and m.group(1).strip():
-            return m.group(1).strip(), m.group(2).strip()
-    return text, None
-
-
-def _detector(value: str, path, lineno) -> str:
-    name = " ".join(value.lower().replace("_", " ").replace("-", " ").split())
-    name = _DETECTOR_ALIASES.get(name, name.replace(" ", "-") if name == "quasi peak" else name)
-    if name not in DETECTORS:
-        raise TraceError(f"detector {value!r} is not one of {', '.join(DETECTORS)}", path=path, where=lineno)
-    return name
-
-
-def parse_fact(key: str, value: str, unit: str | None, path, lineno, *, decimal_comma: bool = False):
-    """The value of one fact (a ``#`` key or a setting) in SI units; TraceError naming the line otherwise."""
-    if not value:
-        raise TraceError(f"'{key}' has no value", path=path, where=lineno)
-    if decimal_comma and "." not in value:
-        value = value.replace(",", ".")
-    if key == "detector":
-        return _detector(value, path, lineno)
-    if key in ("freq_unit", "level_unit", "unit"):
-        u = _unit_key(value.strip("[]()"))
-        allowed = tuple(FREQ_UNITS) if key == "freq_unit" else LEVEL_UNITS if key == "level_unit" else (
-            *FREQ_UNITS, *LEVEL_UNITS)
-        if u not in allowed:
-            raise TraceError(f"{key} {value!r} is not one of {', '.join(show_unit(a) for a in allowed)}",
-                             path=path, where=lineno)
-        return u
-    if key == "sweep_points":
-        n = number(value)
-        if n is None or n != int(n) or n < 1 or n > 1e12:
-            raise TraceError(f"sweep_points {value!r} is not a count of points such as 1001", path=path, where=lineno)
-        return int(n)
-    if key == "reference_level_dbm":
-        text, u = value, unit
-        m = re.fullmatch(r"(.*?)\s*(dbm|dbw|dbuv|dbµv|dbμv)", value.strip(), re.IGNORECASE)
-        if m and u is None:
-            text, u = m.group(1), m.group(2)
-        u = _unit_key(u) if u else "dbm"
-        level = number(text.replace(" ", ""))
-        if level is None or not math.isfinite(level) or u not in ("dbm", "dbw", "dbuv"):
-            raise TraceError(f"reference_level_dbm {value!r}{' ' + unit if unit else ''} is not a level such as "
-                             "'-10' or '-10 dBm'", path=path, where=lineno)
-        return level if u == "dbm" else level + 30.0 if u == "dbw" else float(dbuv_to_dbm(level))
-    try:
-        freq = parse_frequency(f"{value} {unit}" if unit else value, what=key, default_unit="Hz")
-    except MaskcheckError as exc:
-        raise TraceError(exc.message, path=path, where=lineno) from None
-    if key != "centre_hz" and not freq > 0:
-        raise TraceError(f"{key} {value!r} is {freq:g} Hz; expected a bandwidth > 0", path=path, where=lineno)
-    return freq
-
 
 @dataclass
 class Fact:
@@ -216,13 +78,13 @@ def _column(cell: str) -> tuple[str | None, str | None, str]:
     name, sep, unit = text.partition("_")  # our own spelling: frequency_mhz, level_dbm, rbw_khz
     if sep and name in ("frequency", "level", "rbw") and " " not in unit:
         return _checked_unit(name, unit, cell)
-    words, unit_text = _name_and_unit(cell)
-    name = _COLUMN_OF.get(normalise_words(words))
+    words, unit_text = name_and_unit(cell)
+    name = COLUMN_OF.get(normalise_words(words))
     if name is None:
         return None, None, f"{cell.strip()!r} is not a known column name"
     if unit_text is None:
         return name, None, ""
-    return _checked_unit(name, _unit_key(unit_text), cell)
+    return _checked_unit(name, unit_key(unit_text), cell)
 
 
 def _checked_unit(name: str, unit: str, cell: str) -> tuple[str | None, str | None, str]:
@@ -290,7 +152,7 @@ def _units_row(cells: list[str], ncols: int) -> list[tuple[str, str] | None] | N
         return None
     units = []
     for c in cells:
-        u = _unit_key(c.strip("[]()"))
+        u = unit_key(c.strip("[]()"))
         if u and u not in FREQ_UNITS and u not in LEVEL_UNITS:
             return None
         units.append((u, c) if u else None)
@@ -309,9 +171,9 @@ def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: boo
         m = re.match(r"^([^:=]+?)\s*[:=]\s*(.*)$", cells[0])
         if m:
             cells = [m.group(1), m.group(2)]
-    key_text, key_unit = _name_and_unit(cells[0])
+    key_text, key_unit = name_and_unit(cells[0])
     word = normalise_words(key_text)
-    fact = words.get(word, _SETTING_OF.get(word))
+    fact = words.get(word, SETTING_OF.get(word))
     value = cells[1] if len(cells) > 1 else ""
     unit = cells[2] if len(cells) > 2 and cells[2] else key_unit
     if fact is None or fact == "note" or (fact == "unit" and not value):
@@ -324,29 +186,17 @@ def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: boo
     if fact == "unit":
         fact = "freq_unit" if v in FREQ_UNITS else "level_unit"
     if fact in found and found[fact].value != v:
-        raise TraceError(f"setting {cells[0]!r} says {_show_fact(fact, v)}, but line {found[fact].lineno} "
-                         f"({found[fact].text!r}) says {_show_fact(fact, found[fact].value)}; expected one value",
+        raise TraceError(f"setting {cells[0]!r} says {show_fact(fact, v)}, but line {found[fact].lineno} "
+                         f"({found[fact].text!r}) says {show_fact(fact, found[fact].value)}; expected one value",
                          path=path, where=lineno)
     found.setdefault(fact, Fact(v, lineno, text.rstrip(delim or " ").rstrip(), "settings"))
-
-
-def _show_fact(fact: str, v) -> str:
-    if fact in _FREQ_FACTS:
-        from ..core.units import format_frequency
-
-        return format_frequency(float(v))
-    if fact == "reference_level_dbm":
-        return f"{float(v):g} dBm"
-    if fact in ("freq_unit", "level_unit"):
-        return show_unit(str(v))
-    return str(v)
 
 
 def _comment(text: str, lineno: int, path, meta: dict, notes: list) -> None:
     body = text[1:].strip()
     key, colon, value = body.partition(":")
     key = key.strip().lower()
-    key = _KEY_ALIASES.get(key, key)
+    key = KEY_ALIASES.get(key, key)
     if colon and key in META_KEYS:
         if key in meta:
             raise TraceError(f"'{key}' is given twice (first on line {meta[key].lineno})", path=path, where=lineno)
@@ -456,8 +306,8 @@ def read_head(raw: bytes, pos: int, path, layout=None) -> Head:
 
 def _no_header(sc: _Scan, text: str, lineno: int, path) -> TraceError:
     last_line, last_text, problem = sc.last
-    key = normalise_words(_name_and_unit(split_cells(last_text, _guess_delim(last_text))[0])[0]) if last_line else ""
-    if last_line and key not in _SETTING_OF:
+    key = normalise_words(name_and_unit(split_cells(last_text, _guess_delim(last_text))[0])[0]) if last_line else ""
+    if last_line and key not in SETTING_OF:
         why, where = f"line {last_line} ({last_text[:40]!r}) is not a header row: {problem}", last_line
     else:  # the data follow '#' lines or settings directly
         why, where = f"found data {text[:40]!r} with no header row above it", lineno
@@ -503,9 +353,9 @@ def _finish(raw, path, layout, sc: _Scan, dec_layout, data_lineno: int, data_pos
     else:
         head.columns, head.labels = list(sc.header), list(sc.header_cells)
         _unit_facts(head, sc.header, sc.header_cells, sc.units, sc.header_line, sc.units_line)
-    for name, unit_key in (("frequency", "freq_unit"), ("level", "level_unit")):
-        if unit_key in found:
-            head.unit_facts.setdefault(name, []).append(found[unit_key])
+    for name, fact_key in (("frequency", "freq_unit"), ("level", "level_unit")):
+        if fact_key in found:
+            head.unit_facts.setdefault(name, []).append(found[fact_key])
     head.native = (not sc.pending and sc.units_line is None and not trailing and layout is None
                    and all("_" in c and c.strip().lower().partition("_")[0] in ("frequency", "level", "rbw")
                            for c in head.labels))

@@ -34,7 +34,7 @@ from dataclasses import dataclass, field
 
 from .._toml import decode_text, loads
 from ..errors import TraceError
-from .trace_head import FREQ_UNITS, LEVEL_UNITS, SETTINGS_WORDS, normalise_words
+from .trace_words import FREQ_UNITS, LEVEL_UNITS, SETTINGS_WORDS, normalise_words
 
 __all__ = ["LAYOUT_VERSION", "MAX_LAYOUT_BYTES", "TraceLayout", "read_layout", "parse_layout"]
 

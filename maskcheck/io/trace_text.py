@@ -14,8 +14,9 @@ The format (maskcheck's own; see ``docs/trace-format.md``)::
     ...
 
 * optional ``# key: value`` lines at the top: ``rbw_hz``, ``enbw_hz``,
-  ``detector``, ``centre_hz``, ``reference_level_dbm``; any other comment
-  line is kept as a note;
+  ``vbw_hz``, ``detector``, ``centre_hz``, ``span_hz``,
+  ``reference_level_dbm``, ``sweep_points``; any other comment line is kept
+  as a note;
 * a header row naming the columns with their units: ``frequency_hz`` /
   ``_khz`` / ``_mhz`` / ``_ghz``, ``level_dbm`` / ``_dbw`` / ``_dbuv``
   (across 50 ohm) / ``_w`` / ``_mw``, optionally ``rbw_hz`` (one RBW per row);
@@ -23,6 +24,12 @@ The format (maskcheck's own; see ``docs/trace-format.md``)::
   order of preference) is taken from the header row; a decimal comma is
   accepted in semicolon-delimited files.  Blank lines and ``#`` lines among
   the data are skipped; line numbers in errors count every physical line.
+
+Exports as they come: the head above the data may also hold a settings
+block, header cells such as ``Frequency [Hz]``, a units row, and every row
+may end with the delimiter (:mod:`maskcheck.io.trace_head` reads the head,
+:mod:`maskcheck.io.trace_facts` decides each fact once, and a layout file,
+:mod:`maskcheck.io.trace_layout`, names what cannot be inferred).
 
 Speed
 -----
@@ -51,7 +58,6 @@ from __future__ import annotations
 
 import math
 import os
-import re
 import stat
 import struct
 import threading
@@ -61,11 +67,12 @@ import numpy as np
 
 from ..core.records import TraceFileRecord
 from ..core.spectrum import Spectrum
-from ..core.units import dbm_to_w, dbuv_to_dbm, dbw_to_w, format_frequency, parse_frequency
+from ..core.units import dbm_to_w, dbuv_to_dbm, dbw_to_w, parse_frequency
 from ..errors import MaskcheckError, SpectrumError, TraceError
 from .hashing import sha256_bytes
 from .trace_facts import check_against_data, file_unit, inferred_clauses, merge_facts
-from .trace_head import FREQ_UNITS, LEVEL_UNITS, Fact, Head, decode_line, number, parse_fact, read_head, show_unit, split_cells
+from .trace_head import Head, read_head
+from .trace_words import FREQ_UNITS, LEVEL_UNITS, decode_line, number, parse_fact, show_unit, split_cells
 
 try:  # an optional accelerator; the numpy converter gives the same numbers
     import orjson as _orjson
@@ -282,7 +289,6 @@ def _rows_slow(raw: bytes, pos: int, lineno: int, layout: _Layout, path):
     rows, linenos, first = [], [], []
     prev_f, prev_line, prev_text = -math.inf, 0, ""
     linear = layout.level_unit in ("w", "mw")
-    delim = layout.delim
     for line in raw[pos:].split(b"\n"):
         lineno += 1
         text = decode_line(line, path, lineno).strip()
