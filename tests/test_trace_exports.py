@@ -47,6 +47,7 @@ EXPORTS = {
     # a settings block with units in a cell of their own, semicolons, decimal commas, a trailing ';', CRLF
     "settings with units, ';', decimal comma, trailing ';', CRLF": (
         "Instrument;invented bench analyser;\r\nRun;3;\r\nCenter Frequency;145,5;MHz;\r\nSpan;200;kHz;\r\n"
+        "Start;145,4;MHz;\r\nStop;145,6;MHz;\r\nTrace Mode;;\r\nDetector Mode;;\r\n"
         "RBW;10000;Hz;\r\nVBW;30;kHz;\r\nRef Level;-10;dBm;\r\nDetector;RMS;\r\nSweep Points;11;\r\n\r\n"
         "Frequency [Hz];Level (dBm);\r\n" + _rows(1, ";", comma=True, trailing=";", eol="\r\n")),
     # a settings block without units (Hz and dBm understood), commas, a header with units in parentheses
@@ -91,11 +92,12 @@ def test_the_settings_block_facts_and_notes(tmp_path):
     assert s.centre_hz == 145.5e6  # Closed form: 145,5 MHz with a decimal comma
     assert tf.span_hz == 200e3 and tf.vbw_hz == 30e3  # Closed form: kHz = 1e3 Hz
     assert tf.reference_level_dbm == -10.0 and tf.sweep_points == 11 and tf.rbw_from == "settings"
-    assert s.notes == ("Instrument: invented bench analyser", "Run: 3")  # the other settings, kept as notes
+    # the other settings, kept as notes (a key without a value states nothing)
+    assert s.notes == ("Instrument: invented bench analyser", "Run: 3", "Trace Mode", "Detector Mode")
     reading = tf.reading
-    assert reading.startswith("settings block of 9 line(s); ")
+    assert reading.startswith("settings block of 13 line(s); ") and "stop 145.6 MHz (from 'Stop;145,6;MHz')" in reading
     assert "RBW 10 kHz (from 'RBW;10000;Hz')" in reading and "detector rms (from 'Detector;RMS')" in reading
-    assert "header row on line 11" in reading and "every row ends with ';'" in reading
+    assert "header row on line 15" in reading and "every row ends with ';'" in reading
     assert reading.endswith("columns 1 = frequency in Hz, 2 = level in dBm")
 
 
@@ -172,6 +174,10 @@ BAD = {
     "sweep points against the rows": ("RBW;10;kHz\nSweep Points;1001\n" + HEADER + ROWS, 2, ["1001", "11 data row"]),
     "span against the data (a unit mix-up)": ("RBW;10;kHz\nSpan;200;Hz\n" + HEADER + ROWS, 2,
                                               ["span of 200 Hz", "frequency unit"]),
+    "stop against the data": ("RBW;10;kHz\nStart Frequency;145,4;MHz\nStop Frequency;145,7;MHz\n" + HEADER + ROWS,
+                              3, ["a stop of 145.7 MHz"]),
+    "start in another unit": ("RBW;10;kHz\nStart;145,4;kHz\n" + HEADER + ROWS, 2, ["a start of 145.4 kHz"]),
+    "a zero span": ("RBW;10;kHz\nSpan;0;Hz\n" + HEADER + ROWS, 2, ["zero-span"]),
     "centre outside the data": ("RBW;10;kHz\nCenter Frequency;7,1;MHz\n" + HEADER + ROWS, 2, ["centre of 7.1 MHz"]),
     "unknown column word": ("RBW;10;kHz\nFrequency [Hz];Trace A [dBm]\n" + ROWS, 2, ["Trace A", "--layout"]),
     "no header row": ("RBW;10;kHz\n" + ROWS, 2, ["no header row above it", "--layout"]),

@@ -22,7 +22,7 @@ __all__ = ["FACT_WORDS", "merge_facts", "file_unit", "check_against_data", "infe
 
 #: how each fact is named in messages and in the line that says what was inferred
 FACT_WORDS = {"rbw_hz": "RBW", "enbw_hz": "ENBW", "vbw_hz": "VBW", "detector": "detector", "centre_hz": "centre",
-              "span_hz": "span", "reference_level_dbm": "reference level", "sweep_points": "sweep points",
+              "span_hz": "span", "start_hz": "start", "stop_hz": "stop", "reference_level_dbm": "reference level", "sweep_points": "sweep points",
               "freq_unit": "frequency unit", "level_unit": "level unit"}
 #: facts the command line can give, and the parameter that gives them
 _OPTION_OF = {"rbw_hz": "rbw_hz", "detector": "detector", "frequency": "freq_unit", "level": "level_unit",
@@ -97,13 +97,18 @@ def check_against_data(facts: dict, freq_hz, path) -> None:
     centre = facts.get("centre_hz")
     if centre is not None and centre.origin != "settings":
         centre = None  # a '#' centre is the author's own statement (e.g. of the carrier), not the sweep's
-    if span is None and centre is None:
+    ends = [(facts.get(k), i, w) for k, i, w in (("start_hz", 0, "a start"), ("stop_hz", -1, "a stop"))]
+    if span is None and centre is None and not any(f for f, _, _ in ends):
         return
     f0, f1 = float(freq_hz[0]), float(freq_hz[-1])
     step = (f1 - f0) / (n - 1) if n > 1 else 0.0
     tol = 1.01 * step + 1e-9 * max(abs(f0), abs(f1))
     runs = f"the data run from {format_frequency(f0)} to {format_frequency(f1)}"
     hint = "; expected data over the sweep the settings describe (is the frequency unit right?)"
+    for fact, i, word in ends:
+        if fact is not None and abs(float(freq_hz[i]) - fact.value) > tol:
+            raise TraceError(f"{runs}, but {_where(fact)} gives {word} of {format_frequency(fact.value)}{hint}",
+                             path=path, where=fact.lineno)
     if span is not None and abs((f1 - f0) - span.value) > tol:
         raise TraceError(f"{runs}, but {_where(span)} gives a span of {format_frequency(span.value)}{hint}",
                          path=path, where=span.lineno)

@@ -176,7 +176,7 @@ def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: boo
     fact = words.get(word, SETTING_OF.get(word))
     value = cells[1] if len(cells) > 1 else ""
     unit = cells[2] if len(cells) > 2 and cells[2] else key_unit
-    if fact is None or fact == "note" or (fact == "unit" and not value):
+    if fact is None or fact == "note" or not value:  # a key with no value states nothing: a note
         notes.append(f"{cells[0]}: {' '.join(c for c in cells[1:] if c)}".rstrip(": ") if len(cells) > 1 else cells[0])
         return
     if len(cells) > 3 and any(cells[3:]):

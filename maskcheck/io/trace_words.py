@@ -27,7 +27,8 @@ _SHOW = {"hz": "Hz", "khz": "kHz", "mhz": "MHz", "ghz": "GHz",
          "dbm": "dBm", "dbw": "dBW", "dbuv": "dBµV", "w": "W", "mw": "mW"}
 
 #: the ``# key: value`` keys of our own format (``center_hz`` is read as ``centre_hz``)
-META_KEYS = ("rbw_hz", "enbw_hz", "vbw_hz", "detector", "centre_hz", "span_hz", "reference_level_dbm", "sweep_points")
+META_KEYS = ("rbw_hz", "enbw_hz", "vbw_hz", "detector", "centre_hz", "span_hz", "start_hz", "stop_hz",
+             "reference_level_dbm", "sweep_points")
 KEY_ALIASES = {"center_hz": "centre_hz"}
 
 #: The words of a settings block's first cell that name a fact, after :func:`normalise_words`
@@ -39,6 +40,8 @@ SETTINGS_WORDS = {
     "detector": ("detector", "det", "trace detector", "detector mode"),
     "centre_hz": ("centre", "center", "cf", "centre frequency", "center frequency", "centre freq", "center freq"),
     "span_hz": ("span", "frequency span", "freq span", "sweep span"),
+    "start_hz": ("start", "start frequency", "start freq", "freq start", "f start"),
+    "stop_hz": ("stop", "stop frequency", "stop freq", "freq stop", "f stop"),
     "reference_level_dbm": ("ref level", "reference level", "ref lvl", "reflevel", "ref level dbm"),
     "sweep_points": ("sweep points", "points", "trace points", "number of points", "no of points", "num points",
                      "nr of points"),
@@ -62,7 +65,7 @@ DETECTOR_ALIASES = {"avg": "average", "av": "average", "qp": "quasi-peak", "quas
 # a unit written after the name: "name [unit]", "name (unit)", "name / unit", "name in unit"
 _UNIT_FORMS = (re.compile(r"^(.*?)\s*\[\s*([^\]]*?)\s*\]$"), re.compile(r"^(.*?)\s*\(\s*([^)]*?)\s*\)$"),
                re.compile(r"^(.*?)\s*/\s*([^/\s]+)$"), re.compile(r"^(.*?)\s+in\s+(\S+)$", re.IGNORECASE))
-_FREQ_FACTS = ("rbw_hz", "enbw_hz", "vbw_hz", "centre_hz", "span_hz")
+_FREQ_FACTS = ("rbw_hz", "enbw_hz", "vbw_hz", "centre_hz", "span_hz", "start_hz", "stop_hz")
 
 
 def show_unit(unit: str) -> str:
@@ -150,8 +153,12 @@ def parse_fact(key: str, value: str, unit: str | None, path, lineno, *, decimal_
         freq = parse_frequency(f"{value} {unit}" if unit else value, what=key, default_unit="Hz")
     except MaskcheckError as exc:
         raise TraceError(exc.message, path=path, where=lineno) from None
-    if key != "centre_hz" and not freq > 0:
-        raise TraceError(f"{key} {value!r} is {freq:g} Hz; expected a bandwidth > 0", path=path, where=lineno)
+    if key in ("centre_hz", "start_hz", "stop_hz"):
+        if not freq >= 0:
+            raise TraceError(f"{key} {value!r} is {freq:g} Hz; expected a frequency >= 0", path=path, where=lineno)
+    elif not freq > 0:
+        what = "a span > 0 (a zero-span sweep is not a spectrum)" if key == "span_hz" else "a bandwidth > 0"
+        raise TraceError(f"{key} {value!r} is {freq:g} Hz; expected {what}", path=path, where=lineno)
     return freq
 
 
