@@ -34,7 +34,7 @@ from dataclasses import dataclass, field
 
 from .._toml import decode_text, loads
 from ..errors import TraceError
-from .trace_words import FREQ_UNITS, LEVEL_UNITS, SETTINGS_WORDS, normalise_words
+from .trace_words import FREQ_UNITS, LEVEL_UNITS, SETTINGS_WORDS, normalise_words, opening
 
 __all__ = ["LAYOUT_VERSION", "MAX_LAYOUT_BYTES", "TraceLayout", "read_layout", "parse_layout"]
 
@@ -84,19 +84,12 @@ class TraceLayout:
 def read_layout(path) -> TraceLayout:
     """Read and validate a layout file; TraceError naming the file and the key otherwise."""
     label = os.fspath(path)
-    try:
-        with open(path, "rb") as fh:
-            st = os.fstat(fh.fileno())
-            if stat.S_ISREG(st.st_mode) and st.st_size > MAX_LAYOUT_BYTES:
-                raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_LAYOUT_BYTES} a layout file may "
-                                 "hold; expected a small TOML file", path=label)
-            data = fh.read(MAX_LAYOUT_BYTES + 1)
-    except FileNotFoundError:
-        raise TraceError("file not found; expected a layout file (TOML)", path=label) from None
-    except IsADirectoryError:
-        raise TraceError("is a directory; expected a layout file (TOML)", path=label) from None
-    except OSError as exc:
-        raise TraceError(f"cannot be read ({exc.strerror or exc})", path=label) from None
+    with opening(label, "a layout file (TOML)"), open(path, "rb") as fh:
+        st = os.fstat(fh.fileno())
+        if stat.S_ISREG(st.st_mode) and st.st_size > MAX_LAYOUT_BYTES:
+            raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_LAYOUT_BYTES} a layout file may "
+                             "hold; expected a small TOML file", path=label)
+        data = fh.read(MAX_LAYOUT_BYTES + 1)
     if len(data) > MAX_LAYOUT_BYTES:
         raise TraceError(f"holds more than the {MAX_LAYOUT_BYTES} bytes a layout file may hold; expected a small "
                          "TOML file", path=label)

@@ -72,7 +72,7 @@ from ..errors import MaskcheckError, SpectrumError, TraceError
 from .hashing import sha256_bytes
 from .trace_facts import check_against_data, file_unit, inferred_clauses, merge_facts
 from .trace_head import Head, read_head
-from .trace_words import FREQ_UNITS, LEVEL_UNITS, decode_line, number, parse_fact, show_unit, split_cells
+from .trace_words import FREQ_UNITS, LEVEL_UNITS, decode_line, number, opening, parse_fact, show_unit, split_cells
 
 try:  # an optional accelerator; the numpy converter gives the same numbers
     import orjson as _orjson
@@ -429,24 +429,15 @@ MAX_TRACE_BYTES = 1 << 30
 
 def _read_bytes(path) -> bytes:
     """The file's bytes, with its size and its longest line checked against the bounds before parsing."""
-    try:
-        with open(path, "rb") as fh:
-            st = os.fstat(fh.fileno())
-            if stat.S_ISREG(st.st_mode):
-                if st.st_size > MAX_TRACE_BYTES:
-                    raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_TRACE_BYTES} a trace file may hold; "
-                                     "expected a text trace (split the sweep into several files)", path=path)
-                raw = fh.read(MAX_TRACE_BYTES + 1)
-            else:  # a device or a pipe: read in blocks, every block checked before the next is taken
-                raw = _read_stream(fh, path)
-    except TraceError:
-        raise
-    except FileNotFoundError:
-        raise TraceError("file not found; expected a trace file", path=path) from None
-    except IsADirectoryError:
-        raise TraceError("is a directory; expected a trace file", path=path) from None
-    except OSError as exc:
-        raise TraceError(f"cannot be read ({exc.strerror or exc})", path=path) from None
+    with opening(path, "a trace file"), open(path, "rb") as fh:
+        st = os.fstat(fh.fileno())
+        if stat.S_ISREG(st.st_mode):
+            if st.st_size > MAX_TRACE_BYTES:
+                raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_TRACE_BYTES} a trace file may hold; "
+                                 "expected a text trace (split the sweep into several files)", path=path)
+            raw = fh.read(MAX_TRACE_BYTES + 1)
+        else:  # a device or a pipe: read in blocks, every block checked before the next is taken
+            raw = _read_stream(fh, path)
     _check_lines(raw, path)
     return raw
 

@@ -8,6 +8,7 @@ test holds the two together).  Words are compared after
 
 from __future__ import annotations
 
+import contextlib
 import math
 import re
 
@@ -17,7 +18,7 @@ from ..errors import MaskcheckError, TraceError
 
 __all__ = ["FREQ_UNITS", "LEVEL_UNITS", "META_KEYS", "KEY_ALIASES", "SETTINGS_WORDS", "SETTING_OF", "COLUMN_WORDS",
            "COLUMN_OF", "DETECTOR_ALIASES", "decode_line", "number", "split_cells", "normalise_words", "unit_key",
-           "name_and_unit", "parse_fact", "show_unit", "show_fact"]
+           "name_and_unit", "parse_fact", "show_unit", "show_fact", "opening"]
 
 #: Frequency units a header or ``freq_unit`` may name, with their factor to Hz.
 FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
@@ -171,3 +172,16 @@ def show_fact(key: str, value) -> str:
     if key in ("freq_unit", "level_unit", "frequency", "level", "rbw"):
         return show_unit(str(value))
     return str(value)
+
+
+@contextlib.contextmanager
+def opening(path, expected: str):
+    """Turn the errors of opening and reading ``path`` into one-line TraceErrors ("expected a trace file")."""
+    try:
+        yield
+    except FileNotFoundError:
+        raise TraceError(f"file not found; expected {expected}", path=path) from None
+    except IsADirectoryError:
+        raise TraceError(f"is a directory; expected {expected}", path=path) from None
+    except OSError as exc:
+        raise TraceError(f"cannot be read ({exc.strerror or exc})", path=path) from None
