@@ -140,6 +140,21 @@ def test_check_says_what_it_inferred_once_and_records_it(tmp_path, capsys):
     assert d["spectrum"]["rbw_hz_min"] == 10e3  # Source: the 'RBW;10000;Hz' setting
 
 
+def test_an_override_is_recorded_in_the_result_and_quiet_silences_only_the_line(tmp_path, capsys):
+    path = _hf_export(tmp_path)
+    out = tmp_path / "r.json"
+    assert main(["check", str(path), *HF, "--rbw", "30kHz", "--json", str(out), "--quiet"]) in (0, 1, 3)
+    assert "read '" not in capsys.readouterr().err  # --quiet: not said ...
+    entry = json.loads(out.read_text())["inputs"][0]
+    assert entry["reading"].startswith("settings block of 4 line(s)")  # ... but recorded
+    assert "option rbw_hz=30000 Hz overrides the file's 10000 Hz (line 2)" in entry["notes"]
+    assert "Instrument: invented" in entry["notes"]  # the other settings, kept as notes
+    # the bandwidth command records the same
+    assert main(["bandwidth", str(path), "--rbw", "30kHz", "--json", str(tmp_path / "b.json")]) == 0
+    trace = json.loads((tmp_path / "b.json").read_text())["trace"]
+    assert trace["reading"] == entry["reading"] and trace["notes"] == entry["notes"]
+
+
 def test_a_file_in_our_own_format_says_nothing_and_records_no_reading(tmp_path, capsys):
     path = tmp_path / "own.txt"
     assert main(["convert", str(_hf_export(tmp_path)), "--out", str(path), "--quiet"]) == 0

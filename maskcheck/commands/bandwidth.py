@@ -64,7 +64,10 @@ def run(args) -> int:
     if args.json:
         payload = {
             "trace": {"path": args.trace, "sha256": spectrum.sha256,
-                      **({"reading": spectrum.trace_file.reading} if spectrum.trace_file.inferred else {})},
+                      **({"reading": spectrum.trace_file.reading} if spectrum.trace_file.inferred else {}),
+                      **({"notes": list(spectrum.notes)} if spectrum.notes else {}),
+                      **({"layout": {"path": spectrum.trace_file.layout, "sha256": spectrum.trace_file.layout_sha256}}
+                         if spectrum.trace_file.layout else {})},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
             "sampling": None if bias is None else bias.to_dict(),
