@@ -436,10 +436,12 @@ def test_a_layout_file_over_its_bound_is_refused_unread(tmp_path):
         read_layout(layout)
 
 
-def test_fast_and_exact_paths_agree_on_trailing_delimiters_and_decimal_commas():
+@pytest.mark.parametrize("chunk_bytes", [64, 128 << 10])
+def test_fast_and_exact_paths_agree_on_trailing_delimiters_and_decimal_commas(monkeypatch, chunk_bytes):
     import maskcheck.io.trace_text as tt
     from maskcheck.io.trace_head import read_head
 
+    monkeypatch.setattr(tt, "_CHUNK_BYTES", chunk_bytes)  # small chunks: CRLF rows cut between CR and LF
     # Reference: the exact line-by-line pass; the fast path must accept these and give the same numbers
     for text in (EXPORTS["settings with units, ';', decimal comma, trailing ';', CRLF"], EXPORTS["trailing ','"]):
         raw = text.encode()

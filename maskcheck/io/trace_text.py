@@ -226,7 +226,9 @@ def _rows_fast(raw: bytes, start: int, delim: str | None, ncols: int, decimal_co
 def _without_trailing(block: bytes, d: bytes) -> bytes | None:
     """``block`` with the delimiter at the end of each line removed, or None unless every line ends with one."""
     out = block.replace(d + b"\r\n", b"\r\n").replace(d + b"\n", b"\n")
-    if out.endswith(d):
+    if out.endswith(d + b"\r"):  # a chunk is cut at a newline: its last line may end in CRLF's CR
+        out = out[:-2] + b"\r"
+    elif out.endswith(d):
         out = out[:-1]
     return out if len(block) - len(out) == block.count(b"\n") + 1 else None
 
