@@ -228,6 +228,15 @@ def test_an_option_that_gives_the_value_settles_a_disagreement_and_is_recorded(t
     assert "gives rbw_hz twice" in notes and "overrides the file's 30000 Hz" in notes
 
 
+def test_an_option_stands_in_for_a_setting_the_reader_cannot_read(tmp_path):
+    path = tmp_path / "d.csv"
+    path.write_text("RBW;10;kHz\nDetector;Normal\n" + HEADER + ROWS)
+    with pytest.raises(TraceError, match="'Normal'"):  # without the option: refused, not guessed
+        read_trace(path)
+    s = read_trace(path, detector="peak")
+    assert s.detector == "peak" and "Detector: Normal (not read; the option gives detector)" in s.notes
+
+
 def test_an_option_over_a_header_unit_is_recorded(tmp_path):
     path = tmp_path / "u.csv"
     path.write_text("RBW;10;kHz\nFrequency [MHz];Level [dBm]\n" + ROWS)

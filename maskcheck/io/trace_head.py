@@ -163,7 +163,7 @@ def _units_row(cells: list[str], ncols: int) -> list[tuple[str, str] | None] | N
 # the settings block
 # ---------------------------------------------------------------------------
 def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: bool, words: dict, notes: list,
-             found: dict) -> None:
+             found: dict, given=frozenset()) -> None:
     cells = split_cells(text, delim)
     while len(cells) > 1 and cells[-1] == "":
         cells.pop()
@@ -182,7 +182,14 @@ def _setting(text: str, delim: str | None, lineno: int, path, decimal_comma: boo
     if len(cells) > 3 and any(cells[3:]):
         raise TraceError(f"setting {cells[0]!r} holds {len(cells)} cells {text[:60]!r}; expected a key, a value "
                          "and maybe a unit", path=path, where=lineno)
-    v = parse_fact(fact, value, unit, path, lineno, decimal_comma=decimal_comma)
+    try:
+        v = parse_fact(fact, value, unit, path, lineno, decimal_comma=decimal_comma)
+    except TraceError:
+        if fact not in given:
+            raise
+        # the option gives this fact: a value the reader cannot read is kept, and says so
+        notes.append(f"{cells[0]}: {' '.join(cells[1:])} (not read; the option gives {fact})")
+        return
     if fact == "unit":
         fact = "freq_unit" if v in FREQ_UNITS else "level_unit"
     if fact in found and found[fact].value != v:
@@ -246,12 +253,15 @@ class _Scan:
     last_line: int = 0  # the last line that is not blank
 
 
-def read_head(raw: bytes, pos: int, path, layout=None) -> Head:
+def read_head(raw: bytes, pos: int, path, layout=None, given=frozenset()) -> Head:
     """Read the head of a trace file (everything above the first data row).
 
     ``layout`` (a :class:`~maskcheck.io.trace_layout.TraceLayout`) names the
     delimiter, the decimal mark, the number of head lines and the columns
-    when the file's own words do not.  Raises TraceError naming the line.
+    when the file's own words do not.  ``given`` names the facts the caller's
+    options give (``rbw_hz``, ``detector``, ``freq_unit``, ``level_unit``): a
+    setting of one of them that cannot be read becomes a note instead of an
+    error.  Raises TraceError naming the line.
     """
     sc = _Scan()
     if layout is not None and layout.delimiter_set:
@@ -301,7 +311,7 @@ def read_head(raw: bytes, pos: int, path, layout=None) -> Head:
         lineno += 1
         if head_limit is None:
             raise _no_data(sc, saw_any, path)
-    return _finish(raw, path, layout, sc, dec_layout, lineno, data_pos)
+    return _finish(raw, path, layout, sc, dec_layout, lineno, data_pos, given)
 
 
 def _no_header(sc: _Scan, text: str, lineno: int, path) -> TraceError:
@@ -330,7 +340,7 @@ def _no_data(sc: _Scan, saw_any: bool, path) -> TraceError:
                       "such as 'Frequency [Hz];Level [dBm]' followed by data rows", path=path, where=last or None)
 
 
-def _finish(raw, path, layout, sc: _Scan, dec_layout, data_lineno: int, data_pos: int) -> Head:
+def _finish(raw, path, layout, sc: _Scan, dec_layout, data_lineno: int, data_pos: int, given=frozenset()) -> Head:
     """The head once the first data line (``data_lineno``, at byte ``data_pos``) is known."""
     first_text = _first_row(raw, data_pos, data_lineno, path)
     delim = sc.delim if sc.delim_fixed else _guess_delim(first_text)
@@ -338,7 +348,7 @@ def _finish(raw, path, layout, sc: _Scan, dec_layout, data_lineno: int, data_pos
     words = {} if layout is None else dict(layout.settings)
     found: dict = {}
     for lineno, text in sc.pending:
-        _setting(text, delim, lineno, path, dec, words, sc.notes, found)
+        _setting(text, delim, lineno, path, dec, words, sc.notes, found, given)
     data_cells = split_cells(first_text, delim) if first_text else []
     # a trailing delimiter: one empty cell more than the header names (with a layout: any empty last cell)
     trailing = (delim is not None and len(data_cells) > 1 and data_cells[-1] == ""

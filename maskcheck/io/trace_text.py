@@ -591,7 +591,9 @@ def _units(head, path, freq_opt, level_opt, notes, hint):
 def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, layout, digest, hasher) -> Spectrum:
     rbw_opt, freq_opt, level_opt, det_opt = _options(path, rbw_opt, freq_opt, level_opt, det_opt)
     start = len(_BOM) if raw.startswith(_BOM) else 0
-    head = read_head(raw, start, path, layout)
+    given = {k for k, v in (("rbw_hz", rbw_opt), ("detector", det_opt), ("freq_unit", freq_opt),
+                            ("level_unit", level_opt)) if v is not None}
+    head = read_head(raw, start, path, layout, given)
     notes = list(head.notes)
     hint = " or describe the file with layout=FILE" if layout is None else f" (or in the layout {layout.path})"
     facts = merge_facts(head, path, {k for k, v in (("rbw_hz", rbw_opt), ("detector", det_opt)) if v is not None})
