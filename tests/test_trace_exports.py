@@ -503,3 +503,17 @@ def test_the_format_note_lists_exactly_the_words_the_reader_knows():
             columns["rbw" if first == "per-row RBW" else first] = listed
     assert settings == SETTINGS_WORDS
     assert columns == COLUMN_WORDS
+
+
+def test_the_example_exports_read_to_the_same_spectrum(tmp_path, capsys):
+    # the two invented example exports in examples/exports hold the same sweep in two shapes
+    from pathlib import Path
+
+    folder = Path(__file__).resolve().parents[1] / "examples" / "exports"
+    a = read_trace(folder / "vhf-handheld-zoom.csv")
+    b = read_trace(folder / "vhf-handheld-zoom-other-words.txt", layout=folder / "other-words-layout.toml")
+    assert a.freq_hz.tolist() == b.freq_hz.tolist() and a.power_w.tolist() == b.power_w.tolist()
+    assert (a.rbw_hz[0], a.detector, a.trace_file.sweep_points) == (b.rbw_hz[0], b.detector, 201) == (1e3, "rms", 201)
+    assert "RBW 1 kHz (from 'Aufloesung<tab>1<tab>kHz')" in b.trace_file.reading
+    assert all("invented" in (folder / n).read_text() for n in
+               ("vhf-handheld-zoom.csv", "vhf-handheld-zoom-other-words.txt", "other-words-layout.toml"))

@@ -120,6 +120,11 @@ def check_against_data(facts: dict, freq_hz, path) -> None:
                              path=path, where=centre.lineno)
 
 
+def _quoted(text: str) -> str:
+    """A line as found, quoted for people: a tab shows as <tab>."""
+    return "'" + text.replace("\t", "<tab>") + "'"
+
+
 def inferred_clauses(head: Head, layout, columns_text: str) -> tuple[str, ...]:
     """What the reader inferred, one clause each (empty for a file in our own format).
 
@@ -134,7 +139,7 @@ def inferred_clauses(head: Head, layout, columns_text: str) -> tuple[str, ...]:
     if head.settings_lines:
         out.append(f"settings block of {head.settings_lines} line(s)")
     for key, f in sorted(head.settings.items(), key=lambda kv: kv[1].lineno):
-        out.append(f"{FACT_WORDS[key]} {show_fact(key, f.value)} (from {f.text!r})")
+        out.append(f"{FACT_WORDS[key]} {show_fact(key, f.value)} (from {_quoted(f.text)})")
     if head.header_row is not None and not head.native:
         out.append(f"header row on line {head.header_row}")
     if head.units_row is not None:
