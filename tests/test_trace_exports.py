@@ -517,3 +517,34 @@ def test_the_example_exports_read_to_the_same_spectrum(tmp_path, capsys):
     assert "RBW 1 kHz (from 'Aufloesung<tab>1<tab>kHz')" in b.trace_file.reading
     assert all("invented" in (folder / n).read_text() for n in
                ("vhf-handheld-zoom.csv", "vhf-handheld-zoom-other-words.txt", "other-words-layout.toml"))
+
+
+#: convert's options that describe the input -> (arguments A, arguments B): the written files differ, or one is refused
+CONVERT_CASES = {
+    "--rbw": ([], ["--rbw", "30kHz"]),
+    "--freq-unit": ([], ["--freq-unit", "khz"]),
+    "--level-unit": ([], ["--level-unit", "dbw"]),
+    "--detector": ([], ["--detector", "peak"]),
+    "--layout": ([], ["--layout", "LAYOUT"]),
+}
+CONVERT_OUTPUT_ONLY = {"--out", "--force", "--quiet", "--help"}
+
+
+def test_every_convert_option_changes_the_output_or_is_refused(tmp_path, capsys):
+    # Common practice, no published source: a structural audit of the command line, as tests/test_option_audit.py
+    sub = next(a for a in build_parser()._actions if a.__class__.__name__ == "_SubParsersAction")
+    options = {o for a in sub.choices["convert"]._actions for o in a.option_strings if o.startswith("--")}
+    assert options == set(CONVERT_CASES) | CONVERT_OUTPUT_ONLY
+    export = tmp_path / "e.csv"
+    export.write_text("RBW;10;kHz\nDetector;RMS\nFrequency;Level\nHz;dBm\n" + ROWS)
+    layout = tmp_path / "l.toml"
+    layout.write_text('layout_version = 1\n[columns]\nfrequency = 1\nlevel = 2\n')
+    for option, (a_args, b_args) in CONVERT_CASES.items():
+        got = []
+        for k, extra in enumerate((a_args, b_args)):
+            out = tmp_path / f"{option.strip('-')}-{k}.txt"
+            code = main(["convert", str(export), "--out", str(out), "--quiet",
+                         *[str(layout) if x == "LAYOUT" else x for x in extra]])
+            got.append(None if code == 2 else out.read_text())
+        capsys.readouterr()
+        assert None in got or got[0] != got[1], f"{option}: accepted and changed nothing"
