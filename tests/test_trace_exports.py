@@ -237,6 +237,14 @@ def test_an_option_stands_in_for_a_setting_the_reader_cannot_read(tmp_path):
     assert s.detector == "peak" and "Detector: Normal (not read; the option gives detector)" in s.notes
 
 
+def test_a_missing_rbw_points_to_a_note_that_names_one(tmp_path):
+    path = tmp_path / "n.txt"
+    path.write_text("# RBW: 10 kHz\nfrequency_hz,level_dbm\n1,-1\n")
+    with pytest.raises(TraceError) as info:
+        read_trace(path)
+    assert "the note 'RBW: 10 kHz' names one" in str(info.value) and "--rbw" in error_line(info.value)
+
+
 def test_an_option_over_a_header_unit_is_recorded(tmp_path):
     path = tmp_path / "u.csv"
     path.write_text("RBW;10;kHz\nFrequency [MHz];Level [dBm]\n" + ROWS)

@@ -72,7 +72,8 @@ from ..errors import MaskcheckError, SpectrumError, TraceError
 from .hashing import sha256_bytes
 from .trace_facts import check_against_data, file_unit, inferred_clauses, merge_facts
 from .trace_head import Head, read_head
-from .trace_words import FREQ_UNITS, LEVEL_UNITS, decode_line, number, opening, parse_fact, show_unit, split_cells
+from .trace_words import (FREQ_UNITS, LEVEL_UNITS, SETTINGS_WORDS, decode_line, normalise_words, number, opening,
+                          parse_fact, show_unit, split_cells)
 
 try:  # an optional accelerator; the numpy converter gives the same numbers
     import orjson as _orjson
@@ -608,8 +609,10 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, layout, digest, hash
     rbw_from = ("option" if rbw_opt is not None else "column" if has_rbw_col else None if rbw_fact is None
                 else "settings" if rbw_fact.origin == "settings" else "file")
     if rbw_from is None:
-        raise TraceError("no resolution bandwidth: add a line '# rbw_hz: 10 kHz' at the top of the file, "
-                         "or give rbw_hz", path=path, param="rbw_hz")
+        named = next((n for n in head.notes if normalise_words(n.partition(":")[0]) in SETTINGS_WORDS["rbw_hz"]), None)
+        seen = f" (the note {named!r} names one, but a '#' line is read only as '# rbw_hz: ...')" if named else ""
+        raise TraceError(f"no resolution bandwidth: add a line '# rbw_hz: 10 kHz' at the top of the file, "
+                         f"or give rbw_hz{seen}", path=path, param="rbw_hz")
     for key in ("rbw_hz", "detector"):  # an option over a '#' line and a setting that disagree: both recorded
         a, b = head.meta.get(key), head.settings.get(key)
         if a is not None and b is not None and a.value != b.value:
