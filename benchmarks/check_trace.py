@@ -15,6 +15,11 @@ disk before anything is timed, and prints, measured in this run:
    numpy.loadtxt(...)"``, the like-for-like figure) and inside this process
    (aim <= 3 x, <= 200 MiB); then, inside this process, the check step on a
    freshly read spectrum against the read (aim <= 0.5 x).
+4. **An export as it comes**: the same points written as a bench export
+   (a settings block, semicolons, decimal commas, a ';' ending every row,
+   CRLF) against the tool's own format: ``read_trace`` of each in this
+   process, and the whole ``maskcheck convert`` process with its peak RSS
+   (aim: read ratio <= 1.5, RSS ratio <= 1.2; 200,001 points with ``--quick``).
 3. **Repeated checks** from Python in one process (what a campaign does):
    the first call and the median of the next ``--calls`` calls of
    ``check(spectrum, mask, station)``, and of the whole step
@@ -54,11 +59,13 @@ LARGE = dict(n_points=1_000_001, carrier="150MHz", carrier_hz=150e6)
 CLI = [sys.executable, "-m", "maskcheck.cli"]
 
 
-def write_trace(path: Path, n_points: int, seed: int = 20240601, digits: str = "short") -> None:
+def write_trace(path: Path, n_points: int, seed: int = 20240601, digits: str = "short", shape: str = "own") -> None:
     """A comma-delimited trace: 100 Hz steps from 100 MHz, noise near -110 dBm, five spurs.
 
     ``digits="short"`` writes 0.1 Hz and 0.001 dB (numpy.loadtxt's best case);
     ``digits="full"`` writes every number with all 17 significant digits.
+    ``shape="export"`` writes the same numbers as a bench export (a settings
+    block, ';' with decimal commas, a ';' ending every row, CRLF).
     The file is flushed to disk before the function returns.
     """
     rng = np.random.default_rng(seed)
@@ -71,8 +78,15 @@ def write_trace(path: Path, n_points: int, seed: int = 20240601, digits: str = "
         body = "\n".join(f"{f!r},{v!r}" for f, v in zip(freq_hz.tolist(), level_dbm.tolist()))
     else:
         body = "\n".join(f"{f:.1f},{v:.3f}" for f, v in zip(freq_hz.tolist(), level_dbm.tolist()))
-    with open(path, "w", encoding="utf-8") as fh:
-        fh.write("\n".join(HEADER_LINES) + "\n" + body + "\n")
+    if shape == "export":
+        head = ["Instrument;synthetic benchmark data, invented;", "RBW;1;kHz;", "Detector;RMS;",
+                f"Sweep Points;{n_points};", "Frequency [Hz];Level [dBm];"]
+        body = body.replace(",", ";").replace(".", ",").replace("\n", ";\r\n")
+        text = "\r\n".join(head) + "\r\n" + body + ";\r\n"
+    else:
+        text = "\n".join(HEADER_LINES) + "\n" + body + "\n"
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.write(text)
         fh.flush()
         os.fsync(fh.fileno())
 
@@ -176,6 +190,27 @@ def large(folder: Path, repeats: int) -> None:
           f"check {t_check * 1e3:.0f} ms; ratio check / read {t_check / t_read:.2f}  (aim <= 0.5)")
 
 
+def export_shape(folder: Path, repeats: int, n: int) -> None:
+    from maskcheck.io.trace_text import read_trace
+
+    own, export = folder / f"own_{n}.csv", folder / f"export_{n}.csv"
+    write_trace(own, n)
+    write_trace(export, n, shape="export")
+    t_own, a = best_of(repeats, lambda: read_trace(own))
+    t_exp, b = best_of(repeats, lambda: read_trace(export))
+    same = bool(np.array_equal(a.freq_hz, b.freq_hz) and np.array_equal(a.power_w, b.power_w))
+    cmds = {k: (CLI + ["convert", str(p), "--out", str(folder / f"{k}.txt"), "--force", "--quiet"], (0,))
+            for k, p in (("own", own), ("export", export))}
+    best = interleaved_best(cmds, repeats)
+    (w_own, r_own), (w_exp, r_exp) = best["own"], best["export"]
+    print(f"4. {n:,} points as an export (settings block, ';', decimal commas, trailing ';', CRLF) vs our own format, "
+          f"best of {repeats}")
+    print(f"   read_trace: own {t_own * 1e3:.0f} ms, export {t_exp * 1e3:.0f} ms; ratio {t_exp / t_own:.2f}  (aim <= 1.5); "
+          f"same numbers: {'yes' if same else 'NO'}")
+    print(f"   maskcheck convert process: own {w_own * 1e3:.0f} ms / {r_own:.0f} MiB, export {w_exp * 1e3:.0f} ms / "
+          f"{r_exp:.0f} MiB; RSS ratio {r_exp / r_own:.2f}  (aim <= 1.2)")
+
+
 def repeated(folder: Path, calls: int) -> None:
     from maskcheck.checking import check
     from maskcheck.core.station import Station
@@ -223,6 +258,7 @@ def main(argv=None) -> int:
         repeated(folder, args.calls)  # before anything of maskcheck is imported here: its first call is a first
         if not args.quick:
             large(folder, min(repeats, 3))
+        export_shape(folder, min(repeats, 3), 200_001 if args.quick else LARGE["n_points"])
     print(f"load average at the end: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
     return 0
 

@@ -73,6 +73,9 @@ CASES = {
     "--freq-unit": ([], ["--freq-unit", "mhz"]),
     "--level-unit": ([], ["--level-unit", "dbw"]),
     "--detector": ([], ["--detector", "peak"]),
+    # a layout that agrees with the trace's header: the same readings, and the result records the layout
+    # (the trace's input names it and what was read with it); refused for a recording
+    "--layout": ([], ["--layout", "LAYOUT"]),
     "--format": ([], ["--format", "cf32_le"]),
     "--rate": ([], ["--rate", "2MHz"]),
     "--centre": ([], ["--centre", "7.2MHz"]),  # the recording says 7.1 MHz: a different centre is refused
@@ -120,6 +123,7 @@ def _inputs(tmp):
     (tmp / "s.toml").write_text('schema_version = 1\nname = "pad (invented)"\n\n[[chain]]\nname = "pad"\n'
                                 'kind = "attenuator"\nloss_db = 10\n')
     (tmp / "c.csv").write_text("frequency_mhz,correction_db\n0.001,10\n100,10\n")
+    (tmp / "layout.toml").write_text("layout_version = 1\n[columns]\nfrequency = 1\nlevel = 2\n")
     (tmp / "masks").mkdir()  # a second file with the same id: the folder is searched, so the id clashes
     from maskcheck.masks.library import builtin_dir
     from pathlib import Path
@@ -129,7 +133,8 @@ def _inputs(tmp):
 
 
 def _run(tmp, inputs, extra, name):
-    extra = [{"SETUP": str(tmp / "s.toml"), "CORRECTION": str(tmp / "c.csv"), "MASKDIR": str(tmp / "masks")}.get(a, a)
+    extra = [{"SETUP": str(tmp / "s.toml"), "CORRECTION": str(tmp / "c.csv"), "MASKDIR": str(tmp / "masks"),
+              "LAYOUT": str(tmp / "layout.toml")}.get(a, a)
              for a in extra]
     out = tmp / f"{name}.json"
     rc = main(["check", *inputs, *BASE, *extra, "--json", str(out), "--quiet", "--force"])
@@ -242,7 +247,8 @@ def _shared_files(tmp):
                    "reasons": ["peak reading against a mean-power rule"], "centre_hz": 14.2e6, "span_hz": 200e3,
                    "rbw_hz": 10e3, "detector": "rms", "points": 41}]}))
     return {"SETUP": str(tmp / "s.toml"), "CORRECTION": str(tmp / "c.csv"), "MASKDIR": str(tmp / "masks"),
-            "OTHERMASKS": str(other), "MASKFILE": str(mask_file), "SCENARIO": str(scenario), "REMEASURE": str(remeasure)}
+            "OTHERMASKS": str(other), "MASKFILE": str(mask_file), "SCENARIO": str(scenario), "REMEASURE": str(remeasure),
+            "LAYOUT": str(tmp / "layout.toml")}
 
 
 def _kind_inputs(tmp, kind):
@@ -299,6 +305,13 @@ def _cmd_bandwidth(tmp, inputs, extra, name, capsys):
     return rc, (None if rc == 2 else _json_of(out))
 
 
+def _cmd_convert(tmp, inputs, extra, name, capsys):
+    out = tmp / f"{name}.txt"
+    rc = main(["convert", *inputs, *extra, "--out", str(out), "--quiet", "--force"])
+    capsys.readouterr()
+    return rc, (None if rc == 2 else out.read_text())
+
+
 def _cmd_designator(tmp, inputs, extra, name, capsys):
     out = tmp / f"{name}.json"
     rc = main(["designator", *extra, "--json", str(out), "--force"])
@@ -344,6 +357,7 @@ _TT_RECORDING = {
 }
 _TRACE = {
     "--rbw": ([], ["--rbw", "20Hz"]),
+    "--layout": ([], ["--layout", "LAYOUT"]),
     "--freq-unit": ([], ["--freq-unit", "mhz"]),
     "--level-unit": ([], ["--level-unit", "dbw"]),
     "--detector": ([], ["--detector", "peak"]),
@@ -397,6 +411,7 @@ COMMANDS = {
         "--floor-threshold": ([], ["--floor-threshold", "6dB"]),
         **_TRACE,
     }),
+    "convert": (_cmd_convert, ("trace",), {"--out", "--force", "--quiet", "--help"}, set(), {**_TRACE}),
     "designator": (_cmd_designator, ("none",), {"--json", "--force", "--help"}, set(), {
         "--emission": (["16K0F3E"], ["--emission", "F3E", "--max-mod", "3kHz", "--deviation", "5kHz"]),
         "--carrier": (["16K0F3E"], _F3E),

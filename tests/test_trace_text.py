@@ -23,6 +23,7 @@ import maskcheck.io.trace_text as tt
 from maskcheck.core.units import dbuv_to_dbm
 from maskcheck.errors import TraceError
 from maskcheck.io.hashing import sha256_bytes, sha256_file
+from maskcheck.io.trace_head import read_head
 from maskcheck.io.trace_text import read_trace
 from maskcheck.commands._options import error_line
 
@@ -250,7 +251,8 @@ BAD = {
     "ragged rows that sum right": (HEAD + "1,-1,5\n2\n", 3, "3 cell"),
     "empty cell and a blank inside a cell": (HEAD + "1,\n2,3 4\n", 3, "''"),
     "leading delimiter": (HEAD + ",1 2\n", 3, "''"),
-    "trailing delimiter": (HEAD + "1,-1,\n", 3, "3 cell"),
+    "trailing delimiter on one row only": (HEAD + "1,-1\n2,-2,\n", 4, "3 cell"),
+    "trailing delimiter missing on a later row": (HEAD + "1,-1,\n2,-2\n", 4, "does not end with ','"),
     "zero watts": ("# rbw_hz: 1\nfrequency_hz,level_w\n1,1e-3\n2,0\n", 4, "> 0"),
     "negative milliwatts": ("# rbw_hz: 1\nfrequency_hz,level_mw\n1,-2\n", 3, "> 0"),
     "level too large for watts": ("# rbw_hz: 1\nfrequency_hz,level_dbw\n1,0\n2,1e300\n", 4, "too large"),
@@ -313,11 +315,11 @@ def test_no_other_exception_for_any_bytes(tmp_path):
 # ---------------------------------------------------------------------------
 # the fast path and the exact pass
 # ---------------------------------------------------------------------------
-def _both_paths(raw: bytes, layout_header="frequency_hz,level_dbm"):
-    meta, notes, delim, columns, labels, header_line, pos = tt._read_head(raw, 0, "x.csv")
-    layout = tt._Layout(columns, labels, "hz", "dbm")
-    fast = tt._rows_fast(raw, pos, delim, layout.ncols)
-    slow, linenos = tt._rows_slow(raw, pos, header_line, delim, layout, "x.csv")
+def _both_paths(raw: bytes):
+    head = read_head(raw, 0, "x.csv")
+    layout = tt._Layout(head, "hz", "dbm")
+    fast = tt._rows_fast(raw, head.data_pos, head.delim, layout.ncols, head.decimal_comma, head.trailing)
+    slow, linenos = tt._rows_slow(raw, head.data_pos, head.header_line, layout, "x.csv")
     return fast, slow, linenos
 
 
@@ -348,8 +350,8 @@ def test_fast_and_slow_paths_agree_with_comments_in_data(converter):
 def test_fast_path_never_accepts_a_bad_block(converter, body):
     # Negative controls: each block is malformed; the fast path must hand it on.
     raw = (HEAD + body).encode()
-    _, _, delim, columns, _, _, pos = tt._read_head(raw, 0, "x.csv")
-    fast = tt._rows_fast(raw, pos, delim, len(columns))
+    head = read_head(raw, 0, "x.csv")
+    fast = tt._rows_fast(raw, head.data_pos, head.delim, len(head.columns), head.decimal_comma, head.trailing)
     assert fast is None
 
 

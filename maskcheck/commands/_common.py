@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-__all__ = ["Parser", "EXIT_USAGE", "console", "add_trace_options", "read_traces"]
+__all__ = ["Parser", "EXIT_USAGE", "console", "add_trace_options", "read_traces", "trace_inputs"]
 
 #: exit code for invalid input or usage
 EXIT_USAGE = 2
@@ -45,6 +45,7 @@ def add_trace_options(sp) -> None:
     add_option(sp, "--freq-unit", choices=["hz", "khz", "mhz", "ghz"])
     add_option(sp, "--level-unit", choices=["dbm", "dbw", "dbuv", "w", "mw"])
     add_option(sp, "--detector", choices=["rms", "average", "peak", "sample", "quasi-peak"])
+    add_option(sp, "--layout")
 
 def read_traces(paths, args):
     """Read every trace file named on the command line (not yet stitched)."""
@@ -52,7 +53,41 @@ def read_traces(paths, args):
     from ..io.trace_text import read_trace
 
     rbw = parse_frequency(args.rbw, what="--rbw", default_unit="Hz") if args.rbw else None
-    return [
-        read_trace(p, rbw_hz=rbw, freq_unit=args.freq_unit, level_unit=args.level_unit, detector=args.detector)
-        for p in paths
-    ]
+    layout = None
+    if getattr(args, "layout", None):
+        from ..io.trace_layout import read_layout
+
+        layout = read_layout(args.layout)
+    out = []
+    for p in paths:
+        s = read_trace(p, rbw_hz=rbw, freq_unit=args.freq_unit, level_unit=args.level_unit, detector=args.detector,
+                       layout=layout)
+        if s.trace_file.inferred and not getattr(args, "quiet", False):
+            _say_reading(s)
+        out.append(s)
+    return out
+
+
+def _say_reading(spectrum) -> None:
+    """What the reader inferred, once, on standard error (wrapped at word boundaries on a terminal)."""
+    import shutil
+    import sys
+    import textwrap
+
+    line = f"read {spectrum.source!r}: {spectrum.trace_file.reading}"
+    if sys.stderr.isatty():
+        width = max(40, shutil.get_terminal_size().columns - 1)
+        line = textwrap.fill(line, width=width, subsequent_indent="  ", break_long_words=False, break_on_hyphens=False)
+    print(line, file=sys.stderr, flush=True)
+
+
+def trace_inputs(spectrum) -> list:
+    """The input records of one trace: the file (what was inferred, its notes and overrides) and its layout file."""
+    from ..core.result import InputFile
+
+    tf = spectrum.trace_file
+    files = [InputFile(spectrum.source, spectrum.sha256, reading=(tf.reading or None) if tf is not None else None,
+                       notes=list(spectrum.notes))]
+    if tf is not None and tf.layout:
+        files.append(InputFile(tf.layout, tf.layout_sha256 or ""))
+    return files

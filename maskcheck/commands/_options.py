@@ -69,6 +69,7 @@ OPTIONS: dict[str, str] = {
     "freq_unit": "--freq-unit",
     "level_unit": "--level-unit",
     "detector": "--detector",
+    "layout": "--layout",
     # IQ recordings and their estimation
     "datatype": "--format",
     "sample_rate_hz": "--rate",

@@ -251,7 +251,7 @@ RECORDING_ONLY = {"segment": None, "full_scale": None, "ref_tone": None, "rate":
                   "window": "blackman-harris", "overlap": "50%", "trace": "auto", "i_channel": "left", "workers": None,
                   "usable_fraction": None, "judge_artefacts": False}
 #: options that describe trace files only: refused when every input is a recording (it says these itself)
-TRACE_ONLY = {"freq_unit": None, "level_unit": None, "detector": None}
+TRACE_ONLY = {"freq_unit": None, "level_unit": None, "detector": None, "layout": None}
 
 
 def refuse_unused_options(args, traces, recordings) -> None:
@@ -279,7 +279,7 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
     Options that cannot act on these inputs are refused first (:func:`refuse_unused_options`).
     """
     from ..core.result import InputFile
-    from ._common import read_traces
+    from ._common import read_traces, trace_inputs
 
     spectra, inputs, recs = [], [], []
     traces = [p for p in paths if not is_recording(p, args)]
@@ -298,7 +298,7 @@ def read_input(paths, args, *, trace: str = "average") -> InputSet:
         else:
             (s,) = read_traces([p], args)
             spectra.append(s if table is None else _corrected(s, table))
-            inputs.append(InputFile(s.source, s.sha256))
+            inputs.extend(trace_inputs(s))
     if recs and traces:
         scales = {s.level_scale for s in spectra}
         if "dBFS" in scales:

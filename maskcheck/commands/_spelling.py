@@ -89,6 +89,8 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     # outputs
     "--json": ("PATH", "write the result as JSON to PATH ('-' for standard output)"),
     "--report": ("PDF", "write the PDF report"),
+    "--layout": ("FILE", "layout file (TOML) naming the head lines, columns and units of an export the reader cannot "
+                         "work out; see docs/trace-format.md"),
     "--attach-inputs": (None, "with --report: embed the trace files, the recordings' metadata files, the setup file and "
                               "the correction table in the PDF too, with their SHA-256 (files over 8 MiB are listed, not "
                               "embedded)"),

@@ -67,7 +67,10 @@ def run(args) -> int:
             # what the trace was read as: the RBW and the detector (the file's or the options'), and the notes
             "trace": {"path": args.trace, "sha256": spectrum.sha256, "rbw_hz_min": float(spectrum.rbw_hz.min()),
                       "rbw_hz_max": float(spectrum.rbw_hz.max()), "detector": spectrum.detector,
-                      "notes": list(spectrum.notes)},
+                      **({"reading": spectrum.trace_file.reading} if spectrum.trace_file.inferred else {}),
+                      "notes": list(spectrum.notes),
+                      **({"layout": {"path": spectrum.trace_file.layout, "sha256": spectrum.trace_file.layout_sha256}}
+                         if spectrum.trace_file.layout else {})},
             "bandwidths": [f.to_dict() for f in figures],
             "warnings": notes,
             "sampling": None if bias is None else bias.to_dict(),

@@ -268,15 +268,38 @@ class TraceFileRecord:
     freq_unit, level_unit : str
         The units of the frequency and level columns, as used.
     rbw_from : str
-        Where the resolution bandwidth came from: ``"option"``, ``"column"`` or ``"file"``.
+        Where the resolution bandwidth came from: ``"option"``, ``"column"``,
+        ``"file"`` (a ``# rbw_hz`` line) or ``"settings"`` (the file's settings block).
     reference_level_dbm : float or None
         The analyser's reference level, when the file gives it, dBm.
+    vbw_hz, span_hz : float or None
+        The video bandwidth and the span, when the file gives them, Hz.
+    sweep_points : int or None
+        The number of points the file says the sweep has (the data rows were counted against it).
+    inferred : tuple of str
+        What the reader inferred from the file's own words, one clause each
+        (``"settings block of 22 line(s)"``, ``"RBW 10 kHz (from 'RBW;10000;Hz')"``,
+        ``"columns 1 = frequency in Hz, 2 = level in dBm"``); empty for a file
+        in maskcheck's own format.  :attr:`reading` joins them.
+    layout, layout_sha256 : str or None
+        The layout file the trace was read with, and the SHA-256 of its bytes.
     """
 
     freq_unit: str
     level_unit: str
     rbw_from: str
     reference_level_dbm: float | None = None
+    vbw_hz: float | None = None
+    span_hz: float | None = None
+    sweep_points: int | None = None
+    inferred: tuple[str, ...] = ()
+    layout: str | None = None
+    layout_sha256: str | None = None
+
+    @property
+    def reading(self) -> str:
+        """What was inferred, as one line (empty when nothing was)."""
+        return "; ".join(self.inferred)
 
     def to_dict(self) -> dict:
         return _plain(self)

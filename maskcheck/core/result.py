@@ -185,11 +185,27 @@ class MaskInfo:
 
 @dataclass
 class InputFile:
+    """One input file and the SHA-256 of its bytes.
+
+    ``reading`` says, for a trace export, what the reader inferred from the
+    file's own words or its layout file (:attr:`maskcheck.core.records.TraceFileRecord.reading`);
+    None for a file in maskcheck's own format and for other inputs.  ``notes``
+    are a trace's notes: its other settings and ``#`` lines, and every value
+    of the file an option overrode.  The JSON has neither key when it is empty.
+    """
+
     path: str
     sha256: str
+    reading: str | None = None
+    notes: list[str] = field(default_factory=list)
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        d = asdict(self)
+        if self.reading is None:
+            del d["reading"]
+        if not self.notes:
+            del d["notes"]
+        return d
 
 
 @dataclass

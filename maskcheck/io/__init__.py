@@ -6,7 +6,11 @@ blocks for :mod:`maskcheck.core.estimate`); their errors name the file and
 the line or key.
 
 ================  ==================================================================
-``trace_text``    ``read_trace``: the maskcheck trace text format
+``trace_text``    ``read_trace``: the maskcheck trace text format, and exports as they come
+``trace_head``    the head of a trace file: ``#`` lines, a settings block, header and units rows
+``trace_words``   the words the reader knows: units, keys, settings words, column names
+``trace_facts``   the facts of a trace's head decided once, checked against its data
+``trace_layout``  layout files: how to read an export the reader cannot work out alone
 ``trace_write``   writing spectra as trace text files
 ``iq``            SigMF, WAV and raw IQ recordings, read in blocks
 ``iq_spectrum``   a recording -> a calibrated ``Spectrum``

@@ -14,8 +14,9 @@ The format (maskcheck's own; see ``docs/trace-format.md``)::
     ...
 
 * optional ``# key: value`` lines at the top: ``rbw_hz``, ``enbw_hz``,
-  ``detector``, ``centre_hz``, ``reference_level_dbm``; any other comment
-  line is kept as a note;
+  ``vbw_hz``, ``detector``, ``centre_hz``, ``span_hz``,
+  ``reference_level_dbm``, ``sweep_points``; any other comment line is kept
+  as a note;
 * a header row naming the columns with their units: ``frequency_hz`` /
   ``_khz`` / ``_mhz`` / ``_ghz``, ``level_dbm`` / ``_dbw`` / ``_dbuv``
   (across 50 ohm) / ``_w`` / ``_mw``, optionally ``rbw_hz`` (one RBW per row);
@@ -23,6 +24,12 @@ The format (maskcheck's own; see ``docs/trace-format.md``)::
   order of preference) is taken from the header row; a decimal comma is
   accepted in semicolon-delimited files.  Blank lines and ``#`` lines among
   the data are skipped; line numbers in errors count every physical line.
+
+Exports as they come: the head above the data may also hold a settings
+block, header cells such as ``Frequency [Hz]``, a units row, and every row
+may end with the delimiter (:mod:`maskcheck.io.trace_head` reads the head,
+:mod:`maskcheck.io.trace_facts` decides each fact once, and a layout file,
+:mod:`maskcheck.io.trace_layout`, names what cannot be inferred).
 
 Speed
 -----
@@ -51,7 +58,6 @@ from __future__ import annotations
 
 import math
 import os
-import re
 import stat
 import struct
 import threading
@@ -60,10 +66,14 @@ import warnings
 import numpy as np
 
 from ..core.records import TraceFileRecord
-from ..core.spectrum import DETECTORS, Spectrum
+from ..core.spectrum import Spectrum
 from ..core.units import dbm_to_w, dbuv_to_dbm, dbw_to_w, parse_frequency
 from ..errors import MaskcheckError, SpectrumError, TraceError
 from .hashing import sha256_bytes
+from .trace_facts import check_against_data, file_unit, inferred_clauses, merge_facts
+from .trace_head import Head, read_head
+from .trace_words import (FREQ_UNITS, LEVEL_UNITS, SETTINGS_WORDS, decode_line, normalise_words, number, opening,
+                          parse_fact, show_unit, split_cells)
 
 try:  # an optional accelerator; the numpy converter gives the same numbers
     import orjson as _orjson
@@ -72,151 +82,21 @@ except ImportError:  # pragma: no cover - depends on the installation
 
 __all__ = ["read_trace", "FREQ_UNITS", "LEVEL_UNITS", "MAX_LINE_BYTES", "MAX_TRACE_BYTES"]
 
-#: Frequency units a header or ``freq_unit`` may name, with their factor to Hz.
-FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
-#: Level units a header or ``level_unit`` may name.
-LEVEL_UNITS = ("dbm", "dbw", "dbuv", "w", "mw")
-
 #: Levels below this are no reading: thermal noise is -174 dBm in 1 Hz, and a
 #: trace point this low can only be a "no data" placeholder such as -999 dBm.
 MIN_PLAUSIBLE_DBM = -250.0
 _MIN_PLAUSIBLE_W = 10.0 ** ((MIN_PLAUSIBLE_DBM - 30.0) / 10.0)
 
-_META_KEYS = ("rbw_hz", "enbw_hz", "detector", "centre_hz", "reference_level_dbm")
-_DETECTOR_ALIASES = {"avg": "average", "qp": "quasi-peak", "quasi peak": "quasi-peak",
-                     "quasipeak": "quasi-peak", "pos peak": "peak", "positive peak": "peak"}
-_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _BOM = b"\xef\xbb\xbf"
 _BLANK = b" \t\r\n"
 _HASH_IN_THREAD_BYTES = 4 << 20
-#: delimiter -> the byte table that turns a block of rows into JSON numbers
-_JSON_TABLES = {",": bytes.maketrans(b"\n", b","), "\t": bytes.maketrans(b"\n\t", b",,"),
-                ";": bytes.maketrans(b"\n;,", b",,.")}
+#: (delimiter, decimal comma) -> the byte table that turns a block of rows into JSON numbers
+_JSON_TABLES = {(",", False): bytes.maketrans(b"\n", b","), ("\t", False): bytes.maketrans(b"\n\t", b",,"),
+                ("\t", True): bytes.maketrans(b"\n\t,", b",,."), (";", False): bytes.maketrans(b"\n;", b",,"),
+                (";", True): bytes.maketrans(b"\n;,", b",,.")}
 _CHUNK_BYTES = 128 << 10
-_SHOW = {"hz": "Hz", "khz": "kHz", "mhz": "MHz", "ghz": "GHz",
-         "dbm": "dBm", "dbw": "dBW", "dbuv": "dBµV", "w": "W", "mw": "mW"}
-_KEY_ALIASES = {"center_hz": "centre_hz"}
 _FREQ_EXPECTED = "frequency_hz, frequency_khz, frequency_mhz or frequency_ghz"
 _LEVEL_EXPECTED = "level_dbm, level_dbw, level_dbuv, level_w or level_mw"
-
-
-# ---------------------------------------------------------------------------
-# the head of the file: comment lines and the header row
-# ---------------------------------------------------------------------------
-def _decode(line: bytes, path, lineno: int) -> str:
-    try:
-        return line.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise TraceError(
-            f"byte {line[exc.start:exc.start + 1]!r} at column {exc.start + 1} is not UTF-8; "
-            "expected a text file saved as UTF-8", path=path, where=lineno) from None
-
-
-def _number(text: str) -> float | None:
-    return float(text) if _NUMBER.fullmatch(text) else None
-
-
-def _parse_meta(key: str, value: str, path, lineno: int):
-    if not value:
-        raise TraceError(f"'{key}' has no value", path=path, where=lineno)
-    if key == "detector":
-        name = " ".join(value.lower().replace("_", " ").split())
-        name = _DETECTOR_ALIASES.get(name, name)
-        if name not in DETECTORS:
-            raise TraceError(f"detector {value!r} is not one of {', '.join(DETECTORS)}", path=path, where=lineno)
-        return name
-    if key == "reference_level_dbm":
-        text = value[:-3].strip() if value.lower().endswith("dbm") else value
-        level = _number(text.replace(" ", ""))
-        if level is None or not math.isfinite(level):
-            raise TraceError(f"reference_level_dbm {value!r} is not a level such as '-10' or '-10 dBm'",
-                             path=path, where=lineno)
-        return level
-    try:
-        freq = parse_frequency(value, what=key, default_unit="Hz")
-    except MaskcheckError as exc:
-        raise TraceError(exc.message, path=path, where=lineno) from None
-    if key in ("rbw_hz", "enbw_hz") and not freq > 0:
-        raise TraceError(f"{key} {value!r} is {freq:g} Hz; expected a bandwidth > 0", path=path, where=lineno)
-    return freq
-
-
-def _column(cell: str, path, lineno: int) -> tuple[str, str | None]:
-    text = cell.strip().lower().replace("µ", "u").replace("μ", "u")
-    if text in ("frequency", "level"):
-        return text, None
-    name, sep, unit = text.partition("_")
-    if sep and name in ("frequency", "rbw") and unit in FREQ_UNITS:
-        return name, unit
-    if sep and name == "level" and unit in LEVEL_UNITS:
-        return name, unit
-    if sep and name in ("frequency", "rbw"):
-        raise TraceError(f"unknown frequency unit {unit!r} in column {cell.strip()!r}; "
-                         f"expected one of {', '.join(FREQ_UNITS)}", path=path, where=lineno)
-    if sep and name == "level":
-        raise TraceError(f"unknown level unit {unit!r} in column {cell.strip()!r}; "
-                         f"expected one of {', '.join(LEVEL_UNITS)}", path=path, where=lineno)
-    if name == "rbw":
-        raise TraceError(f"column {cell.strip()!r} needs a unit: rbw_hz, rbw_khz or rbw_mhz",
-                         path=path, where=lineno)
-    raise TraceError(f"column {cell.strip()!r} is not known; expected {_FREQ_EXPECTED}, then "
-                     f"{_LEVEL_EXPECTED} (or the other way round), and optionally rbw_hz",
-                     path=path, where=lineno)
-
-
-def _split(text: str, delim: str | None) -> list[str]:
-    return text.split() if delim is None else [c.strip() for c in text.split(delim)]
-
-
-def _read_head(raw: bytes, pos: int, path):
-    """Parse the comment lines and the header row; return where the data start."""
-    meta: dict[str, tuple[object, int]] = {}
-    notes: list[str] = []
-    lineno = 0
-    saw_comment = False
-    while pos < len(raw):
-        end = raw.find(b"\n", pos)
-        end = len(raw) if end < 0 else end
-        lineno += 1
-        text = _decode(raw[pos:end], path, lineno).strip()
-        pos = end + 1
-        if not text:
-            continue
-        if text.startswith("#"):
-            saw_comment = True
-            body = text[1:].strip()
-            key, colon, value = body.partition(":")
-            key = key.strip().lower()
-            key = _KEY_ALIASES.get(key, key)
-            if colon and key in _META_KEYS:
-                if key in meta:
-                    raise TraceError(f"'{key}' is given twice (first on line {meta[key][1]})",
-                                     path=path, where=lineno)
-                meta[key] = (_parse_meta(key, value.strip(), path, lineno), lineno)
-            elif body:
-                notes.append(body)
-            continue
-        delim = ";" if ";" in text else "," if "," in text else "\t" if "\t" in text else None
-        cells = _split(text, delim)
-        if _number(cells[0].replace(",", ".")) is not None:
-            raise TraceError(f"found data {text[:40]!r} where the header row was expected; "
-                             "expected a header naming the columns, e.g. 'frequency_hz,level_dbm'",
-                             path=path, where=lineno)
-        columns = [_column(c, path, lineno) for c in cells]
-        names = [n for n, _ in columns]
-        for name in ("frequency", "level"):
-            if names.count(name) != 1:
-                raise TraceError(f"the header has {names.count(name)} {name} columns, expected one "
-                                 f"({_FREQ_EXPECTED if name == 'frequency' else _LEVEL_EXPECTED})",
-                                 path=path, where=lineno)
-        if names.count("rbw") > 1:
-            raise TraceError("the header has more than one rbw column", path=path, where=lineno)
-        return meta, notes, delim, columns, [c.strip() for c in cells], lineno, pos
-    if not saw_comment:
-        raise TraceError("the file is empty; expected optional '# key: value' lines, a header row "
-                         "such as 'frequency_hz,level_dbm' and data rows", path=path)
-    raise TraceError("no header row: the file holds only comment lines; expected a header "
-                     "such as 'frequency_hz,level_dbm' followed by data rows", path=path, where=lineno)
 
 
 # ---------------------------------------------------------------------------
@@ -253,7 +133,7 @@ def _structure_ok(buf: np.ndarray, delim: str | None, ncols: int, nlines: int, n
     return True
 
 
-def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int) -> np.ndarray | None:
+def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int, decimal_comma: bool) -> np.ndarray | None:
     # One copy of the block, already wrapped as a JSON array.
     text = b"".join((b"[", memoryview(raw)[start:end], b"]"))
     # What is left once digits, signs, points, exponents and blanks are deleted
@@ -261,14 +141,13 @@ def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int) -> np.n
     # one pass checks every line's cell count and that no other byte (a letter,
     # '#', a quote, a bracket, a non-ASCII byte) is present.  orjson then
     # checks that each cell is one number.
-    decimal_comma = delim == ";"
     numberish = b"0123456789+-.eE \r" + (b"\t" if delim != "\t" else b"") + (b"," if decimal_comma else b"")
     skeleton = text.translate(None, numberish)
     nlines = skeleton.count(b"\n") + 1
     cut = delim.encode() * (ncols - 1)
     if skeleton != b"[" + (cut + b"\n") * (nlines - 1) + cut + b"]":
         return None
-    text = text.translate(_JSON_TABLES[delim])
+    text = text.translate(_JSON_TABLES[delim, decimal_comma])
     try:
         values = _orjson.loads(text)
         if len(values) != nlines * ncols:
@@ -280,18 +159,17 @@ def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int) -> np.n
     return np.frombuffer(packed, dtype=np.float64).reshape(nlines, ncols)
 
 
-def _rows_strtod(raw: bytes, start: int, end: int, delim: str | None, ncols: int) -> np.ndarray | None:
+def _rows_strtod(raw: bytes, start: int, end: int, delim: str | None, ncols: int,
+                 decimal_comma: bool) -> np.ndarray | None:
     # Tokens (runs of non-blank bytes once delimiters are blanked) must sit
     # ncols to a line with one delimiter between neighbours, and numpy's parser
     # must turn each token into exactly one number and reach the end.
     block = raw[start:end]
-    allowed = b"0123456789+-.eE \t\r\n" + (delim.encode() if delim else b"") + (b"," if delim == ";" else b"")
+    allowed = b"0123456789+-.eE \t\r\n" + (delim.encode() if delim else b"") + (b"," if decimal_comma else b"")
     if not block or block.translate(None, allowed):
         return None  # a byte no number, blank or delimiter holds (a letter, '#', NUL, ...)
-    if delim == ";":
-        table = bytes.maketrans(b"\t\r;,", b"   .")
-    else:
-        table = bytes.maketrans(b"\t\r" + (delim or " ").encode(), b"   ")
+    src = b"\t\r" + (delim or " ").encode()
+    table = bytes.maketrans(src + (b"," if decimal_comma else b""), b" " * len(src) + (b"." if decimal_comma else b""))
     text = block.translate(table)
     buf = np.frombuffer(text, dtype=np.uint8)
     sep = (buf == 32) | (buf == 10)
@@ -316,9 +194,13 @@ def _rows_strtod(raw: bytes, start: int, end: int, delim: str | None, ncols: int
     return values.reshape(nlines, ncols)
 
 
-def _rows_fast(raw: bytes, start: int, delim: str | None, ncols: int) -> np.ndarray | None:
+def _rows_fast(raw: bytes, start: int, delim: str | None, ncols: int, decimal_comma: bool = False,
+               trailing: bool = False) -> np.ndarray | None:
     """All data rows from ``raw[start:]`` as an (n, ncols) array, or None when
-    anything looks unusual (then the exact pass decides)."""
+    anything looks unusual (then the exact pass decides).
+
+    ``trailing``: every row ends with the delimiter, which is dropped chunk by
+    chunk (a copy of one chunk at a time, never of the file)."""
     end = len(raw)
     while end > start and raw[end - 1] in _BLANK:
         end -= 1
@@ -326,13 +208,30 @@ def _rows_fast(raw: bytes, start: int, delim: str | None, ncols: int) -> np.ndar
         start += 1
     if start >= end:
         return None
-    convert = _rows_json if (_orjson is not None and delim is not None) else _rows_strtod
+    base = _rows_json if (_orjson is not None and delim is not None) else _rows_strtod
+
+    def convert(buf, a, b, d, n):
+        if not trailing:
+            return base(buf, a, b, d, n, decimal_comma)
+        block = _without_trailing(buf[a:b], d.encode())
+        return None if block is None else base(block, 0, len(block), d, n, decimal_comma)
+
     values = _in_chunks(convert, raw, start, end, delim, ncols)
     if values is None:  # comment or blank lines among the data?
         kept = _drop_blank_and_comment_lines(raw[start:end])
         if kept and len(kept) < end - start:
             values = _in_chunks(convert, kept, 0, len(kept), delim, ncols)
     return values
+
+
+def _without_trailing(block: bytes, d: bytes) -> bytes | None:
+    """``block`` with the delimiter at the end of each line removed, or None unless every line ends with one."""
+    out = block.replace(d + b"\r\n", b"\r\n").replace(d + b"\n", b"\n")
+    if out.endswith(d + b"\r"):  # a chunk is cut at a newline: its last line may end in CRLF's CR
+        out = out[:-2] + b"\r"
+    elif out.endswith(d):
+        out = out[:-1]
+    return out if len(block) - len(out) == block.count(b"\n") + 1 else None
 
 
 def _in_chunks(convert, raw: bytes, start: int, end: int, delim, ncols) -> np.ndarray | None:
@@ -355,44 +254,62 @@ def _in_chunks(convert, raw: bytes, start: int, end: int, delim, ncols) -> np.nd
 
 
 class _Layout:
-    """Which column is which, and the units in force."""
+    """Which column is which, the units in force, and how rows are written."""
 
-    def __init__(self, columns, labels, freq_unit, level_unit):
-        names = [n for n, _ in columns]
-        self.ncols = len(columns)
+    def __init__(self, head: Head, freq_unit: str, level_unit: str):
+        names = [n for n, _ in head.columns]
+        self.ncols = len(names)
         self.freq = names.index("frequency")
         self.level = names.index("level")
         self.rbw = names.index("rbw") if "rbw" in names else None
-        self.rbw_scale = FREQ_UNITS[columns[self.rbw][1]] if self.rbw is not None else 1.0
-        self.labels = labels
+        self.rbw_scale = FREQ_UNITS[head.columns[self.rbw][1]] if self.rbw is not None else 1.0
+        self.read = [n != "skip" for n in names]
+        self.labels = head.labels
+        self.delim, self.decimal_comma, self.trailing = head.delim, head.decimal_comma, head.trailing
         self.freq_unit = freq_unit
         self.level_unit = level_unit
 
 
-def _rows_slow(raw: bytes, pos: int, lineno: int, delim: str | None, layout: _Layout, path):
+def _row_cells(text: str, layout: _Layout, lineno: int, first: list, path) -> list[str]:
+    """The cells of one data row, its trailing delimiter dropped (and required) when the rows end with one."""
+    cells = split_cells(text, layout.delim)
+    if layout.trailing:
+        if cells[-1] == "" and len(cells) > 1:
+            cells.pop()
+        elif len(cells) == layout.ncols:
+            raise TraceError(f"row {text[:60]!r} does not end with {layout.delim!r} as the first data row "
+                             f"(line {first[0]}) does; expected every row to end the same way", path=path, where=lineno)
+    if not first:
+        first.append(lineno)
+    if len(cells) != layout.ncols:
+        raise TraceError(f"found {len(cells)} cell(s) {text[:60]!r}, expected {layout.ncols} "
+                         f"({', '.join(layout.labels)})", path=path, where=lineno)
+    return cells
+
+
+def _rows_slow(raw: bytes, pos: int, lineno: int, layout: _Layout, path):
     """Read the data line by line; raise at the first bad line."""
-    rows, linenos = [], []
+    rows, linenos, first = [], [], []
     prev_f, prev_line, prev_text = -math.inf, 0, ""
     linear = layout.level_unit in ("w", "mw")
-    expected_cells = ", ".join(layout.labels)
     for line in raw[pos:].split(b"\n"):
         lineno += 1
-        text = _decode(line, path, lineno).strip()
+        text = decode_line(line, path, lineno).strip()
         if not text or text.startswith("#"):
             continue
-        cells = _split(text, delim)
-        if len(cells) != layout.ncols:
-            raise TraceError(f"found {len(cells)} cell(s) {text[:60]!r}, expected {layout.ncols} "
-                             f"({expected_cells})", path=path, where=lineno)
+        cells = _row_cells(text, layout, lineno, first, path)
         row = []
-        for label, cell in zip(layout.labels, cells):
-            value = _number(cell.replace(",", ".") if delim == ";" else cell)
+        for label, cell, read in zip(layout.labels, cells, layout.read):
+            if not read:
+                row.append(0.0)
+                continue
+            value = number(cell.replace(",", ".") if layout.decimal_comma else cell)
             if value is None:
                 hint = ""
                 if "#" in cell:
                     hint = " (a '#' comment must be on a line of its own)"
-                elif "," in cell and delim != ";":
-                    hint = " (a decimal comma is accepted only in semicolon-delimited files)"
+                elif "," in cell and not layout.decimal_comma:
+                    hint = " (a decimal comma is accepted only in semicolon-delimited files, or with a layout file)"
                 elif cell.lower().lstrip("+-") in ("nan", "inf", "infinity"):
                     hint = " (NaN and infinity are not readings)"
                 raise TraceError(f"{cell!r} is not a number; expected a finite {label} value{hint}",
@@ -407,7 +324,7 @@ def _rows_slow(raw: bytes, pos: int, lineno: int, delim: str | None, layout: _La
             raise TraceError(f"frequency {cells[layout.freq]} {how} the one on line {prev_line} "
                              f"({prev_text}); frequencies must strictly increase", path=path, where=lineno)
         if linear and not row[layout.level] > 0:
-            raise TraceError(f"power {cells[layout.level]} {_SHOW[layout.level_unit]} "
+            raise TraceError(f"power {cells[layout.level]} {show_unit(layout.level_unit)} "
                              "is not > 0; a reading in linear power must be positive", path=path, where=lineno)
         if layout.rbw is not None and not row[layout.rbw] > 0:
             raise TraceError(f"rbw {cells[layout.rbw]} is not > 0; expected a resolution bandwidth",
@@ -457,7 +374,7 @@ def _first_problem(values: np.ndarray, layout: _Layout) -> tuple[int, str] | Non
     underflows to 0 W, two frequencies merge once scaled).
     """
     freq_hz, power_w, rbw_hz = _to_si(values, layout)
-    unit, f_unit = _SHOW[layout.level_unit], _SHOW[layout.freq_unit]
+    unit, f_unit = show_unit(layout.level_unit), show_unit(layout.freq_unit)
     checks = [
         (~np.isfinite(freq_hz), lambda i: f"frequency {float(values[i, layout.freq])!r} {f_unit} "
                                           "is too large to express in Hz"),
@@ -515,24 +432,15 @@ MAX_TRACE_BYTES = 1 << 30
 
 def _read_bytes(path) -> bytes:
     """The file's bytes, with its size and its longest line checked against the bounds before parsing."""
-    try:
-        with open(path, "rb") as fh:
-            st = os.fstat(fh.fileno())
-            if stat.S_ISREG(st.st_mode):
-                if st.st_size > MAX_TRACE_BYTES:
-                    raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_TRACE_BYTES} a trace file may hold; "
-                                     "expected a text trace (split the sweep into several files)", path=path)
-                raw = fh.read(MAX_TRACE_BYTES + 1)
-            else:  # a device or a pipe: read in blocks, every block checked before the next is taken
-                raw = _read_stream(fh, path)
-    except TraceError:
-        raise
-    except FileNotFoundError:
-        raise TraceError("file not found; expected a trace file", path=path) from None
-    except IsADirectoryError:
-        raise TraceError("is a directory; expected a trace file", path=path) from None
-    except OSError as exc:
-        raise TraceError(f"cannot be read ({exc.strerror or exc})", path=path) from None
+    with opening(path, "a trace file"), open(path, "rb") as fh:
+        st = os.fstat(fh.fileno())
+        if stat.S_ISREG(st.st_mode):
+            if st.st_size > MAX_TRACE_BYTES:
+                raise TraceError(f"holds {st.st_size} bytes, more than the {MAX_TRACE_BYTES} a trace file may hold; "
+                                 "expected a text trace (split the sweep into several files)", path=path)
+            raw = fh.read(MAX_TRACE_BYTES + 1)
+        else:  # a device or a pipe: read in blocks, every block checked before the next is taken
+            raw = _read_stream(fh, path)
     _check_lines(raw, path)
     return raw
 
@@ -574,13 +482,14 @@ def _check_lines(raw: bytes, path) -> None:
 
 
 def read_trace(path, *, rbw_hz: float | str | None = None, freq_unit: str | None = None,
-               level_unit: str | None = None, detector: str | None = None) -> Spectrum:
+               level_unit: str | None = None, detector: str | None = None, layout=None) -> Spectrum:
     """Read a trace text file into a validated :class:`~maskcheck.core.spectrum.Spectrum`.
 
     Parameters
     ----------
     path : str or os.PathLike
-        The trace file (format in the module docstring).
+        The trace file (our own format, or a delimited export whose head the
+        reader understands: see ``docs/trace-format.md``).
     rbw_hz : float or str, optional
         Resolution bandwidth, Hz (a string such as ``"10 kHz"`` is accepted),
         for files that do not say; overrides the file when given.
@@ -591,6 +500,10 @@ def read_trace(path, *, rbw_hz: float | str | None = None, freq_unit: str | None
         header when given.
     detector : str, optional
         One of :data:`~maskcheck.core.spectrum.DETECTORS`; overrides the file.
+    layout : str, os.PathLike or TraceLayout, optional
+        A layout file (:mod:`maskcheck.io.trace_layout`) naming the head
+        lines, the columns and their units of an export the reader cannot
+        work out alone.
 
     Returns
     -------
@@ -599,21 +512,28 @@ def read_trace(path, *, rbw_hz: float | str | None = None, freq_unit: str | None
         ``source``, ``sha256``, ``notes``, ``centre_hz`` (None unless the
         file gives it) and ``trace_file`` (a
         :class:`~maskcheck.core.records.TraceFileRecord`: units, where the
-        RBW came from, the reference level when given).  Every override of
-        the file by an option is written in ``notes``.
+        RBW came from, the facts of the head, and what was inferred, in
+        words).  Every override of the file by an option is written in
+        ``notes``.
 
     Raises
     ------
     TraceError
         For a missing or unreadable file and for any malformed content: one
         line naming the file, the line (1-based, every physical line counts)
-        and what was found against what was expected.
+        and what was found against what was expected.  Two statements of one
+        fact that disagree (a ``#`` line and a setting, a header unit and a
+        units row) are refused, naming both, unless the option gives it.
 
     References
     ----------
     .. [1] dBuV = dBm + 10 log10(50) + 90 across 50 ohm.
     """
     src = os.fspath(path) if isinstance(path, os.PathLike) else str(path)
+    if layout is not None and not hasattr(layout, "columns"):
+        from .trace_layout import read_layout
+
+        layout = read_layout(layout)
     raw = _read_bytes(path)
     digest: list[str] = []
     hasher = None
@@ -623,18 +543,19 @@ def read_trace(path, *, rbw_hz: float | str | None = None, freq_unit: str | None
     else:
         digest.append(sha256_bytes(raw))
     try:
-        return _read(raw, src, rbw_hz, freq_unit, level_unit, detector, digest, hasher)
+        return _read(raw, src, rbw_hz, freq_unit, level_unit, detector, layout, digest, hasher)
     finally:
         if hasher is not None:
             hasher.join()
 
 
-def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> Spectrum:
+def _options(path, rbw_opt, freq_opt, level_opt, det_opt):
+    """The options checked and in SI units."""
     freq_opt = _option_unit(freq_opt, tuple(FREQ_UNITS), "freq_unit", path)
     level_opt = _option_unit(level_opt, LEVEL_UNITS, "level_unit", path)
     if det_opt is not None:
         try:
-            det_opt = _parse_meta("detector", str(det_opt).strip(), path, None)
+            det_opt = parse_fact("detector", str(det_opt).strip(), None, path, None)
         except TraceError as exc:
             raise TraceError(exc.message.replace("detector ", "detector=", 1), path=path, param="detector") from None
     if rbw_opt is not None:
@@ -644,31 +565,63 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
             raise TraceError(f"rbw_hz={exc.message}", path=path, param="rbw_hz") from None
         if not rbw_opt > 0:
             raise TraceError(f"rbw_hz={rbw_opt:g} is not a bandwidth > 0 (Hz)", path=path, param="rbw_hz")
+    return rbw_opt, freq_opt, level_opt, det_opt
 
+
+def _units(head, path, freq_opt, level_opt, notes, hint):
+    """The frequency and level units in force: the option, else the one the file states."""
+    out = []
+    for name, opt, what, expected in (("frequency", freq_opt, "freq_unit", _FREQ_EXPECTED),
+                                      ("level", level_opt, "level_unit", _LEVEL_EXPECTED)):
+        fact = file_unit(head, name, path, overridden=opt is not None)
+        facts = head.unit_facts.get(name, [])
+        if opt is not None:
+            for f in facts:
+                if f.value != opt:
+                    notes.append(f"option {what}={opt!r} overrides the file's {f.value!r} "
+                                 f"({'the layout' if f.origin == 'layout' else f'line {f.lineno}'})")
+            out.append(opt)
+        elif fact is None:
+            raise TraceError(f"column '{name}' has no unit; write {expected} in the header, give {what}{hint}",
+                             path=path, where=head.header_row or head.header_line or None, param=what)
+        else:
+            out.append(fact.value)
+    return out
+
+
+def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, layout, digest, hasher) -> Spectrum:
+    rbw_opt, freq_opt, level_opt, det_opt = _options(path, rbw_opt, freq_opt, level_opt, det_opt)
     start = len(_BOM) if raw.startswith(_BOM) else 0
-    meta, notes, delim, columns, labels, header_line, data_pos = _read_head(raw, start, path)
-    units = dict((n, u) for n, u in columns)
-    f_unit = _resolve(freq_opt, units["frequency"], "freq_unit", header_line, notes, path,
-                      f"column 'frequency' has no unit; write {_FREQ_EXPECTED} "
-                      "in the header or give freq_unit")
-    l_unit = _resolve(level_opt, units["level"], "level_unit", header_line, notes, path,
-                      f"column 'level' has no unit; write {_LEVEL_EXPECTED} "
-                      "in the header or give level_unit")
-    has_rbw_col = "rbw" in units
-    rbw_file = meta.get("rbw_hz", (None, 0))[0]
-    enbw_hz = meta.get("enbw_hz", (None, 0))[0]
+    given = {k for k, v in (("rbw_hz", rbw_opt), ("detector", det_opt), ("freq_unit", freq_opt),
+                            ("level_unit", level_opt)) if v is not None}
+    head = read_head(raw, start, path, layout, given)
+    notes = list(head.notes)
+    hint = " or describe the file with layout=FILE" if layout is None else f" (or in the layout {layout.path})"
+    facts = merge_facts(head, path, {k for k, v in (("rbw_hz", rbw_opt), ("detector", det_opt)) if v is not None})
+    f_unit, l_unit = _units(head, path, freq_opt, level_opt, notes, hint)
+    has_rbw_col = any(n == "rbw" for n, _ in head.columns)
+    rbw_fact, enbw_fact = facts.get("rbw_hz"), facts.get("enbw_hz")
+    rbw_file = None if rbw_fact is None else rbw_fact.value
+    enbw_hz = None if enbw_fact is None else enbw_fact.value
     if has_rbw_col and enbw_hz is not None and rbw_opt is None:
         raise TraceError("enbw_hz gives one noise bandwidth but the rbw column gives one RBW per row; "
-                         "keep only one of them", path=path, where=meta["enbw_hz"][1])
-    rbw_from = ("option" if rbw_opt is not None else "column" if has_rbw_col
-                else "file" if rbw_file is not None else None)
+                         "keep only one of them", path=path, where=enbw_fact.lineno)
+    rbw_from = ("option" if rbw_opt is not None else "column" if has_rbw_col else None if rbw_fact is None
+                else "settings" if rbw_fact.origin == "settings" else "file")
     if rbw_from is None:
-        raise TraceError("no resolution bandwidth: add a line '# rbw_hz: 10 kHz' at the top of the file, "
-                         "or give rbw_hz", path=path, param="rbw_hz")
+        named = next((n for n in head.notes if normalise_words(n.partition(":")[0]) in SETTINGS_WORDS["rbw_hz"]), None)
+        seen = f" (the note {named!r} names one, but a '#' line is read only as '# rbw_hz: ...')" if named else ""
+        raise TraceError(f"no resolution bandwidth: add a line '# rbw_hz: 10 kHz' at the top of the file, "
+                         f"or give rbw_hz{seen}", path=path, param="rbw_hz")
+    for key in ("rbw_hz", "detector"):  # an option over a '#' line and a setting that disagree: both recorded
+        a, b = head.meta.get(key), head.settings.get(key)
+        if a is not None and b is not None and a.value != b.value:
+            notes.append(f"the file gives {key} twice, {a.value!r} (line {a.lineno}) and {b.value!r} "
+                         f"(line {b.lineno}); the option decides")
     if rbw_opt is not None:
         if rbw_file is not None and rbw_file != rbw_opt:
             notes.append(f"option rbw_hz={rbw_opt:g} Hz overrides the file's {rbw_file:g} Hz "
-                         f"(line {meta['rbw_hz'][1]})")
+                         f"(line {rbw_fact.lineno})")
         if has_rbw_col:
             notes.append(f"option rbw_hz={rbw_opt:g} Hz overrides the per-row rbw column")
         if enbw_hz is not None and (rbw_file is not None or has_rbw_col):
@@ -677,17 +630,27 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
             enbw_hz = None
     elif has_rbw_col and rbw_file is not None:
         notes.append(f"the per-row rbw column is used; rbw_hz {rbw_file:g} Hz on line "
-                     f"{meta['rbw_hz'][1]} is ignored")
-    det_file, det_line = meta.get("detector", (None, 0))
+                     f"{rbw_fact.lineno} is ignored")
+    det_fact = facts.get("detector")
+    det_file, det_line = (None, 0) if det_fact is None else (det_fact.value, det_fact.lineno)
     det = _resolve(det_opt, det_file, "detector", det_line, notes, path) if det_opt or det_file else "unknown"
 
-    layout = _Layout(columns, labels, f_unit, l_unit)
-    trace_file = TraceFileRecord(freq_unit=f_unit, level_unit=l_unit, rbw_from=rbw_from,
-                                 reference_level_dbm=meta.get("reference_level_dbm", (None, 0))[0])
-    centre_hz = meta.get("centre_hz", (None, 0))[0]
+    lay = _Layout(head, f_unit, l_unit)
+    columns_text = "columns " + ", ".join(
+        f"{i + 1} = {n} in {show_unit(f_unit if n == 'frequency' else l_unit if n == 'level' else u)}"
+        for i, (n, u) in enumerate(head.columns) if n != "skip")
+    value_of = {k: (None if f is None else f.value) for k, f in
+                ((k, facts.get(k)) for k in ("reference_level_dbm", "vbw_hz", "span_hz", "sweep_points"))}
+    trace_file = TraceFileRecord(
+        freq_unit=f_unit, level_unit=l_unit, rbw_from=rbw_from, reference_level_dbm=value_of["reference_level_dbm"],
+        vbw_hz=value_of["vbw_hz"], span_hz=value_of["span_hz"], sweep_points=value_of["sweep_points"],
+        inferred=inferred_clauses(head, layout, columns_text),
+        layout=None if layout is None else layout.path, layout_sha256=None if layout is None else layout.sha256)
+    centre = facts.get("centre_hz")
+    centre_hz = None if centre is None else centre.value
 
     def build(values):
-        freq_hz, power_w, rbw_col_hz = _to_si(values, layout)
+        freq_hz, power_w, rbw_col_hz = _to_si(values, lay)
         if rbw_col_hz is not None and not np.all(np.isfinite(rbw_col_hz) & (rbw_col_hz > 0)):
             raise SpectrumError("the rbw column holds a value that is not a bandwidth > 0")
         if not np.all(power_w >= _MIN_PLAUSIBLE_W):
@@ -695,19 +658,21 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, digest, hasher) -> S
         rbw = rbw_opt if rbw_opt is not None else rbw_col_hz if has_rbw_col else rbw_file
         if hasher is not None:
             hasher.join()
-        return Spectrum(freq_hz, power_w, rbw, enbw_hz, detector=det, source=path, sha256=digest[0], notes=tuple(notes),
-                        centre_hz=centre_hz, trace_file=trace_file)
+        spectrum = Spectrum(freq_hz, power_w, rbw, enbw_hz, detector=det, source=path, sha256=digest[0],
+                            notes=tuple(notes), centre_hz=centre_hz, trace_file=trace_file)
+        check_against_data(facts, spectrum.freq_hz, path)
+        return spectrum
 
-    values = _rows_fast(raw, data_pos, delim, layout.ncols)
+    values = _rows_fast(raw, head.data_pos, head.delim, lay.ncols, head.decimal_comma, head.trailing)
     if values is not None:
         try:  # Spectrum validates (finite, increasing, > 0); on any doubt re-read exactly
             return build(values)
         except SpectrumError:
             pass
-    values, linenos = _rows_slow(raw, data_pos, header_line, delim, layout, path)
+    values, linenos = _rows_slow(raw, head.data_pos, head.header_line, lay, path)
     if not linenos:
-        raise TraceError("no data rows after the header row", path=path, where=header_line)
-    problem = _first_problem(values, layout)
+        raise TraceError("no data rows after the header row", path=path, where=head.header_line or None)
+    problem = _first_problem(values, lay)
     if problem is not None:
         row, why = problem
         raise TraceError(why, path=path, where=linenos[row])

@@ -39,6 +39,13 @@ def format_trace(spectrum: Spectrum, notes=(), *, level_column: str = "level_dbm
     out.write(f"# detector: {spectrum.detector}\n")
     if spectrum.centre_hz is not None:
         out.write(f"# centre_hz: {float(spectrum.centre_hz)!r}\n")
+    tf = spectrum.trace_file  # the facts a trace file (or an export's settings block) stated
+    if tf is not None:
+        for key in ("span_hz", "vbw_hz", "reference_level_dbm"):
+            if getattr(tf, key) is not None:
+                out.write(f"# {key}: {float(getattr(tf, key))!r}\n")
+        if tf.sweep_points is not None:
+            out.write(f"# sweep_points: {int(tf.sweep_points)}\n")
     for n in notes:
         out.write(f"# {' '.join(str(n).split())}\n")
     out.write(f"frequency_hz,{level_column}\n")

@@ -277,11 +277,21 @@ def _mask_name(result: CheckResult) -> str:
     return m.path or m.id
 
 
+def _input_text(f) -> str:
+    """An input file as the provenance table names it: the path, what was inferred reading it, and its notes."""
+    text = f.path
+    if getattr(f, "reading", None):
+        text += f" (read as: {f.reading})"
+    if getattr(f, "notes", None):
+        text += " Notes: " + "; ".join(f.notes)
+    return text
+
+
 def provenance_section(x: Parts, result: CheckResult, attachments, notes=()) -> list:
     r = result
     out = [CondPageBreak(200), x.heading("Provenance")]
     w = x.width
-    rows = [(f.path, f.sha256 or "not recorded") for f in r.inputs]
+    rows = [(_input_text(f), f.sha256 or "not recorded") for f in r.inputs]
     m = r.mask
     rows.append((f"{_mask_name(r)} (mask file)", m.sha256 or "not recorded (mask built in memory)"))
     out += [x.sub("Input files and their SHA-256"), x.grid(("File", "SHA-256 of its bytes"), rows, [w - 100 * mm, 100 * mm], mono_cols=(1,))]

@@ -272,7 +272,8 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
     pairs = []
     for i, item in enumerate(inputs, 1):
         get = (lambda k: item[k]) if isinstance(item, dict) else (lambda k: getattr(item, k))
-        pairs.append((f"input {i}", f"{get('path')}  SHA-256 {get('sha256')}"))
+        reading = item.get("reading") if isinstance(item, dict) else getattr(item, "reading", None)
+        pairs.append((f"input {i}", f"{get('path')}  SHA-256 {get('sha256')}" + (f"  (read as: {reading})" if reading else "")))
     cal = spectrum.calibration
     if cal is not None:
         pairs.append(("calibration", ", ".join(f"{k} {v}" for k, v in cal.to_dict().items())))
