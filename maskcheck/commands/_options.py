@@ -94,6 +94,11 @@ OPTIONS: dict[str, str] = {
     "floor_margin_db": "--floor-margin",
     "extra_loss_db": "--attenuator",
     "lowest_hz": "--lowest",
+    # design
+    "vary": "--vary",
+    "goal": "--goal",
+    "samples": "--samples",
+    "grid": "--grid",
     # outputs
     "force": "--force",
     "folder": "--figures",
