@@ -99,6 +99,7 @@ OPTIONS: dict[str, str] = {
     "goal": "--goal",
     "samples": "--samples",
     "grid": "--grid",
+    "mask": "--mask",
     # outputs
     "force": "--force",
     "folder": "--figures",

@@ -28,12 +28,35 @@ __all__ = ["Settings", "Binding", "Outcome", "Point", "evaluate_text", "Evaluato
 
 @dataclass(frozen=True)
 class Settings:
-    """What every point of one design shares: the goal and how the check is made."""
+    """What every point of one design shares: the goal and how the check is made.
+
+    Pickled (for a worker process) as the mask file's path and SHA-256; the
+    worker reads the file once and refuses one whose content has changed.
+    """
 
     goal: Goal
     mask: object  # a loaded Mask
     designator: str | None = None
     guard_db: float = 0.0
+
+    def __reduce__(self):
+        return (_settings_in_worker, (self.goal, self.mask.source_path, self.mask.sha256, self.designator, self.guard_db))
+
+
+_WORKER_MASKS: dict = {}
+
+
+def _settings_in_worker(goal, mask_path, mask_sha256, designator, guard_db) -> Settings:
+    """Settings rebuilt in a worker process: the mask read from its file once per process."""
+    mask = _WORKER_MASKS.get((mask_path, mask_sha256))
+    if mask is None:
+        from ..masks.library import load_mask
+
+        mask = load_mask(mask_path)
+        if mask.sha256 != mask_sha256:
+            raise DesignError(f"the mask file {mask_path} changed while the design ran", param="mask")
+        _WORKER_MASKS[(mask_path, mask_sha256)] = mask
+    return Settings(goal, mask, designator, guard_db)
 
 
 @dataclass(frozen=True)

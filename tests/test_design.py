@@ -1,0 +1,440 @@
+"""The design solver against closed forms, and its cache, grammar, map and command line.
+
+Every scenario here is invented for the test.  The simulator itself is
+checked at one point of each closed form first (``test_simulator_*``), so a
+solver test that fails points at the solver.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize
+import scipy.signal
+
+from maskcheck.cli import main
+from maskcheck.design import design, parse_goal
+from maskcheck.design.evaluate import Evaluator, Settings
+from maskcheck.design.keys import parse_vary, scenario_hash, substitute
+from maskcheck.design.solve import contour_segments
+from maskcheck.errors import DesignError
+from maskcheck.masks.library import load_mask
+from maskcheck.sim.amplifier import Polynomial
+from maskcheck.sim.scenario import parse_scenario
+
+MASK = "us-amateur-hf-2003"
+#: Source: 47 CFR 97.307(d): spurious emissions at least 43 dB below the mean power (HF, after 2003)
+SPURIOUS_DBC = 43.0
+
+
+def _write(tmp_path, text, name="s.toml"):
+    p = tmp_path / name
+    p.write_text(text, encoding="utf-8")
+    return p
+
+
+def phasing_text(phase_deg=3.0, duration="2 s"):
+    return f"""# INVENTED test scenario: a phasing exciter with no gain error
+scenario_version = 1
+name = "phasing exciter (invented)"
+[signal]
+carrier = "14.2 MHz"
+sample_rate = "48 kHz"
+duration = "{duration}"
+[source]
+kind = "two-tone"
+f1 = "700 Hz"
+f2 = "1900 Hz"
+[modulator]
+kind = "ssb-phasing"
+phase_error_deg = {phase_deg}
+[antenna]
+power = "100 W"
+power_kind = "pep"
+"""
+
+
+A3 = 0.1  # the cubic amplifier y = v - A3 v**3
+
+
+def cubic_text(backoff_db=6.0):
+    return f"""# INVENTED test scenario: two equal tones through a cubic amplifier
+scenario_version = 1
+name = "cubic amplifier, two tones (invented)"
+[signal]
+carrier = "14.2 MHz"
+sample_rate = "48 kHz"
+duration = "1 s"
+[source]
+kind = "two-tone"
+f1 = "700 Hz"
+f2 = "1900 Hz"
+[modulator]
+kind = "ssb-phasing"
+[amplifier]
+model = "polynomial"
+coefficients = [1.0, 0.0, -{A3}]
+backoff = "{backoff_db} dB"
+[antenna]
+power = "100 W"
+power_kind = "pep"
+"""
+
+
+FC, FM, A2, A3_SMALL, BACKOFF = 7.1e6, 1000.0, 0.3, -0.01, 6.0
+
+
+def harmonic_text(filter_table):
+    return f"""# INVENTED test scenario: one tone, a second harmonic from a2, an output filter
+scenario_version = 1
+name = "second harmonic and output filter (invented)"
+[signal]
+carrier = "{FC} Hz"
+sample_rate = "48 kHz"
+duration = "1 s"
+[source]
+kind = "tone"
+frequency = "{FM} Hz"
+[modulator]
+kind = "ssb-phasing"
+[amplifier]
+model = "polynomial"
+coefficients = [1.0, {A2}, {A3_SMALL}]
+backoff = "{BACKOFF} dB"
+{filter_table}
+[antenna]
+power = "100 W"
+"""
+
+
+def h2_below_fundamental_db() -> float:
+    """Closed form: one tone of peak r through a1 v + a2 v^2 + a3 v^3: fundamental a1 r + 3/4 a3 r^3, h2 a2 r^2 / 2."""
+    r = Polynomial((1.0, A2, A3_SMALL)).input_1db_compression_v * 10 ** (-BACKOFF / 20)
+    return -20 * math.log10((A2 * r * r / 2) / (r + 0.75 * A3_SMALL * r**3))
+
+
+def butterworth_db(f, fc, n):
+    # Closed form: Butterworth attenuation 10 log10(1 + (f/fc)^(2n))
+    return 10 * math.log10(1 + (f / fc) ** (2 * n))
+
+
+@pytest.fixture(scope="module")
+def mask():
+    return load_mask(MASK)
+
+
+# ---------------------------------------------------------------- the simulator at one point of each closed form
+
+def test_simulator_phasing_suppression_at_one_point(tmp_path, mask):
+    # Closed form: suppression = cot^2(phi/2) for g = 1, i.e. 40 dB at phi = 2 atan(10^-2) = 1.146 deg
+    phi = 2 * math.degrees(math.atan(10 ** (-40 / 20)))
+    res = design(_write(tmp_path, phasing_text(phi)), [f"modulator.phase_error_deg={phi}..{phi + 1}"],
+                 "opposite_sideband >= 40 dB", mask, samples=3)
+    first = res.samples[0]
+    assert first.values[0] == pytest.approx(phi)
+    assert first.outcome.measure == pytest.approx(40.0, abs=1e-3)
+
+
+def test_simulator_cubic_im3_at_one_point(tmp_path, mask):
+    # Closed form: IM3 = 3/4 a3 A^3, tone = a1 A - 9/4 a3 A^3 for two tones of amplitude A (PEP envelope 2A)
+    bo = 6.0
+    r1 = Polynomial((1.0, 0.0, -A3)).input_1db_compression_v
+    a = r1 * 10 ** (-bo / 20) / 2
+    want = -20 * math.log10(0.75 * A3 * a**3 / (a - 2.25 * A3 * a**3))
+    res = design(_write(tmp_path, cubic_text(bo)), ["amplifier.backoff=6dB..8dB"], "im3 >= 30 dB", mask, samples=3)
+    assert res.samples[0].outcome.measure == pytest.approx(want, abs=1e-3)
+
+
+# ---------------------------------------------------------------- the three closed-form solves
+
+def test_phasing_largest_phase_error_for_40_db_within_a_hundredth_degree(tmp_path, mask):
+    # Closed form: 10 log10((1 + 2g cos phi + g^2)/(1 - 2g cos phi + g^2)) = 40 dB with g = 1
+    #   -> phi = 2 atan(10^(-40/20)) = 1.1459 deg
+    phi = 2 * math.degrees(math.atan(10 ** (-40 / 20)))
+    res = design(_write(tmp_path, phasing_text()), ["modulator.phase_error_deg=0..5"], "opposite_sideband >= 40 dB", mask)
+    assert res.status == "solved" and res.monotonic and res.direction == "decreasing"
+    assert len(res.crossings) == 1
+    assert res.crossings[0].value == pytest.approx(phi, abs=0.01)
+    assert res.solution.values[0] <= phi + 0.01 and res.solution.holds  # on the feasible side
+    assert not res.crossings[0].holds_above
+    # a one-parameter solve of a 2 s scenario: at most 20 simulations (issue 15), each scenario once
+    assert res.simulations <= 20
+    assert len({p.sha256 for p in res.points}) == res.simulations
+    # Closed form: d(suppression)/d(phi) = -20/ln10 / sin(phi) per radian
+    want = -20 / math.log(10) / math.sin(math.radians(phi)) * math.pi / 180
+    assert res.sensitivity["modulator.phase_error_deg"][1] == pytest.approx(want, rel=0.01)
+    assert res.exit_code == 0
+
+
+def test_cubic_largest_drive_for_im3_30_db_below_one_tone_within_a_tenth_db(tmp_path, mask):
+    # Closed form: 3/4 a3 A^2 / (a1 - 9/4 a3 A^2) = 10^(-30/20)  ->  A^2 = q a1 / (a3 (3/4 + 9/4 q)), q = 10^-1.5;
+    # the PEP envelope 2A sits at the back-off below the input 1 dB point r1: backoff = -20 log10(2A / r1)
+    q = 10 ** (-30 / 20)
+    a = math.sqrt(q / (A3 * (0.75 + 2.25 * q)))
+    r1 = Polynomial((1.0, 0.0, -A3)).input_1db_compression_v
+    want = -20 * math.log10(2 * a / r1)
+    res = design(_write(tmp_path, cubic_text()), ["amplifier.backoff=-2dB..20dB"], "im3 >= 30 dB", mask)
+    assert res.status == "solved" and res.monotonic and res.direction == "increasing"
+    (c,) = res.crossings
+    assert c.value == pytest.approx(want, abs=0.1)
+    assert c.holds_above  # more back-off, less IM3: the largest drive is the crossing
+    assert res.simulations <= 20
+
+
+def test_lowest_butterworth_order_bringing_the_second_harmonic_under_the_rule(tmp_path, mask):
+    cutoff = 8e6
+    f = FC + FM  # the upper-sideband tone; its second harmonic is at 2f
+    h2 = h2_below_fundamental_db()
+
+    def margin(n):  # Source: 47 CFR 97.307(d) (43 dB below the mean power) with the closed forms above
+        return h2 + butterworth_db(2 * f, cutoff, n) - butterworth_db(f, cutoff, n) - SPURIOUS_DBC
+
+    want = next(n for n in range(1, 21) if margin(n) >= 0)
+    assert margin(want) > 0.5 and margin(want - 1) < -0.5  # the closed form is not on a knife edge
+    table = f'[output_filter]\nkind = "butter"\norder = 3\ncutoff = "{cutoff} Hz"'
+    res = design(_write(tmp_path, harmonic_text(table)), ["output_filter.order=1..12"], "margin >= 0 dB", mask)
+    assert res.status == "solved" and res.solution.values == (float(want),)
+    assert res.crossings[0].between == (float(want - 1), float(want))
+    assert all(p.values[0] == int(p.values[0]) for p in res.points)  # searched over whole numbers
+    assert res.solution.outcome.worst_margin_db == pytest.approx(margin(want), abs=0.05)
+    b = res.solution.outcome.binding
+    assert b.what == "harmonic 2" and b.freq_hz == pytest.approx(2 * f, abs=50)
+    # Closed form: one more order adds the difference of the two attenuations
+    assert res.sensitivity["output_filter.order"][0] == pytest.approx(margin(want) - margin(want - 1), abs=0.05)
+    assert res.simulations <= 20
+
+
+def test_a_notch_passing_over_the_harmonic_gives_every_crossing(tmp_path, mask):
+    # An elliptic-family low-pass (Chebyshev II) has transmission zeros in its stop band; moving its cut-off moves
+    # a zero across the second harmonic, so the margin rises and falls again: two crossings.
+    # Reference library: scipy.signal.cheby2 + scipy.signal.freqs_zpk give the margin curve whose zeros are found
+    # with scipy.optimize.brentq.
+    order, rs = 5, 40.0
+    f = FC + FM
+    h2 = h2_below_fundamental_db()
+
+    def rel_att(cut):
+        z, p, k = scipy.signal.cheby2(order, rs, 2 * math.pi * cut, analog=True, output="zpk")
+        _, h = scipy.signal.freqs_zpk(z, p, k, [2 * math.pi * f, 4 * math.pi * f])
+        return -20 * math.log10(abs(h[1])) + 20 * math.log10(abs(h[0]))
+
+    goal_db = h2 + 50.0 - SPURIOUS_DBC  # the goal holds where the filter takes the harmonic 50 dB further down
+    g = lambda c: (h2 + rel_att(c) - SPURIOUS_DBC) - goal_db  # noqa: E731
+    # Closed form: the first zero of an analog Chebyshev II low-pass is at w_s / cos(pi / (2n))
+    notch_cut = 2 * f * math.cos(math.pi / (2 * order))
+    want = [scipy.optimize.brentq(g, 12.5e6, notch_cut - 1.0), scipy.optimize.brentq(g, notch_cut + 1.0, 14.5e6)]
+    table = f'[output_filter]\nkind = "cheby2"\norder = {order}\ncutoff = "13 MHz"\nstopband = "{rs} dB"'
+    res = design(_write(tmp_path, harmonic_text(table)), ["output_filter.cutoff=12.5MHz..14.5MHz"],
+                 f"margin >= {goal_db} dB", mask, samples=9)
+    assert not res.monotonic
+    assert len(res.crossings) == 2
+    assert [c.holds_above for c in res.crossings] == [True, False]
+    for c, w in zip(res.crossings, want):
+        assert c.value == pytest.approx(w, abs=2e3)
+    assert want[0] < notch_cut < want[1]
+
+
+# ---------------------------------------------------------------- cache, keys, grammar
+
+def test_an_unchanged_scenario_is_not_simulated_twice(tmp_path, mask):
+    text = phasing_text(duration="0.5 s")
+    v = parse_vary("modulator.phase_error_deg=0..2", parse_scenario(text))
+    ev = Evaluator(text, (v,), Settings(parse_goal("opposite_sideband >= 40 dB"), mask))
+    a = ev.point((1.0,))
+    b = ev.point((1.0,))
+    assert ev.simulations == 1 and a is b
+    c = ev.point((0.5,))
+    assert ev.simulations == 2 and c.sha256 != a.sha256
+    # the cache key is the content, not the wording: 3 dB of back-off written two ways hash alike
+    t1 = cubic_text(3.0)
+    t2 = t1.replace('backoff = "3.0 dB"', "backoff = 3")
+    assert t1 != t2 and scenario_hash(parse_scenario(t1)) == scenario_hash(parse_scenario(t2))
+
+
+def test_substitute_writes_the_value_back_exactly_and_keeps_the_comments():
+    text = cubic_text(3.0)
+    v = parse_vary("amplifier.backoff=0dB..10dB", parse_scenario(text))
+    out, sc = substitute(text, {v.key: 4.123456789012345})
+    assert sc.amplifier.backoff == 4.123456789012345
+    assert out.startswith("# INVENTED test scenario")
+    # a key the file leaves at its default is added under its table
+    v2 = parse_vary("modulator.phase_error_deg=0..3", parse_scenario(text))
+    out2, sc2 = substitute(text, {v2.key: 1.5})
+    assert sc2.modulator.phase_error_deg == 1.5 and "phase_error_deg = 1.5" in out2
+
+
+@pytest.mark.parametrize("text, found", [
+    ("amplifier.backof=0..3dB", "'backof' is not a key of [amplifier]"),
+    ("amplifier.model=0..3", "is not a number"),
+    ("output_filter.order=2..7", "has no [output_filter] table"),
+    ("amplifier.backoff=3dB..1dB", "is not below the high end"),
+    ("amplifier.backoff=0Hz..3dB", "expected dB"),
+    ("check.guard=0..3", "not a table a design can vary"),
+    ("amplifier.backoff", "expected TABLE.KEY=LOW..HIGH"),
+])
+def test_a_key_that_cannot_be_varied_is_refused_in_one_line(text, found):
+    with pytest.raises(DesignError) as e:
+        parse_vary(text, parse_scenario(cubic_text()))
+    assert found in e.value.message and e.value.param == "vary" and "\n" not in e.value.message
+
+
+@pytest.mark.parametrize("text, found", [
+    ("margn >= 3 dB", "unknown measure 'margn'"),
+    ("margin > 3 dB", "is not >= or <="),
+    ("margin <= 3 dB", "margin takes >="),
+    ("obw <= 2800", "has no unit"),
+    ("obw >= 2.8 kHz", "obw takes <="),
+    ("margin >= 3 W", "the goal's value"),
+    ("obw[spurious] <= 3 kHz", "only margin takes a [REGION]"),
+    ("margin >= 3 dB re pep", "applies to carrier and im3..im9 only"),
+    ("", "not a goal"),
+])
+def test_a_goal_that_cannot_be_read_is_refused_in_one_line(text, found):
+    with pytest.raises(DesignError) as e:
+        parse_goal(text)
+    assert found in e.value.message and e.value.param == "goal"
+
+
+def test_goal_grammar_reads_what_it_documents():
+    assert parse_goal("margin[spurious] >= 6 dB").region == "spurious"
+    g = parse_goal("im3 >= 36 dB re pep")
+    assert (g.measure, g.ref, g.value) == ("im3", "pep", 36.0)
+    assert g.g(40.0) == 4.0 and parse_goal("obw <= 2.8 kHz").g(3000.0) == pytest.approx(-200.0)
+
+
+def test_a_two_tone_goal_on_a_speech_scenario_is_refused_before_simulating(tmp_path, mask):
+    text = harmonic_text("").replace('kind = "tone"', 'kind = "speech"').replace('frequency = "1000.0 Hz"', "")
+    with pytest.raises(DesignError, match="needs|read off a two-tone test"):
+        design(_write(tmp_path, text), ["amplifier.backoff=0dB..6dB"], "im3 >= 30 dB", mask)
+
+
+def test_a_region_the_mask_does_not_have_is_refused(tmp_path, mask):
+    with pytest.raises(DesignError, match="has no region 'oob'"):
+        design(_write(tmp_path, cubic_text()), ["amplifier.backoff=0dB..6dB"], "margin[oob] >= 3 dB", mask)
+
+
+# ---------------------------------------------------------------- two keys
+
+def test_contour_segments_on_a_plane_follow_its_zero_line():
+    # Closed form: g = x + y - 1 is zero on the line x + y = 1
+    xs = ys = [0.0, 0.5, 1.0]
+    g = [[x + y - 1 for x in xs] for y in ys]
+    segs = contour_segments(xs, ys, g)
+    assert segs
+    for a, b in segs:
+        assert a[0] + a[1] == pytest.approx(1.0) and b[0] + b[1] == pytest.approx(1.0)
+
+
+def test_two_key_map_finds_the_goal_region_and_its_best_point(tmp_path, mask):
+    cutoff = 8e6
+    f = FC + FM
+    h2 = h2_below_fundamental_db()
+    table = f'[output_filter]\nkind = "butter"\norder = 3\ncutoff = "{cutoff} Hz"'
+    res = design(_write(tmp_path, harmonic_text(table)), ["output_filter.order=3..9", "amplifier.backoff=0dB..12dB"],
+                 "margin >= 0 dB", mask, grid=4)
+    assert res.grid is not None and len(res.grid.xs) == 4 and res.simulations == 16
+    assert res.grid.contour  # the goal's boundary crosses the map
+    assert res.solution.holds
+    # Closed form at every grid point: the harmonic's level follows a2 r^2/2 against r + 3/4 a3 r^3 and the
+    # Butterworth attenuations; the map's goal function matches it
+    r1 = Polynomial((1.0, A2, A3_SMALL)).input_1db_compression_v
+    for iy, bo in enumerate(res.grid.ys):
+        for ix, n in enumerate(res.grid.xs):
+            r = r1 * 10 ** (-bo / 20)
+            rel = -20 * math.log10((A2 * r * r / 2) / (r + 0.75 * A3_SMALL * r**3))
+            want = rel + butterworth_db(2 * f, cutoff, n) - butterworth_db(f, cutoff, n) - SPURIOUS_DBC
+            assert res.grid.g[iy][ix] == pytest.approx(want, abs=0.05)
+    assert h2 < 0 or h2 > 0  # h2 is a finite number (the helper ran)
+
+
+def test_run_points_on_two_workers_gives_the_outcomes_of_one(tmp_path, mask):
+    from maskcheck.design.grid import run_points
+
+    settings = Settings(parse_goal("im3 >= 30 dB"), mask)
+    texts = [cubic_text(3.0).replace('duration = "1 s"', 'duration = "0.25 s"'),
+             cubic_text(9.0).replace('duration = "1 s"', 'duration = "0.25 s"')]
+    one = run_points(texts, settings, workers=1)
+    two = run_points(texts, settings, workers=2)
+    assert [o.measure for o in one] == [o.measure for o in two]
+    assert one[0].measure < one[1].measure  # and the points differ
+
+
+# ---------------------------------------------------------------- the command
+
+def test_design_command_writes_the_solved_scenario_the_json_and_the_pdf(tmp_path, capsys):
+    sc = _write(tmp_path, harmonic_text('[output_filter]\nkind = "butter"\norder = 5\ncutoff = "8 MHz"'))
+    out = tmp_path / "out"
+    code = main(["design", str(sc), "--vary", "amplifier.backoff=0dB..20dB", "--goal", "margin >= 3 dB",
+                 "--mask", MASK, "--out", str(out)])
+    assert code == 0
+    data = json.loads((out / "design.json").read_text())
+    assert data["status"] == "solved" and data["simulations"] <= 20
+    assert data["solution"]["goal_holds"] and data["solution"]["worst_margin_db"] >= 3.0
+    assert (out / "design.pdf").read_bytes().startswith(b"%PDF")
+    text = (out / "solved-scenario.toml").read_text()
+    assert "SOLVED by maskcheck design" in text and "# INVENTED test scenario" in text
+    # the solved scenario is ready to simulate, and meets the goal there
+    assert main(["simulate", str(out / "solved-scenario.toml"), "--out", str(tmp_path / "sim"), "--mask", MASK,
+                 "--quiet"]) == 0
+    got = json.loads((tmp_path / "sim" / "result.json").read_text())
+    assert min(r["worst_margin_db"] for r in got["regions"] if r["worst_margin_db"] is not None) >= 3.0
+    shown = capsys.readouterr().out
+    assert "design aid, not evidence" in shown and "binding constraint: region 'spurious'" in shown
+
+
+def test_design_command_refuses_bad_input_in_one_line_and_writes_nothing(tmp_path, capsys):
+    sc = _write(tmp_path, cubic_text())
+    out = tmp_path / "out"
+    for argv, found in (
+        (["--vary", "amplifier.bakoff=0..3dB", "--goal", "margin >= 3 dB"], "--vary"),
+        (["--vary", "amplifier.backoff=0dB..3dB", "--goal", "margin > 3 dB"], "--goal"),
+        (["--vary", "amplifier.backoff=0dB..3dB", "--goal", "margin >= 3 dB", "--grid", "5"], "--grid"),
+        (["--vary", "amplifier.backoff=0dB..3dB", "--goal", "margin >= 3 dB", "--samples", "2"], "--samples"),
+        (["--vary", "amplifier.backoff=0dB..60dB", "--vary", "amplifier.backoff=1dB..2dB", "--goal", "margin >= 3 dB"],
+         "varied twice"),
+    ):
+        code = main(["design", str(sc), *argv, "--mask", MASK, "--out", str(out)])
+        err = capsys.readouterr().err
+        assert code == 2 and found in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err
+        assert not out.exists()
+
+
+def test_design_options_each_change_the_result_or_are_refused(tmp_path):
+    # Common practice, no published source: a structural audit of the command's options, as
+    # tests/test_option_audit.py does for check
+    from maskcheck.cli import build_parser
+
+    sub = next(a for a in build_parser()._actions if a.dest == "command").choices["design"]
+    options = {o for a in sub._actions for o in a.option_strings if o.startswith("--")}
+    sc = _write(tmp_path, harmonic_text('[output_filter]\nkind = "butter"\norder = 3\ncutoff = "8 MHz"'))
+    base = ["--vary", "amplifier.backoff=0dB..12dB", "--goal", "margin >= 3 dB", "--mask", MASK]
+    two = ["--vary", "output_filter.order=3..5"]
+    cases = {  # option -> (arguments A, arguments B) added to the base: the results must differ, or one is refused
+        "--mask": ([], ["--mask", "us-amateur-hf-pre-2003"]),
+        "--designator": ([], ["--designator", "2K70J3E"]),
+        "--guard": ([], ["--guard", "20dB"]),
+        "--samples": ([], ["--samples", "4"]),
+        "--grid": (two + ["--grid", "3"], two + ["--grid", "4"]),
+        "--vary": ([], two),
+        "--goal": ([], ["--goal", "margin >= 6 dB"]),
+    }
+    # options that choose where outputs go or how the work is spread, not the result (tested above)
+    not_result = {"--out", "--force", "--quiet", "--help", "--workers", "--mask-dir"}
+    assert options == set(cases) | not_result
+
+    def run(extra, name):
+        out = tmp_path / name
+        code = main(["design", str(sc), *base, *extra, "--out", str(out), "--quiet"])
+        if code == 2:
+            return None
+        d = json.loads((out / "design.json").read_text())
+        for k in ("created_utc", "outputs"):
+            d.pop(k)
+        return d
+
+    for opt, (a, b) in cases.items():
+        got_a, got_b = run(a, opt.strip("-") + "-a"), run(b, opt.strip("-") + "-b")
+        assert got_a is None or got_b is None or got_a != got_b, opt
