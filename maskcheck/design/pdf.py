@@ -113,17 +113,23 @@ def _one_key(res: DesignResult, width: float, height: float) -> Drawing:
     return d
 
 
+def _edges(v) -> list[float]:
+    """Cell edges of grid values ``v``: halfway between neighbours, half a step beyond each end."""
+    mids = [(a + b) / 2 for a, b in zip(v, v[1:])]
+    return [v[0] - (mids[0] - v[0])] + mids + [v[-1] + (v[-1] - mids[-1])]
+
+
 def _two_keys(res: DesignResult, width: float, height: float) -> Drawing:
     d = Drawing(width, height)
     vx, vy = res.varies
     (xl, xsc), (yl, ysc) = _axis_label(vx), _axis_label(vy)
     gm = res.grid
     xs, ys = [x / xsc for x in gm.xs], [y / ysc for y in gm.ys]
-    hx, hy = (xs[1] - xs[0]) / 2, (ys[1] - ys[0]) / 2
-    fr = _Frame(d, (48, 40, width - 62, height - 62), (xs[0] - hx, xs[-1] + hx), (ys[0] - hy, ys[-1] + hy))
+    ex, ey = _edges(xs), _edges(ys)  # cells meet halfway between grid values (whole numbers need not be evenly spaced)
+    fr = _Frame(d, (48, 40, width - 62, height - 62), (ex[0], ex[-1]), (ey[0], ey[-1]))
     for iy, y in enumerate(ys):
         for ix, x in enumerate(xs):
-            x0, x1, y0, y1 = fr.px(x - hx), fr.px(x + hx), fr.py(y - hy), fr.py(y + hy)
+            x0, x1, y0, y1 = fr.px(ex[ix]), fr.px(ex[ix + 1]), fr.py(ey[iy]), fr.py(ey[iy + 1])
             d.add(Rect(x0, y0, x1 - x0, y1 - y0, fillColor=TINT["pass"] if gm.holds[iy][ix] else TINT["fail"],
                        strokeColor=RULE, strokeWidth=0.3))
             d.add(String((x0 + x1) / 2, (y0 + y1) / 2 - 2.5, f"{gm.g[iy][ix]:+.1f}", textAnchor="middle",
