@@ -10,7 +10,6 @@ from __future__ import annotations
 import json
 import math
 
-import numpy as np
 import pytest
 import scipy.optimize
 import scipy.signal
@@ -36,10 +35,10 @@ def _write(tmp_path, text, name="s.toml"):
     return p
 
 
-def phasing_text(phase_deg=3.0, duration="2 s"):
-    return f"""# INVENTED test scenario: a phasing exciter with no gain error
+def two_tone_text(what, modulator="", amplifier="", duration="1 s"):
+    return f"""# INVENTED test scenario: {what}
 scenario_version = 1
-name = "phasing exciter (invented)"
+name = "{what} (invented)"
 [signal]
 carrier = "14.2 MHz"
 sample_rate = "48 kHz"
@@ -50,38 +49,24 @@ f1 = "700 Hz"
 f2 = "1900 Hz"
 [modulator]
 kind = "ssb-phasing"
-phase_error_deg = {phase_deg}
+{modulator}
+{amplifier}
 [antenna]
 power = "100 W"
 power_kind = "pep"
 """
+
+
+def phasing_text(phase_deg=3.0, duration="2 s"):
+    return two_tone_text("a phasing exciter with no gain error", f"phase_error_deg = {phase_deg}", duration=duration)
 
 
 A3 = 0.1  # the cubic amplifier y = v - A3 v**3
 
 
 def cubic_text(backoff_db=6.0):
-    return f"""# INVENTED test scenario: two equal tones through a cubic amplifier
-scenario_version = 1
-name = "cubic amplifier, two tones (invented)"
-[signal]
-carrier = "14.2 MHz"
-sample_rate = "48 kHz"
-duration = "1 s"
-[source]
-kind = "two-tone"
-f1 = "700 Hz"
-f2 = "1900 Hz"
-[modulator]
-kind = "ssb-phasing"
-[amplifier]
-model = "polynomial"
-coefficients = [1.0, 0.0, -{A3}]
-backoff = "{backoff_db} dB"
-[antenna]
-power = "100 W"
-power_kind = "pep"
-"""
+    return two_tone_text("two equal tones through a cubic amplifier", amplifier=(
+        f'[amplifier]\nmodel = "polynomial"\ncoefficients = [1.0, 0.0, -{A3}]\nbackoff = "{backoff_db} dB"'))
 
 
 FC, FM, A2, A3_SMALL, BACKOFF = 7.1e6, 1000.0, 0.3, -0.01, 6.0
@@ -266,36 +251,28 @@ def test_substitute_writes_the_value_back_exactly_and_keeps_the_comments():
     assert sc2.modulator.phase_error_deg == 1.5 and "phase_error_deg = 1.5" in out2
 
 
-@pytest.mark.parametrize("text, found", [
-    ("amplifier.backof=0..3dB", "'backof' is not a key of [amplifier]"),
-    ("amplifier.model=0..3", "is not a number"),
-    ("output_filter.order=2..7", "has no [output_filter] table"),
-    ("amplifier.backoff=3dB..1dB", "is not below the high end"),
-    ("amplifier.backoff=0Hz..3dB", "expected dB"),
-    ("check.guard=0..3", "not a table a design can vary"),
-    ("amplifier.backoff", "expected TABLE.KEY=LOW..HIGH"),
+@pytest.mark.parametrize("param, text, found", [
+    ("vary", "amplifier.backof=0..3dB", "'backof' is not a key of [amplifier]"),
+    ("vary", "amplifier.model=0..3", "is not a number"),
+    ("vary", "output_filter.order=2..7", "has no [output_filter] table"),
+    ("vary", "amplifier.backoff=3dB..1dB", "is not below the high end"),
+    ("vary", "amplifier.backoff=0Hz..3dB", "expected dB"),
+    ("vary", "check.guard=0..3", "not a table a design can vary"),
+    ("vary", "amplifier.backoff", "expected TABLE.KEY=LOW..HIGH"),
+    ("goal", "margn >= 3 dB", "unknown measure 'margn'"),
+    ("goal", "margin > 3 dB", "is not >= or <="),
+    ("goal", "margin <= 3 dB", "margin takes >="),
+    ("goal", "obw <= 2800", "has no unit"),
+    ("goal", "obw >= 2.8 kHz", "obw takes <="),
+    ("goal", "margin >= 3 W", "the goal's value"),
+    ("goal", "obw[spurious] <= 3 kHz", "only margin takes a [REGION]"),
+    ("goal", "margin >= 3 dB re pep", "applies to carrier and im3..im9 only"),
+    ("goal", "", "not a goal"),
 ])
-def test_a_key_that_cannot_be_varied_is_refused_in_one_line(text, found):
+def test_a_key_or_goal_that_cannot_be_read_is_refused_in_one_line(param, text, found):
     with pytest.raises(DesignError) as e:
-        parse_vary(text, parse_scenario(cubic_text()))
-    assert found in e.value.message and e.value.param == "vary" and "\n" not in e.value.message
-
-
-@pytest.mark.parametrize("text, found", [
-    ("margn >= 3 dB", "unknown measure 'margn'"),
-    ("margin > 3 dB", "is not >= or <="),
-    ("margin <= 3 dB", "margin takes >="),
-    ("obw <= 2800", "has no unit"),
-    ("obw >= 2.8 kHz", "obw takes <="),
-    ("margin >= 3 W", "the goal's value"),
-    ("obw[spurious] <= 3 kHz", "only margin takes a [REGION]"),
-    ("margin >= 3 dB re pep", "applies to carrier and im3..im9 only"),
-    ("", "not a goal"),
-])
-def test_a_goal_that_cannot_be_read_is_refused_in_one_line(text, found):
-    with pytest.raises(DesignError) as e:
-        parse_goal(text)
-    assert found in e.value.message and e.value.param == "goal"
+        parse_vary(text, parse_scenario(cubic_text())) if param == "vary" else parse_goal(text)
+    assert found in e.value.message and e.value.param == param and "\n" not in e.value.message
 
 
 def test_goal_grammar_reads_what_it_documents():

@@ -58,12 +58,11 @@ def run(args) -> int:
 
     from ..checking.summary import utc_now
     from ..core.units import parse_db
-    from ..design.run import read_scenario_text
     from ..design.solve import DEFAULT_GRID, DEFAULT_SAMPLES
     from ..errors import OutputError, StationError
     from ..io.output import check_writable, make_folder, write_atomic
     from ..masks.library import load_mask
-    from ..sim.scenario import parse_scenario
+    from ..sim.scenario import parse_scenario, read_scenario_text
     from .simulate import _refuse_outside_bands
 
     _options(args)

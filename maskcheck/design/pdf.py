@@ -14,18 +14,13 @@ Numbers come from the :class:`~maskcheck.design.solve.DesignResult` and
 
 from __future__ import annotations
 
-import io
-import os
-
 from reportlab.graphics.shapes import Circle, Drawing, Line, PolyLine, Rect, String
-from reportlab.lib.pagesizes import A4
-from reportlab.lib.units import mm
-from reportlab.platypus import KeepTogether, SimpleDocTemplate, Spacer
+from reportlab.platypus import KeepTogether, Spacer
 
 from .. import _version
-from ..report.cautions import DESIGN_CAUTION, SHORT_CAUTION
+from ..report.cautions import DESIGN_CAUTION
 from ..report.pdf_evidence import closing_page
-from ..report.pdf_parts import ACCENT, INK, MARGIN, RULE, TINT, Parts, pdf_text_plain
+from ..report.pdf_parts import ACCENT, INK, RULE, TINT, Parts, build_document
 from ..report.plot_axes import PALETTE, _fmt_tick, _nice_step
 from .render import binding_text, summary_lines
 from .solve import DesignResult
@@ -149,22 +144,6 @@ def design_drawing(res: DesignResult, width: float = 493.0, height: float = 300.
     return _one_key(res, width, height) if len(res.varies) == 1 else _two_keys(res, width, height)
 
 
-def _footer(canvas, doc) -> None:
-    canvas.saveState()
-    w, h = A4
-    canvas.setFillColor(ACCENT)
-    canvas.rect(MARGIN, h - 13 * mm, 3 * mm, 3 * mm, stroke=0, fill=1)
-    canvas.setFillColor(INK)
-    canvas.setFont(_FONT, 7)
-    canvas.drawString(MARGIN + 5 * mm, h - 12.5 * mm, "maskcheck design solve (simulation)")
-    canvas.setStrokeColor(RULE)
-    canvas.setLineWidth(0.5)
-    canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
-    canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
-    canvas.drawRightString(w - MARGIN, 10 * mm, f"page {doc.page}")
-    canvas.restoreState()
-
-
 def build_design_report(res: DesignResult, facts: list[tuple[str, str]], created_utc: str) -> bytes:
     """The design PDF as bytes; ``facts`` are the (label, value) pairs of what was asked."""
     x = Parts()
@@ -195,11 +174,5 @@ def build_design_report(res: DesignResult, facts: list[tuple[str, str]], created
                      tints=tints)]
     story += [x.heading("Cautions")] + x.bullets(res.cautions, "small")
     story += closing_page(x)
-    buf = io.BytesIO()
-    kw = {"invariant": 1} if os.environ.get("SOURCE_DATE_EPOCH", "").strip() else {}
-    doc = SimpleDocTemplate(buf, pagesize=A4, leftMargin=MARGIN, rightMargin=MARGIN, topMargin=17 * mm,
-                            bottomMargin=19 * mm, title="maskcheck design solve", author="maskcheck",
-                            subject="design solve on a simulation (a design aid, not evidence)",
-                            creator=f"maskcheck {_version.__version__}", **kw)
-    doc.build(story, onFirstPage=_footer, onLaterPages=_footer)
-    return buf.getvalue()
+    return build_document(story, running_title="maskcheck design solve (simulation)", title="maskcheck design solve",
+                          subject="design solve on a simulation (a design aid, not evidence)")

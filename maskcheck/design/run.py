@@ -11,15 +11,13 @@ check that this scenario and mask can measure it; then
 from __future__ import annotations
 
 import itertools
-from pathlib import Path
-
 from ..errors import DesignError, ScenarioError
 from .evaluate import Evaluator, Settings, require_goal_fits
 from .goal import parse_goal
 from .keys import parse_vary
 from .solve import DEFAULT_GRID, DEFAULT_SAMPLES, DesignResult, solve_one, solve_two
 
-__all__ = ["design", "read_scenario_text", "DESIGN_NOTES"]
+__all__ = ["design", "DESIGN_NOTES"]
 
 #: what every design result says about itself (the general cautions are in maskcheck.report.cautions)
 DESIGN_NOTES = (
@@ -28,21 +26,6 @@ DESIGN_NOTES = (
     "The solved value sits on the goal's boundary: leave room for component tolerance, temperature and "
     "measurement uncertainty before building to it.",
 )
-
-
-def read_scenario_text(path) -> tuple[str, str]:
-    """The scenario file's text and the SHA-256 of its bytes (a :class:`ScenarioError` if unreadable)."""
-    import hashlib
-
-    from .._toml import decode_text
-
-    p = Path(path)
-    try:
-        data = p.read_bytes()
-    except OSError as exc:
-        raise ScenarioError(f"cannot read the scenario file ({exc.strerror or exc})", path=path) from None
-    text = decode_text(data, "scenario files", lambda message, where: ScenarioError(message, path=path, where=where))
-    return text, hashlib.sha256(data).hexdigest()
 
 
 def design(path, vary, goal: str, mask, *, designator: str | None = None, guard_db: float = 0.0,
@@ -71,7 +54,7 @@ def design(path, vary, goal: str, mask, *, designator: str | None = None, guard_
     text : str, optional
         The file's text, when already read.
     """
-    from ..sim.scenario import parse_scenario
+    from ..sim.scenario import parse_scenario, read_scenario_text
 
     if text is None:
         text, _ = read_scenario_text(path)
