@@ -58,6 +58,10 @@ def sensitivity_lines(res: DesignResult) -> list[str]:
     for v in res.varies:
         dm, dg = res.sensitivity.get(v.key.path, (None, None))
         per = "per step" if v.key.integer else f"per {v.key.unit or 'unit'}"
+        if v.key.unit == "Hz":  # per MHz or kHz, as the range is written
+            scale, per = next((f, f"per {u}") for f, u in ((1e6, "MHz"), (1e3, "kHz"), (1.0, "Hz"))
+                              if max(abs(v.low), abs(v.high)) >= f or f == 1.0)
+            dm, dg = (None if dm is None else dm * scale), (None if dg is None else dg * scale)
         if dm is not None:
             out.append(f"d(worst margin)/d({v.key.path}) = {dm:+.4g} dB {per}")
         if dg is not None and (res.goal.measure != "margin" or res.goal.region):
