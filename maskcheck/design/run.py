@@ -77,6 +77,10 @@ def design(path, vary, goal: str, mask, *, designator: str | None = None, guard_
                               param="vary") from None
     res = solve_one(ev, samples=samples, workers=workers) if len(varies) == 1 else solve_two(ev, grid=grid, workers=workers)
     res.cautions = list(DESIGN_NOTES)
+    g = settings.goal
+    if g.measure == "margin" and g.value < guard_db:
+        res.cautions.append(f"the goal's margin ({g.value:g} dB) is inside the check's guard band ({guard_db:g} dB): "
+                            "a point that just meets it is judged marginal, not pass")
     if not mask.provenance.verified:
         from ..report.cautions import UNVERIFIED_NOTE
 

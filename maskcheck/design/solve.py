@@ -12,7 +12,8 @@ One key
    not held brackets one crossing.  A continuous key's crossing is solved by
    :func:`scipy.optimize.brentq` on ``g`` to ``xtol`` (by default 1e-5 of the
    range); an integer key's by bisection over whole numbers down to two
-   neighbours.
+   neighbours.  Where the goal stops holding although ``g`` keeps its sign
+   (the check turns incomplete), that boundary is found by bisection.
 3. The solution is the crossing nearest the scenario's present value, on its
    feasible side: an evaluated point where the goal holds, so the solved
    scenario file is one that was simulated and checked.  With no crossing,
@@ -157,7 +158,9 @@ def _crossing_continuous(ev: Evaluator, a: Point, b: Point, xtol: float) -> Cros
     import scipy.optimize
 
     xa, xb = a.values[0], b.values[0]
-    if a.g == 0:
+    if (a.g >= 0) == (b.g >= 0):  # g keeps its sign; the goal is blocked on one side (an incomplete check)
+        root = _bisect_holds(ev, a, b, xtol)
+    elif a.g == 0:
         root = xa
     elif b.g == 0:
         root = xb
@@ -173,6 +176,18 @@ def _crossing_continuous(ev: Evaluator, a: Point, b: Point, xtol: float) -> Cros
             feasible = hi_p if holds_above else lo_p
     dm, dg = _slopes(lo_p, hi_p)
     return Crossing(root, (xa, xb), holds_above, feasible, dm, dg)
+
+
+def _bisect_holds(ev: Evaluator, a: Point, b: Point, xtol: float) -> float:
+    """Where ``holds`` changes between ``a`` and ``b`` when ``g`` does not change sign: plain bisection to ``xtol``."""
+    lo, hi = a, b
+    while hi.values[0] - lo.values[0] > xtol:
+        mid = ev.point(((lo.values[0] + hi.values[0]) / 2,))
+        if mid.holds == lo.holds:
+            lo = mid
+        else:
+            hi = mid
+    return (lo.values[0] + hi.values[0]) / 2
 
 
 def _crossing_integer(ev: Evaluator, a: Point, b: Point) -> Crossing:
