@@ -90,6 +90,7 @@ class Outcome:
     obw_hz: float | None
     simulate_s: float
     check_s: float
+    measure_detail: str = ""  # what sets a named measure: the stronger product, the weaker image, a region's worst point
 
 
 @dataclass(frozen=True)
@@ -113,7 +114,7 @@ class Point:
                 "goal_function": self.g, "goal_holds": self.holds, "measure": o.measure,
                 "measure_is_bound": o.measure_is_bound, "worst_margin_db": o.worst_margin_db, "verdict": o.verdict,
                 "blocked": list(o.blocked), "binding": None if o.binding is None else o.binding.to_dict(),
-                "occupied_bandwidth_hz": o.obw_hz,
+                "occupied_bandwidth_hz": o.obw_hz, "measure_set_by": o.measure_detail or None,
                 "regions": [{"name": n, "worst_margin_db": m, "verdict": v} for n, m, v in o.region_margins]}
 
 
@@ -137,8 +138,10 @@ def _binding(result, carrier_hz: float, zone_half_hz: float) -> Binding | None:
                    _what(r.worst_freq_hz, carrier_hz, zone_half_hz))
 
 
-def _two_tone(sim, goal: Goal) -> tuple[float, bool]:
+def _two_tone(sim, goal: Goal) -> tuple[float, bool, str]:
+    """(the goal's two-tone measure in dB, read at a floor bound?, which line sets it)."""
     from ..core.twotone import analyse_two_tone
+    from ..core.units import format_frequency
 
     fc, half = sim.carrier_hz, sim.fundamental.sample_rate_hz / 2
     res = analyse_two_tone(sim.wideband.spectrum.between(fc - half, fc + half), carrier_hz=fc)
@@ -146,14 +149,18 @@ def _two_tone(sim, goal: Goal) -> tuple[float, bool]:
         c = res.carrier
         if c is None or c.suppression_db is None:
             raise DesignError("goal=opposite_sideband: the images of the tones were not measured", param="goal")
-        return float(c.suppression_db), bool(c.suppression_at_least)
+        measured = [i for i in c.images if i.dbc_tone is not None]
+        worst = max(measured, key=lambda i: i.dbc_tone) if measured else c.images[0]
+        return float(c.suppression_db), bool(c.suppression_at_least), f"{worst.name} at {format_frequency(worst.freq_hz, 9)}"
     line = res.carrier.leak if goal.measure == "carrier" else res.worst(int(goal.measure[2:]))
     if line is None or line.power_w is None:
         raise DesignError(f"goal={goal.measure}: the line was not measured", param="goal")
+    name = line.name + (f" ({line.side} side)" if getattr(line, "side", "") else "")
+    detail = f"{name} at {format_frequency(line.freq_hz, 9)}" + (" (below the floor)" if line.below_floor else "")
     if line.below_floor:
         v = line.at_most_dbc_tone if goal.ref == "tone" else line.at_most_dbc_pep
-        return -float(v), True
-    return -float(line.dbc_tone if goal.ref == "tone" else line.dbc_pep), False
+        return -float(v), True, detail
+    return -float(line.dbc_tone if goal.ref == "tone" else line.dbc_pep), False, detail
 
 
 def evaluate_text(text: str, settings: Settings, path=None) -> Outcome:
@@ -179,7 +186,7 @@ def evaluate_text(text: str, settings: Settings, path=None) -> Outcome:
             blocked.append(f"the check is incomplete ({why or 'see the check'})")
         blocked += [f"occupied-bandwidth region {r.name!r} fails" for r in result.regions
                     if r.kind == "occupied-bandwidth" and r.verdict == "fail"]
-    bound = False
+    bound, detail = False, ""
     if goal.measure == "margin" and goal.region is None:
         if worst is None:
             raise DesignError("goal=margin: the check judged no region in dB (nothing to take a margin of)", param="goal")
@@ -189,19 +196,27 @@ def evaluate_text(text: str, settings: Settings, path=None) -> Outcome:
         if region is None or region.worst_margin_db is None:
             raise DesignError(f"goal=margin[{goal.region}]: the check gave that region no margin in dB", param="goal")
         measure = float(region.worst_margin_db)
+        if region.worst_freq_hz is not None:
+            from ..core.units import format_frequency
+
+            detail = f"its worst point at {format_frequency(region.worst_freq_hz, 9)}"
         if region.verdict == "incomplete":
             blocked.append(f"region {goal.region!r} is incomplete")
     elif goal.measure == "obw":
         if result.occupied_bandwidth is None:
             raise DesignError("goal=obw: the occupied bandwidth was not measured", param="goal")
-        measure = float(result.occupied_bandwidth.width_hz)
+        obw = result.occupied_bandwidth
+        measure = float(obw.width_hz)
+        from ..core.units import format_frequency
+
+        detail = f"edges {format_frequency(obw.lower_hz, 9)} and {format_frequency(obw.upper_hz, 9)}"
     else:
-        measure, bound = _two_tone(sim, goal)
+        measure, bound, detail = _two_tone(sim, goal)
     return Outcome(measure, bound, None if worst is None else float(worst.worst_margin_db), result.verdict,
                    _binding(result, sim.carrier_hz, sim.fundamental.sample_rate_hz / 2), tuple(blocked),
                    tuple((r.name, r.worst_margin_db, r.verdict) for r in result.regions),
                    None if result.occupied_bandwidth is None else float(result.occupied_bandwidth.width_hz),
-                   t1 - t0, t2 - t1)
+                   t1 - t0, t2 - t1, detail)
 
 
 def require_goal_fits(sc, settings: Settings) -> None:

@@ -57,12 +57,12 @@ __all__ = ["MEASURES", "TWO_TONE_MEASURES", "Goal", "parse_goal"]
 MEASURES = {
     "margin": ("dB", "worst margin of the check"),
     "obw": ("Hz", "occupied bandwidth (99 %)"),
-    "opposite_sideband": ("dB", "opposite-sideband suppression (two-tone)"),
-    "carrier": ("dB", "carrier suppression (two-tone)"),
-    "im3": ("dB", "3rd-order products below one tone (two-tone)"),
-    "im5": ("dB", "5th-order products below one tone (two-tone)"),
-    "im7": ("dB", "7th-order products below one tone (two-tone)"),
-    "im9": ("dB", "9th-order products below one tone (two-tone)"),
+    "opposite_sideband": ("dB", "opposite-sideband suppression"),
+    "carrier": ("dB", "carrier suppression"),
+    "im3": ("dB", "3rd-order products below one tone"),
+    "im5": ("dB", "5th-order products below one tone"),
+    "im7": ("dB", "7th-order products below one tone"),
+    "im9": ("dB", "9th-order products below one tone"),
 }
 
 #: the measures read off a two-tone analysis of the fundamental

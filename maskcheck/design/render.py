@@ -93,7 +93,10 @@ def summary_lines(res: DesignResult) -> list[str]:
     if res.solution is not None:
         s = res.solution
         lines.append(f"solution: {_values(res, s)}: {describe_point(res, s)}")
-        lines.append(f"binding constraint: {binding_text(s)}")
+        if s.outcome.measure_detail:
+            lines.append(f"{res.goal.measure} set by: {s.outcome.measure_detail}")
+        lines.append(f"binding constraint of the check: {binding_text(s)}" if res.goal.measure != "margin" or res.goal.region
+                     else f"binding constraint: {binding_text(s)}")
         if s.outcome.blocked:
             lines.append("the goal cannot be shown there: " + "; ".join(s.outcome.blocked))
         lines += sensitivity_lines(res)
