@@ -47,6 +47,7 @@ def test_the_design_example_solves_the_back_off(tmp_path):
     text = script.read_text()
     assert "INVENTED" in text
     (line,) = [ln for ln in text.splitlines() if ln.startswith("maskcheck design ")]
+    assert line in (script.parent.parent / "README.md").read_text()  # the README shows this very command
     argv = shlex.split(line)[1:]
     root = script.parent.parent
     argv[1] = str(root / argv[1])
