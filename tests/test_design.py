@@ -368,26 +368,53 @@ def test_contour_segments_on_a_plane_follow_its_zero_line():
         assert a[0] + a[1] == pytest.approx(1.0) and b[0] + b[1] == pytest.approx(1.0)
 
 
-def test_two_key_map_finds_the_goal_region_and_its_best_point(tmp_path, mask):
-    cutoff = 8e6
+def _harmonic_margin_db(backoff_db, order, cutoff_hz):
+    """Closed form of the margin of the harmonic scenario: a2 r^2/2 against r + 3/4 a3 r^3, Butterworth attenuations."""
     f = FC + FM
-    h2 = h2_below_fundamental_db()
+    r = Polynomial((1.0, A2, A3_SMALL)).input_1db_compression_v * 10 ** (-backoff_db / 20)
+    rel = -20 * math.log10((A2 * r * r / 2) / (r + 0.75 * A3_SMALL * r**3))
+    return rel + butterworth_db(2 * f, cutoff_hz, order) - butterworth_db(f, cutoff_hz, order) - SPURIOUS_DBC
+
+
+def test_two_key_map_with_an_integer_key_solves_the_boundary_along_it(tmp_path, mask):
+    cutoff = 8e6
     table = f'[output_filter]\nkind = "butter"\norder = 3\ncutoff = "{cutoff} Hz"'
     res = design(_write(tmp_path, harmonic_text(table)), ["output_filter.order=3..9", "amplifier.backoff=0dB..12dB"],
                  "margin >= 0 dB", mask, grid=4)
-    assert res.grid is not None and len(res.grid.xs) == 4 and res.simulations == 16
-    assert res.grid.contour  # the goal's boundary crosses the map
-    assert res.solution.holds
-    # Closed form at every grid point: the harmonic's level follows a2 r^2/2 against r + 3/4 a3 r^3 and the
-    # Butterworth attenuations; the map's goal function matches it
-    r1 = Polynomial((1.0, A2, A3_SMALL)).input_1db_compression_v
+    assert res.grid is not None and len(res.grid.xs) == 4 and res.grid.contour
+    # the map's goal function at every grid point is the closed form
     for iy, bo in enumerate(res.grid.ys):
         for ix, n in enumerate(res.grid.xs):
-            r = r1 * 10 ** (-bo / 20)
-            rel = -20 * math.log10((A2 * r * r / 2) / (r + 0.75 * A3_SMALL * r**3))
-            want = rel + butterworth_db(2 * f, cutoff, n) - butterworth_db(f, cutoff, n) - SPURIOUS_DBC
-            assert res.grid.g[iy][ix] == pytest.approx(want, abs=0.05)
-    assert h2 < 0 or h2 > 0  # h2 is a finite number (the helper ran)
+            assert res.grid.g[iy][ix] == pytest.approx(_harmonic_margin_db(bo, n, cutoff), abs=0.05)
+    # the best point: its order held, its back-off on the boundary (Reference library: scipy.optimize.brentq on
+    # the closed form)
+    n, bo = res.solution.values
+    assert n == int(n) and res.solution.holds
+    want = scipy.optimize.brentq(lambda b: _harmonic_margin_db(b, n, cutoff), 0.0, 12.0)
+    assert bo == pytest.approx(want, abs=0.05)
+
+
+def test_two_continuous_keys_best_point_lies_on_the_closed_form_contour(tmp_path, mask):
+    # Closed form: suppression = 10 log10((1 + 2g cos phi + g^2)/(1 - 2g cos phi + g^2)); the goal's contour is
+    # where it equals 35 dB.  The present design (0.5 dB, 2 deg) gives 30.4 dB.
+    def supp(gain_db, phi_deg):
+        g, c = 10 ** (gain_db / 20), math.cos(math.radians(phi_deg))
+        return 10 * math.log10((1 + 2 * g * c + g * g) / (1 - 2 * g * c + g * g))
+
+    text = two_tone_text("a phasing exciter with imbalance", 'gain_error = "0.5 dB"\nphase_error_deg = 2.0')
+    res = design(_write(tmp_path, text), ["modulator.gain_error=0dB..1dB", "modulator.phase_error_deg=0..3"],
+                 "opposite_sideband >= 35 dB", mask, grid=7)
+    gain, phi = res.solution.values
+    assert res.solution.holds and supp(gain, phi) == pytest.approx(35.0, abs=0.1)
+    assert res.solution.outcome.measure == pytest.approx(supp(gain, phi), abs=0.01)
+    # it is (nearly) the contour's point nearest the present design, keys scaled by their ranges
+    # (Reference library: scipy.optimize.brentq and minimize_scalar on the closed form)
+    def on_curve(p):
+        return scipy.optimize.brentq(lambda gd: supp(gd, p) - 35.0, 0.0, 1.0)
+
+    dist = lambda p: math.hypot(on_curve(p) - 0.5, (p - 2.0) / 3.0)  # noqa: E731
+    best = scipy.optimize.minimize_scalar(dist, bounds=(0.0, 1.05), method="bounded")
+    assert math.hypot(gain - 0.5, (phi - 2.0) / 3.0) <= best.fun * 1.05
 
 
 def test_run_points_on_two_workers_gives_the_outcomes_of_one(tmp_path, mask):

@@ -29,9 +29,14 @@ Two keys
 A ``grid x grid`` map of the range (every point through
 :func:`~maskcheck.design.grid.run_points`), the goal's contour ``g = 0`` on it
 (:func:`contour_segments`, marching squares with linear interpolation), and
-the best point: of the grid points where the goal holds, the one nearest the
-present design (each key scaled by its range), ties to the larger ``g``;
-its sensitivities are finite differences to the neighbouring grid points.
+the best point.  It starts from the grid point where the goal holds nearest
+the present design (each key scaled by its range).  With two continuous keys
+it is the point of the contour nearest the present design, simulated (where
+the interpolated contour misses the goal, the boundary is solved by brentq on
+the segment from it to that grid point); with one integer key, the integer is held at that grid point's value
+and the continuous key's boundary is solved along it by brentq, as for one
+key; with two integer keys it is the grid point itself.  Its sensitivities are finite differences to the
+neighbouring grid points.
 
 References
 ----------
@@ -43,6 +48,7 @@ References
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -139,13 +145,34 @@ def _slopes(a: Point | None, b: Point | None, i: int = 0) -> tuple[float | None,
     return dm, (b.g - a.g) / dx
 
 
-def _sides(ev: Evaluator, root: float, lo: float, hi: float) -> tuple[Point | None, Point | None]:
-    """The evaluated points nearest ``root`` below and above it, inside ``[lo, hi]``."""
-    near = [p for p in ev.points if lo <= p.values[0] <= hi]
-    below = [p for p in near if p.values[0] <= root]
-    above = [p for p in near if p.values[0] > root]
-    return (max(below, key=lambda p: p.values[0]) if below else None,
-            min(above, key=lambda p: p.values[0]) if above else None)
+@dataclass(frozen=True)
+class _Line:
+    """A line through the design space along key ``axis``, the other keys held at ``base``'s values."""
+
+    axis: int = 0
+    base: tuple = (0.0,)
+
+    def at(self, x: float) -> tuple:
+        v = list(self.base)
+        v[self.axis] = float(x)
+        return tuple(v)
+
+    def x(self, p: Point) -> float:
+        return p.values[self.axis]
+
+    def on(self, p: Point) -> bool:
+        return all(a == b for i, (a, b) in enumerate(zip(p.values, self.base)) if i != self.axis)
+
+
+_ONE = _Line()
+
+
+def _sides(ev: Evaluator, root: float, lo: float, hi: float, line: _Line = _ONE) -> tuple[Point | None, Point | None]:
+    """The evaluated points of ``line`` nearest ``root`` below and above it, inside ``[lo, hi]``."""
+    near = [p for p in ev.points if line.on(p) and lo <= line.x(p) <= hi]
+    below = [p for p in near if line.x(p) <= root]
+    above = [p for p in near if line.x(p) > root]
+    return (max(below, key=line.x) if below else None, min(above, key=line.x) if above else None)
 
 
 def _sample_values(low: float, high: float, n: int, integer: bool) -> list[float]:
@@ -154,40 +181,41 @@ def _sample_values(low: float, high: float, n: int, integer: bool) -> list[float
     return [float(x) for x in np.linspace(low, high, n)]
 
 
-def _crossing_continuous(ev: Evaluator, a: Point, b: Point, xtol: float) -> Crossing:
+def _crossing_continuous(ev: Evaluator, a: Point, b: Point, xtol: float, line: _Line = _ONE) -> Crossing:
     import scipy.optimize
 
-    xa, xb = a.values[0], b.values[0]
+    xa, xb = line.x(a), line.x(b)
     if (a.g >= 0) == (b.g >= 0):  # g keeps its sign; the goal is blocked on one side (an incomplete check)
-        root = _bisect_holds(ev, a, b, xtol)
+        root = _bisect_holds(ev, a, b, xtol, line)
     elif a.g == 0:
         root = xa
     elif b.g == 0:
         root = xb
     else:
-        root = float(scipy.optimize.brentq(lambda x: ev.point((x,)).g, xa, xb, xtol=xtol, rtol=4 * np.finfo(float).eps))
+        root = float(scipy.optimize.brentq(lambda x: ev.point(line.at(x)).g, xa, xb, xtol=xtol,
+                                           rtol=4 * np.finfo(float).eps))
     holds_above = b.holds if a.holds != b.holds else b.g >= 0
-    lo_p, hi_p = _sides(ev, root, xa, xb)
+    lo_p, hi_p = _sides(ev, root, xa, xb, line)
     feasible = hi_p if holds_above else lo_p
-    if feasible is None or not feasible.holds or abs(feasible.values[0] - root) > 10 * xtol:
+    if feasible is None or not feasible.holds or abs(line.x(feasible) - root) > 10 * xtol:
         step = xtol if holds_above else -xtol
-        feasible = ev.point((root + step,))  # one step to the feasible side, evaluated
+        feasible = ev.point(line.at(root + step))  # one step to the feasible side, evaluated
         if not feasible.holds:
             feasible = hi_p if holds_above else lo_p
-    dm, dg = _slopes(lo_p, hi_p)
+    dm, dg = _slopes(lo_p, hi_p, line.axis)
     return Crossing(root, (xa, xb), holds_above, feasible, dm, dg)
 
 
-def _bisect_holds(ev: Evaluator, a: Point, b: Point, xtol: float) -> float:
+def _bisect_holds(ev: Evaluator, a: Point, b: Point, xtol: float, line: _Line = _ONE) -> float:
     """Where ``holds`` changes between ``a`` and ``b`` when ``g`` does not change sign: plain bisection to ``xtol``."""
     lo, hi = a, b
-    while hi.values[0] - lo.values[0] > xtol:
-        mid = ev.point(((lo.values[0] + hi.values[0]) / 2,))
+    while line.x(hi) - line.x(lo) > xtol:
+        mid = ev.point(line.at((line.x(lo) + line.x(hi)) / 2))
         if mid.holds == lo.holds:
             lo = mid
         else:
             hi = mid
-    return (lo.values[0] + hi.values[0]) / 2
+    return (line.x(lo) + line.x(hi)) / 2
 
 
 def _crossing_integer(ev: Evaluator, a: Point, b: Point) -> Crossing:
@@ -279,6 +307,57 @@ def contour_segments(xs, ys, g) -> list[tuple[tuple[float, float], tuple[float, 
     return [((float(a[0]), float(a[1])), (float(b[0]), float(b[1]))) for a, b in out]
 
 
+def _on_contour(ev: Evaluator, segments, here, span, fallback: Point) -> Point | None:
+    """The point of the goal's contour nearest the present design (keys scaled by their ranges), simulated.
+
+    The contour is interpolated between grid points, so its point may miss the goal: then the true boundary
+    is solved by brentq on the segment from it to ``fallback`` (a grid point where the goal holds), and the
+    point just past it is taken.  None when no such point holds.
+    """
+    best, best_d = None, math.inf
+    for a, b in segments:
+        ax, ay = (a[0] - here[0]) / span[0], (a[1] - here[1]) / span[1]
+        bx, by = (b[0] - here[0]) / span[0], (b[1] - here[1]) / span[1]
+        dx, dy = bx - ax, by - ay
+        t = 0.0 if dx == dy == 0 else min(max(-(ax * dx + ay * dy) / (dx * dx + dy * dy), 0.0), 1.0)
+        d = (ax + t * dx) ** 2 + (ay + t * dy) ** 2
+        if d < best_d:
+            best, best_d = (a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])), d
+    p0 = ev.point(best)
+    if p0.holds:
+        return p0
+    import scipy.optimize
+
+    c, f = np.array(best), np.array(fallback.values)
+    walk = lambda t: ev.point(tuple(float(v) for v in c + t * (f - c)))  # noqa: E731
+    if p0.g < 0 <= fallback.g:  # the true boundary lies between: brentq along the segment
+        t = scipy.optimize.brentq(lambda t: walk(t).g, 0.0, 1.0, xtol=RELATIVE_XTOL, rtol=4 * np.finfo(float).eps)
+        for step in (RELATIVE_XTOL, 10 * RELATIVE_XTOL):
+            p = walk(min(t + step, 1.0))
+            if p.holds:
+                return p
+    return None
+
+
+def _refined(ev: Evaluator, varies, pts, contour, here, span, grid_best: Point) -> Point:
+    """The best point of a map, from its nearest grid point where the goal holds (see the module docstring)."""
+    ints = [v.key.integer for v in varies]
+    if not any(ints):
+        return _on_contour(ev, contour, here, span, grid_best) or grid_best
+    if all(ints):
+        return grid_best
+    i_int = ints.index(True)
+    line = _Line(1 - i_int, grid_best.values)  # the continuous key varied, the integer key held at the grid best's
+    row = sorted((p for p in pts if line.on(p)), key=line.x)
+    brackets = [(a, b) for a, b in zip(row, row[1:]) if a.holds != b.holds]
+    if not brackets:
+        return grid_best
+    a, b = min(brackets, key=lambda ab: abs((line.x(ab[0]) + line.x(ab[1])) / 2 - here[line.axis]))
+    v = varies[line.axis]
+    c = _crossing_continuous(ev, a, b, (v.high - v.low) * RELATIVE_XTOL, line)
+    return c.feasible if c.feasible is not None and c.feasible.holds else grid_best
+
+
 def solve_two(ev: Evaluator, *, grid: int = DEFAULT_GRID, workers: int = 1) -> DesignResult:
     """Map a two-key design on a grid (see the module docstring)."""
     vx, vy = ev.varies
@@ -304,6 +383,10 @@ def solve_two(ev: Evaluator, *, grid: int = DEFAULT_GRID, workers: int = 1) -> D
 
         (bx, by), best = min(good, key=dist)
         status = "holds everywhere" if len(good) == len(at) else "solved"
+        if gm.contour and status == "solved":
+            best = _refined(ev, (vx, vy), pts, gm.contour, here, span, best)
+        bx = int(np.argmin([abs(x - best.values[0]) for x in xs]))
+        by = int(np.argmin([abs(y - best.values[1]) for y in ys]))
         for i, (v, n, key) in enumerate(((vx, len(xs), lambda k: (k, by)), (vy, len(ys), lambda k: (bx, k)))):
             j = (bx, by)[i]
             lo, hi = at[key(max(j - 1, 0))], at[key(min(j + 1, n - 1))]
