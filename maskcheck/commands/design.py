@@ -129,6 +129,9 @@ def run(args) -> int:
         for line in summary_lines(res):
             con.print(line, markup=False)
         con.print(f"written to {out}/: " + ", ".join(Path(p).name for p in written.values()), markup=False)
+        if res.solution is None and paths["scenario"].exists():
+            con.print(f"no solved scenario: the {paths['scenario'].name} in {out}/ is from an earlier run "
+                      "and was left as it was", markup=False)
         con.print(DESIGN_CAUTION, markup=False)
         con.print(SHORT_CAUTION, markup=False)
     return res.exit_code
