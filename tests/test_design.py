@@ -462,6 +462,8 @@ def test_design_command_refuses_bad_input_in_one_line_and_writes_nothing(tmp_pat
         (["--vary", "amplifier.backoff=0dB..3dB", "--goal", "margin >= 3 dB", "--samples", "2"], "--samples"),
         (["--vary", "amplifier.backoff=0dB..60dB", "--vary", "amplifier.backoff=1dB..2dB", "--goal", "margin >= 3 dB"],
          "varied twice"),
+        (["--vary", "modulator.index=0..2", "--goal", "margin >= 3 dB"], "'index' is not a key of [modulator]"),
+        (["--vary", "signal.duration=0s..1s", "--goal", "margin >= 3 dB"], "not valid at signal.duration = 0 s"),
     ):
         code = main(["design", str(sc), *argv, "--mask", MASK, "--out", str(out)])
         err = capsys.readouterr().err

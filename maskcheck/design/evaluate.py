@@ -264,8 +264,15 @@ class Evaluator:
 
     def prepare(self, values) -> tuple[tuple[float, ...], str, str]:
         """(values as floats, edited text, content hash) of a point; integers rounded."""
+        from ..errors import ScenarioError
+
         vals = tuple(float(round(x)) if v.key.integer else float(x) for v, x in zip(self.varies, values))
-        text, sc = substitute(self.text, {v.key: x for v, x in zip(self.varies, vals)}, path=self.path)
+        try:
+            text, sc = substitute(self.text, {v.key: x for v, x in zip(self.varies, vals)}, path=self.path)
+        except ScenarioError as exc:
+            at = ", ".join(f"{v.key.path} = {v.key.describe(x)}" for v, x in zip(self.varies, vals))
+            raise DesignError(f"vary={' '.join(v.text for v in self.varies)}: the scenario is not valid at {at}: "
+                              f"{exc.message}", param="vary") from None
         return vals, text, scenario_hash(sc)
 
     def record(self, vals, text, sha, outcome: Outcome, simulated: bool) -> Point:
