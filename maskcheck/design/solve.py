@@ -254,7 +254,7 @@ def solve_one(ev: Evaluator, *, samples: int = DEFAULT_SAMPLES, xtol: float | No
     direction = ("increasing" if np.all(d >= 0) else "decreasing") if monotonic else ""
     crossings = []
     for a, b in zip(pts, pts[1:]):
-        if a.holds != b.holds or (a.g >= 0) != (b.g >= 0):
+        if a.holds != b.holds:  # a crossing of the goal (g changing sign, or the check turning incomplete)
             crossings.append(_crossing_integer(ev, a, b) if v.key.integer else _crossing_continuous(ev, a, b, tol))
     here = _present(v)
     sens = {}
