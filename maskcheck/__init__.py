@@ -38,6 +38,7 @@ Public names
 ``StationError``            station data that is missing or impossible
 ``OutputError``             an output file that cannot or must not be written
 ``ScenarioError``           a malformed or impossible simulation scenario file
+``DesignError``             a design question (varied key, range, goal) that cannot be asked
 ==========================  ==========================================================
 
 Names are loaded on first use, so ``maskcheck --version`` starts without
@@ -96,6 +97,7 @@ __all__ = [
     "StationError",
     "OutputError",
     "ScenarioError",
+    "DesignError",
 ]
 
 _LAZY = {

@@ -36,6 +36,7 @@ __all__ = [
     "StationError",
     "OutputError",
     "ScenarioError",
+    "DesignError",
 ]
 
 
@@ -155,3 +156,7 @@ class ScenarioError(MaskcheckError, ValueError):
     def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
         super().__init__(message, path=path, where=where, param=param)
         self.problems = list(problems) if problems else [message]
+
+
+class DesignError(MaskcheckError, ValueError):
+    """A design question that cannot be asked: a key that cannot be varied, a range or a goal that cannot be read."""

@@ -47,3 +47,31 @@ def test_example_setup_reads_and_says_it_is_invented(path):
     assert "INVENTED" in path.read_text()
     setup = read_setup(path)
     assert setup.sha256 and setup.file.name
+
+
+def test_the_design_example_solves_the_back_off(tmp_path):
+    # examples/design-amplifier-backoff.sh: its one command, run as written (the output folder moved to tmp_path)
+    import json
+    import shlex
+
+    from maskcheck.cli import main
+
+    script = Path(__file__).resolve().parent.parent / "examples" / "design-amplifier-backoff.sh"
+    text = script.read_text()
+    assert "INVENTED" in text
+    (line,) = [ln for ln in text.splitlines() if ln.startswith("maskcheck design ")]
+    assert line in (script.parent.parent / "README.md").read_text()  # the README shows this very command
+    argv = shlex.split(line)[1:]
+    root = script.parent.parent
+    argv[1] = str(root / argv[1])
+    argv[argv.index("--out") + 1] = str(tmp_path / "out")
+    assert main(argv + ["--quiet"]) == 0
+    d = json.loads((tmp_path / "out" / "design.json").read_text())
+    assert d["status"] == "solved" and d["monotonic_at_samples"] and d["simulations"] <= 20
+    assert d["solution"]["worst_margin_db"] >= 3.0 and d["solution"]["binding"]["what"] == "harmonic 2"
+    # Closed form: the second harmonic of a2 v^2 is a2 r^2 / 2 against a fundamental a1 r (small signal), so its
+    # level below the fundamental, and the margin, move 1 dB per dB of back-off
+    assert d["sensitivity"]["amplifier.backoff"]["d_worst_margin_db_per_unit"] == pytest.approx(1.0, abs=0.1)
+    # the solved scenario reads back with the solved back-off (test_design checks a solved file passes)
+    sc, _ = load_scenario(tmp_path / "out" / "solved-scenario.toml")
+    assert sc.amplifier.backoff > 0

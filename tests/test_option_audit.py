@@ -312,6 +312,19 @@ def _cmd_convert(tmp, inputs, extra, name, capsys):
     return rc, (None if rc == 2 else out.read_text())
 
 
+def _cmd_design(tmp, inputs, extra, name, capsys):
+    out = tmp / f"design-{name}"
+    rc = main(["design", *inputs, "--vary", "amplifier.backoff=3dB..9dB", "--goal", "margin >= 3 dB", *extra,
+               "--out", str(out), "--quiet", "--force"])
+    capsys.readouterr()
+    if rc == 2:
+        return rc, None
+    d = _json_of(out / "design.json")
+    for k in ("seconds_per_simulation", "outputs"):
+        d.pop(k, None)
+    return rc, d
+
+
 def _cmd_designator(tmp, inputs, extra, name, capsys):
     out = tmp / f"{name}.json"
     rc = main(["designator", *extra, "--json", str(out), "--force"])
@@ -410,6 +423,15 @@ COMMANDS = {
         "--inner": ([], ["--inner"]),
         "--floor-threshold": ([], ["--floor-threshold", "6dB"]),
         **_TRACE,
+    }),
+    "design": (_cmd_design, ("scenario",), {"--out", "--force", "--quiet", "--help"}, {"--vary", "--goal"}, {
+        "--mask": ([], ["--mask", "MASKFILE"]),
+        "--mask-dir": ([], ["--mask-dir", "MASKDIR"]),
+        "--designator": ([], ["--designator", "6K00A3E"]),
+        "--guard": ([], ["--guard", "2dB"]),
+        "--samples": ([], ["--samples", "4"]),
+        "--grid": ([], ["--grid", "3"]),  # one key: refused (a map needs two)
+        "--workers": ([], ["--workers", "2"]),
     }),
     "convert": (_cmd_convert, ("trace",), {"--out", "--force", "--quiet", "--help"}, set(), {**_TRACE}),
     "designator": (_cmd_designator, ("none",), {"--json", "--force", "--help"}, set(), {

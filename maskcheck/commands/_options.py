@@ -98,6 +98,12 @@ OPTIONS: dict[str, str] = {
     "floor_margin_db": "--floor-margin",
     "extra_loss_db": "--attenuator",
     "lowest_hz": "--lowest",
+    # design
+    "vary": "--vary",
+    "goal": "--goal",
+    "samples": "--samples",
+    "grid": "--grid",
+    "mask": "--mask",
     # outputs
     "force": "--force",
     "folder": "--figures",

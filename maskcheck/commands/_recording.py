@@ -41,7 +41,7 @@ def add_recording_options(sp, *, time_resolved: bool = True) -> None:
     add_option(g, "--full-scale")
     add_option(g, "--ref-tone")
     add_option(g, "--correction")
-    add_option(g, "--workers", type=int)
+    add_option(g, "--workers", type=int, detail="here estimation threads (default: all CPUs)")
     add_option(g, "--usable-fraction")
     if time_resolved:
         add_option(g, "--judge-artefacts", action="store_true")

@@ -79,7 +79,7 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     "--frame": ("T", "time-resolved: judge frames of this duration (e.g. 50ms) and report the worst"),
     "--full-scale": ("P", "calibration of a recording: a full-scale tone reads this power, e.g. 0dBm"),
     "--ref-tone": ("F=P", "calibration of a recording: a tone of known power in it, e.g. 7.1MHz=-10dBm"),
-    "--workers": ("N", "estimation threads (default: all CPUs); the estimate is the same for any number, and the "
+    "--workers": ("N", "how many threads or processes work in parallel; the numbers do not depend on it, and the "
                        "number asked for is recorded"),
     # receiver artefacts of recordings (the texts of the options as the lead wrote them in commands/_recording.py)
     "--usable-fraction": ("F", "part of the sample rate about the centre kept as usable, e.g. 80%% (default) or 0.9: the "

@@ -8,6 +8,7 @@ wording from here, so the three never drift apart.
 - :data:`SHORT_CAUTION` -- one line for places without room for more.
 - :data:`UNVERIFIED_NOTE` -- the line shown beside a mask whose rule data has
   not been checked against the official text.
+- :data:`DESIGN_CAUTION` -- what a design solved on the simulator is, and is not.
 - :func:`readme_block` -- the same texts as a Markdown section.
 
 References
@@ -19,7 +20,7 @@ References
 
 from __future__ import annotations
 
-__all__ = ["DISCLAIMER", "SAFETY", "SHORT_CAUTION", "UNVERIFIED_NOTE", "readme_block"]
+__all__ = ["DISCLAIMER", "SAFETY", "SHORT_CAUTION", "UNVERIFIED_NOTE", "DESIGN_CAUTION", "readme_block"]
 
 #: What a result means -- and what it does not mean.
 DISCLAIMER = (
@@ -57,6 +58,13 @@ SHORT_CAUTION = (
 
 #: Shown wherever a mask's ``verified`` flag is false.
 UNVERIFIED_NOTE = "rule data not verified against the official text"
+
+#: What a design solved on the simulator is (``maskcheck design``: terminal, JSON and PDF).
+DESIGN_CAUTION = (
+    "A simulation is a design aid, not evidence: the solved values describe an invented model of a "
+    "transmitter, not the equipment. A built transmitter is measured (a trace or a recording through "
+    "'maskcheck check'), and only that measurement is screened against the rule."
+)
 
 
 def readme_block() -> str:

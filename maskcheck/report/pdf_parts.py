@@ -26,7 +26,7 @@ from reportlab.platypus import Paragraph, Spacer, Table, TableStyle
 
 from .plot_axes import PALETTE
 
-__all__ = ["pdf_text", "pdf_text_plain", "Parts", "INK", "ACCENT", "RULE", "SHADE", "TINT", "MARGIN", "TEXT_WIDTH"]
+__all__ = ["pdf_text", "pdf_text_plain", "Parts", "build_document", "INK", "ACCENT", "RULE", "SHADE", "TINT", "MARGIN", "TEXT_WIDTH"]
 
 INK = PALETTE["ink"]
 ACCENT = colors.HexColor("#2a6f77")
@@ -187,3 +187,45 @@ class Parts:
 
     def bullets(self, items, style="body") -> list:
         return [self.p(f"\u2022 {item}", style) for item in items]
+
+
+def build_document(story, *, running_title: str, title: str, subject: str, label: str = "") -> bytes:
+    """A short A4 document as PDF bytes: ``story`` laid out with the running title on top and the caution below.
+
+    ``label`` (the station and the equipment under test) stands at the top right of every page.
+    ``SOURCE_DATE_EPOCH`` in the environment makes the file invariant (no creation time, fixed ids).
+    """
+    import io
+    import os
+
+    from reportlab.platypus import SimpleDocTemplate
+
+    from .. import _version
+    from .cautions import SHORT_CAUTION
+
+    def decorate(canvas, doc) -> None:
+        canvas.saveState()
+        w, h = A4
+        canvas.setFillColor(ACCENT)
+        canvas.rect(MARGIN, h - 13 * mm, 3 * mm, 3 * mm, stroke=0, fill=1)
+        canvas.setFillColor(INK)
+        canvas.setFont("Helvetica", 7)
+        canvas.drawString(MARGIN + 5 * mm, h - 12.5 * mm, running_title)
+        canvas.setStrokeColor(RULE)
+        canvas.setLineWidth(0.5)
+        canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
+        canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
+        canvas.drawRightString(w - MARGIN, 10 * mm, f"page {doc.page}")
+        if label:
+            canvas.setFont("Helvetica", 6.5)
+            text = pdf_text_plain(label)
+            canvas.drawRightString(w - MARGIN, h - 12.5 * mm, text if len(text) <= 110 else text[:107] + "...")
+        canvas.restoreState()
+
+    buf = io.BytesIO()
+    kw = {"invariant": 1} if os.environ.get("SOURCE_DATE_EPOCH", "").strip() else {}
+    doc = SimpleDocTemplate(buf, pagesize=A4, leftMargin=MARGIN, rightMargin=MARGIN, topMargin=17 * mm,
+                            bottomMargin=19 * mm, title=title, author="maskcheck", subject=subject,
+                            creator=f"maskcheck {_version.__version__}", **kw)
+    doc.build(story, onFirstPage=decorate, onLaterPages=decorate)
+    return buf.getvalue()

@@ -27,26 +27,22 @@ References
 
 from __future__ import annotations
 
-import io
 import math
 import os
 import time
 
 import numpy as np
 from reportlab.graphics.shapes import Drawing, Line, Polygon, String
-from reportlab.lib.pagesizes import A4
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.lib.units import mm
-from reportlab.platypus import KeepTogether, SimpleDocTemplate, Spacer
+from reportlab.platypus import KeepTogether, Spacer
 
 from .. import _version
 from ..core.spectrum import Spectrum
 from ..core.twotone import CLEAR_OF_FLOOR_DB, ORDERS, Product, TwoToneResult
 from ..core.units import format_frequency, w_to_dbm
 from ..io.output import check_writable, write_atomic
-from .cautions import SHORT_CAUTION
 from .pdf_evidence import closing_page
-from .pdf_parts import ACCENT, INK, MARGIN, RULE, TINT, Parts, pdf_text_plain
+from .pdf_parts import ACCENT, INK, TINT, Parts, build_document
 from .plot_axes import PALETTE, Axes
 
 __all__ = ["twotone_drawing", "build_twotone_report", "write_twotone_report", "PLOT_HALF_SPAN_SPACINGS"]
@@ -209,36 +205,6 @@ def _now_utc() -> str:
     return time.strftime("%Y-%m-%d %H:%M:%S", time.gmtime(t))
 
 
-def _furniture(label: str):
-    """The header and footer of every page, with the station and the equipment under test when given."""
-    def on_page(canvas, doc) -> None:
-        _footer(canvas, doc)
-        if label:
-            canvas.saveState()
-            canvas.setFont("Helvetica", 6.5)
-            canvas.setFillColor(INK)
-            text = pdf_text_plain(label)
-            canvas.drawRightString(A4[0] - MARGIN, A4[1] - 12.5 * mm, text if len(text) <= 110 else text[:107] + "...")
-            canvas.restoreState()
-    return on_page
-
-
-def _footer(canvas, doc) -> None:
-    canvas.saveState()
-    w, h = A4
-    canvas.setFillColor(ACCENT)
-    canvas.rect(MARGIN, h - 13 * mm, 3 * mm, 3 * mm, stroke=0, fill=1)
-    canvas.setFillColor(INK)
-    canvas.setFont("Helvetica", 7)
-    canvas.drawString(MARGIN + 5 * mm, h - 12.5 * mm, "maskcheck two-tone test")
-    canvas.setStrokeColor(RULE)
-    canvas.setLineWidth(0.5)
-    canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
-    canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
-    canvas.drawRightString(w - MARGIN, 10 * mm, f"page {doc.page}")
-    canvas.restoreState()
-
-
 def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",
                          resolution: str | None = None, station: str = "") -> bytes:
     """The two-tone PDF as bytes.
@@ -346,15 +312,9 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
     if res.warnings:
         story += [x.heading("Warnings")] + x.bullets(res.warnings, "small")
     story += closing_page(x)
-    buf = io.BytesIO()
-    kw = {"invariant": 1} if os.environ.get("SOURCE_DATE_EPOCH", "").strip() else {}
-    doc = SimpleDocTemplate(buf, pagesize=A4, leftMargin=MARGIN, rightMargin=MARGIN, topMargin=17 * mm,
-                            bottomMargin=19 * mm, title="maskcheck two-tone test", author="maskcheck",
-                            subject="two-tone intermodulation (pre-compliance screening, not a certification)",
-                            creator=f"maskcheck {_version.__version__}", **kw)
-    furniture = _furniture(station)
-    doc.build(story, onFirstPage=furniture, onLaterPages=furniture)
-    return buf.getvalue()
+    return build_document(story, running_title="maskcheck two-tone test", title="maskcheck two-tone test",
+                          subject="two-tone intermodulation (pre-compliance screening, not a certification)",
+                          label=station)
 
 
 def write_twotone_report(path, spectrum: Spectrum, res: TwoToneResult, inputs, *, level_unit: str = "dBm",

@@ -81,6 +81,7 @@ __all__ = [
     "Simulation",
     "load_scenario",
     "parse_scenario",
+    "read_scenario_text",
     "run_scenario",
 ]
 
@@ -139,15 +140,21 @@ def parse_scenario(text: str, *, path=None) -> "Scenario":
     return sc
 
 
-def load_scenario(path) -> tuple["Scenario", str]:
-    """Read and validate a scenario file; returns the scenario and the SHA-256 of its bytes."""
+def read_scenario_text(path) -> tuple[str, str]:
+    """A scenario file's text and the SHA-256 of its bytes (not yet validated)."""
     p = Path(path)
     try:
         data = p.read_bytes()
     except OSError as exc:
         raise ScenarioError(f"cannot read the scenario file ({exc.strerror or exc})", path=path) from None
     text = decode_text(data, "scenario files", lambda message, where: ScenarioError(message, path=path, where=where))
-    return parse_scenario(text, path=path), hashlib.sha256(data).hexdigest()
+    return text, hashlib.sha256(data).hexdigest()
+
+
+def load_scenario(path) -> tuple["Scenario", str]:
+    """Read and validate a scenario file; returns the scenario and the SHA-256 of its bytes."""
+    text, sha = read_scenario_text(path)
+    return parse_scenario(text, path=path), sha
 
 
 # ------------------------------------------------------------------ the chain as objects
