@@ -1,4 +1,4 @@
-"""The pydantic models of a mask file (``schema_version`` 1 to 4): the file and its top-level tables.
+"""The pydantic models of a mask file (``schema_version`` 1 to 5): the file and its top-level tables.
 
 Every table forbids unknown keys, so a misspelt key is an error, not a
 silently ignored line.  The values inside are :class:`~maskcheck.masks.values.Value`
@@ -17,15 +17,17 @@ from __future__ import annotations
 
 import re
 import typing
-from typing import Literal
+from typing import Annotated, Literal, Union
 
 import numpy as np
-from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
+from pydantic import (BaseModel, ConfigDict, Discriminator, Field, PrivateAttr, StrictBool, StrictInt, Tag, field_validator,
+                      model_validator)
 
 from .._version import MASK_SCHEMA_VERSION
 from ..core.result import MaskInfo
 from ..core.units import format_frequency
 from ._table import Table, problem
+from .provenance import Grading, RuleProvenance, confirms_problem, grade_mask, value_words
 from .regions import DETECTORS, DOMAIN_ANCHORS, OFFSET_ORIGINS, REGION_KINDS, Limit, Offset, ReferenceBand, Region
 from .values import Condition, FixedFrequency, Frequency, Text
 from .versions import unknown_keys_message
@@ -37,6 +39,8 @@ __all__ = [
     "REFERENCE_POWER_KINDS",
     "OFFSET_ORIGINS",
     "Provenance",
+    "SourceCheckEntry",
+    "ChoiceEntry",
     "Applies",
     "ReferencePowerSpec",
     "Fundamental",
@@ -77,6 +81,45 @@ class Provenance(Table):
     edition: Text = Field(description="which text was read (and when), or 'not checked'")
     verified: StrictBool = Field(description="true only when checked against the official text")
     measurement_note: str = Field("", description="short note on how to measure")
+
+
+class SourceCheckEntry(Table):
+    """v5: one check made on the mask's values (one ``[[provenance]]`` entry); see :mod:`maskcheck.masks.provenance`."""
+
+    source: Text = Field(description="what was read: title and paragraph, e.g. '47 CFR 97.307(d)'")
+    edition: Text = Field(description="the edition or date of what was read, e.g. 'eCFR, 2024-10-01'; "
+                          "for kind = 'memory', where it was looked for")
+    kind: Literal["official", "reprint", "memory"] = Field(
+        description="'official' (the government's own edition), 'reprint' (a dated public reprint of the text) "
+        "or 'memory' (no text found: the values named rest on memory)")
+    confirms: tuple[Text, ...] = Field(
+        min_length=1, description="the values it confirms: ['all'], or key paths such as 'applies', 'reference_power', "
+        "'regions.<region name>', 'regions.<region name>.limit', 'regions[0].offset', 'regions.*.stop'")
+    note: str = Field("", description="what was found, in our own words (e.g. 'only the opening of the section')")
+
+
+class ChoiceEntry(Table):
+    """v5: values the rule does not state, chosen by us (one ``[[choice]]`` entry): they are not graded, and are shown."""
+
+    values: tuple[Text, ...] = Field(min_length=1, description="key paths of the values, as in provenance.confirms")
+    reason: Text = Field(description="why this choice, e.g. 'the rule states no measurement bandwidth; common practice'")
+
+
+def _provenance_form(value) -> str:
+    """Which form of ``provenance`` a file gives: the v1-4 table or the v5 list of checks."""
+    if isinstance(value, (list, tuple)):
+        return "checks"
+    return "table"
+
+
+#: the table of schema 1-4 or, from schema 5, the list of checks made
+ProvenanceField = Annotated[
+    Union[Annotated[Provenance, Tag("table")], Annotated[tuple[SourceCheckEntry, ...], Tag("checks")]],
+    Discriminator(_provenance_form),
+]
+
+#: the tags pydantic puts into an error's location inside ``provenance`` (the loader leaves them out)
+PROVENANCE_TAGS = ("table", "checks")
 
 
 class Applies(Table):
@@ -236,7 +279,11 @@ class DomainsSpec(Table):
 
 
 class Mask(Table):
-    """One validated mask file (schema v1 to v4).
+    """One validated mask file (schema v1 to v5).
+
+    :attr:`provenance` reads the provenance of either form: the table of
+    schema 1-4 (``verified`` typed) or the list of checks of schema 5 (the
+    grade derived, :attr:`grading`).
 
     Load it with :func:`maskcheck.masks.load_mask`; the loader records the
     file's name in the evidence, where it was read and its SHA-256
@@ -247,7 +294,15 @@ class Mask(Table):
     id: str = Field(description="our own id: lowercase letters, digits and '-'")
     title: Text
     service: Text
-    provenance: Provenance
+    authority: Text | None = Field(None, description="v5: who makes the rule, e.g. 'FCC', 'ITU'")
+    citation: Text | None = Field(None, description="v5: the clause, e.g. '47 CFR 97.307(d)'")
+    measurement_note: str = Field("", description="v5: short note on how to measure")
+    provenance_given: ProvenanceField = Field(
+        alias="provenance",
+        description="v1-4: a table (authority, citation, edition, verified); v5: the list of checks made "
+        "([[provenance]] entries: source, edition, kind, confirms), from which the grade is derived")
+    choice: tuple[ChoiceEntry, ...] = Field(
+        (), description="v5: values the rule does not state, chosen by us, with the reason ([[choice]] entries)")
     applies: Applies
     reference_power: ReferencePowerSpec
     fundamental: Fundamental
@@ -257,6 +312,7 @@ class Mask(Table):
     _path: str = PrivateAttr("")
     _source: str = PrivateAttr("")
     _sha256: str = PrivateAttr("")
+    _grading: Grading | None = PrivateAttr(None)
 
     @field_validator("schema_version")
     @classmethod
@@ -293,7 +349,52 @@ class Mask(Table):
         message = unknown_keys_message(self)
         if message:
             raise problem(message)
+        self._provenance_form()
+        self._grading = grade_mask(self)
         return self
+
+    def _provenance_form(self) -> None:
+        """The provenance a file's version takes, and key paths that name values of this mask."""
+        if isinstance(self.provenance_given, Provenance):
+            if self.schema_version >= 5:
+                raise problem("provenance: schema_version 5 takes the checks made, as [[provenance]] entries "
+                              "(source, edition, kind, confirms), with authority and citation at the top level; "
+                              "the grade (and verified) is derived from them, not typed")
+            return
+        missing = [k for k in ("authority", "citation") if getattr(self, k) is None]
+        if missing:
+            raise problem(f"{', '.join(missing)}: required at the top level with provenance as a list of checks, "
+                          "e.g. authority = 'FCC', citation = '47 CFR 97.307(d)'")
+        wrong = confirms_problem(self, self.provenance_given, self.choice)
+        if wrong:
+            raise problem(wrong)
+
+    @property
+    def source_checks(self) -> tuple[SourceCheckEntry, ...] | None:
+        """The checks of a schema 5 file (None for a file of schema 1-4, which has a flag instead)."""
+        return None if isinstance(self.provenance_given, Provenance) else self.provenance_given
+
+    @property
+    def provenance_table(self) -> Provenance | None:
+        """The provenance table of a schema 1-4 file (None for schema 5)."""
+        return self.provenance_given if isinstance(self.provenance_given, Provenance) else None
+
+    @property
+    def grading(self) -> Grading:
+        """The grade of the rule data and what it rests on (:func:`maskcheck.masks.provenance.grade_mask`)."""
+        if self._grading is None:
+            self._grading = grade_mask(self)
+        return self._grading
+
+    @property
+    def provenance(self) -> RuleProvenance:
+        """Where the rule comes from and how far its values were checked, whatever the file's version."""
+        table = self.provenance_table
+        g = self.grading
+        if table is not None:
+            return RuleProvenance(table.authority, table.citation, table.edition, table.measurement_note, g)
+        edition = "; ".join(f"{c.source}: {c.edition} ({c.kind})" for c in g.checks)
+        return RuleProvenance(self.authority, self.citation, edition, self.measurement_note, g)
 
     def _exclusion_over_the_range(self) -> None:
         """An exclusion that depends on the carrier is evaluated across the carrier range: never below 0 Hz.
@@ -376,6 +477,10 @@ class Mask(Table):
             path=self.path,
             sha256=self.sha256,
             note=note,
+            grade=p.grade,
+            grade_text=p.grade_text,
+            sources=p.grading.checks,
+            unconfirmed=tuple(value_words(v, self) for v in p.grading.unconfirmed),
         )
 
 
@@ -393,8 +498,12 @@ def _unwrap_model(annotation):
 def keys_at(loc: tuple) -> list[str] | None:
     """The keys the table at TOML key path ``loc`` accepts (None if unknown)."""
     model = Mask
-    for part in loc:
-        if isinstance(part, int):
+    for k, part in enumerate(loc):
+        if isinstance(part, int) or (k == 1 and loc[0] == "provenance" and part in PROVENANCE_TAGS):
+            continue
+        if model is Mask and part == "provenance":
+            checks = len(loc) > 1 and (isinstance(loc[1], int) or loc[1] == "checks")
+            model = SourceCheckEntry if checks else Provenance
             continue
         info = model.model_fields.get(part)
         if info is None:
@@ -403,5 +512,5 @@ def keys_at(loc: tuple) -> list[str] | None:
         if inner is None:
             return None
         model = inner
-    return list(model.model_fields)
+    return [f.alias or name for name, f in model.model_fields.items()]
 

@@ -23,11 +23,12 @@ from reportlab.platypus.tableofcontents import TableOfContents
 
 from ..core.result import CheckResult
 from ..core.units import format_frequency
-from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+from .cautions import SHORT_CAUTION
 from .pdf_parts import INK, SHADE, TINT, Parts, pdf_text
 from .plot_axes import PALETTE
 from .tables import (
     BANDWIDTH_HEADER,
+    resting_lines,
     DASH,
     bandwidth_rows,
     emission_facts,
@@ -100,7 +101,8 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         [x.p(f"Decision rule: {_rule_line(r)}. Margin = limit - measured level; positive is inside the limit.", "small")],
     ]
     if not r.mask.verified:
-        rows.append([x.p(f"Mask {r.mask.id}: {UNVERIFIED_NOTE}.", "warn")])
+        rows.append([x.p(f"Mask {r.mask.id}: rule data {r.mask.grade}: {r.mask.grade_text}.", "warn")])
+        rows += [[x.p(f"{_cap(line)}.", "warn")] for line in resting_lines(r)]
     panel = Table(rows, colWidths=[x.width], hAlign="LEFT")
     panel.setStyle(TableStyle([
         ("BACKGROUND", (0, 0), (-1, -1), TINT.get(r.verdict, SHADE)),
@@ -120,8 +122,8 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         ("Rule (citation)", m.citation),
         ("Authority", m.authority),
         ("Mask", f"{m.id}: {m.title}" if m.title else m.id),
-        ("Edition", m.edition),
-        ("Verified", "yes: checked against the official text" if m.verified else f"no: {UNVERIFIED_NOTE}"),
+        ("Rule data", m.grade_text or m.grade),
+        ("Sources", "; ".join(f"{s.source} ({s.kind}: {s.edition})" for s in m.sources) or "none recorded"),
     ]
     setup = r.setup
     rule.append(("Setup", (setup.name or setup.path) if setup else "none given: readings taken as at the transmitter output"))

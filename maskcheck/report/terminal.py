@@ -19,9 +19,11 @@ from rich.text import Text
 
 from ..core.result import BandwidthFigure, CheckResult
 from ..core.units import format_frequency
-from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+from .cautions import SHORT_CAUTION
 from .tables import (
     BANDWIDTH_HEADER,
+    resting_lines,
+    rule_data_lines,
     EMISSION_HEADER,
     bandwidth_rows,
     emission_rows,
@@ -114,10 +116,13 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     facts += [(label[:1].upper() + label[1:], value) for label, value in emission_facts(result)]
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
-    facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
+    facts.append(("Rule", f"{mask.authority} {mask.citation}".strip()))
+    facts.append(("Rule data", mask.grade_text or mask.grade))
     console.print(_facts(facts))
     if not mask.verified:
-        console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
+        console.print(Text(f"!! rule data {mask.grade}: see 'maskcheck masks show {mask.id}' for the sources", style="bold yellow"))
+        for line in resting_lines(result):
+            console.print(_indented(f"- {line}"))
 
     header = _SHORT_REGION_HEADER
     console.print(_grid("Regions (worst margin of each)", header, region_rows(result), right=(0, 5), no_wrap=(2, 5, 6)))
@@ -216,8 +221,7 @@ def render_mask(mask, console: Console | None = None) -> None:
         ("Title", mask.title),
         ("Service", mask.service),
         ("Rule", f"{prov.authority} {prov.citation}"),
-        ("Edition", prov.edition),
-        ("Verified", "yes" if prov.verified else "no"),
+        ("Rule data", prov.grade_text),
         ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
         ("Emission classes", ", ".join(mask.applies.emission_classes) or "any"),
         ("Reference power", mask.reference_power.kind),
@@ -232,8 +236,11 @@ def render_mask(mask, console: Console | None = None) -> None:
     if getattr(mask, "sha256", ""):
         facts.append(("SHA-256", mask.sha256))
     console.print(_facts(facts))
+    console.print("Checks made on the rule data:")
+    for line in rule_data_lines(prov.grading.checks, prov.grade_text, prov.grading.choices)[1:]:
+        console.print(_indented(line))
     if not prov.verified:
-        console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
+        console.print(Text(f"!! rule data {prov.grade}: not every value checked against the official edition", style="bold yellow"))
     rows = []
     for reg in mask.regions:
         lim = reg.limit
