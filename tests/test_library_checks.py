@@ -77,7 +77,7 @@ def test_a_spur_1_db_under_passes_and_1_db_over_fails(mask_id):
     assert abs(used_hz - spur_hz) <= 0.5 * 1e6  # the grid point next to the boundary asked for
     # Every mask not verified in an official edition says so in the result, with its grade,
     # and every region judged on a value no text read confirms names the values.
-    unverified = any(w.startswith(f"rule data {ok.mask.grade} ") for w in ok.warnings)
+    unverified = any(w.startswith(f"rule data {ok.mask.grade}: ") for w in ok.warnings)
     assert unverified == (not ok.mask.verified)
     for region in ok.regions:
         named = any(w.startswith(f"region '{region.name}' rests on values no text read confirms") for w in ok.warnings)

@@ -49,7 +49,7 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
     regions = [dataclasses.replace(r, unconfirmed=grading.rests_on(r.name)) if grading.rests_on(r.name) else r
                for r in judged.regions]
     if not grading.verified:
-        warnings = [*warnings, f"rule data {grading.grade} ({grading.text}): check the mask against the current rule"]
+        warnings = [*warnings, f"rule data {grading.grade}: {grading.summary}; check the mask against the current rule"]
         warnings += [f"region '{r.name}' rests on values no text read confirms: {', '.join(r.unconfirmed)}"
                      for r in regions if r.unconfirmed]
     if inputs is None:

@@ -194,10 +194,14 @@ class MaskInfo:
     grade: str = "unchecked"
     #: the grade and the sources in words, as every output shows them
     grade_text: str = ""
+    #: the grade in one short sentence, without the sources
+    grade_summary: str = ""
     #: the checks made on the mask's values (for a schema 1-4 file, one made from its verified flag)
     sources: tuple[SourceCheck, ...] = ()
     #: the mask's values that no text read confirms, in words
     unconfirmed: tuple[str, ...] = ()
+    #: the same grouped by region, in one line ('' when every value is confirmed)
+    unconfirmed_text: str = ""
 
     def to_dict(self) -> dict:
         d = asdict(self)

@@ -479,7 +479,9 @@ class Mask(Table):
             note=note,
             grade=p.grade,
             grade_text=p.grade_text,
+            grade_summary=p.grading.summary,
             sources=p.grading.checks,
+            unconfirmed_text=p.grading.unconfirmed_text,
             unconfirmed=tuple(value_words(v, self) for v in p.grading.unconfirmed),
         )
 

@@ -185,6 +185,18 @@ def value_words(path: str, mask=None) -> str:
             "reference_power": "the reference power"}.get(path, path)
 
 
+def _choice_words(choice, mask) -> str:
+    """The values of one ``[[choice]]`` entry in words (``reference bandwidth of every region``)."""
+    parts = []
+    for path in choice.values:
+        if path.startswith("regions.*."):
+            field = path[len("regions.*."):]
+            parts.append(f"{_FIELD_WORDS.get(field, field)} of every region")
+        else:
+            parts.append(grouped_words(resolve_path(path, mask), mask))
+    return "; ".join(parts)
+
+
 def grouped_words(paths, mask, every: tuple[str, ...] = ()) -> str:
     """Value paths in words, one group per region: ``the carrier range; region 'X': limit, reference bandwidth``.
 
@@ -227,7 +239,8 @@ class Grading:
     region_unconfirmed : dict
         Region name -> the fields of that region that are unconfirmed (only regions with some).
     choices : tuple of (str, str)
-        Values the rule does not state, chosen by us, and the reason: ``(value in words, reason)``.
+        Values the rule does not state, chosen by us, and the reason: ``(values in words, reason)``, one
+        pair per ``[[choice]]`` entry.
     text : str
         The grade and the sources in words, as every output shows them.
     """
@@ -246,6 +259,17 @@ class Grading:
     def verified(self) -> bool:
         """Whether every value was confirmed in an official edition."""
         return self.grade == "verified"
+
+    @property
+    def summary(self) -> str:
+        """The grade in one short sentence (for warnings; :attr:`text` names the sources)."""
+        n, k = len(self.values), len(self.values) - len(self.unconfirmed)
+        return {
+            "verified": "every value confirmed in an official edition",
+            "checked": "every value confirmed, some only in a dated reprint, not in the official edition",
+            "partial": f"{k} of {n} values confirmed in a text read; the regions named rest on the others",
+            "unchecked": "no value confirmed in a text read; every value rests on memory",
+        }[self.grade]
 
     def rests_on(self, region_name: str) -> tuple[str, ...]:
         """The unconfirmed values a judgement of ``region_name`` rests on, in words (the mask's own and the region's)."""
@@ -305,6 +329,7 @@ def grade_mask(mask) -> Grading:
     checks = _legacy_checks(mask) if given is None else tuple(
         SourceCheck(source=c.source, edition=c.edition, kind=c.kind, confirms=tuple(c.confirms), note=c.note) for c in given)
     chosen = {v: c.reason for c in mask.choice for path in c.values for v in resolve_path(path, mask)}
+    choice_words = tuple((_choice_words(c, mask), c.reason) for c in mask.choice)
     values = tuple(v for v in value_paths(mask) if v not in chosen)
     official: set[str] = set()
     reprint: set[str] = set()
@@ -334,7 +359,7 @@ def grade_mask(mask) -> Grading:
     text = _words(grade, checks, values, unconfirmed, reprint_only, mask)
     return Grading(grade, tuple(checks), values, unconfirmed, reprint_only,
                    {k: tuple(v) for k, v in per_region.items()},
-                   tuple((value_words(v, mask), why) for v, why in chosen.items()), text,
+                   choice_words, text,
                    grouped_words(unconfirmed, mask, values) if unconfirmed else "")
 
 
@@ -354,7 +379,6 @@ def _words(grade, checks, values, unconfirmed, reprint_only, mask) -> str:
     if grade == "partial":
         read = "; ".join(x for x in (f"official edition of {official}" if official else "",
                                       f"reprint of {reprint}" if reprint else "") if x)
-        missing = grouped_words(unconfirmed, mask)
         return (f"partial: {len(values) - len(unconfirmed)} of {len(values)} values confirmed ({read}); "
-                f"not confirmed in any text read: {missing}")
+                "the others confirmed in no text read")
     return f"unchecked: no value confirmed in a text read" + (f"; from memory: {memory}" if memory else "")

@@ -23,7 +23,7 @@ from reportlab.platypus.tableofcontents import TableOfContents
 
 from ..core.result import CheckResult
 from ..core.units import format_frequency
-from .cautions import SHORT_CAUTION
+from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
 from .pdf_parts import INK, SHADE, TINT, Parts, pdf_text
 from .plot_axes import PALETTE
 from .tables import (
@@ -101,7 +101,8 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         [x.p(f"Decision rule: {_rule_line(r)}. Margin = limit - measured level; positive is inside the limit.", "small")],
     ]
     if not r.mask.verified:
-        rows.append([x.p(f"Mask {r.mask.id}: rule data {r.mask.grade}: {r.mask.grade_text}.", "warn")])
+        rows.append([x.p(f"Mask {r.mask.id}: {UNVERIFIED_NOTE}: rule data {r.mask.grade}, "
+                         f"{r.mask.grade_summary or r.mask.grade_text}.", "warn")])
         rows += [[x.p(f"{_cap(line)}.", "warn")] for line in resting_lines(r)]
     panel = Table(rows, colWidths=[x.width], hAlign="LEFT")
     panel.setStyle(TableStyle([
@@ -122,8 +123,10 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         ("Rule (citation)", m.citation),
         ("Authority", m.authority),
         ("Mask", f"{m.id}: {m.title}" if m.title else m.id),
-        ("Rule data", m.grade_text or m.grade),
-        ("Sources", "; ".join(f"{s.source} ({s.kind}: {s.edition})" for s in m.sources) or "none recorded"),
+        ("Rule data", f"{m.grade}: {m.grade_summary}" if m.grade_summary else (m.grade_text or m.grade)),
+        ("Texts read", "; ".join(f"{s.source} ({s.kind}: {s.edition})" for s in m.sources if s.kind != "memory")
+         or "none: every value rests on memory"),
+        *([("Not confirmed", m.unconfirmed_text)] if m.unconfirmed_text else []),
     ]
     setup = r.setup
     rule.append(("Setup", (setup.name or setup.path) if setup else "none given: readings taken as at the transmitter output"))

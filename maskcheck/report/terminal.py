@@ -19,10 +19,9 @@ from rich.text import Text
 
 from ..core.result import BandwidthFigure, CheckResult
 from ..core.units import format_frequency
-from .cautions import SHORT_CAUTION
+from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
 from .tables import (
     BANDWIDTH_HEADER,
-    resting_lines,
     rule_data_lines,
     EMISSION_HEADER,
     bandwidth_rows,
@@ -118,11 +117,12 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     facts.append(("Mask", mask_line))
     facts.append(("Rule", f"{mask.authority} {mask.citation}".strip()))
     facts.append(("Rule data", mask.grade_text or mask.grade))
+    if mask.unconfirmed_text:
+        facts.append(("Not confirmed", mask.unconfirmed_text))
     console.print(_facts(facts))
     if not mask.verified:
-        console.print(Text(f"!! rule data {mask.grade}: see 'maskcheck masks show {mask.id}' for the sources", style="bold yellow"))
-        for line in resting_lines(result):
-            console.print(_indented(f"- {line}"))
+        console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {mask.grade}, {mask.grade_summary or mask.grade_text}; "
+                           f"'maskcheck masks show {mask.id}' lists the sources", style="bold yellow"))
 
     header = _SHORT_REGION_HEADER
     console.print(_grid("Regions (worst margin of each)", header, region_rows(result), right=(0, 5), no_wrap=(2, 5, 6)))
@@ -222,6 +222,7 @@ def render_mask(mask, console: Console | None = None) -> None:
         ("Service", mask.service),
         ("Rule", f"{prov.authority} {prov.citation}"),
         ("Rule data", prov.grade_text),
+        *([("Not confirmed", prov.grading.unconfirmed_text)] if prov.grading.unconfirmed_text else []),
         ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
         ("Emission classes", ", ".join(mask.applies.emission_classes) or "any"),
         ("Reference power", mask.reference_power.kind),
@@ -240,7 +241,7 @@ def render_mask(mask, console: Console | None = None) -> None:
     for line in rule_data_lines(prov.grading.checks, prov.grade_text, prov.grading.choices)[1:]:
         console.print(_indented(line))
     if not prov.verified:
-        console.print(Text(f"!! rule data {prov.grade}: not every value checked against the official edition", style="bold yellow"))
+        console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {prov.grade}, {prov.grading.summary}", style="bold yellow"))
     rows = []
     for reg in mask.regions:
         lim = reg.limit
