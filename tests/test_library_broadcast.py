@@ -45,9 +45,10 @@ def test_7344_is_checked_in_the_official_edition_and_asks_for_300_hz_peak():
     # Source: 47 CFR 73.44(a) (GPO 2006 edition): peak hold, 300 Hz RBW; reference the unmodulated carrier
     g = mask.provenance.grading
     # every value of 73.44 itself in the official 2006 edition; only the search range (47 CFR 2.1057, read in
-    # a dated reprint of the 2018 edition) is not, so the grade is 'checked', not 'verified'
+    # a dated reprint of the 2018 edition) and the AM band (47 CFR 73.14, 2019 reprint) are not, so the grade
+    # is 'checked', not 'verified'
     assert g.grade == "checked" and "2006" in mask.provenance.edition
-    assert set(g.reprint_only) == {"regions.more than 75 kHz.start", "regions.more than 75 kHz.stop"}
+    assert set(g.reprint_only) == {"applies.fundamental", "regions.more than 75 kHz.start", "regions.more than 75 kHz.stop"}
     assert mask.reference_power.kind == "carrier"
     assert all(r.detector == "peak" for r in mask.regions)
     assert {b.bandwidth.constant() for r in mask.regions for b in r.reference_bandwidth} == {300.0}

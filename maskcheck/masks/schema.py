@@ -163,7 +163,7 @@ def mask_json_schema() -> dict:
     --------
     >>> schema = mask_json_schema()
     >>> sorted(schema["properties"])[:3]
-    ['applies', 'domains', 'fundamental']
+    ['applies', 'authority', 'choice']
     >>> schema["properties"]["schema_version"]["maximum"] == MASK_SCHEMA_VERSION
     True
     """
