@@ -1,5 +1,8 @@
 """The pydantic models of a mask file (``schema_version`` 1 to 5): the file and its top-level tables.
 
+The provenance tables (the v1-4 table, the v5 checks and choices) are in
+:mod:`maskcheck.masks.provenance_tables`.
+
 Every table forbids unknown keys, so a misspelt key is an error, not a
 silently ignored line.  The values inside are :class:`~maskcheck.masks.values.Value`
 objects; the tables of a region are in :mod:`maskcheck.masks.regions`, and
@@ -17,16 +20,16 @@ from __future__ import annotations
 
 import re
 import typing
-from typing import Annotated, Literal, Union
+from typing import Literal
 
 import numpy as np
-from pydantic import (BaseModel, ConfigDict, Discriminator, Field, PrivateAttr, StrictBool, StrictInt, Tag, field_validator,
-                      model_validator)
+from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, StrictInt, field_validator, model_validator
 
 from .._version import MASK_SCHEMA_VERSION
 from ..core.result import MaskInfo
 from ..core.units import format_frequency
 from ._table import Table, problem
+from .provenance_tables import PROVENANCE_TAGS, ChoiceEntry, Provenance, ProvenanceField, SourceCheckEntry
 from .provenance import Grading, RuleProvenance, confirms_problem, grade_mask, value_words
 from .regions import DETECTORS, DOMAIN_ANCHORS, OFFSET_ORIGINS, REGION_KINDS, Limit, Offset, ReferenceBand, Region
 from .values import Condition, FixedFrequency, Frequency, Text
@@ -71,55 +74,6 @@ def _band_problem(value) -> str | None:
     if not (0 < lo < hi):
         return f"the carrier range {format_frequency(lo)} – {format_frequency(hi)} must have 0 < low < high"
     return None
-
-
-class Provenance(Table):
-    """Where the rule comes from and whether its values were checked."""
-
-    authority: Text = Field(description="who makes the rule, e.g. 'FCC', 'ITU'")
-    citation: Text = Field(description="the clause, e.g. '47 CFR 97.307(d)'")
-    edition: Text = Field(description="which text was read (and when), or 'not checked'")
-    verified: StrictBool = Field(description="true only when checked against the official text")
-    measurement_note: str = Field("", description="short note on how to measure")
-
-
-class SourceCheckEntry(Table):
-    """v5: one check made on the mask's values (one ``[[provenance]]`` entry); see :mod:`maskcheck.masks.provenance`."""
-
-    source: Text = Field(description="what was read: title and paragraph, e.g. '47 CFR 97.307(d)'")
-    edition: Text = Field(description="the edition or date of what was read, e.g. 'eCFR, 2024-10-01'; "
-                          "for kind = 'memory', where it was looked for")
-    kind: Literal["official", "reprint", "memory"] = Field(
-        description="'official' (the government's own edition), 'reprint' (a dated public reprint of the text) "
-        "or 'memory' (no text found: the values named rest on memory)")
-    confirms: tuple[Text, ...] = Field(
-        min_length=1, description="the values it confirms: ['all'], or key paths such as 'applies', 'reference_power', "
-        "'regions.<region name>', 'regions.<region name>.limit', 'regions[0].offset', 'regions.*.stop'")
-    note: str = Field("", description="what was found, in our own words (e.g. 'only the opening of the section')")
-
-
-class ChoiceEntry(Table):
-    """v5: values the rule does not state, chosen by us (one ``[[choice]]`` entry): they are not graded, and are shown."""
-
-    values: tuple[Text, ...] = Field(min_length=1, description="key paths of the values, as in provenance.confirms")
-    reason: Text = Field(description="why this choice, e.g. 'the rule states no measurement bandwidth; common practice'")
-
-
-def _provenance_form(value) -> str:
-    """Which form of ``provenance`` a file gives: the v1-4 table or the v5 list of checks."""
-    if isinstance(value, (list, tuple)):
-        return "checks"
-    return "table"
-
-
-#: the table of schema 1-4 or, from schema 5, the list of checks made
-ProvenanceField = Annotated[
-    Union[Annotated[Provenance, Tag("table")], Annotated[tuple[SourceCheckEntry, ...], Tag("checks")]],
-    Discriminator(_provenance_form),
-]
-
-#: the tags pydantic puts into an error's location inside ``provenance`` (the loader leaves them out)
-PROVENANCE_TAGS = ("table", "checks")
 
 
 class Applies(Table):

@@ -381,4 +381,4 @@ def _words(grade, checks, values, unconfirmed, reprint_only, mask) -> str:
                                       f"reprint of {reprint}" if reprint else "") if x)
         return (f"partial: {len(values) - len(unconfirmed)} of {len(values)} values confirmed ({read}); "
                 "the others confirmed in no text read")
-    return f"unchecked: no value confirmed in a text read" + (f"; from memory: {memory}" if memory else "")
+    return "unchecked: no value confirmed in a text read" + (f"; from memory: {memory}" if memory else "")
