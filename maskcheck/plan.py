@@ -383,7 +383,9 @@ def plan_measurement(
             "or high-pass filter for the fundamental (put its loss in the chain)"
         )
     if not mask.provenance.verified:
-        warnings.append("rule data not verified against the official text: check the mask's limits against the current rule")
+        g = mask.provenance.grading
+        warnings.append(f"rule data not verified against the official text (rule data {g.grade}: {g.summary}): "
+                        "check the mask's limits against the current rule")
     notes.append(
         f"noise floor needed = limit at the analyser input - {floor_margin_db:g} dB; emissions more than "
         f"{REPORT_THRESHOLD_DB:g} dB below the limit need not be reported (47 CFR 2.1057(c))"
@@ -393,7 +395,8 @@ def plan_measurement(
     info = mask.to_info()
     return MeasurementPlan(
         mask={"id": info.id, "title": info.title, "authority": info.authority, "citation": info.citation,
-              "edition": info.edition, "verified": info.verified, "path": info.path, "sha256": info.sha256},
+              "edition": info.edition, "verified": info.verified, "grade": info.grade, "grade_text": info.grade_text,
+              "path": info.path, "sha256": info.sha256},
         station=station,
         quantity=quantity,
         search_range=search,

@@ -162,11 +162,14 @@ def _write_mask(tmp_path, text):
 
 
 def _variant(schema_version, applies):
+    """The shipped Mask D file as a file of ``schema_version`` (1-4: the provenance table) with ``applies`` given."""
     raw = MASK_D.read_text()
-    head, rest = raw.split("[applies]\n", 1)
+    _, rest = raw.split("[applies]\n", 1)
     rest = rest.split("emission_classes", 1)[1]
-    return head.replace("schema_version = 4", f"schema_version = {schema_version}") + "[applies]\n" + applies + \
-        "emission_classes" + rest
+    head = (f'schema_version = {schema_version}\nid = "us-90210-mask-d"\ntitle = "Mask D, a test variant"\n'
+            'service = "land-mobile"\n\n[provenance]\nauthority = "FCC"\ncitation = "47 CFR 90.210(d)"\n'
+            'edition = "a test variant of the shipped file"\nverified = false\n\n')
+    return head + "[applies]\n" + applies + "emission_classes" + rest
 
 
 def test_a_version_3_file_with_one_range_still_loads(tmp_path):

@@ -40,10 +40,15 @@ def test_7344_boundaries_both_sides():
     assert attenuation_db("us-am-broadcast-7344", 75.001e3, power_w=1e3, carrier_hz=AM) == pytest.approx(73.0)
 
 
-def test_7344_is_the_verified_mask_and_asks_for_300_hz_peak():
+def test_7344_is_checked_in_the_official_edition_and_asks_for_300_hz_peak():
     mask = load_mask("us-am-broadcast-7344")
     # Source: 47 CFR 73.44(a) (GPO 2006 edition): peak hold, 300 Hz RBW; reference the unmodulated carrier
-    assert mask.provenance.verified is True and "2006" in mask.provenance.edition
+    g = mask.provenance.grading
+    # every value of 73.44 itself in the official 2006 edition; only the search range (47 CFR 2.1057, read in
+    # a dated reprint of the 2018 edition) and the AM band (47 CFR 73.14, 2019 reprint) are not, so the grade
+    # is 'checked', not 'verified'
+    assert g.grade == "checked" and "2006" in mask.provenance.edition
+    assert set(g.reprint_only) == {"applies.fundamental", "regions.more than 75 kHz.start", "regions.more than 75 kHz.stop"}
     assert mask.reference_power.kind == "carrier"
     assert all(r.detector == "peak" for r in mask.regions)
     assert {b.bandwidth.constant() for r in mask.regions for b in r.reference_bandwidth} == {300.0}
@@ -67,7 +72,7 @@ def test_7344_refuses_a_narrower_rbw():
 @pytest.mark.parametrize(
     "fd_hz, expected_db",
     [
-        (120e3, 25.0),  # Source: fact sheet §3.4 (73.317(b)): 120-240 kHz inclusive, 25 dB
+        (120e3, 25.0),  # Source: 47 CFR 73.317(b), CFR edition revised as of 2 October 2015 (dated reprint): 120-240 kHz inclusive, 25 dB
         (240e3, 25.0),  # Source: 73.317(b): "inclusive": 240 kHz itself is in the 25 dB step
         (240.001e3, 35.0),  # Source: 73.317(c): more than 240 kHz up to and including 600 kHz, 35 dB
         (600e3, 35.0),
@@ -84,7 +89,8 @@ def test_73317_nothing_below_120_khz():
 
 
 def test_741236_translator_60_db_and_its_power_class():
-    # Source: fact sheet §3.4 (74.1236(c)): 25 / 35 dB in the same steps, 60 dB beyond 600 kHz, for 10 W or less
+    # Source: 47 CFR 74.1236(a)(1), (c), CFR edition revised as of 2 October 2015 (dated reprint): 25 / 35 dB in the
+    # same steps, 60 dB beyond 600 kHz, for 10 W or less
     assert attenuation_db("us-fm-translator-10w", 200e3, power_w=10.0, carrier_hz=FM) == pytest.approx(25.0)
     assert attenuation_db("us-fm-translator-10w", 700e3, power_w=10.0, carrier_hz=FM) == pytest.approx(60.0)
     # Above 10 W 73.317 applies: the translator mask says it does not apply, so the result cannot pass.

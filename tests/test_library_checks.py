@@ -75,9 +75,13 @@ def test_a_spur_1_db_under_passes_and_1_db_over_fails(mask_id):
     _, used_hz = bench_trace(mask_id, spur_hz=spur_hz, **{k: v for k, v in station.items()})
     assert worst.worst_freq_hz == used_hz
     assert abs(used_hz - spur_hz) <= 0.5 * 1e6  # the grid point next to the boundary asked for
-    # Every unverified mask says so in the result.
-    unverified = any("not verified against the official text" in w for w in ok.warnings)
+    # Every mask not verified in an official edition says so in the result, with its grade,
+    # and every region judged on a value no text read confirms names the values.
+    unverified = any(w.startswith(f"rule data {ok.mask.grade}: ") for w in ok.warnings)
     assert unverified == (not ok.mask.verified)
+    for region in ok.regions:
+        named = any(w.startswith(f"region '{region.name}' rests on values no text read confirms") for w in ok.warnings)
+        assert named == bool(region.unconfirmed)
 
 
 @pytest.mark.parametrize("mask_id", ["us-90210-mask-d", "us-am-broadcast-7344", "us-frs-95579", "itu-rr-ap3-general"])

@@ -12,10 +12,11 @@ HF = 4.4e6
 @pytest.mark.parametrize(
     "fd_hz, expected_db",
     [
-        (1.5e3, 25.0),  # Source: fact sheet §3.5 (80.211(a)): 50-150 %: 25 dB (from memory); 2.8 kHz authorised
-        (4.2e3, 25.0),  # 150 % of 2.8 kHz = 4.2 kHz, up to and including
-        (4.21e3, 35.0),  # Source: fact sheet §3.5: 150-250 %: 35 dB
-        (7.01e3, 63.0),  # Source: fact sheet §3.5: beyond 250 %: 43 + 10 log(mean W): 63 dB at 100 W
+        # Corrected value: 28 dB, not 25 dB (25 dB is for transmitters installed before 1 February 1992).
+        (1.5e3, 28.0),  # Source: 47 CFR 80.211(a)(1), CFR edition revised as of 1 October 2014 (dated reprint); 2.8 kHz authorised
+        (4.2e3, 28.0),  # Source: 47 CFR 80.211(a)(1), same edition: 150 % of 2.8 kHz = 4.2 kHz, up to and including
+        (4.21e3, 35.0),  # Source: 47 CFR 80.211(a)(2), CFR edition revised as of 1 October 2014: 150-250 %: 35 dB
+        (7.01e3, 63.0),  # Source: 47 CFR 80.211(a)(3), same edition: beyond 250 %: 43 + 10 log(mean W): 63 dB at 100 W
     ],
 )
 def test_80211a(fd_hz, expected_db):
@@ -23,13 +24,14 @@ def test_80211a(fd_hz, expected_db):
 
 
 def test_80211a_nothing_inside_half_the_authorised_bandwidth():
-    # Source: fact sheet §3.5: the first step starts above 50 %.
+    # Source: 47 CFR 80.211(a)(1), CFR edition revised as of 1 October 2014 (dated reprint): the first step starts above 50 %.
     assert regions_at("us-marine-80211a", HF + 1.4e3, power_w=100.0, carrier_hz=HF, authorized_bw_hz=2.8e3) == []
 
 
 def test_80211b_in_4_khz():
     kw = dict(power_w=10.0, carrier_hz=1.64e9, authorized_bw_hz=20e3)
-    # Source: fact sheet §3.5 (80.211(b)): 50-100 %: 25 dB; 100-250 %: 35 dB; beyond: 43 + 10 log P (53 dB at 10 W); in any 4 kHz
+    # Source: 47 CFR 80.211(b), eCFR as of 20 June 2026 (dated reprint): 50-100 %: 25 dB; 100-250 %: 35 dB;
+    # beyond: 43 + 10 log P (53 dB at 10 W); in any 4 kHz
     assert attenuation_db("us-marine-80211b", 15e3, **kw) == pytest.approx(25.0)
     assert attenuation_db("us-marine-80211b", 30e3, **kw) == pytest.approx(35.0)
     assert attenuation_db("us-marine-80211b", 60e3, **kw) == pytest.approx(53.0)
@@ -40,7 +42,7 @@ def test_80211b_in_4_khz():
 @pytest.mark.parametrize(
     "mask_id, expected_beyond_db",
     [
-        ("us-aviation-87139a-aircraft", 40.0),  # Source: fact sheet §3.5 (87.139(a)): beyond 250 %: 40 dB for aircraft
+        ("us-aviation-87139a-aircraft", 40.0),  # Source: 47 CFR 87.139(a)(3), CFR edition revised as of 5 October 2017 (dated reprint): beyond 250 %: 40 dB for aircraft
         ("us-aviation-87139a-ground", 53.0),  # Source: same: 43 + 10 log P for aeronautical stations (10 W -> 53 dB)
     ],
 )
@@ -52,7 +54,7 @@ def test_87139a(mask_id, expected_beyond_db):
 
 
 def test_87139b_ssb_steps_of_4_khz():
-    # Source: fact sheet §3.5 (87.139(b)): 50-150 % of 4.0 kHz: 25 dB; 150-250 %: 35 dB
+    # Source: 47 CFR 87.139(b)(1), (2), CFR edition revised as of 5 October 2017 (dated reprint): 50-150 % of 4.0 kHz: 25 dB; 150-250 %: 35 dB
     kw = dict(power_w=100.0, carrier_hz=8.9e6)
     assert attenuation_db("us-aviation-87139b-ssb", 2.01e3, **kw) == pytest.approx(25.0)
     assert attenuation_db("us-aviation-87139b-ssb", 6e3, **kw) == pytest.approx(25.0)

@@ -336,8 +336,8 @@ def _mutations(raw: dict) -> dict[str, tuple[dict, str]]:
 
     out = {}
     d = copy.deepcopy(raw)
-    d["provenance"]["verifed"] = True
-    out["unknown key"] = (d, "provenance.verifed: unknown key")
+    d["provenance"][0]["verifed"] = True
+    out["unknown key"] = (d, "provenance[0].verifed: unknown key")
     d = copy.deepcopy(raw)
     lim = d["regions"][0]["limit"]
     key = next(k for k in ("attenuation_db", "level_w", "level_dbm", "field_uv_per_m") if k in lim)
@@ -375,8 +375,11 @@ def _mutations(raw: dict) -> dict[str, tuple[dict, str]]:
     d["regions"][0]["reference_bandwidth"][0]["bandwidth"] = "1 kW"
     out["wrong unit"] = (d, "regions[0].reference_bandwidth[0].bandwidth: '1 kW' is a power")
     d = copy.deepcopy(raw)
-    del d["provenance"]["verified"]
-    out["missing verified"] = (d, "provenance.verified: required key is missing")
+    del d["provenance"][0]["kind"]
+    out["missing kind"] = (d, "provenance[0].kind: required key is missing")
+    d = copy.deepcopy(raw)
+    d["provenance"][0]["confirms"] = ["regions.no such region.limit"]
+    out["confirms names no value"] = (d, "(top level): provenance[0].confirms[0]: 'regions.no such region.limit' names no value")
     return out
 
 

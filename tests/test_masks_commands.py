@@ -31,15 +31,18 @@ def test_list_filters_by_authority_service_and_frequency(capsys):
 def test_list_table_says_which_are_verified(capsys):
     assert main(["masks", "list"]) == 0
     out = capsys.readouterr().out
-    assert "us-am-broadcast-7344  FCC 47 CFR 73.44(a), (b)  (verified)" in out
-    assert "us-90210-mask-d  FCC 47 CFR 90.210(d) (Emission Mask D)  (not verified: rule data not checked against the official text)" in out
+    # each mask with the grade of its rule data (derived from the checks in the file)
+    assert "us-am-broadcast-7344  FCC 47 CFR 73.44(a), (b)  (rule data checked)" in out
+    assert "us-90210-mask-d  FCC 47 CFR 90.210(d) (Emission Mask D)  (rule data partial)" in out
+    assert "itu-rr-ap3-general  ITU" in out and "(rule data unchecked)" in out
 
 
 def test_show_with_a_station_prints_formula_and_value(capsys):
     assert main(["masks", "show", "us-90210-mask-d", "--power", "5W", "--carrier", "150MHz"]) == 0
     out = " ".join(capsys.readouterr().out.split())
     # Source: fact sheet §8.5 (90.210(d) at 5 W): 19.96 dB at 5.625 kHz, 69.94 dB at 12.5 kHz, 56.99 dB beyond
-    for text in ("19.96 dB", "69.94 dB", "56.99 dB", "7.27 (fd - 2.88 kHz)", "rule data not verified against the official text"):
+    for text in ("19.96 dB", "69.94 dB", "56.99 dB", "7.27 (fd - 2.88 kHz)", "rule data partial",
+                 "Rule data: partial: 4 of 16 values confirmed", "rests on values no text read confirms: offsets, limit"):
         assert text in out
 
 
@@ -54,7 +57,9 @@ def test_show_says_what_it_cannot_evaluate(capsys):
 def test_show_without_a_station_keeps_the_static_view(capsys):
     assert main(["masks", "show", "us-am-broadcast-7344"]) == 0
     out = capsys.readouterr().out
-    assert "73.44" in out and "rule data not verified" not in out
+    flat = " ".join(out.split())
+    assert "73.44" in out and "Rule data checked: every value confirmed; the carrier range; region 'more than 75 kHz': start, stop only in a dated reprint" in flat
+    assert "47 CFR 73.44(a), (b): official edition, CFR annual edition revised as of 1 October 2006" in flat
 
 
 @pytest.mark.parametrize("suffix, magic", [(".pdf", b"%PDF"), (".svg", b"<?xml")])
@@ -66,7 +71,7 @@ def test_plot_writes_pdf_or_svg_and_never_overwrites(tmp_path, capsys, suffix, m
     assert data.startswith(magic)
     if suffix == ".svg":
         assert b"polyline" in data.lower() or b"<path" in data
-        assert b"not verified" in data
+        assert b"rule data partial" in data
     assert main(args) == 2  # exists: refused
     assert out.read_bytes() == data
     assert main(args + ["--force"]) == 0
@@ -87,15 +92,20 @@ def test_validate_reports_every_file_and_problem(tmp_path, capsys):
     bad.write_text(good.read_text(encoding="utf-8").replace('id = "us-frs-95579"', 'id = "x-frs"').replace('"6.25 kHz", to', '"6.25 kHz", too').replace("detector = \"any\"", "detector = \"qp\"", 1), encoding="utf-8")
     assert main(["masks", "validate", str(good), str(bad)]) == 2
     io = capsys.readouterr()
-    assert "good.toml: valid" in io.out and "schema_version 3" in io.out
+    assert "good.toml: valid" in io.out and "schema_version 5" in io.out and "rule data checked against a reprint" in io.out
     lines = [x for x in io.err.splitlines() if x.startswith(str(bad))]
     assert any("regions[0].detector" in x for x in lines) and any("regions[0].offset.too" in x for x in lines)
 
 
-def test_schema_is_json_and_knows_version_3_and_4_keys(capsys):
+def test_schema_is_json_and_knows_version_3_4_and_5_keys(capsys):
     assert main(["masks", "schema"]) == 0
     schema = json.loads(capsys.readouterr().out)
-    assert "schema_version 4" in schema["$comment"]
+    assert "schema_version 5" in schema["$comment"]
+    # v5: provenance is the v1-4 table or the list of checks made; values not in the rule are [[choice]] entries
+    assert {"table", "array"} <= {b.get("type", "table") for b in schema["properties"]["provenance"]["oneOf"]} | {"table"}
+    assert set(schema["$defs"]["SourceCheckEntry"]["properties"]) == {"source", "edition", "kind", "confirms", "note"}
+    assert schema["$defs"]["SourceCheckEntry"]["properties"]["kind"]["enum"] == ["official", "reprint", "memory"]
+    assert {"authority", "citation", "measurement_note", "choice"} <= set(schema["properties"])
     assert "bands" in schema["$defs"]["Applies"]["properties"]  # v4: several carrier bands
     limit = schema["$defs"]["Limit"]["properties"]
     assert {"field_uv_per_m", "distance_m", "density_dbm_per_hz", "combine", "quantity"} <= set(limit)

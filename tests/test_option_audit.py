@@ -339,6 +339,13 @@ def _cmd_masks_list(tmp, inputs, extra, name, capsys):
     return rc, (None if rc == 2 else _json_of(out))
 
 
+def _cmd_masks_audit(tmp, inputs, extra, name, capsys):
+    out = tmp / f"{name}.json"
+    rc = main(["masks", "audit", *extra, "--json", str(out), "--force"])
+    capsys.readouterr()
+    return rc, (None if rc == 2 else _json_of(out))
+
+
 def _cmd_masks_show(tmp, inputs, extra, name, capsys):
     capsys.readouterr()
     rc = main(["masks", "show", "us-amateur-hf-2003", *extra])
@@ -458,6 +465,9 @@ COMMANDS = {
         "--authority": ([], ["--authority", "FCC"]),
         "--service": ([], ["--service", "amateur"]),
         "--frequency": ([], ["--frequency", "146MHz"]),
+    }),
+    "masks audit": (_cmd_masks_audit, ("none",), {"--json", "--markdown", "--force", "--help"}, set(), {
+        "--mask-dir": ([], ["--mask-dir", "OTHERMASKS"]),
     }),
     "demo": (None, (), {"--out", "--force", "--help"}, set(), {}),  # the invented demo: outputs only
     "masks show": (_cmd_masks_show, ("none",), {"--help"}, set(), {
@@ -667,6 +677,7 @@ def test_json_dash_writes_only_the_json_to_standard_output_on_every_command_that
         "simulate": ["simulate", names["SCENARIO"], "--out", str(tmp_path / "sim")],
         "designator": ["designator", "2K70J3E"],
         "masks list": ["masks", "list"],
+        "masks audit": ["masks", "audit"],
     }
     writes_json = {c for c, p in _all_parsers() if "--json" in _option_strings(p)}
     assert writes_json == set(runs)

@@ -6,6 +6,7 @@ renderers (:mod:`maskcheck.report`) write the words people read.
 
 from __future__ import annotations
 
+import dataclasses
 import os
 import time
 
@@ -45,9 +46,13 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
     setup_info, corrections = spectrum_records(spectrum)
     if corrections is not None:
         warnings = [*warnings, *corrections.warnings]
-    if not mask.provenance.verified:
-        warnings = [*warnings, "rule data not verified against the official text: check the mask against the current rule"]
-    regions = list(judged.regions)
+    grading = mask.provenance.grading
+    regions = [dataclasses.replace(r, unconfirmed=grading.rests_on(r.name)) if grading.rests_on(r.name) else r
+               for r in judged.regions]
+    if not grading.verified:
+        warnings = [*warnings, f"rule data {grading.grade}: {grading.summary}; check the mask against the current rule"]
+        warnings += [f"region '{r.name}' rests on values no text read confirms: {', '.join(r.unconfirmed)}"
+                     for r in regions if r.unconfirmed]
     if inputs is None:  # the spectrum's own file, and the setup file that corrected it (as the command line lists them)
         inputs = [InputFile(spectrum.source, spectrum.sha256)] if spectrum.source else []
         if setup_info is not None and setup_info.path:

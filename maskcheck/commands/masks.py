@@ -1,4 +1,9 @@
-"""``maskcheck masks``: list, show, plot, validate masks, and print the file format's JSON Schema.
+"""``maskcheck masks``: list, show, plot, validate and audit masks, and print the file format's JSON Schema.
+
+``audit`` prints every mask's grade (verified, checked, partial, unchecked),
+the texts read with their editions and the values still unconfirmed; as
+JSON (``--json``) and as the Markdown page ``docs/mask-audit.md``
+(``--markdown``).
 
 ``show`` with a station (``--power``, and ``--carrier`` / ``--bandwidth``
 where the mask needs them) prints the evaluated limit of every region: the
@@ -20,7 +25,7 @@ __all__ = ["register", "run", "evaluated_rows", "mask_drawing"]
 
 
 def register(sub) -> None:
-    m = sub.add_parser("masks", help="list, show, plot or validate masks; print the mask-file JSON Schema")
+    m = sub.add_parser("masks", help="list, show, plot, validate or audit masks; print the mask-file JSON Schema")
     msub = m.add_subparsers(dest="masks_command", metavar="ACTION", parser_class=Parser)
     ml = msub.add_parser("list", help="the masks available")
     add_option(ml, "--mask-dir", action="append", default=[])
@@ -44,6 +49,12 @@ def register(sub) -> None:
     mv = msub.add_parser("validate", help="check mask files and report every problem")
     mv.add_argument("files", nargs="+", metavar="FILE")
     msub.add_parser("schema", help="the JSON Schema of mask files (for editors)")
+    ma = msub.add_parser("audit", help="every mask's grade, the texts read, their editions and the values still unconfirmed")
+    add_option(ma, "--mask-dir", action="append", default=[])
+    add_option(ma, "--json", detail="the audit")
+    ma.add_argument("--markdown", metavar="PATH", help="write the audit as a Markdown page ('-' for standard output), "
+                    "e.g. docs/mask-audit.md")
+    add_option(ma, "--force", action="store_true")
     m.set_defaults(run=run)
 
 
@@ -83,16 +94,19 @@ def run(args) -> int:
                 bad += 1
                 print(error_line(exc, args), file=sys.stderr)
             else:
-                flag = "" if m.provenance.verified else "; rule data not verified against the official text"
-                con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)
+                con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}; "
+                          f"rule data {m.provenance.grade_text})", soft_wrap=True)
         return 2 if bad else 0
+    if cmd == "audit":
+        return _audit(args, con, list_masks)
     if cmd == "schema":
         from ..masks.schema import shipped_json_schema_text
 
         sys.stdout.write(shipped_json_schema_text())  # the versioned file the package ships
         return 0
     raise MaskcheckError(
-        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE' or 'masks schema'",
+        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE', 'masks audit' "
+        "or 'masks schema'",
         where="masks",
     )
 
@@ -115,17 +129,44 @@ def _list(args, con, list_masks) -> int:
         from ..io.output import write_text
 
         rows = [{"id": m.id, "title": m.title, "authority": m.provenance.authority, "citation": m.provenance.citation,
-                 "service": m.service, "verified": m.provenance.verified, "edition": m.provenance.edition,
+                 "service": m.service, "verified": m.provenance.verified, "grade": m.provenance.grade,
+                 "grade_text": m.provenance.grade_text, "edition": m.provenance.edition,
                  "variant": m.applies.variant, "path": m.path, "file": str(m.source_path)} for m in masks]
         write_text(args.json, json.dumps(rows, indent=2, ensure_ascii=False) + "\n", force=args.force)
         if args.json != "-":
             con.print(f"{len(masks)} masks written: {args.json}")
         return 0
     for m in masks:
-        flag = "verified" if m.provenance.verified else "not verified: rule data not checked against the official text"
+        flag = f"rule data {m.provenance.grade}"
         con.print(f"[bold]{escape(m.id)}[/bold]  {escape(m.provenance.authority)} {escape(m.provenance.citation)}  ({flag})", soft_wrap=True)
         con.print(f"    {escape(m.title)}" + (f" [{escape(m.applies.variant)}]" if m.applies.variant else ""), soft_wrap=True)
     con.print(f"{len(masks)} masks; 'maskcheck masks show ID --power 5W' for one evaluated for a station")
+    return 0
+
+
+# -- audit ---------------------------------------------------------------------------------
+def _audit(args, con, list_masks) -> int:
+    import json
+
+    from .._version import __version__
+    from ..io.output import check_writable, write_text
+    from ..masks.audit import audit_json, audit_markdown, audit_rows
+
+    if args.json and args.markdown and args.json == args.markdown:
+        raise MaskcheckError(f"--json and --markdown name the same file ({args.json}); give two", where="--markdown")
+    for opt in ("json", "markdown"):
+        path = getattr(args, opt)
+        if path and path != "-":
+            check_writable(path, args.force)
+    rows = audit_rows(list_masks(extra_dirs=args.mask_dir))
+    if args.json:
+        write_text(args.json, json.dumps(audit_json(rows, __version__), indent=2, ensure_ascii=False) + "\n", force=args.force)
+    if args.markdown:
+        write_text(args.markdown, audit_markdown(rows), force=args.force)
+    if "-" not in (args.json, args.markdown):
+        from ..report.mask_audit import render_audit
+
+        render_audit(rows, con)
     return 0
 
 
@@ -230,7 +271,10 @@ def _show_evaluated(mask, st, con) -> None:
 
     p = mask.provenance
     con.print(f"[bold]{escape(mask.id)}[/bold]: {escape(mask.title)}", soft_wrap=True)
-    con.print(f"{escape(p.authority)} {escape(p.citation)}; edition: {escape(p.edition)}", soft_wrap=True)
+    con.print(f"{escape(p.authority)} {escape(p.citation)}", soft_wrap=True)
+    con.print(f"Rule data: {escape(p.grade_text)}", soft_wrap=True)
+    if p.grading.unconfirmed_text:
+        con.print(f"Not confirmed: {escape(p.grading.unconfirmed_text)}", soft_wrap=True)
     station = f"power {format_power(st['power_w'])}"
     if st["pep_w"] is not None:
         station += f", PEP {format_power(st['pep_w'])}"
@@ -243,7 +287,7 @@ def _show_evaluated(mask, st, con) -> None:
     if mask.applies.variant:
         con.print(f"Variant: {escape(mask.applies.variant)}", soft_wrap=True)
     if not p.verified:
-        con.print(f"[bold yellow]!! {UNVERIFIED_NOTE}[/bold yellow]")
+        con.print(f"[bold yellow]!! {UNVERIFIED_NOTE}: rule data {escape(p.grade)}, {escape(p.grading.summary)}[/bold yellow]")
     con.print("Limits for this station, region by region:")
     fc = st["carrier_hz"]
     for i, row in enumerate(evaluated_rows(mask, st)):
@@ -262,6 +306,9 @@ def _show_evaluated(mask, st, con) -> None:
         con.print(f"[bold][{i}] {escape(row['name'])}[/bold]" + (f"  ({escape(row['where'])})" if row["where"] else ""), soft_wrap=True)
         con.print(f"    limit: {escape(row['formula'])}", soft_wrap=True)
         con.print(f"    value: {escape(value)}", soft_wrap=True)
+        resting = p.grading.rests_on(row["name"])
+        if resting and p.grade != "unchecked":
+            con.print(f"    [yellow]rests on values no text read confirms: {escape(', '.join(resting))}[/yellow]", soft_wrap=True)
         if row["bandwidth"] or row["detector"]:
             con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}, detector {escape(row['detector'])}", soft_wrap=True)
     con.print(SHORT_CAUTION)
@@ -316,7 +363,6 @@ def mask_drawing(mask, st, width: float = 520.0, height: float = 300.0):
     from reportlab.lib import colors
 
     from ..core.units import format_frequency
-    from ..report.cautions import UNVERIFIED_NOTE
 
     curves, offsets, rel = _curves(mask, st)
     if not curves:
@@ -340,7 +386,7 @@ def mask_drawing(mask, st, width: float = 520.0, height: float = 300.0):
     d.add(String(left, height - 15, title[:90], fontName="Helvetica-Bold", fontSize=9))
     sub = f"limit {'relative to the reference (dB)' if rel else 'absolute (dBm in the reference bandwidth)'}; power {st['power_w']:g} W"
     if not mask.provenance.verified:
-        sub += f"; {UNVERIFIED_NOTE}"
+        sub += f"; rule data {mask.provenance.grade}, not verified against the official text"
     d.add(String(left, height - 28, sub[:110], fontName="Helvetica", fontSize=7, fillColor=colors.darkred if not mask.provenance.verified else colors.black))
     d.add(Line(left, bottom, right, bottom, strokeColor=colors.black, strokeWidth=0.6))
     d.add(Line(left, bottom, left, top, strokeColor=colors.black, strokeWidth=0.6))

@@ -141,7 +141,7 @@ def render_plan(plan, con) -> None:
     st = plan.station
     con.print(f"[bold]Measurement plan[/bold]: {escape(m['id'])} ({escape(m['citation'])})")
     if not m["verified"]:
-        con.print(f"[bold red]{escape(UNVERIFIED_NOTE)}[/bold red]")
+        con.print(f"[bold red]{escape(UNVERIFIED_NOTE)} (rule data {escape(m.get('grade', 'unchecked'))})[/bold red]")
     label = f" - {escape(st.label())}" if st.label() else ""
     pep = f", PEP {st.pep_w:g} W" if st.pep_w else ""
     con.print(f"carrier {format_frequency(st.carrier_hz)}, mean power {st.power_w:g} W{pep}"

@@ -33,6 +33,7 @@ __all__ = [
     "RegionResult",
     "Emission",
     "ReferencePower",
+    "SourceCheck",
     "MaskInfo",
     "InputFile",
     "BandwidthFigure",
@@ -106,6 +107,8 @@ class RegionResult:
     #: occupied-bandwidth regions: the measured and the allowed bandwidth, Hz
     measured_bandwidth_hz: float | None = None
     limit_bandwidth_hz: float | None = None
+    #: the mask's values this judgement rests on that no text read confirms, in words (empty: none)
+    unconfirmed: tuple[str, ...] = ()
     curve: Curve | None = field(default=None, repr=False)
 
     def to_dict(self) -> dict:
@@ -116,6 +119,7 @@ class RegionResult:
         ]
         d["excluded_hz"] = [list(x) for x in self.excluded_hz]
         d["uncovered_hz"] = [list(x) for x in self.uncovered_hz]
+        d["unconfirmed"] = list(self.unconfirmed)
         return d
 
 
@@ -156,6 +160,27 @@ class ReferencePower:
         return asdict(self)
 
 
+@dataclass(frozen=True)
+class SourceCheck:
+    """One check made on a mask's values: the text read and which values it confirms.
+
+    ``kind`` is ``official`` (the government's own edition), ``reprint`` (a
+    dated public reprint of the text) or ``memory`` (no text found: the values
+    it names rest on memory).  ``confirms`` holds key paths of the mask's
+    values (``"all"``, ``"regions.<name>.limit"``, ...).
+    """
+
+    source: str
+    edition: str
+    kind: str
+    confirms: tuple[str, ...]
+    note: str = ""
+
+    def to_dict(self) -> dict:
+        return {"source": self.source, "edition": self.edition, "kind": self.kind,
+                "confirms": list(self.confirms), "note": self.note}
+
+
 @dataclass
 class MaskInfo:
     """Provenance of the mask used.
@@ -178,9 +203,24 @@ class MaskInfo:
     sha256: str = ""
     note: str = ""
     outside_bands: str = ""
+    #: the grade of the rule data: verified, checked, partial or unchecked (derived from ``sources``)
+    grade: str = "unchecked"
+    #: the grade and the sources in words, as every output shows them
+    grade_text: str = ""
+    #: the grade in one short sentence, without the sources
+    grade_summary: str = ""
+    #: the checks made on the mask's values (for a schema 1-4 file, one made from its verified flag)
+    sources: tuple[SourceCheck, ...] = ()
+    #: the mask's values that no text read confirms, in words
+    unconfirmed: tuple[str, ...] = ()
+    #: the same grouped by region, in one line ('' when every value is confirmed)
+    unconfirmed_text: str = ""
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        d = asdict(self)
+        d["sources"] = [s.to_dict() for s in self.sources]
+        d["unconfirmed"] = list(self.unconfirmed)
+        return d
 
 
 @dataclass

@@ -20,6 +20,9 @@ check's job.
 ``compile_expression``        the whitelisted expression compiler
 ``Expression``                a compiled expression (``evaluate``, ``names``)
 ``MASK_SCHEMA_VERSION``       newest ``schema_version`` this release reads
+``grade_mask``                the grade of a mask's rule data and what it rests on
+``GRADES``                    verified, checked, partial, unchecked (best first)
+``audit_rows``                every mask's grade, texts read and unconfirmed values
 ============================  ================================================
 """
 
@@ -30,6 +33,8 @@ from .station_values import applies_to, fundamental_exclusion_hz, reference_powe
 from .expr import Expression, compile_expression
 from .library import list_masks, load_mask, validate_mask_file
 from .schema import Mask, mask_json_schema
+from .provenance import GRADES, grade_mask
+from .audit import audit_rows
 
 __all__ = [
     "MASK_SCHEMA_VERSION",
@@ -46,4 +51,7 @@ __all__ = [
     "fundamental_exclusion_hz",
     "compile_expression",
     "Expression",
+    "grade_mask",
+    "GRADES",
+    "audit_rows",
 ]

@@ -39,7 +39,7 @@ from pydantic import ValidationError
 
 from .._toml import decode_text, key_path, loads
 from ..errors import MaskError
-from .models import BUILTIN_PREFIX
+from .models import BUILTIN_PREFIX, PROVENANCE_TAGS
 from .schema import Mask, keys_at
 
 __all__ = [
@@ -123,7 +123,7 @@ def _message(error: dict) -> str:
 
 def _validation_problems(exc: ValidationError, label: str) -> list[str]:
     errors = exc.errors(include_url=False)
-    locs = [tuple(e.get("loc", ())) for e in errors]
+    locs = [_without_tag(tuple(e.get("loc", ()))) for e in errors]
     problems = []
     for error, loc in zip(errors, locs):
         # A list that lost an invalid item then reports "too short": noise, drop it.
@@ -131,6 +131,13 @@ def _validation_problems(exc: ValidationError, label: str) -> list[str]:
             continue
         problems.append(f"{label}: {key_path(loc)}: {_message(error)}")
     return problems
+
+
+def _without_tag(loc: tuple) -> tuple:
+    """The key path of an error without the tag pydantic adds for the form of ``provenance`` (table or list)."""
+    if len(loc) > 1 and loc[0] == "provenance" and loc[1] in PROVENANCE_TAGS:
+        return (loc[0],) + loc[2:]
+    return loc
 
 
 def _read(source, label: str | None = None) -> tuple[bytes, str]:

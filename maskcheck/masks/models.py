@@ -1,4 +1,7 @@
-"""The pydantic models of a mask file (``schema_version`` 1 to 4): the file and its top-level tables.
+"""The pydantic models of a mask file (``schema_version`` 1 to 5): the file and its top-level tables.
+
+The provenance tables (the v1-4 table, the v5 checks and choices) are in
+:mod:`maskcheck.masks.provenance_tables`.
 
 Every table forbids unknown keys, so a misspelt key is an error, not a
 silently ignored line.  The values inside are :class:`~maskcheck.masks.values.Value`
@@ -20,12 +23,14 @@ import typing
 from typing import Literal
 
 import numpy as np
-from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, StrictBool, StrictInt, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, StrictInt, field_validator, model_validator
 
 from .._version import MASK_SCHEMA_VERSION
 from ..core.result import MaskInfo
 from ..core.units import format_frequency
 from ._table import Table, problem
+from .provenance_tables import PROVENANCE_TAGS, ChoiceEntry, Provenance, ProvenanceField, SourceCheckEntry
+from .provenance import Grading, RuleProvenance, confirms_problem, grade_mask, value_words
 from .regions import DETECTORS, DOMAIN_ANCHORS, OFFSET_ORIGINS, REGION_KINDS, Limit, Offset, ReferenceBand, Region
 from .values import Condition, FixedFrequency, Frequency, Text
 from .versions import unknown_keys_message
@@ -37,6 +42,8 @@ __all__ = [
     "REFERENCE_POWER_KINDS",
     "OFFSET_ORIGINS",
     "Provenance",
+    "SourceCheckEntry",
+    "ChoiceEntry",
     "Applies",
     "ReferencePowerSpec",
     "Fundamental",
@@ -67,16 +74,6 @@ def _band_problem(value) -> str | None:
     if not (0 < lo < hi):
         return f"the carrier range {format_frequency(lo)} – {format_frequency(hi)} must have 0 < low < high"
     return None
-
-
-class Provenance(Table):
-    """Where the rule comes from and whether its values were checked."""
-
-    authority: Text = Field(description="who makes the rule, e.g. 'FCC', 'ITU'")
-    citation: Text = Field(description="the clause, e.g. '47 CFR 97.307(d)'")
-    edition: Text = Field(description="which text was read (and when), or 'not checked'")
-    verified: StrictBool = Field(description="true only when checked against the official text")
-    measurement_note: str = Field("", description="short note on how to measure")
 
 
 class Applies(Table):
@@ -236,7 +233,11 @@ class DomainsSpec(Table):
 
 
 class Mask(Table):
-    """One validated mask file (schema v1 to v4).
+    """One validated mask file (schema v1 to v5).
+
+    :attr:`provenance` reads the provenance of either form: the table of
+    schema 1-4 (``verified`` typed) or the list of checks of schema 5 (the
+    grade derived, :attr:`grading`).
 
     Load it with :func:`maskcheck.masks.load_mask`; the loader records the
     file's name in the evidence, where it was read and its SHA-256
@@ -247,7 +248,15 @@ class Mask(Table):
     id: str = Field(description="our own id: lowercase letters, digits and '-'")
     title: Text
     service: Text
-    provenance: Provenance
+    authority: Text | None = Field(None, description="v5: who makes the rule, e.g. 'FCC', 'ITU'")
+    citation: Text | None = Field(None, description="v5: the clause, e.g. '47 CFR 97.307(d)'")
+    measurement_note: str = Field("", description="v5: short note on how to measure")
+    provenance_given: ProvenanceField = Field(
+        alias="provenance",
+        description="v1-4: a table (authority, citation, edition, verified); v5: the list of checks made "
+        "([[provenance]] entries: source, edition, kind, confirms), from which the grade is derived")
+    choice: tuple[ChoiceEntry, ...] = Field(
+        (), description="v5: values the rule does not state, chosen by us, with the reason ([[choice]] entries)")
     applies: Applies
     reference_power: ReferencePowerSpec
     fundamental: Fundamental
@@ -257,6 +266,7 @@ class Mask(Table):
     _path: str = PrivateAttr("")
     _source: str = PrivateAttr("")
     _sha256: str = PrivateAttr("")
+    _grading: Grading | None = PrivateAttr(None)
 
     @field_validator("schema_version")
     @classmethod
@@ -293,7 +303,52 @@ class Mask(Table):
         message = unknown_keys_message(self)
         if message:
             raise problem(message)
+        self._provenance_form()
+        self._grading = grade_mask(self)
         return self
+
+    def _provenance_form(self) -> None:
+        """The provenance a file's version takes, and key paths that name values of this mask."""
+        if isinstance(self.provenance_given, Provenance):
+            if self.schema_version >= 5:
+                raise problem("provenance: schema_version 5 takes the checks made, as [[provenance]] entries "
+                              "(source, edition, kind, confirms), with authority and citation at the top level; "
+                              "the grade (and verified) is derived from them, not typed")
+            return
+        missing = [k for k in ("authority", "citation") if getattr(self, k) is None]
+        if missing:
+            raise problem(f"{', '.join(missing)}: required at the top level with provenance as a list of checks, "
+                          "e.g. authority = 'FCC', citation = '47 CFR 97.307(d)'")
+        wrong = confirms_problem(self, self.provenance_given, self.choice)
+        if wrong:
+            raise problem(wrong)
+
+    @property
+    def source_checks(self) -> tuple[SourceCheckEntry, ...] | None:
+        """The checks of a schema 5 file (None for a file of schema 1-4, which has a flag instead)."""
+        return None if isinstance(self.provenance_given, Provenance) else self.provenance_given
+
+    @property
+    def provenance_table(self) -> Provenance | None:
+        """The provenance table of a schema 1-4 file (None for schema 5)."""
+        return self.provenance_given if isinstance(self.provenance_given, Provenance) else None
+
+    @property
+    def grading(self) -> Grading:
+        """The grade of the rule data and what it rests on (:func:`maskcheck.masks.provenance.grade_mask`)."""
+        if self._grading is None:
+            self._grading = grade_mask(self)
+        return self._grading
+
+    @property
+    def provenance(self) -> RuleProvenance:
+        """Where the rule comes from and how far its values were checked, whatever the file's version."""
+        table = self.provenance_table
+        g = self.grading
+        if table is not None:
+            return RuleProvenance(table.authority, table.citation, table.edition, table.measurement_note, g)
+        edition = "; ".join(f"{c.source}: {c.edition} ({c.kind})" for c in g.checks)
+        return RuleProvenance(self.authority, self.citation, edition, self.measurement_note, g)
 
     def _exclusion_over_the_range(self) -> None:
         """An exclusion that depends on the carrier is evaluated across the carrier range: never below 0 Hz.
@@ -376,6 +431,12 @@ class Mask(Table):
             path=self.path,
             sha256=self.sha256,
             note=note,
+            grade=p.grade,
+            grade_text=p.grade_text,
+            grade_summary=p.grading.summary,
+            sources=p.grading.checks,
+            unconfirmed_text=p.grading.unconfirmed_text,
+            unconfirmed=tuple(value_words(v, self) for v in p.grading.unconfirmed),
         )
 
 
@@ -393,8 +454,12 @@ def _unwrap_model(annotation):
 def keys_at(loc: tuple) -> list[str] | None:
     """The keys the table at TOML key path ``loc`` accepts (None if unknown)."""
     model = Mask
-    for part in loc:
-        if isinstance(part, int):
+    for k, part in enumerate(loc):
+        if isinstance(part, int) or (k == 1 and loc[0] == "provenance" and part in PROVENANCE_TAGS):
+            continue
+        if model is Mask and part == "provenance":
+            checks = len(loc) > 1 and (isinstance(loc[1], int) or loc[1] == "checks")
+            model = SourceCheckEntry if checks else Provenance
             continue
         info = model.model_fields.get(part)
         if info is None:
@@ -403,5 +468,5 @@ def keys_at(loc: tuple) -> list[str] | None:
         if inner is None:
             return None
         model = inner
-    return list(model.model_fields)
+    return [f.alias or name for name, f in model.model_fields.items()]
 

@@ -1,11 +1,11 @@
-"""The mask-file format (``schema_version`` 1 to 4) as pydantic models.
+"""The mask-file format (``schema_version`` 1 to 5) as pydantic models.
 
 A mask file is TOML; :mod:`maskcheck.masks.library` reads it and validates it
 with :class:`Mask`.  Every table forbids unknown keys, so a misspelt key is an
 error, not a silently ignored line.  The prose description for people who
 write masks is ``docs/mask-format.md``; :func:`mask_json_schema` gives the same
 structure as JSON Schema, and the package ships it as a versioned file
-(:func:`shipped_json_schema`, ``maskcheck/schema/mask-schema-v4.json``).
+(:func:`shipped_json_schema`, ``maskcheck/schema/mask-schema-v5.json``; the v4 file stays beside it).
 
 This module is the public entry of the format; the parts live in
 
@@ -65,6 +65,14 @@ place of the one range ``applies.fundamental``.  A carrier between the bands
 is outside the rule; the check refuses it unless asked to go on
 (``outside_bands=True``), and then it cannot pass.
 
+Version 5 grades the provenance: the file lists the checks made on its
+values (``[[provenance]]``: ``source``, ``edition``, ``kind`` = official,
+reprint or memory, ``confirms`` = key paths of the values) and the values the
+rule does not state (``[[choice]]``); ``authority``, ``citation`` and
+``measurement_note`` move to the top level; the grade (verified, checked,
+partial, unchecked) and ``verified`` are derived
+(:mod:`maskcheck.masks.provenance`).
+
 Quantities and constants are checked when the file loads; expressions are
 compiled when the file loads and evaluated when a station is known
 (:mod:`maskcheck.masks.evaluate`).
@@ -94,6 +102,8 @@ from .models import (
     Mask,
     Offset,
     Provenance,
+    ChoiceEntry,
+    SourceCheckEntry,
     ReferenceBand,
     ReferencePowerSpec,
     Region,
@@ -114,6 +124,8 @@ __all__ = [
     "Value",
     "parse_value",
     "Provenance",
+    "SourceCheckEntry",
+    "ChoiceEntry",
     "Applies",
     "ReferencePowerSpec",
     "Fundamental",
@@ -151,7 +163,7 @@ def mask_json_schema() -> dict:
     --------
     >>> schema = mask_json_schema()
     >>> sorted(schema["properties"])[:3]
-    ['applies', 'domains', 'fundamental']
+    ['applies', 'authority', 'choice']
     >>> schema["properties"]["schema_version"]["maximum"] == MASK_SCHEMA_VERSION
     True
     """

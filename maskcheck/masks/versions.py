@@ -113,6 +113,9 @@ INTRODUCED: tuple[Introduced, ...] = (
                lambda m: _given(m.reference_power, ("bandwidth", "note"), "reference_power.")),
     Introduced(3, "mask", "applies.when and .variant", lambda m: _given(m.applies, ("when", "variant"), "applies.")),
     Introduced(4, "mask", "several carrier bands (applies.bands)", lambda m: _given(m.applies, ("bands",), "applies.")),
+    Introduced(5, "mask", "graded provenance: [[provenance]] checks, authority, citation, measurement_note at the top level",
+               lambda m: (["provenance as a list of checks ([[provenance]])"] if m.source_checks is not None else [])
+               + _given(m, ("authority", "citation", "measurement_note", "choice"))),
     Introduced(2, "region", "region kinds out-of-band and occupied-bandwidth",
                lambda r: [f"kind = {r.kind!r}"] if r.kind != "spurious" else []),
     Introduced(2, "region", "regions anchored on a domain or on offsets",

@@ -56,7 +56,7 @@ SHORT_CAUTION = (
     "your regulator has the final word."
 )
 
-#: Shown wherever a mask's ``verified`` flag is false.
+#: Shown wherever a mask's rule data is graded below ``verified`` (with the grade beside it).
 UNVERIFIED_NOTE = "rule data not verified against the official text"
 
 #: What a design solved on the simulator is (``maskcheck design``: terminal, JSON and PDF).

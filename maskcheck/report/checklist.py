@@ -134,7 +134,7 @@ class _Checklist:
         left += [
             ("Fundamental window", f"{format_frequency(lo)} to {format_frequency(hi)} (not swept for spurious emissions)"),
             ("Rule", f"{m['citation']}; edition: {m['edition']}"),
-            ("Verified", "yes" if m["verified"] else f"no: {UNVERIFIED_NOTE}"),
+            ("Rule data", m.get("grade_text") or ("verified" if m["verified"] else UNVERIFIED_NOTE)),
             ("Search range", f"{format_frequency(pl.search_range['start_hz'])} to {format_frequency(pl.search_range['stop_hz'])} "
                              f"({pl.search_range['rule']})"),
         ]

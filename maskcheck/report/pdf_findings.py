@@ -29,6 +29,7 @@ from .plot_axes import PALETTE
 from .tables import (
     ARTEFACT_MARK,
     BANDWIDTH_HEADER,
+    resting_lines,
     DASH,
     artefact_notes,
     REMEASURE_HEADER,
@@ -105,7 +106,9 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         [x.p(f"Decision rule: {_rule_line(r)}. Margin = limit - measured level; positive is inside the limit.", "small")],
     ]
     if not r.mask.verified:
-        rows.append([x.p(f"Mask {r.mask.id}: {UNVERIFIED_NOTE}.", "warn")])
+        rows.append([x.p(f"Mask {r.mask.id}: {UNVERIFIED_NOTE}: rule data {r.mask.grade}, "
+                         f"{r.mask.grade_summary or r.mask.grade_text}.", "warn")])
+        rows += [[x.p(f"{_cap(line)}.", "warn")] for line in resting_lines(r)]
     panel = Table(rows, colWidths=[x.width], hAlign="LEFT")
     panel.setStyle(TableStyle([
         ("BACKGROUND", (0, 0), (-1, -1), TINT.get(r.verdict, SHADE)),
@@ -127,8 +130,10 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         ("Rule (citation)", m.citation),
         ("Authority", m.authority),
         ("Mask", f"{m.id}: {m.title}" if m.title else m.id),
-        ("Edition", m.edition),
-        ("Verified", "yes: checked against the official text" if m.verified else f"no: {UNVERIFIED_NOTE}"),
+        ("Rule data", f"{m.grade}: {m.grade_summary}" if m.grade_summary else (m.grade_text or m.grade)),
+        ("Texts read", "; ".join(f"{s.source} ({s.kind}: {s.edition})" for s in m.sources if s.kind != "memory")
+         or "none: every value rests on memory"),
+        *([("Not confirmed", m.unconfirmed_text)] if m.unconfirmed_text else []),
     ]
     setup = r.setup
     rule.append(("Setup", (setup.name or setup.path) if setup else "none given: readings taken as at the transmitter output"))

@@ -53,9 +53,33 @@ __all__ = [
     "remeasure_rows",
     "remeasure_note",
     "remeasure_lines",
+    "rule_data_lines",
+    "resting_lines",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
+
+
+def rule_data_lines(sources, grade_text: str, choices=()) -> list[str]:
+    """The grade of a mask's rule data and each check made, in words (terminal, PDF, masks show).
+
+    ``sources`` are :class:`~maskcheck.core.result.SourceCheck` records;
+    ``choices`` pairs ``(value in words, reason)`` of values the rule does not state.
+    """
+    lines = [f"Rule data: {grade_text}."]
+    for s in sources:
+        what = {"official": "official edition", "reprint": "reprint", "memory": "not confirmed (memory)"}.get(s.kind, s.kind)
+        confirms = ", ".join(s.confirms)
+        lines.append(f"- {s.source}: {what}, {s.edition}; confirms {confirms}" + (f" ({s.note})" if s.note else ""))
+    for value, reason in choices:
+        lines.append(f"- our choice, not stated by the rule: {value} ({reason})")
+    return lines
+
+
+def resting_lines(result) -> list[str]:
+    """One line per judged region whose verdict rests on values no text read confirms."""
+    return [f"region '{r.name}' rests on values no text read confirms: {', '.join(r.unconfirmed)}"
+            for r in result.regions if r.unconfirmed]
 
 
 # ----------------------------------------------------------------------------- JSON

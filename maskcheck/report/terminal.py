@@ -22,6 +22,7 @@ from ..core.units import format_frequency
 from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
 from .tables import (
     BANDWIDTH_HEADER,
+    rule_data_lines,
     EMISSION_HEADER,
     bandwidth_rows,
     artefact_notes,
@@ -117,11 +118,15 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     facts += [(label[:1].upper() + label[1:], value) for label, value in emission_facts(result)]
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
-    facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
+    facts.append(("Rule", f"{mask.authority} {mask.citation}".strip()))
+    facts.append(("Rule data", mask.grade_text or mask.grade))
+    if mask.unconfirmed_text:
+        facts.append(("Not confirmed", mask.unconfirmed_text))
     facts.append(("Decision rule", decision_rule_text(result)))
     console.print(_facts(facts))
     if not mask.verified:
-        console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
+        console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {mask.grade}, {mask.grade_summary or mask.grade_text}; "
+                           f"'maskcheck masks show {mask.id}' lists the sources", style="bold yellow"))
 
     header = _SHORT_REGION_HEADER
     console.print(_grid("Regions (worst margin of each)", header, region_rows(result), right=(0, 5), no_wrap=(2, 5, 6)))
@@ -230,8 +235,8 @@ def render_mask(mask, console: Console | None = None) -> None:
         ("Title", mask.title),
         ("Service", mask.service),
         ("Rule", f"{prov.authority} {prov.citation}"),
-        ("Edition", prov.edition),
-        ("Verified", "yes" if prov.verified else "no"),
+        ("Rule data", prov.grade_text),
+        *([("Not confirmed", prov.grading.unconfirmed_text)] if prov.grading.unconfirmed_text else []),
         ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
         ("Emission classes", ", ".join(mask.applies.emission_classes) or "any"),
         ("Reference power", mask.reference_power.kind),
@@ -246,8 +251,11 @@ def render_mask(mask, console: Console | None = None) -> None:
     if getattr(mask, "sha256", ""):
         facts.append(("SHA-256", mask.sha256))
     console.print(_facts(facts))
+    console.print("Checks made on the rule data:")
+    for line in rule_data_lines(prov.grading.checks, prov.grade_text, prov.grading.choices)[1:]:
+        console.print(_indented(line))
     if not prov.verified:
-        console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
+        console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {prov.grade}, {prov.grading.summary}", style="bold yellow"))
     rows = []
     for reg in mask.regions:
         lim = reg.limit
