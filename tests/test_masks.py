@@ -624,8 +624,8 @@ def test_json_schema_describes_the_format():
     assert schema["additionalProperties"] is False
     region = schema["$defs"]["Region"]
     assert region["additionalProperties"] is False
-    # schema v2 adds the domain and offset anchors, v3 the interval convention of start and stop
-    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "include_start", "include_stop", "may_be_empty", "detector", "limit", "reference_bandwidth"}
+    # schema v2 adds the domain and offset anchors, v3 the interval convention of start and stop, v5 'within'
+    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "include_start", "include_stop", "may_be_empty", "detector", "limit", "reference_bandwidth", "within"}
 
 
 def test_the_example_in_the_format_guide_loads(tmp_path):

@@ -95,7 +95,8 @@ def test_validate_reports_every_file_and_problem(tmp_path, capsys):
 def test_schema_is_json_and_knows_version_3_and_4_keys(capsys):
     assert main(["masks", "schema"]) == 0
     schema = json.loads(capsys.readouterr().out)
-    assert "schema_version 4" in schema["$comment"]
+    assert "schema_version 5" in schema["$comment"]
+    assert "within" in schema["$defs"]["Region"]["properties"]  # v5: regions inside a band table
     assert "bands" in schema["$defs"]["Applies"]["properties"]  # v4: several carrier bands
     limit = schema["$defs"]["Limit"]["properties"]
     assert {"field_uv_per_m", "distance_m", "density_dbm_per_hz", "combine", "quantity"} <= set(limit)

@@ -145,6 +145,7 @@ def check(
     judged = judge_regions(spectrum, mask, limits, carrier_hz=station.carrier_hz, readings=readings, reference=reference,
                            guard_db=guard_db, report_threshold_db=report_threshold_db,
                            authorized_bw_hz=facts.authorized_bw_hz, wanted_band_hz=_wanted_band(facts, readings),
+                           window_hz=window.edges_hz,
                            removed=() if corrections is None else corrections.removed_hz)
     class_ok, class_warnings = _emission_class(mask, facts)
     warnings = [*facts.warnings, *readings.warnings, *reference.warnings, *applies_warnings, *judged.warnings,

@@ -160,14 +160,19 @@ def evaluated_rows(mask, st) -> list[dict]:
     from ..masks.evaluate import sample_points_hz
 
     rows = []
-    for lim, region in zip(_evaluate(mask, st), mask.regions):
+    by_name = {r.name: r for r in mask.regions}  # a region may be left out for this station
+    for lim in _evaluate(mask, st):
+        region = by_name[lim.name]
         formula = region.limit.description or " and ".join(
             f"{k} = {getattr(region.limit, k).text}" for k in region.limit.terms
         ) or (region.limit.bandwidth.text if region.limit.bandwidth is not None else "")
         row = {"name": lim.name, "where": lim.anchor, "formula": formula, "values": [], "detector": lim.detector,
                "bandwidth": ", ".join(sorted({format_frequency(b) for _, _, b in lim.bands})), "unevaluated": lim.unevaluated}
-        if lim.unevaluated or lim.kind == "occupied-bandwidth":
-            if lim.max_bandwidth_hz is not None:
+        if lim.unevaluated or lim.judges_bandwidth:
+            if lim.kind == "bandwidth":
+                side, width = ("at least", lim.min_bandwidth_hz) if lim.min_bandwidth_hz is not None else ("at most", lim.max_bandwidth_hz)
+                row["values"] = [(f"{lim.drop_db:g} dB bandwidth {side}", format_frequency(width))]
+            elif lim.max_bandwidth_hz is not None:
                 row["values"] = [("occupied bandwidth at most", format_frequency(lim.max_bandwidth_hz))]
             rows.append(row)
             continue
@@ -235,7 +240,7 @@ def _curves(mask, st, n: int = 200):
 
     from ..core.units import w_to_dbm_fast
 
-    limits = [lim for lim in _evaluate(mask, st) if not lim.unevaluated and lim.kind != "occupied-bandwidth"]
+    limits = [lim for lim in _evaluate(mask, st) if not lim.unevaluated and not lim.judges_bandwidth]
     fc = st["carrier_hz"]
     offsets = any(lim.offset_band is not None for lim in limits)
     rel = mask.reference_power.kind != "none"

@@ -169,7 +169,7 @@ def margins_section(x: Parts, result: CheckResult) -> list:
     for i, r in enumerate(result.regions, 1):
         name = r.name if not r.kind or r.kind == r.name else f"{r.name} ({r.kind})"
         level = DASH if r.worst_level_dbm is None else f"{fmt_dbm(r.worst_level_dbm)} / {fmt_dbm(r.worst_limit_dbm)}"
-        if r.kind == "occupied-bandwidth":
+        if r.kind in ("occupied-bandwidth", "bandwidth"):
             level = DASH if r.measured_bandwidth_hz is None else f"{format_frequency(r.measured_bandwidth_hz)} / {format_frequency(r.limit_bandwidth_hz)}"
         rows.append((str(i), name, fmt_range(r.start_hz, r.stop_hz), f"{_ref_bw_text(r)}, {r.detector_required}", r.verdict.upper(),
                      fmt_db(r.worst_margin_db), DASH if r.worst_freq_hz is None else format_frequency(r.worst_freq_hz, 7), level))
