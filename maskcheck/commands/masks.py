@@ -14,6 +14,7 @@ import sys
 
 from ..errors import MaskcheckError
 from ._common import Parser, console
+from .masks_which import add_which_parser
 
 __all__ = ["register", "run", "evaluated_rows", "mask_drawing"]
 
@@ -39,6 +40,7 @@ def register(sub) -> None:
         if name == "plot":
             sp.add_argument("--out", required=True, metavar="FILE.pdf|FILE.svg", help="where to draw (PDF or SVG, by the name's ending)")
             sp.add_argument("--force", action="store_true", help="replace an existing file")
+    add_which_parser(msub)
     mv = msub.add_parser("validate", help="check mask files and report every problem")
     mv.add_argument("files", nargs="+", metavar="FILE")
     msub.add_parser("schema", help="the JSON Schema of mask files (for editors)")
@@ -66,6 +68,10 @@ def run(args) -> int:
         if args.power is None:
             raise MaskcheckError("plotting a mask needs the station's power: give --power (e.g. --power 5W)", where="--power")
         return _plot(mask, _station(args, mask), args.out, args.force, con)
+    if cmd == "which":
+        from .masks_which import run_which
+
+        return run_which(args, con)
     if cmd == "validate":
         bad = 0
         for f in args.files:
@@ -86,7 +92,8 @@ def run(args) -> int:
         sys.stdout.write(shipped_json_schema_text())  # the versioned file the package ships
         return 0
     raise MaskcheckError(
-        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE' or 'masks schema'",
+        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks which --carrier F', "
+        "'masks validate FILE' or 'masks schema'",
         where="masks",
     )
 

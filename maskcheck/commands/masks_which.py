@@ -1,0 +1,113 @@
+"""``maskcheck masks which``: the candidate masks for a radio, ranked, with the reasons.
+
+Exit status: 0 when one candidate is singled out, 3 when the choice is
+ambiguous or no mask applies (the output names the options that decide),
+2 for bad input.  The same choice serves ``check`` without ``--mask``
+(:func:`choice_from_args`).
+"""
+
+from __future__ import annotations
+
+import json
+
+from ..errors import MaskcheckError
+
+__all__ = ["add_which_parser", "add_choice_options", "run_which", "choice_from_args", "CHOICE_OPTIONS"]
+
+#: the options that describe the radio for the choice (besides --carrier and --designator)
+CHOICE_OPTIONS = ("service", "channel", "authority", "audio_filter", "installed")
+
+
+def add_choice_options(p) -> None:
+    """The options that describe the radio for the choice of a mask."""
+    p.add_argument("--service", metavar="NAME", help="radio service: land-mobile, amateur, unlicensed, ...")
+    p.add_argument("--channel", metavar="BW", help="channel bandwidth of the equipment, e.g. 12.5kHz")
+    p.add_argument("--authority", metavar="NAME", help="whose rules: FCC, ITU, CEPT, ETSI, ...")
+    p.add_argument("--audio-filter", choices=("yes", "no"), help="whether the transmitter has an audio low-pass filter")
+    p.add_argument("--installed", metavar="YYYY-MM-DD", help="installation date of the transmitter (97.307(d))")
+
+
+def add_which_parser(msub) -> None:
+    w = msub.add_parser("which", help="rank the masks that may apply to a radio, and say why")
+    w.add_argument("--carrier", required=True, metavar="F", help="carrier frequency, e.g. 450.1MHz")
+    w.add_argument("--designator", metavar="DESIG", help="emission designator, e.g. 11K0F3E (its class decides between masks)")
+    add_choice_options(w)
+    w.add_argument("--mask-dir", action="append", default=[], metavar="DIR")
+    w.add_argument("--json", metavar="PATH", help="write the ranking as JSON ('-' for standard output)")
+    w.add_argument("--force", action="store_true", help="overwrite an existing --json file")
+
+
+def _station(args):
+    import datetime as dt
+
+    from ..core.designator import parse_designator
+    from ..core.units import parse_frequency
+    from ..masks.which import Station
+
+    carrier = parse_frequency(args.carrier, what="--carrier")
+    channel = parse_frequency(args.channel, what="--channel") if getattr(args, "channel", None) else None
+    if channel is not None and not channel > 0:
+        raise MaskcheckError(f"{args.channel}: expected a channel bandwidth > 0", where="--channel")
+    installed = None
+    if getattr(args, "installed", None):
+        try:
+            installed = dt.date.fromisoformat(args.installed)
+        except ValueError:
+            raise MaskcheckError(f"{args.installed}: expected a date YYYY-MM-DD", where="--installed") from None
+    emission_class = None
+    if getattr(args, "designator", None):
+        emission_class = parse_designator(args.designator.strip().upper()).emission_class
+    audio = None if getattr(args, "audio_filter", None) is None else args.audio_filter == "yes"
+    return Station(carrier_hz=carrier, service=getattr(args, "service", None), channel_hz=channel,
+                   emission_class=emission_class, authority=getattr(args, "authority", None), audio_filter=audio,
+                   installed=installed)
+
+
+def choice_from_args(args):
+    """The ranked choice for the radio the options describe (a :class:`maskcheck.masks.which.Choice`)."""
+    from ..masks.library import list_masks
+    from ..masks.which import choose_mask, load_tables
+
+    station = _station(args)
+    rows, tables = load_tables(args.mask_dir)
+    return choose_mask(station, list_masks(extra_dirs=args.mask_dir), rows, tables)
+
+
+def run_which(args, con) -> int:
+    from rich.markup import escape
+
+    from ..io.output import check_writable, write_text
+
+    if args.json and args.json != "-":
+        check_writable(args.json, force=args.force)
+    choice = choice_from_args(args)
+    if args.json:
+        write_text(args.json, json.dumps(choice.to_dict(), indent=2, ensure_ascii=False), force=args.force)
+    if args.json != "-":
+        _print(choice, con, escape)
+    return 0 if choice.unambiguous else 3
+
+
+def _print(choice, con, escape) -> None:
+    from ..core.units import format_frequency
+
+    s = choice.station
+    given = [f"service {s.service}" if s.service else "", f"channel {format_frequency(s.channel_hz)}" if s.channel_hz else "",
+             f"class {s.emission_class}" if s.emission_class else "", s.authority or "",
+             "" if s.audio_filter is None else ("audio filter" if s.audio_filter else "no audio filter"),
+             f"installed {s.installed.isoformat()}" if s.installed else ""]
+    con.print(f"Candidate masks for {format_frequency(s.carrier_hz)}"
+              + (f" ({escape(', '.join(g for g in given if g))})" if any(given) else ""), soft_wrap=True)
+    for i, c in enumerate(choice.candidates, 1):
+        con.print(f"{i:>2}. [bold]{escape(c.id)}[/bold]  {escape(c.authority)} {escape(c.citation)}  (score {c.score})",
+                  soft_wrap=True)
+        for r in c.reasons:
+            con.print(f"      {escape(r)}", soft_wrap=True)
+    if choice.ruled_out:
+        con.print("Ruled out:", soft_wrap=True)
+        for i, why in choice.ruled_out:
+            con.print(f"    {escape(i)}: {escape(why)}", soft_wrap=True)
+    word = "Choice" if choice.unambiguous else "No single choice"
+    con.print(f"{word}: {escape(choice.summary())}", soft_wrap=True)
+    con.print("The ranking is our own reading of the rules' tables, a pre-compliance aid: the rule text and the "
+              "regulator decide.", soft_wrap=True)
