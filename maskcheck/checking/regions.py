@@ -177,7 +177,8 @@ def judge_xdb_bandwidth(spectrum, lim, window_hz, fc) -> RegionResult:
 
     47 CFR 15.247(a)(2) asks for a 6 dB bandwidth of at least 500 kHz,
     15.231(c) for a 20 dB bandwidth of at most a share of the carrier.
-    Measured in the fundamental window from the highest reading: against a
+    Measured in the fundamental window (against a widest width, in three
+    times the window where the trace covers it) from the highest reading: against a
     smallest width with the nearest crossings walking out from the peak
     (``mode="inner"``), against a widest with the outermost crossings
     (``mode="outer"``); each is the conservative reading for its side
@@ -198,6 +199,10 @@ def judge_xdb_bandwidth(spectrum, lim, window_hz, fc) -> RegionResult:
 
     if window_hz is None or spectrum.uncovered_hz(*window_hz):
         return incomplete(f"the trace does not cover the fundamental window, where the {x:g} dB bandwidth is measured")
+    if not smallest:  # a widest width: look three times as wide, so an emission wider than the window still shows
+        half = 0.5 * (window_hz[1] - window_hz[0])
+        wider = (max(fc - 3 * half, 0.0), fc + 3 * half)
+        window_hz = window_hz if spectrum.uncovered_hz(*wider) else wider
     inside = spectrum.between(*window_hz)
     rbw = float(np.max(inside.rbw_hz))
     if rbw > lim.max_rbw_hz * (1 + 1e-9):
