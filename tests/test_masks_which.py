@@ -101,3 +101,41 @@ def test_bad_options_are_refused_with_exit_2(lib, capsys):
     assert main(["masks", "which", "--carrier", "450MHz", "--installed", "last year", "--mask-dir", str(lib)]) == 2
     assert "--installed" in capsys.readouterr().err
     assert main(["masks", "which", "--carrier", "450MHz", "--channel", "0Hz", "--mask-dir", str(lib)]) == 2
+
+
+def _hf_trace(tmp_path):
+    """An invented 7.1 MHz trace (not a measurement): a carrier on a floor far under the 97.307(d) limit."""
+    import numpy as np
+
+    f = np.arange(9e3, 72e6 + 1, 5e3)
+    lvl = np.full(f.size, -70.0)
+    lvl[np.argmin(np.abs(f - 7.1e6))] = 50.0
+    p = tmp_path / "hf.txt"
+    p.write_text("# rbw_hz: 10000\n# detector: rms\nfrequency_hz,level_dbm\n"
+                 + "\n".join(f"{a!r},{b!r}" for a, b in zip(f.tolist(), lvl.tolist())) + "\n")
+    return str(p)
+
+
+def test_check_without_mask_takes_the_unambiguous_candidate_and_says_so(lib, tmp_path, capsys):
+    trace = _hf_trace(tmp_path)
+    out = tmp_path / "r.json"
+    # Source: 47 CFR 97.307(d): below 30 MHz, installed after 1 January 2003
+    code = main(["check", trace, "--carrier", "7.1MHz", "--power", "100W", "--service", "amateur", "--authority", "FCC",
+                 "--installed", "2015-06-01", "--mask-dir", str(lib), "--json", str(out)])
+    text = capsys.readouterr().out
+    got = json.loads(out.read_text())
+    assert code == 0 and got["mask"]["id"] == "us-amateur-hf-2003"
+    assert "no --mask given" in got["mask"]["chosen"] and "installed after 2003-01-01" in got["mask"]["chosen"]
+    assert "Mask chosen by maskcheck" in text
+
+
+def test_check_without_mask_refuses_an_ambiguous_choice(lib, tmp_path, capsys):
+    trace = _hf_trace(tmp_path)
+    code = main(["check", trace, "--carrier", "7.1MHz", "--power", "100W", "--service", "amateur", "--authority", "FCC",
+                 "--mask-dir", str(lib)])
+    err = capsys.readouterr().err
+    assert code == 2 and "us-amateur-hf-2003" in err and "us-amateur-hf-pre-2003" in err and "--installed" in err
+    # a named mask needs no choice, and the choosing options are refused beside it (they would decide nothing)
+    code = main(["check", trace, "--carrier", "7.1MHz", "--power", "100W", "--mask", "us-amateur-hf-2003",
+                 "--installed", "2015-06-01", "--mask-dir", str(lib)])
+    assert code == 2 and "--installed: chooses a mask" in capsys.readouterr().err

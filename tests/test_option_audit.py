@@ -78,6 +78,12 @@ CASES = {
     "--full-scale": ([], ["--full-scale", "20dBm"]),
     "--ref-tone": ([], ["--ref-tone", "7.1MHz=40dBm"]),
     "--workers": ([], ["--workers", "1"]),
+    # the options that choose a mask when --mask is not given: with --mask (as here) they are refused
+    "--service": ([], ["--service", "amateur"]),
+    "--channel": ([], ["--channel", "12.5kHz"]),
+    "--authority": ([], ["--authority", "FCC"]),
+    "--audio-filter": ([], ["--audio-filter", "yes"]),
+    "--installed": ([], ["--installed", "2010-01-01"]),
 }
 
 #: (option, input kind) pairs where neither the result nor its record can change, and why; the audit

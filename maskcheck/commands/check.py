@@ -7,6 +7,7 @@ from ._outputs import add_output_options, check_output_options, write_outputs
 from ._recording import add_recording_options
 from ._setup_options import setup_from_args
 from .designator import add_emission_options
+from .masks_which import add_choice_options, chosen_mask, refuse_choice_options_with_mask
 
 __all__ = ["register", "run"]
 
@@ -14,7 +15,9 @@ __all__ = ["register", "run"]
 def register(sub) -> None:
     c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
     c.add_argument("traces", nargs="+", metavar="INPUT", help="trace file(s) or IQ recording(s); several spans are stitched, a narrower RBW wins where they overlap")
-    c.add_argument("--mask", required=True, metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file")
+    c.add_argument("--mask", metavar="ID|FILE", help="mask id from 'maskcheck masks list', or a mask TOML file; without it "
+                   "maskcheck takes the one mask that --carrier and the options below single out ('maskcheck masks "
+                   "which'), and refuses when the choice is ambiguous")
     c.add_argument("--carrier", required=True, metavar="F", help="assigned frequency (centre of the emission; with --sideband, the suppressed carrier of an SSB emission), e.g. 7.1MHz")
     c.add_argument("--power", metavar="P", help="mean power at the antenna port, e.g. 100W or 50dBm (default: measured channel power)")
     c.add_argument("--pep", metavar="P", help="peak envelope power, for PEP-referenced rules")
@@ -31,6 +34,7 @@ def register(sub) -> None:
     c.add_argument("--xdb", metavar="DB", default="26dB", help="x of the x-dB bandwidth reported beside the occupied bandwidth (default 26dB)")
     c.add_argument("--outside-bands", action="store_true", help="check a carrier outside the mask's carrier bands anyway (refused otherwise); every output then says so and the verdict is at best incomplete")
     c.add_argument("--mask-dir", action="append", default=[], metavar="DIR", help="extra folder of mask files (repeatable; also MASKCHECK_MASK_PATH)")
+    add_choice_options(c.add_argument_group("choosing the mask (without --mask; see 'maskcheck masks which')"))
     add_trace_options(c)
     add_recording_options(c)
     c.add_argument("--json", metavar="PATH", help="write the result as JSON ('-' for standard output)")
@@ -52,6 +56,7 @@ def run(args) -> int:
 
     # refuse before any work when an output exists, two outputs name one file, or --figures holds old figures
     check_output_options(args)
+    refuse_choice_options_with_mask(args)
     carrier = parse_frequency(args.carrier, what="--carrier")
     power = parse_power(args.power, what="--power") if args.power else None
     pep = parse_power(args.pep, what="--pep") if args.pep else None
@@ -67,7 +72,7 @@ def run(args) -> int:
     low_mod = parse_frequency(args.low_mod, what="--low-mod", default_unit="Hz") if getattr(args, "low_mod", None) else None
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
                       sideband=getattr(args, "sideband", None), low_mod_hz=low_mod)
-    mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    mask, chosen = chosen_mask(args) if args.mask is None else (load_mask(args.mask, extra_dirs=args.mask_dir), "")
     from ..masks.station_values import require_in_bands
 
     require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # before any input is read; check() decides again
@@ -95,5 +100,9 @@ def run(args) -> int:
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)
     result = worst_frame_check(result, got, judge)
+    if chosen:  # the mask maskcheck took without --mask: every output says so
+        import dataclasses
+
+        result.mask = dataclasses.replace(result.mask, chosen=chosen)
     write_outputs(result, args)
     return result.exit_code

@@ -12,7 +12,8 @@ import json
 
 from ..errors import MaskcheckError
 
-__all__ = ["add_which_parser", "add_choice_options", "run_which", "choice_from_args", "CHOICE_OPTIONS"]
+__all__ = ["add_which_parser", "add_choice_options", "run_which", "choice_from_args", "chosen_mask", "refuse_choice_options_with_mask",
+           "CHOICE_OPTIONS"]
 
 #: the options that describe the radio for the choice (besides --carrier and --designator)
 CHOICE_OPTIONS = ("service", "channel", "authority", "audio_filter", "installed")
@@ -111,3 +112,36 @@ def _print(choice, con, escape) -> None:
     con.print(f"{word}: {escape(choice.summary())}", soft_wrap=True)
     con.print("The ranking is our own reading of the rules' tables, a pre-compliance aid: the rule text and the "
               "regulator decide.", soft_wrap=True)
+
+
+def chosen_mask(args):
+    """``check`` without ``--mask``: the one candidate the stated facts single out, and the sentence saying so.
+
+    Refused (exit 2) when the choice is ambiguous or nothing applies: the
+    message names the candidates and the options that decide.  The choice
+    options go only with this: with ``--mask`` they have nothing to decide.
+    """
+    from ..masks.library import load_mask
+
+    choice = choice_from_args(args)
+    if not choice.candidates:
+        raise MaskcheckError(f"not given, and {choice.summary()}; name one with --mask", where="--mask")
+    if not choice.unambiguous:
+        names = ", ".join(c.id for c in choice.candidates[:6]) + (" ..." if len(choice.candidates) > 6 else "")
+        how = ", ".join(choice.decide_with) or "--mask"
+        raise MaskcheckError(f"not given, and the choice is ambiguous between {names}: decide with {how}, or "
+                             "name the mask with --mask (see 'maskcheck masks which')", where="--mask")
+    best = choice.best
+    why = "; ".join(r.lstrip("+ ") for r in best.reasons if r.startswith("+"))
+    sentence = (f"{best.id} (no --mask given; the one candidate the stated facts single out, by our own ranking of "
+                f"the rules' tables: {why}; the rule text and the regulator decide)")
+    return load_mask(best.id, extra_dirs=args.mask_dir), sentence
+
+
+def refuse_choice_options_with_mask(args) -> None:
+    """The choice options with ``--mask``: refused, they would decide nothing."""
+    given = [f"--{o.replace('_', '-')}" for o in CHOICE_OPTIONS if getattr(args, o, None) is not None]
+    if args.mask is not None and given:
+        what = "chooses a mask" if len(given) == 1 else f"(and {', '.join(given[1:])}) choose a mask"
+        raise MaskcheckError(f"{what}; with --mask there is nothing to choose: leave "
+                             f"{'it' if len(given) == 1 else 'them'} out, or leave out --mask", where=given[0])

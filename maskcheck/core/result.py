@@ -152,7 +152,10 @@ class MaskInfo:
     which one), the path as given for a user's file ('' for a mask built in
     memory).  ``outside_bands`` is not empty when the carrier is outside the
     mask's carrier bands and the check was asked to go on: the sentence every
-    output repeats (such a result cannot pass).
+    output repeats (such a result cannot pass).  ``chosen`` is not empty
+    when no mask was named and maskcheck took the one candidate the stated
+    facts single out (``maskcheck check`` without ``--mask``): how and why,
+    the sentence every output repeats; the JSON carries it only then.
     """
 
     id: str
@@ -165,9 +168,13 @@ class MaskInfo:
     sha256: str = ""
     note: str = ""
     outside_bands: str = ""
+    chosen: str = ""
 
     def to_dict(self) -> dict:
-        return asdict(self)
+        d = asdict(self)
+        if not self.chosen:
+            del d["chosen"]  # present only for a mask maskcheck chose (keeps older results byte for byte)
+        return d
 
 
 @dataclass

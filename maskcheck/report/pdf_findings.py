@@ -120,6 +120,7 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         ("Rule (citation)", m.citation),
         ("Authority", m.authority),
         ("Mask", f"{m.id}: {m.title}" if m.title else m.id),
+        *([("Chosen by maskcheck", m.chosen)] if m.chosen else []),
         ("Edition", m.edition),
         ("Verified", "yes: checked against the official text" if m.verified else f"no: {UNVERIFIED_NOTE}"),
     ]
