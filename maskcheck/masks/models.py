@@ -1,4 +1,4 @@
-"""The pydantic models of a mask file (``schema_version`` 1 to 4): the file and its top-level tables.
+"""The pydantic models of a mask file (``schema_version`` 1 to 5): the file and its top-level tables.
 
 Every table forbids unknown keys, so a misspelt key is an error, not a
 silently ignored line.  The values inside are :class:`~maskcheck.masks.values.Value`
