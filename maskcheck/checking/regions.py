@@ -183,8 +183,9 @@ def judge_xdb_bandwidth(spectrum, lim, window_hz, fc) -> RegionResult:
     (``mode="inner"``), against a widest with the outermost crossings
     (``mode="outer"``); each is the conservative reading for its side
     (common practice, no published source).  A trace whose RBW is wider
-    than the rule's widest RBW cannot show the width (a wide filter widens
-    what it shows), and the region is then ``incomplete``; so is a trace
+    than the rule's widest RBW widens what it shows: it cannot show a
+    smallest width (``incomplete``), and shows a widest one only when the
+    widened reading still fits (else ``incomplete``, never a false fail); so is a trace
     that does not cover the window or fall ``drop_db`` at its ends.
     """
     from ..core.bandwidth import xdb_bandwidth
@@ -205,14 +206,19 @@ def judge_xdb_bandwidth(spectrum, lim, window_hz, fc) -> RegionResult:
         window_hz = window_hz if spectrum.uncovered_hz(*wider) else wider
     inside = spectrum.between(*window_hz)
     rbw = float(np.max(inside.rbw_hz))
-    if rbw > lim.max_rbw_hz * (1 + 1e-9):
-        return incomplete(f"the trace's RBW ({format_frequency(rbw)}) is wider than the {format_frequency(lim.max_rbw_hz)} "
-                          f"the rule measures the {x:g} dB bandwidth with: a wider filter widens the reading")
+    too_wide = rbw > lim.max_rbw_hz * (1 + 1e-9)
+    rbw_note = (f"the trace's RBW ({format_frequency(rbw)}) is wider than the {format_frequency(lim.max_rbw_hz)} the rule "
+                f"measures the {x:g} dB bandwidth with: a wider filter widens the reading")
+    if too_wide and smallest:
+        return incomplete(rbw_note)
     try:
         got = xdb_bandwidth(inside, x, mode="inner" if smallest else "outer")
     except SpectrumError as exc:
         return incomplete(f"the {x:g} dB bandwidth was not measured: {exc.message}")
     spare = (got.width_hz - need) if smallest else (need - got.width_hz)
+    if too_wide and spare < 0:  # a widest width over-read through a wide filter: not shown to exceed
+        return incomplete(f"{rbw_note}; read as {format_frequency(got.width_hz)}, above the widest allowed "
+                          f"{format_frequency(need)}: re-measure with the rule's RBW")
     side = "below the smallest" if smallest else "above the widest"
     if spare < 0:
         verdict = "fail"

@@ -261,6 +261,8 @@ class RegionLimits:
         region applies (:meth:`in_scope`) and is NaN elsewhere.
         """
         f = _freq_array(freq_hz)
+        if self.judges_bandwidth:  # a width of the emission, not a level along the axis: no limit anywhere
+            return np.full(f.shape, np.nan)
         if not self.varies:
             inside = (f >= self.start_hz) & (f <= self.stop_hz)
             return np.where(inside, self.constant_limit_w, np.nan)
