@@ -107,13 +107,15 @@ def _hf_trace(tmp_path):
     """An invented 7.1 MHz trace (not a measurement): a carrier on a floor far under the 97.307(d) limit."""
     import numpy as np
 
+    from maskcheck.core.spectrum import Spectrum
+    from maskcheck.io.trace_write import write_trace
+
     f = np.arange(9e3, 72e6 + 1, 5e3)
-    lvl = np.full(f.size, -70.0)
-    lvl[np.argmin(np.abs(f - 7.1e6))] = 50.0
-    p = tmp_path / "hf.txt"
-    p.write_text("# rbw_hz: 10000\n# detector: rms\nfrequency_hz,level_dbm\n"
-                 + "\n".join(f"{a!r},{b!r}" for a, b in zip(f.tolist(), lvl.tolist())) + "\n")
-    return str(p)
+    power_w = np.where(np.abs(f - 7.1e6) < 2.5e3, 100.0, 1e-10)  # 50 dBm on one point, -70 dBm elsewhere
+    path = tmp_path / "hf.txt"
+    write_trace(path, Spectrum(f, power_w, np.full(f.size, 10e3), detector="rms", source="invented"),
+                notes=["invented test trace, not a measurement"])
+    return str(path)
 
 
 def test_check_without_mask_takes_the_unambiguous_candidate_and_says_so(lib, tmp_path, capsys):

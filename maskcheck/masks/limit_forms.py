@@ -241,19 +241,16 @@ LIMIT_FORMS: tuple[LimitForm, ...] = (
         description="v5: peak power spectral density, dBm in any reference bandwidth over the emission itself "
         "(an in-band region; 47 CFR 15.247(e))",
     ),
-    LimitForm(
-        "min_bandwidth_hz", "bandwidth", "frequency", "Hz", relative=False, since=5,
-        convert=lambda v, c: v, measure="bandwidth",
-        words="{text} at least", positive_unit=" Hz", what="smallest bandwidth allowed",
-        description="v5: the x-dB bandwidth of the emission (x = limit.drop_db) must be at least this "
-        "(a bandwidth region; 47 CFR 15.247(a)(2))",
-    ),
-    LimitForm(
-        "max_bandwidth_hz", "bandwidth", "frequency", "Hz", relative=False, since=5,
-        convert=lambda v, c: v, measure="bandwidth",
-        words="{text} at most", positive_unit=" Hz", what="widest bandwidth allowed",
-        description="v5: the x-dB bandwidth of the emission (x = limit.drop_db) must be at most this "
-        "(a bandwidth region; 47 CFR 15.231(c))",
+    *(
+        LimitForm(
+            key, "bandwidth", "frequency", "Hz", relative=False, since=5,
+            convert=lambda v, c: v, measure="bandwidth",
+            words=f"{{text}} {side}", positive_unit=" Hz", what=f"{word} bandwidth allowed",
+            description=f"v5: the x-dB bandwidth of the emission (x = limit.drop_db) must be {side} this "
+            f"(a bandwidth region; {rule})",
+        )
+        for key, side, word, rule in (("min_bandwidth_hz", "at least", "smallest", "47 CFR 15.247(a)(2)"),
+                                      ("max_bandwidth_hz", "at most", "widest", "47 CFR 15.231(c)"))
     ),
 )
 
