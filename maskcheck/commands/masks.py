@@ -179,6 +179,7 @@ def evaluated_rows(mask, st) -> list[dict]:
             if lim.kind == "bandwidth":
                 side, width = ("at least", lim.min_bandwidth_hz) if lim.min_bandwidth_hz is not None else ("at most", lim.max_bandwidth_hz)
                 row["values"] = [(f"{lim.drop_db:g} dB bandwidth {side}", format_frequency(width))]
+                row["bandwidth"] = f"RBW at most {format_frequency(lim.max_rbw_hz)}"
             elif lim.max_bandwidth_hz is not None:
                 row["values"] = [("occupied bandwidth at most", format_frequency(lim.max_bandwidth_hz))]
             rows.append(row)
