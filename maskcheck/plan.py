@@ -309,6 +309,9 @@ def plan_measurement(
         if lim.unevaluated:
             notes.append(f"region {lim.name!r} cannot be planned: it {lim.unevaluated}")
             continue
+        if lim.kind == "bandwidth":
+            notes.append(f"region {lim.name!r}: {lim.limit_text}; measure it around the carrier with a peak detector")
+            continue
         if lim.kind == "occupied-bandwidth":
             notes.append(
                 f"region {lim.name!r}: {lim.limit_text}; measure the occupied bandwidth around the carrier with an RBW "
@@ -343,7 +346,7 @@ def plan_measurement(
         f = n * fc
         best = None
         for lim in limits:
-            if lim.unevaluated or lim.kind == "occupied-bandwidth" or not bool(lim.in_scope(np.array([f]))[0]):
+            if lim.unevaluated or lim.judges_bandwidth or not bool(lim.in_scope(np.array([f]))[0]):
                 continue
             lw = float(np.asarray(lim.limit_w(np.array([f])))[0])
             if not (math.isfinite(lw) and lw > 0):

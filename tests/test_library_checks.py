@@ -56,14 +56,26 @@ CASES = {
     "us-part15-209": (dict(power_w=0.001, carrier_hz=27.145e6), 88e6 + 120e3),
     "cept-erc-7401-category-b": (dict(power_w=10.0, carrier_hz=150e6), 1e9 + 1e6),
     "etsi-en300220-srd-spurious": (dict(power_w=0.025, carrier_hz=433.92e6), 862e6 + 100e3),
+    # the 2nd harmonic band of 2400-2483.5 MHz, inside the restricted 4.5-5.15 GHz (15.249(a), 15.205)
+    "us-part15-249": (dict(power_w=1e-4, carrier_hz=2440e6), 4800e6 + 1e6),
+    # the restricted band from 960 MHz (15.205) over the 15.231(b) spurious limit
+    "us-part15-231": (dict(power_w=1e-5, carrier_hz=433.92e6), 960e6 + 120e3),
 }
+
+#: shipped masks this generic bench cannot judge, and where they are tested instead
+OWN_TESTS = {
+    "us-part15-247-dts": "a single-line bench carrier has no 6 dB bandwidth of 500 kHz (15.247(a)(2)): "
+                         "tests/test_library_part15_rules.py checks it with an invented DTS emission",
+}
+
+_SHIPPED = {m.id for m in list_masks()}
 
 
 def test_every_shipped_mask_has_a_case():
-    assert set(CASES) == {m.id for m in list_masks()}
+    assert _SHIPPED <= set(CASES) | set(OWN_TESTS), sorted(_SHIPPED - set(CASES) - set(OWN_TESTS))
 
 
-@pytest.mark.parametrize("mask_id", sorted(CASES))
+@pytest.mark.parametrize("mask_id", sorted(set(CASES) & _SHIPPED))
 def test_a_spur_1_db_under_passes_and_1_db_over_fails(mask_id):
     station, spur_hz = CASES[mask_id]
     ok = run_check(mask_id, spur_hz=spur_hz, spur_delta_db=-1.0, **dict(station))

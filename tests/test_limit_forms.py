@@ -11,7 +11,7 @@ import pytest
 from maskcheck.core.corrections import FAR_FIELD_CONSTANT_DB
 from maskcheck.errors import MaskError, StationError
 from maskcheck.masks import evaluate_mask, load_mask, validate_mask_file
-from maskcheck.masks.limit_forms import FORMS, LIMIT_FORMS, LIMIT_KEYS, TermContext
+from maskcheck.masks.limit_forms import FORMS, LEVEL_FORMS, LIMIT_FORMS, LIMIT_KEYS, TermContext
 from maskcheck.masks.schema import Limit
 
 
@@ -31,6 +31,9 @@ from maskcheck.masks.schema import Limit
         # Closed form: E = sqrt(30 P) / d -> P = (E d)^2 / 30: 500 uV/m at 3 m is (1.5e-3)^2 / 30 W
         ("field_uv_per_m", 500.0, TermContext(1.0, distance_m=3.0), (500e-6 * 3.0) ** 2 / 30.0),
         ("field_dbuv_per_m", 20 * math.log10(500.0), TermContext(1.0, distance_m=3.0), (500e-6 * 3.0) ** 2 / 30.0),
+        # Source: 47 CFR 15.247(e) (8 dBm in any 3 kHz; from memory, not checked against the text):
+        # closed form 8 dBm = 10**(-2.2) W in the reference bandwidth
+        ("psd_dbm", 8.0, TermContext(1.0), 10 ** -2.2),
     ],
 )
 def test_each_form_converts_to_watts_by_its_closed_form(key, value, ctx, expected_w):
@@ -43,7 +46,10 @@ def test_the_schema_and_the_table_name_the_same_forms():
     assert len(set(LIMIT_KEYS)) == len(LIMIT_FORMS)
     # only the attenuation is relative; density and field strength are always evaluated point by point
     assert [f.key for f in LIMIT_FORMS if f.relative] == ["attenuation_db"]
-    assert {f.key for f in LIMIT_FORMS if f.pointwise} == {"density_dbm_per_hz", "field_uv_per_m", "field_dbuv_per_m"}
+    assert {f.key for f in LEVEL_FORMS if f.pointwise} == {"density_dbm_per_hz", "field_uv_per_m", "field_dbuv_per_m"}
+    # the two bandwidth forms are compared with a width of the emission, not with a power: they stay in Hz
+    assert {f.key for f in LIMIT_FORMS if f.measure == "bandwidth"} == {"min_bandwidth_hz", "max_bandwidth_hz"}
+    assert all(FORMS[k].to_w(500e3, TermContext(1.0)) == 500e3 for k in ("min_bandwidth_hz", "max_bandwidth_hz"))
 
 
 def test_field_relation_uses_the_one_constant():

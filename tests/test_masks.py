@@ -48,6 +48,8 @@ SHIPPED_IDS = AP3_IDS | {
     "us-lprs-952179-narrowband", "us-cellular-22917", "us-part15-209",
     "cept-erc-7401-category-b", "etsi-en300220-srd-spurious",
 }
+#: the Part 15 rules added with mask schema v5
+PART15_V5 = {"us-part15-247-dts", "us-part15-249", "us-part15-231"}
 
 
 @pytest.fixture(autouse=True)
@@ -282,8 +284,9 @@ def test_limit_text_carries_the_number():
 
 
 def test_the_library_holds_the_expected_masks():
-    assert {m.id for m in list_masks()} == SHIPPED_IDS
-    assert len(SHIPPED) == len(SHIPPED_IDS)
+    ids = {m.id for m in list_masks()}
+    assert ids == SHIPPED_IDS | PART15_V5
+    assert len(SHIPPED) == len(ids)
 
 
 @pytest.mark.parametrize("path", SHIPPED, ids=lambda p: p.stem)
@@ -320,6 +323,9 @@ def test_every_shipped_mask_evaluates_across_its_carrier_range(path):
             assert regions
             for region in regions:
                 assert not region.unevaluated, region.unevaluated
+                if region.judges_bandwidth:  # a width of the emission: no frequency range (v5 bandwidth regions)
+                    assert (region.min_bandwidth_hz or region.max_bandwidth_hz or 0) > 0 and region.max_rbw_hz > 0
+                    continue
                 assert 0 <= region.start_hz < region.stop_hz
                 # Every frequency of the region has a reference bandwidth and a finite limit > 0.
                 f = np.geomspace(max(region.start_hz, 1.0), region.stop_hz, 400)
@@ -627,8 +633,8 @@ def test_json_schema_describes_the_format():
     assert schema["additionalProperties"] is False
     region = schema["$defs"]["Region"]
     assert region["additionalProperties"] is False
-    # schema v2 adds the domain and offset anchors, v3 the interval convention of start and stop
-    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "include_start", "include_stop", "may_be_empty", "detector", "limit", "reference_bandwidth"}
+    # schema v2 adds the domain and offset anchors, v3 the interval convention of start and stop, v5 'within'
+    assert set(region["properties"]) == {"name", "kind", "domain", "offset", "start", "stop", "include_start", "include_stop", "may_be_empty", "detector", "limit", "reference_bandwidth", "within"}
 
 
 def test_the_example_in_the_format_guide_loads(tmp_path):

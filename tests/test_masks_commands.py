@@ -106,6 +106,7 @@ def test_schema_is_json_and_knows_version_3_4_and_5_keys(capsys):
     assert set(schema["$defs"]["SourceCheckEntry"]["properties"]) == {"source", "edition", "kind", "confirms", "note"}
     assert schema["$defs"]["SourceCheckEntry"]["properties"]["kind"]["enum"] == ["official", "reprint", "memory"]
     assert {"authority", "citation", "measurement_note", "choice"} <= set(schema["properties"])
+    assert "within" in schema["$defs"]["Region"]["properties"]  # v5: regions inside a band table
     assert "bands" in schema["$defs"]["Applies"]["properties"]  # v4: several carrier bands
     limit = schema["$defs"]["Limit"]["properties"]
     assert {"field_uv_per_m", "distance_m", "density_dbm_per_hz", "combine", "quantity"} <= set(limit)

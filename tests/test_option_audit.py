@@ -93,6 +93,12 @@ CASES = {
     "--judge-artefacts": ([], ["--judge-artefacts"]),
     "--station": ([], ["--station", "invented test station"]),
     "--equipment": ([], ["--equipment", "invented exciter, serial 0001"]),
+    # the options that choose a mask when --mask is not given: with --mask (as here) they are refused
+    "--service": ([], ["--service", "amateur"]),
+    "--channel": ([], ["--channel", "12.5kHz"]),
+    "--authority": ([], ["--authority", "FCC"]),
+    "--audio-filter": ([], ["--audio-filter", "yes"]),
+    "--installed": ([], ["--installed", "2010-01-01"]),
 }
 
 #: (option, input kind) pairs where neither the result nor its record can change, and why; the audit
@@ -339,6 +345,13 @@ def _cmd_masks_list(tmp, inputs, extra, name, capsys):
     return rc, (None if rc == 2 else _json_of(out))
 
 
+def _cmd_masks_which(tmp, inputs, extra, name, capsys):
+    out = tmp / f"{name}.json"
+    rc = main(["masks", "which", "--carrier", "7.1MHz", *extra, "--json", str(out), "--force"])
+    capsys.readouterr()
+    return rc, (None if rc == 2 else _json_of(out))
+
+
 def _cmd_masks_audit(tmp, inputs, extra, name, capsys):
     out = tmp / f"{name}.json"
     rc = main(["masks", "audit", *extra, "--json", str(out), "--force"])
@@ -465,6 +478,15 @@ COMMANDS = {
         "--authority": ([], ["--authority", "FCC"]),
         "--service": ([], ["--service", "amateur"]),
         "--frequency": ([], ["--frequency", "146MHz"]),
+    }),
+    "masks which": (_cmd_masks_which, ("none",), {"--json", "--force", "--help"}, {"--carrier"}, {
+        "--designator": ([], ["--designator", "16K0F3E"]),
+        "--service": ([], ["--service", "land-mobile"]),
+        "--channel": ([], ["--channel", "12.5kHz"]),
+        "--authority": ([], ["--authority", "ITU"]),
+        "--audio-filter": ([], ["--audio-filter", "no"]),
+        "--installed": ([], ["--installed", "1990-01-01"]),
+        "--mask-dir": ([], ["--mask-dir", "OTHERMASKS"]),
     }),
     "masks audit": (_cmd_masks_audit, ("none",), {"--json", "--markdown", "--force", "--help"}, set(), {
         "--mask-dir": ([], ["--mask-dir", "OTHERMASKS"]),
@@ -678,6 +700,7 @@ def test_json_dash_writes_only_the_json_to_standard_output_on_every_command_that
         "designator": ["designator", "2K70J3E"],
         "masks list": ["masks", "list"],
         "masks audit": ["masks", "audit"],
+        "masks which": ["masks", "which", "--carrier", "146.52MHz"],
     }
     writes_json = {c for c, p in _all_parsers() if "--json" in _option_strings(p)}
     assert writes_json == set(runs)

@@ -150,7 +150,7 @@ def check(
     judged = judge_regions(spectrum, mask, limits, carrier_hz=station.carrier_hz, readings=readings, reference=reference,
                            guard_db=guard.guard_db, report_threshold_db=report_threshold_db,
                            authorized_bw_hz=facts.authorized_bw_hz, wanted_band_hz=_wanted_band(facts, readings),
-                           removed=() if spectrum.corrections is None else spectrum.corrections.removed_hz)
+                           window_hz=window.edges_hz, removed=() if spectrum.corrections is None else spectrum.corrections.removed_hz)
     class_ok, class_warnings = _emission_class(mask, facts)
     warnings = [*facts.warnings, *readings.warnings, *reference.warnings, *applies_warnings, *judged.warnings,
                 *class_warnings, *guard.warnings]

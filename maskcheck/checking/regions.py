@@ -7,8 +7,9 @@ forbids integrating a narrower RBW, a range a correction table left out) are
 added in one place, :func:`_with_caveats`, before the result is handed on.
 
 Occupied-bandwidth regions compare the measured occupied bandwidth with the
-widest allowed.  Close listed emissions are merged: one per reference
-bandwidth.
+widest allowed; bandwidth regions (mask schema v5) the x-dB bandwidth with the
+smallest or widest allowed (:func:`judge_xdb_bandwidth`).  Close listed emissions are
+merged: one per reference bandwidth.
 """
 
 from __future__ import annotations
@@ -22,7 +23,7 @@ from ..core.units import format_frequency
 from ..core.verdict import judge_region
 from .reference import Reference
 
-__all__ = ["JudgedRegions", "judge_regions", "judge_occupied_bandwidth"]
+__all__ = ["JudgedRegions", "judge_regions", "judge_occupied_bandwidth", "judge_xdb_bandwidth"]
 
 
 @dataclass(frozen=True)
@@ -36,7 +37,8 @@ class JudgedRegions:
 
 def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, reference: Reference, guard_db: float,
                   report_threshold_db: float, authorized_bw_hz: float | None = None, removed=(),
-                  wanted_band_hz: tuple[float, float] | None = None) -> JudgedRegions:
+                  wanted_band_hz: tuple[float, float] | None = None,
+                  window_hz: tuple[float, float] | None = None) -> JudgedRegions:
     """Judge every evaluated region of the mask, in the order of the file.
 
     ``wanted_band_hz`` is the band of the wanted emission (the necessary
@@ -53,6 +55,9 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
     ``removed`` holds the ranges a correction table left out
     (:class:`maskcheck.core.records.RemovedRange`): a region that lacks data
     there is told why.
+
+    ``window_hz`` is the fundamental window (low, high), Hz: where a
+    bandwidth region measures the emission's x-dB bandwidth.
     """
     fc = float(carrier_hz)
     judge_artefacts = spectrum.artefacts is not None and spectrum.artefacts.judged
@@ -67,6 +72,9 @@ def judge_regions(spectrum, mask, limits, *, carrier_hz: float, readings, refere
             continue
         if lim.kind == "occupied-bandwidth":
             regions.append(judge_occupied_bandwidth(lim.name, lim.max_bandwidth_hz, lim.limit_text, obw, fc))
+            continue
+        if lim.kind == "bandwidth":
+            regions.append(judge_xdb_bandwidth(spectrum, lim, window_hz, fc))
             continue
         caveats: list[str] = []
         if reference.relative_reference is not None:
@@ -164,6 +172,67 @@ def judge_occupied_bandwidth(name, max_bw_hz, limit_text, obw_fig, fc) -> Region
                f"({format_frequency(spare)} to spare)")
     return RegionResult(name, "occupied-bandwidth", obw_fig.lower_hz, obw_fig.upper_hz, verdict, reasons=[why],
                         measured_bandwidth_hz=obw_fig.width_hz, points_evaluated=1, **base)
+
+
+def judge_xdb_bandwidth(spectrum, lim, window_hz, fc) -> RegionResult:
+    """The x-dB bandwidth of the emission against the smallest or the widest allowed.
+
+    47 CFR 15.247(a)(2) asks for a 6 dB bandwidth of at least 500 kHz,
+    15.231(c) for a 20 dB bandwidth of at most a share of the carrier.
+    Measured in the fundamental window (against a widest width, in three
+    times the window where the trace covers it) from the highest reading: against a
+    smallest width with the nearest crossings walking out from the peak
+    (``mode="inner"``), against a widest with the outermost crossings
+    (``mode="outer"``); each is the conservative reading for its side
+    (common practice, no published source).  A trace whose RBW is wider
+    than the rule's widest RBW widens what it shows: it cannot show a
+    smallest width (``incomplete``), and shows a widest one only when the
+    widened reading still fits (else ``incomplete``, never a false fail); so is a trace
+    that does not cover the window or fall ``drop_db`` at its ends.
+    """
+    from ..core.bandwidth import xdb_bandwidth
+    from ..errors import SpectrumError
+
+    smallest = lim.min_bandwidth_hz is not None
+    x, need = lim.drop_db, (lim.min_bandwidth_hz if smallest else lim.max_bandwidth_hz)
+    base = dict(limit_text=lim.limit_text, limit_bandwidth_hz=float(need), anchor=lim.anchor, detector_required="peak")
+
+    def incomplete(why: str) -> RegionResult:
+        return RegionResult(lim.name, "bandwidth", fc, fc, "incomplete", reasons=[why], **base)
+
+    if window_hz is None or spectrum.uncovered_hz(*window_hz):
+        return incomplete(f"the trace does not cover the fundamental window, where the {x:g} dB bandwidth is measured")
+    if not smallest:  # a widest width: look three times as wide, so an emission wider than the window still shows
+        half = 0.5 * (window_hz[1] - window_hz[0])
+        wider = (max(fc - 3 * half, 0.0), fc + 3 * half)
+        window_hz = window_hz if spectrum.uncovered_hz(*wider) else wider
+    inside = spectrum.between(*window_hz)
+    rbw = float(np.max(inside.rbw_hz))
+    too_wide = rbw > lim.max_rbw_hz * (1 + 1e-9)
+    rbw_note = (f"the trace's RBW ({format_frequency(rbw)}) is wider than the {format_frequency(lim.max_rbw_hz)} the rule "
+                f"measures the {x:g} dB bandwidth with: a wider filter widens the reading")
+    if too_wide and smallest:
+        return incomplete(rbw_note)
+    try:
+        got = xdb_bandwidth(inside, x, mode="inner" if smallest else "outer")
+    except SpectrumError as exc:
+        return incomplete(f"the {x:g} dB bandwidth was not measured: {exc.message}")
+    spare = (got.width_hz - need) if smallest else (need - got.width_hz)
+    if too_wide and spare < 0:  # a widest width over-read through a wide filter: not shown to exceed
+        return incomplete(f"{rbw_note}; read as {format_frequency(got.width_hz)}, above the widest allowed "
+                          f"{format_frequency(need)}: re-measure with the rule's RBW")
+    side = "below the smallest" if smallest else "above the widest"
+    if spare < 0:
+        verdict = "fail"
+        why = f"{x:g} dB bandwidth {format_frequency(got.width_hz)} is {side} allowed {format_frequency(need)} by {format_frequency(-spare)}"
+    else:
+        verdict = "pass"
+        why = (f"{x:g} dB bandwidth {format_frequency(got.width_hz)} is {'at least' if smallest else 'at most'} "
+               f"{format_frequency(need)} ({format_frequency(spare)} to spare)")
+    why += (f"; measured from the highest reading, {got.peak_dbm:.2f} dBm at {format_frequency(got.peak_hz, 7)}, with the "
+            f"{'nearest' if smallest else 'outermost'} crossings")
+    return RegionResult(lim.name, "bandwidth", got.lower_hz, got.upper_hz, verdict, reasons=[why],
+                        measured_bandwidth_hz=got.width_hz, points_evaluated=1, **base)
 
 
 def _merge_close_emissions(ems, lim):

@@ -45,6 +45,12 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     "--k-factor": ("K", "the formula's factor K (default 5 for Morse, 1 for FM, 1.2 for FSK)"),
     "--roll-off": ("A", "roll-off of a linear digital modulation, e.g. 0.35"),
     "--channels": ("N", "number of channels (B8E), default 2"),
+    # the radio, as the choice of a mask sees it (masks which, check without --mask, masks list)
+    "--service": ("NAME", "radio service: land-mobile, amateur, unlicensed, ..."),
+    "--authority": ("NAME", "whose rules: FCC, ITU, CEPT, ETSI, ..."),
+    "--channel": ("BW", "channel bandwidth of the equipment, e.g. 12.5kHz"),
+    "--audio-filter": (None, "whether the transmitter has an audio low-pass filter (yes or no)"),
+    "--installed": ("YYYY-MM-DD", "installation date of the transmitter (47 CFR 97.307(d))"),
     "--station": ("NAME", "name of the station (call sign, site or client's label): shown on every page, in the JSON "
                           "and on the terminal"),
     "--equipment": ("TEXT", "the equipment under test (make, model, serial number): shown on every page, in the JSON "

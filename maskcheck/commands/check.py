@@ -8,6 +8,7 @@ from ._recording import add_recording_options
 from ._setup_options import setup_from_args
 from ._spelling import add_identity_options, add_option
 from .designator import add_emission_options
+from .masks_which import add_choice_options, chosen_mask, refuse_choice_options_with_mask
 
 __all__ = ["register", "run"]
 
@@ -15,7 +16,7 @@ __all__ = ["register", "run"]
 def register(sub) -> None:
     c = sub.add_parser("check", help="judge a trace against a mask", description="Judge one trace (or several spans stitched together) against a mask.")
     c.add_argument("traces", nargs="+", metavar="INPUT", help="trace file(s) or IQ recording(s); several spans are stitched, a narrower RBW wins where they overlap")
-    add_option(c, "--mask", required=True)
+    add_option(c, "--mask", detail="without it maskcheck takes the one mask that --carrier and the options below single out ('maskcheck masks which'), and refuses when the choice is ambiguous")
     add_option(c, "--carrier", required=True,
                detail="the assigned frequency, the centre of the emission (with --sideband, the suppressed carrier of an SSB emission)")
     add_option(c, "--power", detail="default: the measured channel power")
@@ -35,6 +36,7 @@ def register(sub) -> None:
     add_option(c, "--xdb", default="26dB", detail="reported beside the occupied bandwidth (default 26dB)")
     add_option(c, "--outside-bands", action="store_true", detail="the verdict is then at best incomplete")
     add_option(c, "--mask-dir", action="append", default=[])
+    add_choice_options(c.add_argument_group("choosing the mask (without --mask; see 'maskcheck masks which')"))
     add_trace_options(c)
     add_recording_options(c)
     add_option(c, "--json")
@@ -62,6 +64,7 @@ def run(args) -> int:
         from ..errors import OutputError
 
         raise OutputError("embeds the input files in the PDF report; give --report PDF too", where="--attach-inputs")
+    refuse_choice_options_with_mask(args)
     carrier = parse_frequency(args.carrier, what="--carrier")
     power = parse_power(args.power, what="--power") if args.power else None
     pep = parse_power(args.pep, what="--pep") if args.pep else None
@@ -78,7 +81,7 @@ def run(args) -> int:
     station = Station(carrier_hz=carrier, power_w=power, pep_w=pep, designator=args.designator.strip().upper() if args.designator else None,
                       sideband=getattr(args, "sideband", None), low_mod_hz=low_mod, name=args.station.strip(),
                       equipment=args.equipment.strip())
-    mask = load_mask(args.mask, extra_dirs=args.mask_dir)
+    mask, chosen = chosen_mask(args) if args.mask is None else (load_mask(args.mask, extra_dirs=args.mask_dir), "")
     from ..masks.station_values import require_in_bands
 
     require_in_bands(mask, carrier, outside_bands=args.outside_bands)  # before any input is read; check() decides again
@@ -106,6 +109,10 @@ def run(args) -> int:
     result = judge(spectrum)
     # time-resolved recordings: the worst frame is judged too (see _recording.worst_frame_check)
     result = worst_frame_check(result, got, judge)
+    if chosen:  # the mask maskcheck took without --mask: every output says so
+        import dataclasses
+
+        result.mask = dataclasses.replace(result.mask, chosen=chosen)
     attachments = None
     if args.attach_inputs:
         from ..report.attachments import input_attachments

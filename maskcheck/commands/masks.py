@@ -20,6 +20,7 @@ import sys
 from ..errors import MaskcheckError
 from ._common import Parser, console
 from ._spelling import add_option
+from .masks_which import add_which_parser
 
 __all__ = ["register", "run", "evaluated_rows", "mask_drawing"]
 
@@ -29,8 +30,8 @@ def register(sub) -> None:
     msub = m.add_subparsers(dest="masks_command", metavar="ACTION", parser_class=Parser)
     ml = msub.add_parser("list", help="the masks available")
     add_option(ml, "--mask-dir", action="append", default=[])
-    ml.add_argument("--authority", metavar="NAME", help="only masks of this authority (FCC, ITU, CEPT, ETSI, ...)")
-    ml.add_argument("--service", metavar="NAME", help="only masks of this service (amateur, land-mobile, ...)")
+    add_option(ml, "--authority", detail="only its masks")
+    add_option(ml, "--service", detail="only its masks")
     ml.add_argument("--frequency", metavar="F", help="only masks whose carrier range holds this frequency, e.g. 146MHz")
     add_option(ml, "--json", detail="the list")
     add_option(ml, "--force", action="store_true")
@@ -46,6 +47,7 @@ def register(sub) -> None:
         if name == "plot":
             add_option(sp, "--out", required=True, metavar="FILE.pdf|FILE.svg", detail="a PDF or SVG file, by the name's ending")
             add_option(sp, "--force", action="store_true")
+    add_which_parser(msub)
     mv = msub.add_parser("validate", help="check mask files and report every problem")
     mv.add_argument("files", nargs="+", metavar="FILE")
     msub.add_parser("schema", help="the JSON Schema of mask files (for editors)")
@@ -83,6 +85,10 @@ def run(args) -> int:
         if args.power is None:
             raise MaskcheckError("plotting a mask needs the station's power: give --power (e.g. --power 5W)", where="--power")
         return _plot(mask, _station(args, mask), args.out, args.force, con)
+    if cmd == "which":
+        from .masks_which import run_which
+
+        return run_which(args, con)
     if cmd == "validate":
         bad = 0
         for f in args.files:
@@ -105,8 +111,8 @@ def run(args) -> int:
         sys.stdout.write(shipped_json_schema_text())  # the versioned file the package ships
         return 0
     raise MaskcheckError(
-        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks validate FILE', 'masks audit' "
-        "or 'masks schema'",
+        "say which: 'maskcheck masks list', 'masks show ID', 'masks plot ID', 'masks which --carrier F', "
+        "'masks validate FILE', 'masks audit' or 'masks schema'",
         where="masks",
     )
 
@@ -240,14 +246,20 @@ def evaluated_rows(mask, st) -> list[dict]:
     from ..masks.evaluate import sample_points_hz
 
     rows = []
-    for lim, region in zip(_evaluate(mask, st), mask.regions):
+    by_name = {r.name: r for r in mask.regions}  # a region may be left out for this station
+    for lim in _evaluate(mask, st):
+        region = by_name[lim.name]
         formula = region.limit.description or " and ".join(
             f"{k} = {getattr(region.limit, k).text}" for k in region.limit.terms
         ) or (region.limit.bandwidth.text if region.limit.bandwidth is not None else "")
         row = {"name": lim.name, "where": lim.anchor, "formula": formula, "values": [], "detector": lim.detector,
                "bandwidth": ", ".join(sorted({format_frequency(b) for _, _, b in lim.bands})), "unevaluated": lim.unevaluated}
-        if lim.unevaluated or lim.kind == "occupied-bandwidth":
-            if lim.max_bandwidth_hz is not None:
+        if lim.unevaluated or lim.judges_bandwidth:
+            if lim.kind == "bandwidth":
+                side, width = ("at least", lim.min_bandwidth_hz) if lim.min_bandwidth_hz is not None else ("at most", lim.max_bandwidth_hz)
+                row["values"] = [(f"{lim.drop_db:g} dB bandwidth {side}", format_frequency(width))]
+                row["bandwidth"] = f"RBW at most {format_frequency(lim.max_rbw_hz)}"
+            elif lim.max_bandwidth_hz is not None:
                 row["values"] = [("occupied bandwidth at most", format_frequency(lim.max_bandwidth_hz))]
             rows.append(row)
             continue
@@ -321,7 +333,7 @@ def _curves(mask, st, n: int = 200):
 
     from ..core.units import w_to_dbm_fast
 
-    limits = [lim for lim in _evaluate(mask, st) if not lim.unevaluated and lim.kind != "occupied-bandwidth"]
+    limits = [lim for lim in _evaluate(mask, st) if not lim.unevaluated and not lim.judges_bandwidth]
     fc = st["carrier_hz"]
     offsets = any(lim.offset_band is not None for lim in limits)
     rel = mask.reference_power.kind != "none"

@@ -190,7 +190,10 @@ class MaskInfo:
     which one), the path as given for a user's file ('' for a mask built in
     memory).  ``outside_bands`` is not empty when the carrier is outside the
     mask's carrier bands and the check was asked to go on: the sentence every
-    output repeats (such a result cannot pass).
+    output repeats (such a result cannot pass).  ``chosen`` is not empty
+    when no mask was named and maskcheck took the one candidate the stated
+    facts single out (``maskcheck check`` without ``--mask``): how and why,
+    the sentence every output repeats; the JSON carries it only then.
     """
 
     id: str
@@ -215,11 +218,15 @@ class MaskInfo:
     unconfirmed: tuple[str, ...] = ()
     #: the same grouped by region, in one line ('' when every value is confirmed)
     unconfirmed_text: str = ""
+    #: why maskcheck took this mask when no --mask was given ('' when the user named it)
+    chosen: str = ""
 
     def to_dict(self) -> dict:
         d = asdict(self)
         d["sources"] = [s.to_dict() for s in self.sources]
         d["unconfirmed"] = list(self.unconfirmed)
+        if not self.chosen:
+            del d["chosen"]  # present only for a mask maskcheck chose (keeps older results byte for byte)
         return d
 
 

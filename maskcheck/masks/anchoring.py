@@ -151,6 +151,9 @@ def _absolute(region, key, fc, variables, domains, window_half_hz, window_anchor
     if region.kind == "spurious":
         excluded = ((fc - window_half_hz, fc + window_half_hz),) if window_half_hz else ()
         anchor = window_anchor
+    elif region.kind == "in-band":  # v5: the emission itself, nothing skipped
+        excluded = ()
+        anchor = "in-band: the emission itself"
     elif domains is None:
         return Missing(NEEDS["necessary"])
     else:

@@ -85,6 +85,7 @@ class _ForStation:
     window_half_hz: float
     window_anchor: str
     mask_path: str
+    mask_path_source: str = ""
 
 
 def evaluate_mask(
@@ -190,7 +191,7 @@ def _for_station(mask, power_w, pep_w, carrier_hz, window_half_hz, window_anchor
         necessary_bw_hz=None if domains is None else domains.necessary_bw_hz, authorized_bw_hz=authorized_bw_hz,
     )
     return _ForStation(float(carrier_hz), ref_w, mask.reference_power.kind, variables, domains,
-                       float(window_half_hz), str(window_anchor), mask.path)
+                       float(window_half_hz), str(window_anchor), mask.path, mask.source_path)
 
 
 def _raise_problems(label: str, problems: list[str]):
@@ -217,6 +218,8 @@ def _evaluate_region(region, key: str, st: _ForStation, problems: list[str]) -> 
     """One region for the station; None when it is left out (problems recorded, or empty as the file allows)."""
     if region.kind == "occupied-bandwidth":
         return _occupied_bandwidth_region(region, key, st, problems)
+    if region.kind == "bandwidth":
+        return _bandwidth_region(region, key, st, problems)
     limit = region.limit
     need = _missing_for_limit(limit, st.variables)
     if need:
@@ -227,6 +230,10 @@ def _evaluate_region(region, key: str, st: _ForStation, problems: list[str]) -> 
         return None
     if isinstance(placed, Missing):
         return _unevaluated(region, key, st, placed.what, placed.anchor)
+    if region.within is not None:
+        placed = _within_table(region, key, placed, st, problems)
+        if placed is None:
+            return None
     start, stop = placed.start_hz, placed.stop_hz
     bands, refuse = _reference_bands(region, key, start, stop, st.variables, problems)
     variable = _varies(limit)
@@ -270,6 +277,57 @@ def _occupied_bandwidth_region(region, key, st: _ForStation, problems) -> Region
     text = region.limit.description or f"occupied bandwidth at most {format_frequency(bw)}"
     return RegionLimits(start_hz=math.nan, stop_hz=math.nan, bands=(), limit_text=text, max_bandwidth_hz=bw,
                         anchor="occupied bandwidth", **_base(region, key, st))
+
+
+def _within_table(region, key, placed, st: _ForStation, problems):
+    """The placement narrowed to the bands of the region's band table; None when no band meets the range.
+
+    The spans between the bands are skipped (not judged, and not missing
+    data); a range that holds no band of the table has nothing to judge
+    and the region is left out for this station.
+    """
+    from .band_tables import gaps_hz, load_band_table
+
+    try:
+        table = load_band_table(region.within, st.mask_path_source)
+    except MaskError as exc:
+        problems.append(f"{key}.within: {exc.message}")
+        return None
+    start, stop = placed.start_hz, placed.stop_hz
+    if start is None or stop is None:
+        problems.append(f"{key}.within: needs a bounded range (start and stop, or an offset with 'to')")
+        return None
+    if not any(lo <= stop and hi >= start for lo, hi in table.bands_hz):
+        return None
+    gaps = gaps_hz(table, start, stop)
+    hard = placed.hard_excluded_hz if placed.hard_excluded_hz is not None else placed.excluded_hz
+    return replace(placed, excluded_hz=tuple(placed.excluded_hz) + gaps, hard_excluded_hz=tuple(hard) + gaps,
+                   anchor=f"{placed.anchor}; only inside the bands of {table.citation} (table {table.id})")
+
+
+def _bandwidth_region(region, key, st: _ForStation, problems) -> RegionLimits | None:
+    """An x-dB bandwidth at least or at most a width (v5): the width, the x and the widest RBW it may be measured with."""
+    limit = region.limit
+    (term,) = limit.terms
+    value = getattr(limit, term)
+    miss = missing_names(value, st.variables)
+    if miss:
+        return _unevaluated(region, key, st, NEEDS[miss[0]])
+    bw = evaluate_value(value, st.variables, f"{key}.limit.{term}", problems)
+    rbw = evaluate_value(region.reference_bandwidth[0].bandwidth, st.variables, f"{key}.reference_bandwidth[0].bandwidth", problems)
+    if bw is None or rbw is None:
+        return None
+    if not (bw > 0 and rbw > 0):
+        problems.append(f"{key}: the bandwidth and the widest RBW must be > 0 Hz for this station, found "
+                        f"{bw:g} Hz and {rbw:g} Hz")
+        return None
+    smallest = term == "min_bandwidth_hz"
+    text = region.limit.description or (f"{limit.drop_db:g} dB bandwidth {'at least' if smallest else 'at most'} "
+                                        f"{format_frequency(bw)} (measured with an RBW of at most {format_frequency(rbw)})")
+    return RegionLimits(start_hz=math.nan, stop_hz=math.nan, bands=(), limit_text=text,
+                        min_bandwidth_hz=bw if smallest else None, max_bandwidth_hz=None if smallest else bw,
+                        drop_db=float(limit.drop_db), max_rbw_hz=rbw, anchor="x-dB bandwidth of the emission",
+                        **_base(region, key, st))
 
 
 def _missing_for_limit(limit, variables) -> str | None:

@@ -6,7 +6,13 @@ or a field strength at a distance (µV/m, dBµV/m).  Each form is one entry of
 :data:`LIMIT_FORMS`, which says
 
 * ``key``: its key in a mask file's ``limit`` table;
-* ``kind``: ``attenuation``, ``level``, ``density`` or ``field``;
+* ``kind``: ``attenuation``, ``level``, ``density``, ``field``, ``psd`` or
+  ``bandwidth``;
+* ``measure``: what of the spectrum the value is compared with: ``level``
+  (the power in the reference bandwidth along the axis: every form but one),
+  or ``bandwidth`` (a width of the emission: ``min_bandwidth_hz`` and
+  ``max_bandwidth_hz``, the x-dB bandwidth that must be at least / at most the
+  value, 47 CFR 15.247(a)(2), 15.231(c));
 * ``family``: the value family the file gives (:mod:`maskcheck.masks.values`);
 * ``relative``: whether it is taken below the reference power (only a
   relative term can be judged on an uncalibrated, dBFS recording);
@@ -25,6 +31,11 @@ Conversions (W in the reference bandwidth B)
 * level L: W as it is, dBm ``10**((L - 30)/10)``, dBW ``10**(L/10)``; an ERP
   level is an EIRP level 2.15 dB higher (half-wave dipole gain) [3]_;
 * density D (dBm/Hz): ``D + 10 log10(B / 1 Hz)`` dBm;
+* peak power spectral density S (dBm in the reference bandwidth B, over the
+  emission itself): ``10**((S - 30)/10)``, judged as the highest power in any
+  B inside the region (47 CFR 15.247(e));
+* a minimum bandwidth is not a power: its value stays in Hz and the check
+  compares the emission's x-dB bandwidth with it;
 * field strength E at distance d: the far-field EIRP
   ``E(dBµV/m) - 104.77 + 20 log10(d / 1 m)`` dBm
   (:data:`maskcheck.core.corrections.FAR_FIELD_CONSTANT_DB`) [2]_.
@@ -53,6 +64,7 @@ __all__ = [
     "TermContext",
     "LIMIT_FORMS",
     "LIMIT_KEYS",
+    "LEVEL_FORMS",
     "FORMS",
     "DIPOLE_GAIN_DBI",
     "REFERENCE_WORDS",
@@ -109,6 +121,10 @@ class LimitForm:
     key, kind, family, unit : str
         The file's key, the kind of term, the value family, and the unit of
         the number the file gives (as words show it).
+    measure : str
+        ``"level"``: compared with the power in the reference bandwidth along
+        the axis; ``"bandwidth"``: compared with a width of the emission (the
+        value stays in Hz; :attr:`convert` is the identity).
     relative : bool
         Taken below the reference power.
     since : int
@@ -142,6 +158,7 @@ class LimitForm:
     positive_unit: str | None = None
     what: str = "absolute limit"
     description: str | None = None
+    measure: str = "level"
 
     @property
     def pointwise(self) -> bool:
@@ -215,7 +232,30 @@ LIMIT_FORMS: tuple[LimitForm, ...] = (
         words="{text} {unit}{at}", what="field-strength limit",
         description="v3: field strength limit, dBµV/m at distance_m",
     ),
+    LimitForm(
+        "psd_dbm", "psd", "power_dbm", "dBm", relative=False, since=5,
+        convert=lambda v, c: 10.0 ** ((v + c.erp_gain_db - 30.0) / 10.0),
+        words="peak power spectral density at most {text} {unit} in any reference bandwidth",
+        fixed_words="peak power spectral density at most {value} in any reference bandwidth",
+        what="peak power spectral density limit",
+        description="v5: peak power spectral density, dBm in any reference bandwidth over the emission itself "
+        "(an in-band region; 47 CFR 15.247(e))",
+    ),
+    *(
+        LimitForm(
+            key, "bandwidth", "frequency", "Hz", relative=False, since=5,
+            convert=lambda v, c: v, measure="bandwidth",
+            words=f"{{text}} {side}", positive_unit=" Hz", what=f"{word} bandwidth allowed",
+            description=f"v5: the x-dB bandwidth of the emission (x = limit.drop_db) must be {side} this "
+            f"(a bandwidth region; {rule})",
+        )
+        for key, side, word, rule in (("min_bandwidth_hz", "at least", "smallest", "47 CFR 15.247(a)(2)"),
+                                      ("max_bandwidth_hz", "at most", "widest", "47 CFR 15.231(c)"))
+    ),
 )
+
+#: The forms compared with the power in the reference bandwidth (every form but the bandwidth ones).
+LEVEL_FORMS: tuple[LimitForm, ...] = tuple(f for f in LIMIT_FORMS if f.measure == "level")
 
 #: The forms by key.
 FORMS: dict[str, LimitForm] = {f.key: f for f in LIMIT_FORMS}

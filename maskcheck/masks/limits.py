@@ -110,6 +110,9 @@ class RegionLimits:
         Notes for the result (field strength taken as EIRP, quasi-peak by peak, ...).
     mask_path : str
         The mask file, for errors found while judging.
+    min_bandwidth_hz, drop_db, max_rbw_hz : float or None
+        Bandwidth regions (v5): the smallest x-dB bandwidth allowed, Hz, its
+        x, dB, and the widest RBW it may be measured with, Hz.
     """
 
     name: str
@@ -142,6 +145,14 @@ class RegionLimits:
     refuse_narrower: bool = False
     notes: tuple[str, ...] = ()
     mask_path: str = ""
+    min_bandwidth_hz: float | None = None
+    drop_db: float | None = None
+    max_rbw_hz: float | None = None
+
+    @property
+    def judges_bandwidth(self) -> bool:
+        """True for a region that judges a width of the emission, not levels along the axis (no frequency range)."""
+        return self.kind in ("occupied-bandwidth", "bandwidth")
 
     @property
     def varies(self) -> bool:
@@ -250,6 +261,8 @@ class RegionLimits:
         region applies (:meth:`in_scope`) and is NaN elsewhere.
         """
         f = _freq_array(freq_hz)
+        if self.judges_bandwidth:  # a width of the emission, not a level along the axis: no limit anywhere
+            return np.full(f.shape, np.nan)
         if not self.varies:
             inside = (f >= self.start_hz) & (f <= self.stop_hz)
             return np.where(inside, self.constant_limit_w, np.nan)

@@ -360,15 +360,15 @@ class Mask(Table):
         value = self.fundamental.exclusion
         if value.is_constant or not value.names <= {"carrier_hz"}:
             return
-        lo, hi = self.applies.fundamental[0].constant(), self.applies.fundamental[1].constant()
-        for fc in np.geomspace(lo, hi, 65):
+        carriers = np.concatenate([np.geomspace(lo, hi, 65) for lo, hi in self.applies.carrier_bands])
+        for fc in carriers:  # every band of a v4 file (applies.bands), not only applies.fundamental
             try:
                 v = float(value.evaluate({"carrier_hz": float(fc)}))
             except (ValueError, ArithmeticError):
                 continue  # the check names the failure of the expression itself
             if not (np.isfinite(v) and v >= 0):
                 raise problem(f"fundamental.exclusion: is {v:g} Hz for a carrier of {format_frequency(float(fc))}; "
-                              "expected a half-width >= 0 across applies.fundamental")
+                              "expected a half-width >= 0 across the carrier range")
 
     @field_validator("regions")
     @classmethod

@@ -16,7 +16,7 @@ from pydantic import ConfigDict, Field, StrictBool, create_model, field_validato
 
 from ..core.units import format_frequency
 from ._table import Table, problem, span_text
-from .limit_forms import LIMIT_FORMS, LIMIT_KEYS, forms_of
+from .limit_forms import FORMS, LIMIT_FORMS, LIMIT_KEYS, forms_of
 from .values import LIMIT_VARIABLES, Frequency, Text, Value, value_type
 
 __all__ = [
@@ -30,8 +30,8 @@ __all__ = [
     "Region",
 ]
 
-#: Region kinds (``out-of-band`` and ``occupied-bandwidth`` from v2).
-REGION_KINDS: tuple[str, ...] = ("spurious", "out-of-band", "occupied-bandwidth")
+#: Region kinds (``out-of-band`` and ``occupied-bandwidth`` from v2; ``in-band`` and ``bandwidth`` from v5).
+REGION_KINDS: tuple[str, ...] = ("spurious", "out-of-band", "occupied-bandwidth", "in-band", "bandwidth")
 
 #: What a region may be anchored on (v2): a domain of the emission.
 DOMAIN_ANCHORS: tuple[str, ...] = ("spurious", "out-of-band", "necessary")
@@ -153,6 +153,9 @@ class Limit(_LimitTerms):
     bandwidth: Frequency | None = Field(
         None, description="occupied-bandwidth regions (v2): the widest occupied bandwidth allowed"
     )
+    drop_db: float | None = Field(
+        None, description="v5: with min_bandwidth_hz, the x of the x-dB bandwidth, dB below the highest reading (6 for 47 CFR 15.247(a)(2))"
+    )
     description: str | None = Field(None, description="how a report words the limit")
 
     @property
@@ -171,6 +174,14 @@ class Limit(_LimitTerms):
             return self
         if not terms:
             raise problem("give attenuation_db, level_w or level_dbm (none found)")
+        width_terms = [t for t in terms if FORMS[t].measure == "bandwidth"]
+        if bool(width_terms) != (self.drop_db is not None):
+            raise problem("min_bandwidth_hz or max_bandwidth_hz (an x-dB bandwidth) needs drop_db (the x, dB), and drop_db needs one")
+        if self.drop_db is not None and not (np.isfinite(self.drop_db) and self.drop_db > 0):
+            raise problem(f"drop_db must be > 0 dB, found {self.drop_db!r}")
+        for alone in ("min_bandwidth_hz", "max_bandwidth_hz", "psd_dbm"):
+            if alone in terms and len(terms) > 1:
+                raise problem(f"{alone} goes alone in its limit (found also {', '.join(t for t in terms if t != alone)})")
         _one_of(self, "level", lambda keys, given: f"give one of {', '.join(keys)}, not {' and '.join(given)}")
         _one_of(self, "field", lambda keys, given: f"give {' or '.join(keys)}, not both")
         field = any(getattr(self, f.key) is not None for f in forms_of("field"))
@@ -210,7 +221,10 @@ class Region(Table):
     """A frequency range with one limit, detector and reference bandwidths."""
 
     name: Text
-    kind: Literal["spurious", "out-of-band", "occupied-bandwidth"]
+    kind: Literal["spurious", "out-of-band", "occupied-bandwidth", "in-band", "bandwidth"] = Field(
+        description="what the region judges; v5 adds 'in-band' (the emission itself, nothing skipped) and 'bandwidth' "
+        "(a smallest x-dB bandwidth)"
+    )
     domain: Literal["spurious", "out-of-band", "necessary"] | None = Field(
         None, description="v2: anchor the region on a domain of the emission"
     )
@@ -225,16 +239,36 @@ class Region(Table):
     detector: Literal["rms", "average", "peak", "quasi-peak", "any"] | None = Field(
         None, description="what the rule calls for; 'quasi-peak' (v3) is judged on a peak trace (conservative)"
     )
+    within: Text | None = Field(
+        None, description="v5: the region applies only inside the bands of this band table (masks/tables/<name>.toml), "
+        "e.g. 'us-15205-restricted-bands'"
+    )
     limit: Limit
     reference_bandwidth: tuple[ReferenceBand, ...] = ()
 
     @model_validator(mode="after")
     def _shape(self):
         where = (self.start is not None) + (self.stop is not None)
+        bandwidth_term = any(FORMS[t].measure == "bandwidth" for t in self.limit.terms)
+        if self.kind == "bandwidth":
+            if not bandwidth_term:
+                raise problem("a bandwidth region needs limit.min_bandwidth_hz or limit.max_bandwidth_hz, and limit.drop_db")
+            if where or self.domain or self.offset or self.within or self.detector:
+                raise problem("a bandwidth region takes only name, kind, limit and reference_bandwidth (the widest RBW allowed)")
+            if len(self.reference_bandwidth) != 1 or not self.reference_bandwidth[0].whole_region:
+                raise problem("a bandwidth region needs one reference_bandwidth without start/stop: the widest "
+                              "resolution bandwidth the width may be measured with")
+            return self
+        if bandwidth_term:
+            raise problem(f"min_bandwidth_hz and max_bandwidth_hz belong to bandwidth regions, not to kind {self.kind!r}")
+        if "psd_dbm" in self.limit.terms and self.kind != "in-band":
+            raise problem(f"psd_dbm (a peak power spectral density over the emission) belongs to in-band regions, not to kind {self.kind!r}")
+        if self.kind == "in-band" and self.domain is not None:
+            raise problem("an in-band region is given by start/stop or by an offset, not by a domain")
         if self.kind == "occupied-bandwidth":
             if self.limit.bandwidth is None:
                 raise problem("an occupied-bandwidth region needs limit.bandwidth (the widest bandwidth allowed)")
-            if where or self.domain or self.offset or self.reference_bandwidth:
+            if where or self.domain or self.offset or self.reference_bandwidth or self.within:
                 raise problem("an occupied-bandwidth region takes only name, kind and limit.bandwidth")
             return self
         if self.limit.bandwidth is not None:

@@ -5,7 +5,7 @@ with :class:`Mask`.  Every table forbids unknown keys, so a misspelt key is an
 error, not a silently ignored line.  The prose description for people who
 write masks is ``docs/mask-format.md``; :func:`mask_json_schema` gives the same
 structure as JSON Schema, and the package ships it as a versioned file
-(:func:`shipped_json_schema`, ``maskcheck/schema/mask-schema-v5.json``; the v4 file stays beside it).
+(:func:`shipped_json_schema`, ``maskcheck/schema/mask-schema-v<N>.json``, N = MASK_SCHEMA_VERSION).
 
 This module is the public entry of the format; the parts live in
 

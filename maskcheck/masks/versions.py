@@ -103,6 +103,7 @@ def _bands_v3(region) -> list[str]:
 
 
 _LIMIT_KEYS_V3 = tuple(f.key for f in LIMIT_FORMS if f.since == 3) + ("distance_m", "quantity", "combine")
+_LIMIT_KEYS_V5 = tuple(f.key for f in LIMIT_FORMS if f.since == 5) + ("drop_db",)
 
 #: Every feature introduced after version 1, in the order a message lists them.
 INTRODUCED: tuple[Introduced, ...] = (
@@ -131,6 +132,11 @@ INTRODUCED: tuple[Introduced, ...] = (
     Introduced(3, "region", "reference bandwidths for the whole region, narrower_rbw", _bands_v3),
     Introduced(3, "region", "the v3 variables (power_dbw, freq_hz, fd_*)",
                lambda r: _uses_names(_early_limit_values(r, 3) + _range(r), names_since(3))),
+    Introduced(5, "region", "region kinds in-band and bandwidth",
+               lambda r: [f"kind = {r.kind!r}"] if r.kind in ("in-band", "bandwidth") else []),
+    Introduced(5, "region", "regions inside the bands of a band table (within)", lambda r: _given(r, ("within",))),
+    Introduced(5, "region", "the v5 limit forms (peak PSD, smallest bandwidth) and drop_db",
+               lambda r: _given(r.limit, _LIMIT_KEYS_V5, "limit.")),
 )
 
 

@@ -130,6 +130,7 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
         ("Rule (citation)", m.citation),
         ("Authority", m.authority),
         ("Mask", f"{m.id}: {m.title}" if m.title else m.id),
+        *([("Chosen by maskcheck", m.chosen)] if m.chosen else []),
         ("Rule data", f"{m.grade}: {m.grade_summary}" if m.grade_summary else (m.grade_text or m.grade)),
         ("Texts read", "; ".join(f"{s.source} ({s.kind}: {s.edition})" for s in m.sources if s.kind != "memory")
          or "none: every value rests on memory"),
@@ -181,7 +182,7 @@ def margins_section(x: Parts, result: CheckResult) -> list:
     for i, r in enumerate(result.regions, 1):
         name = r.name if not r.kind or r.kind == r.name else f"{r.name} ({r.kind})"
         level = DASH if r.worst_level_dbm is None else f"{fmt_dbm(r.worst_level_dbm)} / {fmt_dbm(r.worst_limit_dbm)}"
-        if r.kind == "occupied-bandwidth":
+        if r.kind in ("occupied-bandwidth", "bandwidth"):
             level = DASH if r.measured_bandwidth_hz is None else f"{format_frequency(r.measured_bandwidth_hz)} / {format_frequency(r.limit_bandwidth_hz)}"
         rows.append((str(i), name, fmt_range(r.start_hz, r.stop_hz), f"{_ref_bw_text(r)}, {r.detector_required}", r.verdict.upper(),
                      fmt_db(r.worst_margin_db), DASH if r.worst_freq_hz is None else format_frequency(r.worst_freq_hz, 7), level))

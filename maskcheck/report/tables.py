@@ -357,8 +357,12 @@ def region_notes(result: CheckResult) -> list[str]:
             notes.append(f"[{i}] {r.name}: {reason}")
         for a, b in r.uncovered_hz:
             notes.append(f"[{i}] {r.name}: no data over {fmt_range(a, b)}")
-        for a, b in r.excluded_hz:
+        shown = r.excluded_hz if len(r.excluded_hz) <= 4 else r.excluded_hz[:3]
+        for a, b in shown:
             notes.append(f"[{i}] {r.name}: excluded from the check over {fmt_range(a, b)}")
+        if len(shown) < len(r.excluded_hz):  # the spans between the bands of a band table (within)
+            notes.append(f"[{i}] {r.name}: and {len(r.excluded_hz) - len(shown)} more spans excluded from the check "
+                         f"({r.anchor or 'see the JSON for each'})")
         if len(r.reference_bandwidths) > 1:
             bands = "; ".join(f"{format_frequency(w)} over {fmt_range(a, b)}" for a, b, w in r.reference_bandwidths)
             notes.append(f"[{i}] {r.name}: reference bandwidth {bands}")

@@ -100,6 +100,8 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     console.print(verdict)
     if mask.outside_bands:  # a check asked for outside the rule's bands (--outside-bands) cannot pass
         console.print(Text(f"!! {mask.outside_bands}", style="bold red"))
+    if mask.chosen:  # no --mask: the mask maskcheck took, and why
+        console.print(Text(f"Mask chosen by maskcheck: {mask.chosen}", style="bold"))
     weak = weak_pass_note(result)
     if weak:
         console.print(Text(f"!! {weak}", style="bold yellow"))
