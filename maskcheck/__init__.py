@@ -30,6 +30,8 @@ Public names
 ``StationError``          station data that is missing or impossible
 ``OutputError``           an output file that cannot or must not be written
 ``ScenarioError``         a malformed or impossible simulation scenario file
+``CampaignError``         a malformed campaign file (``.problems``, every one at once)
+``run_campaign(c, out)``  run a campaign (a file or Python entries) -> its matrix
 ========================  ==========================================================
 
 Names are loaded on first use, so ``maskcheck --version`` starts without
@@ -81,6 +83,8 @@ __all__ = [
     "StationError",
     "OutputError",
     "ScenarioError",
+    "CampaignError",
+    "run_campaign",
 ]
 
 _LAZY = {
@@ -94,6 +98,7 @@ _LAZY = {
     "stitch": "maskcheck.core.spectrum",
     "occupied_bandwidth": "maskcheck.core.bandwidth",
     "xdb_bandwidth": "maskcheck.core.bandwidth",
+    "run_campaign": "maskcheck.campaign.runner",
     **{name: "maskcheck.errors" for name in __all__ if name.endswith("Error")},
 }
 

@@ -36,6 +36,7 @@ __all__ = [
     "StationError",
     "OutputError",
     "ScenarioError",
+    "CampaignError",
 ]
 
 
@@ -150,6 +151,18 @@ class ScenarioError(MaskcheckError, ValueError):
 
     ``problems`` holds every problem found, each as ``"key.path: message"``
     (all are reported at once); the message joins them on one line.
+    """
+
+    def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
+        super().__init__(message, path=path, where=where, param=param)
+        self.problems = list(problems) if problems else [message]
+
+
+class CampaignError(MaskcheckError, ValueError):
+    """A malformed campaign file (a programme of many checks), or one whose entries cannot be set up.
+
+    ``problems`` holds every problem found, each as ``"key.path: message"``
+    (all are reported at once, nothing is run); the message joins them on one line.
     """
 
     def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
