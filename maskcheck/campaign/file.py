@@ -215,6 +215,10 @@ def _expand_matrix(i: int, m, raw_axes: dict, defaults: dict, add, problems: lis
         if v is not None:
             patterns[k] = (v, f"{where}.{k}")
     ok = True
+    for layer in [_layer(m, where), *(lay for got in axes.values() for _, lay in got)]:
+        for key, (v, w) in layer.items():  # each value read once here, so a pattern's fault hides none of them
+            if key in SETTING_KINDS:
+                _quantity(key, v, w, problems)
     for k, (v, w) in patterns.items():
         for pat in (v if isinstance(v, list) else [v]):
             ok = _fields(pat, w, list(axes), problems) and ok
