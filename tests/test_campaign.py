@@ -335,3 +335,23 @@ def test_compare_two_campaign_folders(tmp_path, capsys):
     d = json.loads((tmp_path / "c.json").read_text())
     status = {e["entry"]: e["status"] for e in d["entries"]}
     assert rc == 1 and status == {"e0": "unchanged", "e1": "verdict changed"}
+
+
+def test_the_example_campaigns_are_invented_and_run():
+    from pathlib import Path
+
+    from maskcheck.campaign.file import load_campaign
+
+    folder = Path(__file__).resolve().parent.parent / "examples" / "campaigns"
+    files = sorted(folder.glob("*.toml"))
+    assert len(files) >= 2
+    for f in files:
+        assert "INVENTED" in f.read_text()
+        c = load_campaign(f)
+        assert "(invented)" in c.name and c.entries
+    bench = load_campaign(folder / "bench7-transmitters.toml")
+    matrix = run_campaign(bench, workers=0, write_files=False)
+    rows = {r.name: r for r in matrix.rows}
+    # the overdriven-amplifier example is written to fail its rule (its file says so)
+    assert rows["overdriven-amplifier"].verdict == "fail" and matrix.exit_code == 1
+    assert rows["ssb-filter-exciter"].worst_margin_db == rows["ssb-filter-exciter-guard-3dB"].worst_margin_db

@@ -176,7 +176,7 @@ def judge(entry: Entry) -> Judged:
                           designator=designator.strip().upper() if designator else None,
                           name=f"simulated: {sc.name}", notes=("simulated scenario, not a measurement",))
         spectrum, setup = sim.wideband.spectrum, None
-        guard = entry.guard_db if entry.guard_db else (sc.check.guard or 0.0)
+        guard = entry.guard_db if entry.guard_db is not None else (sc.check.guard or 0.0)
     else:
         mask = _mask(entry.mask, entry.mask_dirs)
         spectrum, inputs = _read_traces(entry) if entry.traces else _read_recordings(entry, mask)
@@ -189,7 +189,7 @@ def judge(entry: Entry) -> Judged:
                 inputs = [*inputs, InputFile(setup.path, setup.sha256)]
         station = Station(carrier_hz=entry.carrier_hz, power_w=entry.power_w, pep_w=entry.pep_w,
                           designator=entry.designator, sideband=entry.sideband, name=entry.name)
-        designator, guard = entry.designator, entry.guard_db
+        designator, guard = entry.designator, entry.guard_db or 0.0
     if entry.necessary_bw == "measured":
         necessary = "measured"
     else:

@@ -33,7 +33,7 @@ class Entry:
     carrier_hz, power_w, pep_w : float, optional
         The station (a scenario gives its own carrier and powers).
     guard_db, list_within_db, xdb_db, power_tolerance_db, exclude_hz
-        As the options of ``maskcheck check`` of the same names.
+        As the options of ``maskcheck check`` of the same names (``guard_db`` None: 0 dB, or a scenario's own).
     authorized_bw, necessary_bw : float or str, optional
         Hz, or ``"necessary"`` / ``"measured"``.
     rbw_hz, detector, freq_unit, level_unit : optional
@@ -61,7 +61,7 @@ class Entry:
     pep_w: float | None = None
     designator: str | None = None
     sideband: str | None = None
-    guard_db: float = 0.0
+    guard_db: float | None = None
     list_within_db: float = 20.0
     xdb_db: float = 26.0
     power_tolerance_db: float | None = None

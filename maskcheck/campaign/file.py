@@ -323,7 +323,7 @@ def _resolve(name, where, merged: dict, inputs: dict, base: Path, values, proble
         pep_w=kw.get("pep"),
         designator=kw["designator"].strip().upper() if kw.get("designator") else None,
         sideband=kw.get("sideband"),
-        guard_db=kw.get("guard", 0.0) if kw.get("guard") is not None else 0.0,
+        guard_db=kw.get("guard"),
         list_within_db=kw["list_within"] if kw.get("list_within") is not None else 20.0,
         xdb_db=kw["xdb"] if kw.get("xdb") is not None else 26.0,
         power_tolerance_db=kw.get("power_tolerance"),

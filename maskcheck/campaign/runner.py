@@ -61,11 +61,18 @@ def resume_key(entry: Entry) -> str:
     from .engine import _mask
 
     mask_sha = ""
-    if entry.mask:
-        try:
-            mask_sha = _mask(entry.mask, entry.mask_dirs).sha256
-        except MaskcheckError as exc:
-            mask_sha = f"unloadable: {exc}"
+    ref = entry.mask
+    try:
+        if not ref and isinstance(entry.scenario, str):  # the mask the scenario's [check] table names
+            from ..sim.scenario import load_scenario
+
+            ref = load_scenario(entry.scenario)[0].check.mask
+        elif not ref and entry.scenario is not None:
+            ref = entry.scenario.check.mask
+        if ref:
+            mask_sha = _mask(ref, entry.mask_dirs).sha256
+    except MaskcheckError as exc:
+        mask_sha = f"unloadable: {exc}"
     doc = {"entry": entry.identity(), "files": {p: _file_digest(p) for p in entry.input_paths()},
            "mask_sha256": mask_sha, "tool_version": _version.__version__}
     return hashlib.sha256(json.dumps(doc, sort_keys=True, default=str).encode()).hexdigest()

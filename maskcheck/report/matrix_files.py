@@ -74,7 +74,7 @@ def matrix_rows(matrix: CampaignMatrix, rows=None, *, messages: bool = True, kin
         out.append((
             r.name, r.verdict.upper(), fmt_db(r.worst_margin_db),
             DASH if r.worst_freq_hz is None else format_frequency(r.worst_freq_hz), r.worst_region or DASH,
-            DASH if r.occupied_bw_hz is None else format_frequency(r.occupied_bw_hz), power,
+            DASH if r.occupied_bw_hz is None else format_frequency(r.occupied_bw_hz, digits=4), power,
             f"{r.mask_id} ({r.grade})",
         ))
     return out
