@@ -355,3 +355,12 @@ def test_the_example_campaigns_are_invented_and_run():
     # the overdriven-amplifier example is written to fail its rule (its file says so)
     assert rows["overdriven-amplifier"].verdict == "fail" and matrix.exit_code == 1
     assert rows["ssb-filter-exciter"].worst_margin_db == rows["ssb-filter-exciter-guard-3dB"].worst_margin_db
+
+
+def test_the_campaign_package_table_names_its_exports():
+    # Common practice, no published source: the package docstring lists exactly what it exports
+    import maskcheck.campaign as pkg
+
+    documented = [line.split("``")[1].split("(")[0] for line in pkg.__doc__.splitlines() if line.startswith("``")]
+    assert documented == list(pkg.__all__)
+    assert all(getattr(pkg, n) is not None for n in pkg.__all__)

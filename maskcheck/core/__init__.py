@@ -23,6 +23,8 @@ names are re-exported by :mod:`maskcheck`.
 ``corrections``       setup corrections, field strength <-> EIRP
 ``twotone``           the two-tone test: PEP, mean power, products
 ``uncertainty``       the guard band and the decision rule
+``matrix``            the matrix of a campaign: one row per entry (plain data)
+``compare``           what changed between two results: margins, emissions, verdicts
 ====================  ==============================================================
 """
 
