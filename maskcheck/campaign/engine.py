@@ -272,13 +272,20 @@ def _task(args) -> Outcome:
     return run_entry(*args)
 
 
+#: modules a worker needs for every entry, imported once in the fork server (and again, cheaply, per worker)
+PRELOAD = ("maskcheck.campaign.engine", "maskcheck.checking", "maskcheck.masks.library", "maskcheck.io.trace_text",
+           "maskcheck.io.setup", "maskcheck.report.tables", "maskcheck.report.pdf", "maskcheck.report.margins_csv",
+           "maskcheck.io.trace_write", "maskcheck.campaign.outputs")
+
+
 def _init_worker() -> None:
-    """A local worker ignores Ctrl-C (the parent decides) and loads the check once."""
+    """A local worker ignores Ctrl-C (the parent decides) and has the check loaded before its first entry."""
+    import importlib
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
-    import maskcheck.checking  # noqa: F401
-    import maskcheck.report.pdf  # noqa: F401
+    for name in PRELOAD:
+        importlib.import_module(name)
 
 
 def run_entries(entries, *, workers: int | None = None, scheduler: str | None = None, keep_results: bool = True,
@@ -332,8 +339,10 @@ def _run_local(tasks, workers: int, done) -> None:
     import multiprocessing
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
+    # the fork server imports the check, the readers and the renderers once; every worker forks from it with them
+    # loaded, so a pool of N workers costs one import, not N (and none per entry)
     ctx = multiprocessing.get_context("forkserver")
-    ctx.set_forkserver_preload(["maskcheck.campaign.engine"])
+    ctx.set_forkserver_preload(list(PRELOAD))
     pool = ProcessPoolExecutor(max_workers=min(workers, len(tasks)) or 1, mp_context=ctx, initializer=_init_worker)
     pending = set()
     it = iter(tasks)
