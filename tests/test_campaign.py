@@ -249,7 +249,7 @@ def test_ctrl_c_keeps_finished_entries_and_exits_130(tmp_path, monkeypatch, caps
 
     monkeypatch.setattr(engine, "judge", interrupted)
     rc = main(["campaign", str(tmp_path / "c.toml"), "--out", str(tmp_path / "out"), "--workers", "0", "--quiet"])
-    assert rc == 130 and "interrupted; 1 finished entry is kept" in capsys.readouterr().err
+    assert rc == 130 and "interrupted; 1 of 3 entries are finished and kept" in capsys.readouterr().err
     assert (tmp_path / "out" / "entries" / "e0" / "state.json").exists()
     assert not (tmp_path / "out" / "entries" / "e1").exists() and not (tmp_path / "out" / "matrix.json").exists()
     monkeypatch.setattr(engine, "judge", real)
@@ -364,3 +364,22 @@ def test_the_campaign_package_table_names_its_exports():
     documented = [line.split("``")[1].split("(")[0] for line in pkg.__doc__.splitlines() if line.startswith("``")]
     assert documented == list(pkg.__all__)
     assert all(getattr(pkg, n) is not None for n in pkg.__all__)
+
+
+def test_an_interrupt_ends_the_local_workers_and_keeps_what_finished(tmp_path):
+    import multiprocessing
+
+    entries, out = _entries(tmp_path, 4), tmp_path / "out"
+
+    def stop(outcome):
+        raise KeyboardInterrupt  # as Ctrl-C arriving while the first entry comes back
+
+    with pytest.raises(KeyboardInterrupt):
+        run_campaign(entries, out, workers=2, on_outcome=stop)
+    assert multiprocessing.active_children() == []  # no worker left running
+    names = {p.name for p in (out / "entries").iterdir()}
+    assert names and all(not n.startswith(".") for n in names)  # no staging folder left behind
+    assert all((out / "entries" / n / "state.json").exists() for n in names)
+    ran = []
+    run_campaign(entries, out, workers=0, on_outcome=lambda o: ran.append((o.name, o.ran)))
+    assert [n for n, r in ran if not r] == sorted(names)  # the finished ones are not run again

@@ -273,7 +273,7 @@ def _task(args) -> Outcome:
 
 
 #: modules a worker needs for every entry, imported once in the fork server (and again, cheaply, per worker)
-PRELOAD = ("maskcheck.campaign.engine", "maskcheck.checking", "maskcheck.masks.library", "maskcheck.io.trace_text",
+PRELOAD = ("maskcheck.campaign._calm", "maskcheck.campaign.engine", "maskcheck.checking", "maskcheck.masks.library", "maskcheck.io.trace_text",
            "maskcheck.io.setup", "maskcheck.report.tables", "maskcheck.report.pdf", "maskcheck.report.margins_csv",
            "maskcheck.io.trace_write", "maskcheck.campaign.outputs")
 
@@ -335,33 +335,50 @@ def _in_process(task) -> Outcome:
 
 
 def _run_local(tasks, workers: int, done) -> None:
-    """Local worker processes, at most a few entries ahead of the results (memory stays flat)."""
+    """Local worker processes, at most a few entries ahead of the results (memory stays flat).
+
+    Ctrl-C stops at once: no new entry starts, the workers are ended, the
+    entries already finished stay on disk and an entry cut short leaves only
+    a staging folder that the next run removes.
+    """
     import multiprocessing
-    from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
+    import queue
 
     # the fork server imports the check, the readers and the renderers once; every worker forks from it with them
     # loaded, so a pool of N workers costs one import, not N (and none per entry)
     ctx = multiprocessing.get_context("forkserver")
     ctx.set_forkserver_preload(list(PRELOAD))
-    pool = ProcessPoolExecutor(max_workers=min(workers, len(tasks)) or 1, mp_context=ctx, initializer=_init_worker)
-    pending = set()
-    it = iter(tasks)
-    window = 2 * workers
+    n = max(1, min(workers, len(tasks)))
+    results: queue.Queue = queue.Queue()
+    pool = ctx.Pool(n, initializer=_init_worker)
     try:
+        it = iter(tasks)
+        in_flight = 0
         for t in it:
-            pending.add(pool.submit(_task, t))
-            if len(pending) >= window:
-                finished, pending = wait(pending, return_when=FIRST_COMPLETED)
-                for f in finished:
-                    done(f.result())
-        while pending:
-            finished, pending = wait(pending, return_when=FIRST_COMPLETED)
-            for f in finished:
-                done(f.result())
+            pool.apply_async(_task, (t,), callback=results.put, error_callback=results.put)
+            in_flight += 1
+            if in_flight >= 2 * n:
+                done(_next(results))
+                in_flight -= 1
+        for _ in range(in_flight):
+            done(_next(results))
     except BaseException:
-        # Ctrl-C (or a failure of the pool itself): nothing new starts; entries already running finish and are kept
-        for f in pending:
-            f.cancel()
-        pool.shutdown(wait=True, cancel_futures=True)
+        pool.terminate()
+        pool.join()
         raise
-    pool.shutdown(wait=True)
+    pool.close()
+    pool.join()
+
+
+def _next(results) -> Outcome:
+    """The next outcome a worker sends back (a short wait at a time, so Ctrl-C is seen at once)."""
+    import queue
+
+    while True:
+        try:
+            got = results.get(timeout=0.2)
+        except queue.Empty:
+            continue
+        if isinstance(got, BaseException):  # the pool itself failed (an entry's own errors are error rows)
+            raise got
+        return got

@@ -27,7 +27,7 @@ from .engine import STATE_FILE, Outcome, run_entries
 from .entry import Entry
 from .file import Campaign, load_campaign
 
-__all__ = ["run_campaign", "resume_key", "as_campaign", "WORST_SHOWN"]
+__all__ = ["run_campaign", "resume_key", "as_campaign", "finished_entries", "WORST_SHOWN"]
 
 #: how many of the worst entries campaign.pdf shows with their spectra
 WORST_SHOWN = 3
@@ -91,6 +91,11 @@ def _kept(out: Path, entry: Entry, key: str) -> MatrixRow | None:
     if not all((out / p).exists() for p in row.outputs):
         return None
     return row
+
+
+def finished_entries(c: Campaign, out) -> int:
+    """How many of the campaign's entries have a whole folder in ``out`` (finished now or in an earlier run)."""
+    return sum((Path(out) / "entries" / e.name / STATE_FILE).exists() for e in c.entries)
 
 
 def _clean_partials(out: Path) -> None:
@@ -159,8 +164,13 @@ def run_campaign(campaign, out=None, *, workers: int | None = None, scheduler: s
         if on_outcome is not None:
             on_outcome(o)
 
-    run_entries(todo, workers=workers, scheduler=scheduler, keep_results=False, out_dir=outp, keys=keys,
-                writer=write_entry_files if write_files else None, on_outcome=done)
+    try:
+        run_entries(todo, workers=workers, scheduler=scheduler, keep_results=False, out_dir=outp, keys=keys,
+                    writer=write_entry_files if write_files else None, on_outcome=done)
+    except KeyboardInterrupt:
+        if outp is not None:
+            _clean_partials(outp)  # the entries cut short; those finished are whole and stay
+        raise
     matrix = _matrix(c, [rows[e.name] for e in c.entries])
     if outp is not None and write_files:
         write_matrix_files(matrix, c, outp)

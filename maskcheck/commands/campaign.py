@@ -76,11 +76,14 @@ def run(args) -> int:
         matrix = run_campaign(campaign, out, workers=args.workers, scheduler=args.scheduler, rerun=args.rerun,
                               on_outcome=bar)
     except KeyboardInterrupt:
+        from ..campaign.runner import finished_entries
+
         bar.close()
+        kept = finished_entries(campaign, out)
         console(stderr=True).print(
-            f"maskcheck: interrupted; {bar.done} finished entr{'y is' if bar.done == 1 else 'ies are'} kept in "
+            f"maskcheck: interrupted; {kept} of {len(campaign.entries)} entries are finished and kept in "
             f"{out / 'entries'}; the matrix was not written. Run the same command again to do the rest "
-            "(finished entries are not run again).", markup=False, highlight=False)
+            "(finished entries are not run again).", markup=False, highlight=False, soft_wrap=True)
         return 130
     bar.close()
     if not args.quiet:
