@@ -383,3 +383,44 @@ def test_an_interrupt_ends_the_local_workers_and_keeps_what_finished(tmp_path):
     ran = []
     run_campaign(entries, out, workers=0, on_outcome=lambda o: ran.append((o.name, o.ran)))
     assert [n for n, r in ran if not r] == sorted(names)  # the finished ones are not run again
+
+
+def test_settings_an_input_cannot_honour_are_refused():
+    # Common practice, no published source: a setting is refused where it cannot act, never ignored
+    with pytest.raises(CampaignError) as e:
+        parse_campaign("""campaign_version = 1
+name = "r"
+[[entry]]
+name = "sim"
+scenario = "s.toml"
+sideband = "upper"
+[[entry]]
+name = "tr"
+traces = ["t.txt"]
+mask = "us-amateur-hf-2003"
+carrier = "7.1 MHz"
+full_scale = "0 dBm"
+[[entry]]
+name = "rec"
+recordings = ["r.sigmf-meta"]
+mask = "us-amateur-hf-2003"
+carrier = "7.1 MHz"
+detector = "peak"
+""")
+    text = "; ".join(e.value.problems)
+    assert "entry[0].sideband: a scenario states its own" in text
+    assert "entry[1].full_scale: calibrates IQ recordings" in text
+    assert "entry[2].detector: describes trace files" in text
+
+
+def test_compare_says_when_the_rules_differ(tmp_path):
+    from maskcheck.core.compare import compare_results, digest_from_json
+
+    t = _trace(tmp_path / "t.txt", -5.0)
+    args = ["--carrier", "7.1MHz", "--power", "100W", "--quiet"]
+    main(["check", str(t), "--mask", "us-amateur-hf-2003", *args, "--json", str(tmp_path / "a.json")])
+    main(["check", str(t), "--mask", "us-amateur-hf-pre-2003", *args, "--json", str(tmp_path / "b.json")])
+    a, b = (digest_from_json(json.loads((tmp_path / f"{n}.json").read_text()), n) for n in "ab")
+    c = compare_results(a, b)
+    assert not c.same_rule and c.changed
+    assert compare_results(a, a).same_rule and not compare_results(a, a).changed  # negative control

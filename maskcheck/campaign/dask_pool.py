@@ -25,7 +25,7 @@ def _client(scheduler: str, workers: int | None):
 
     if scheduler == "local":
         cluster = distributed.LocalCluster(n_workers=workers or 2, threads_per_worker=1, processes=True,
-                                           dashboard_address=None, silence_logs=logging.ERROR)
+                                           dashboard_address=None, silence_logs=logging.CRITICAL)
         return distributed.Client(cluster), cluster, (workers or 2)
     try:
         client = distributed.Client(scheduler, timeout="10s")

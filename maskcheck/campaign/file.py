@@ -296,12 +296,12 @@ def _resolve(name, where, merged: dict, inputs: dict, base: Path, values, proble
         for key in ("detector", "freq_unit", "level_unit"):
             if key in merged:
                 problems.append(f"{merged[key][1]}: describes trace files; this entry has {kind}, which say it themselves")
-    if kind == "traces" and "full_scale" in merged:
-        problems.append(f"{merged['full_scale'][1]}: calibrates IQ recordings; this entry has trace files")
-    if kind == "scenario" and any(k in merged for k in ("carrier", "power", "pep", "rbw", "setup", "attenuator")):
-        k = next(k for k in ("carrier", "power", "pep", "rbw", "setup", "attenuator") if k in merged)
-        problems.append(f"{merged[k][1]}: a scenario states its own carrier, powers, RBW and chain; "
-                        "give it in the scenario file")
+    if kind != "recordings" and "full_scale" in merged:
+        problems.append(f"{merged['full_scale'][1]}: calibrates IQ recordings; this entry has {kind}")
+    for k in ("carrier", "power", "pep", "rbw", "setup", "attenuator", "sideband"):
+        if kind == "scenario" and k in merged:  # refused, never ignored: the simulation decides these itself
+            problems.append(f"{merged[k][1]}: a scenario states its own carrier, sideband, powers, RBW and chain; "
+                            "give it in the scenario file")
     if len(problems) > n_before:
         return None
     mask = kw.get("mask")

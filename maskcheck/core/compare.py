@@ -37,6 +37,8 @@ class ResultDigest:
     #: (region, frequency Hz, level dBm, margin dB)
     emissions: tuple[tuple[str, float, float, float], ...]
     rbw_hz: float = 0.0
+    #: the rule the result was judged against (its mask id)
+    mask_id: str = ""
     #: the spectrum as judged, (frequency Hz, level dBm) arrays, when it could be found
     spectrum: tuple | None = field(default=None, repr=False)
 
@@ -47,7 +49,7 @@ def digest_from_json(d: dict, label: str, spectrum=None) -> ResultDigest:
     emissions = tuple((e.get("region", ""), float(e["freq_hz"]), float(e["level_dbm"]), float(e["margin_db"]))
                       for e in d.get("emissions", ()))
     rbw = float((d.get("spectrum") or {}).get("rbw_hz_max") or 0.0)
-    return ResultDigest(label, d["verdict"], regions, emissions, rbw, spectrum)
+    return ResultDigest(label, d["verdict"], regions, emissions, rbw, str((d.get("mask") or {}).get("id", "")), spectrum)
 
 
 @dataclass(frozen=True)
@@ -122,14 +124,20 @@ class Comparison:
         return self.before.verdict != self.after.verdict
 
     @property
+    def same_rule(self) -> bool:
+        """Whether both results were judged against the same mask (else their margins are not like for like)."""
+        return self.before.mask_id == self.after.mask_id
+
+    @property
     def changed(self) -> bool:
         """Whether anything differs: a verdict, a region, a margin, an emission."""
-        return (self.verdict_changed or any(r.status != "unchanged" for r in self.regions)
+        return (self.verdict_changed or not self.same_rule or any(r.status != "unchanged" for r in self.regions)
                 or any(e.status != "matched" or e.change_db != 0.0 for e in self.emissions))
 
     def to_dict(self) -> dict:
         return {"before": self.before.label, "after": self.after.label, "verdict_before": self.before.verdict,
                 "verdict_after": self.after.verdict, "verdict_changed": self.verdict_changed, "changed": self.changed,
+                "mask_before": self.before.mask_id, "mask_after": self.after.mask_id, "same_rule": self.same_rule,
                 "emission_match_tolerance_hz": self.tolerance_hz,
                 "regions": [r.to_dict() for r in self.regions], "emissions": [e.to_dict() for e in self.emissions]}
 

@@ -39,6 +39,9 @@ def emission_change_rows(c: Comparison, *, all_rows: bool = False) -> list[tuple
 
 
 def _verdict_line(c: Comparison) -> str:
+    if not c.same_rule:
+        return (f"judged against different rules ({c.before.mask_id} before, {c.after.mask_id} after): the margins are "
+                f"not like for like; verdict {c.before.verdict} -> {c.after.verdict}")
     if c.verdict_changed:
         return f"verdict changed: {c.before.verdict} -> {c.after.verdict}"
     return f"verdict unchanged: {c.after.verdict}" + ("" if c.changed else "; no change in any region or listed emission")
