@@ -424,3 +424,14 @@ def test_compare_says_when_the_rules_differ(tmp_path):
     c = compare_results(a, b)
     assert not c.same_rule and c.changed
     assert compare_results(a, a).same_rule and not compare_results(a, a).changed  # negative control
+
+
+def test_a_folder_of_other_files_is_not_written_into(tmp_path, capsys):
+    (tmp_path / "mine").mkdir()
+    (tmp_path / "mine" / "notes.txt").write_text("someone's notes")
+    entries = _entries(tmp_path, 1)
+    with pytest.raises(OSError):
+        run_campaign(entries, tmp_path / "mine", workers=0)
+    assert sorted(p.name for p in (tmp_path / "mine").iterdir()) == ["notes.txt"]
+    run_campaign(entries, tmp_path / "new", workers=0)  # negative control: a new folder, then resumed into
+    run_campaign(entries, tmp_path / "new", workers=0)

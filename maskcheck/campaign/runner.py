@@ -93,6 +93,26 @@ def _kept(out: Path, entry: Entry, key: str) -> MatrixRow | None:
     return row
 
 
+def _refuse_foreign_folder(out: Path) -> None:
+    """An output folder must be new, empty, or one a campaign wrote: files of anything else are never replaced."""
+    from ..errors import OutputError
+
+    if not out.is_dir():
+        return
+    matrix = out / "matrix.json"
+    if matrix.exists():
+        try:
+            ours = "matrix_version" in json.loads(matrix.read_text(encoding="utf-8"))
+        except (OSError, ValueError, TypeError):
+            ours = False
+        if not ours:
+            raise OutputError("holds a matrix.json that maskcheck campaign did not write; give a new or empty folder",
+                              path=out, param="out")
+    elif any(out.iterdir()) and not (out / "entries").is_dir():
+        raise OutputError("holds files that are not a campaign's (no entries/ folder, no matrix.json); give a new or "
+                          "empty folder, or the folder of an earlier run to resume it", path=out, param="out")
+
+
 def finished_entries(c: Campaign, out) -> int:
     """How many of the campaign's entries have a whole folder in ``out`` (finished now or in an earlier run)."""
     return sum((Path(out) / "entries" / e.name / STATE_FILE).exists() for e in c.entries)
@@ -146,6 +166,7 @@ def run_campaign(campaign, out=None, *, workers: int | None = None, scheduler: s
     if outp is not None:
         from ..io.output import make_folder
 
+        _refuse_foreign_folder(outp)
         make_folder(outp)
         _clean_partials(outp)
     for e in c.entries:

@@ -99,6 +99,7 @@ OPTIONS: dict[str, str] = {
     "folder": "--figures",
     # campaigns
     "scheduler": "--scheduler",
+    "out": "--out",
 }
 
 #: boolean parameters whose option is a flag: ``force=True`` reads ``--force``
