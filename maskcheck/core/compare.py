@@ -52,6 +52,15 @@ def digest_from_json(d: dict, label: str, spectrum=None) -> ResultDigest:
     return ResultDigest(label, d["verdict"], regions, emissions, rbw, str((d.get("mask") or {}).get("id", "")), spectrum)
 
 
+def _verdict_status(before: str | None, after: str | None) -> str:
+    """What the verdicts alone say: present on one side only, or changed; empty when the same on both."""
+    if before is None:
+        return "appeared"
+    if after is None:
+        return "disappeared"
+    return "verdict changed" if before != after else ""
+
+
 @dataclass(frozen=True)
 class RegionChange:
     name: str
@@ -71,12 +80,9 @@ class RegionChange:
     @property
     def status(self) -> str:
         """``appeared``, ``disappeared``, ``verdict changed``, ``margin changed`` or ``unchanged``."""
-        if self.verdict_before is None:
-            return "appeared"
-        if self.verdict_after is None:
-            return "disappeared"
-        if self.verdict_before != self.verdict_after:
-            return "verdict changed"
+        first = _verdict_status(self.verdict_before, self.verdict_after)
+        if first:
+            return first
         if self.margin_before_db != self.margin_after_db or self.freq_before_hz != self.freq_after_hz:
             return "margin changed"
         return "unchanged"
@@ -181,12 +187,10 @@ class EntryComparison:
 
     @property
     def status(self) -> str:
-        if self.verdict_before is None:
-            return "appeared"
-        if self.verdict_after is None:
-            return "disappeared"
-        if self.verdict_before != self.verdict_after:
-            return "verdict changed"
+        """``appeared``, ``disappeared``, ``verdict changed``, ``changed`` or ``unchanged``."""
+        first = _verdict_status(self.verdict_before, self.verdict_after)
+        if first:
+            return first
         if self.comparison is not None and self.comparison.changed:
             return "changed"
         return "unchanged"

@@ -20,11 +20,10 @@ from reportlab.platypus import KeepTogether, PageBreak, Spacer
 
 from .. import _version
 from ..core.matrix import ROW_ORDER, CampaignMatrix
-from .cautions import SHORT_CAUTION
 from .matrix_files import MATRIX_HEADER, matrix_rows, summary_lines
 from .pdf import _attaching_canvas, _Document, _invariant
 from .pdf_evidence import Attachment, closing_page
-from .pdf_parts import ACCENT, INK, MARGIN, RULE, TINT, Parts, pdf_text_plain
+from .pdf_parts import ACCENT, INK, MARGIN, TINT, Parts, draw_footer, pdf_text_plain
 from .plots import spectrum_drawing
 
 __all__ = ["build_campaign_pdf"]
@@ -45,11 +44,7 @@ def _furniture(matrix: CampaignMatrix):
         text = pdf_text_plain(f"maskcheck campaign | {matrix.name}")
         canvas.drawString(MARGIN, h - 10.5 * mm, text[:120])
         canvas.drawRightString(w - MARGIN, h - 10.5 * mm, pdf_text_plain(f"{matrix.created_utc} UTC" if matrix.created_utc else ""))
-        canvas.setStrokeColor(RULE)
-        canvas.setLineWidth(0.5)
-        canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
-        canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
-        canvas.drawRightString(w - MARGIN, 10 * mm, f"page {doc.page}")
+        draw_footer(canvas, w, doc.page)
         canvas.restoreState()
 
     return on_page

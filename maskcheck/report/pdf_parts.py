@@ -26,7 +26,7 @@ from reportlab.platypus import Paragraph, Spacer, Table, TableStyle
 
 from .plot_axes import PALETTE
 
-__all__ = ["pdf_text", "pdf_text_plain", "Parts", "INK", "ACCENT", "RULE", "SHADE", "TINT", "MARGIN", "TEXT_WIDTH"]
+__all__ = ["pdf_text", "pdf_text_plain", "Parts", "draw_footer", "INK", "ACCENT", "RULE", "SHADE", "TINT", "MARGIN", "TEXT_WIDTH"]
 
 INK = PALETTE["ink"]
 ACCENT = colors.HexColor("#2a6f77")
@@ -187,3 +187,14 @@ class Parts:
 
     def bullets(self, items, style="body") -> list:
         return [self.p(f"\u2022 {item}", style) for item in items]
+
+
+def draw_footer(canvas, page_width: float, page: int) -> None:
+    """The foot of every page: a rule, the one-line caution and the page number (inside a saved canvas state)."""
+    from .cautions import SHORT_CAUTION
+
+    canvas.setStrokeColor(RULE)
+    canvas.setLineWidth(0.5)
+    canvas.line(MARGIN, 14 * mm, page_width - MARGIN, 14 * mm)
+    canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
+    canvas.drawRightString(page_width - MARGIN, 10 * mm, f"page {page}")

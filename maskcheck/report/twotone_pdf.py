@@ -44,9 +44,8 @@ from ..core.spectrum import Spectrum
 from ..core.twotone import CLEAR_OF_FLOOR_DB, ORDERS, Product, TwoToneResult
 from ..core.units import format_frequency, w_to_dbm
 from ..io.output import check_writable, write_atomic
-from .cautions import SHORT_CAUTION
 from .pdf_evidence import closing_page
-from .pdf_parts import ACCENT, INK, MARGIN, RULE, TINT, Parts, pdf_text_plain
+from .pdf_parts import ACCENT, INK, MARGIN, TINT, Parts, draw_footer
 from .plot_axes import PALETTE, Axes
 
 __all__ = ["twotone_drawing", "build_twotone_report", "write_twotone_report", "PLOT_HALF_SPAN_SPACINGS"]
@@ -217,11 +216,7 @@ def _footer(canvas, doc) -> None:
     canvas.setFillColor(INK)
     canvas.setFont("Helvetica", 7)
     canvas.drawString(MARGIN + 5 * mm, h - 12.5 * mm, "maskcheck two-tone test")
-    canvas.setStrokeColor(RULE)
-    canvas.setLineWidth(0.5)
-    canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
-    canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
-    canvas.drawRightString(w - MARGIN, 10 * mm, f"page {doc.page}")
+    draw_footer(canvas, w, doc.page)
     canvas.restoreState()
 
 
