@@ -95,13 +95,17 @@ def load_campaign(path) -> Campaign:
 
 
 def parse_campaign(text: str, *, path=None, base_dir=None) -> Campaign:
-    """Validate campaign TOML ``text``; relative paths are taken from ``base_dir`` (default: the current folder)."""
+    """Validate campaign TOML ``text``; relative paths are taken from ``base_dir`` (default: the current folder).
+
+    Every path of the entries is made absolute.
+    """
     raw = loads(text, lambda message, where: CampaignError(message, path=path, where=where))
     try:
         model = CampaignFile.model_validate(_without_axes(raw))
     except ValidationError as exc:
         _raise(_validation_problems(exc), path)
-    base = Path(base_dir) if base_dir is not None else Path(".")
+    # absolute, so that a worker on another machine or in another folder finds the same files
+    base = (Path(base_dir) if base_dir is not None else Path(".")).absolute()
     problems: list[str] = []
     entries = _expand(model, raw, base, problems)
     if not problems and not entries:
