@@ -435,3 +435,72 @@ def test_a_folder_of_other_files_is_not_written_into(tmp_path, capsys):
     assert sorted(p.name for p in (tmp_path / "mine").iterdir()) == ["notes.txt"]
     run_campaign(entries, tmp_path / "new", workers=0)  # negative control: a new folder, then resumed into
     run_campaign(entries, tmp_path / "new", workers=0)
+
+
+#: every option of 'maskcheck campaign' and the test that shows it honoured or refused (a new option must be added)
+CAMPAIGN_OPTIONS = {
+    "--out": "test_twelve_entries_give_the_known_matrix",
+    "--workers": "test_twelve_entries_give_the_known_matrix (2), test_a_malformed_file_is_an_error_row... (0)",
+    "--scheduler": "test_dask_local_cluster_gives_the_numbers_of_the_local_pool, test_options_that_cannot_act_are_refused",
+    "--rerun": "test_resume_runs_nothing_then_exactly_the_touched_entry (rerun=True), test_options_that_cannot_act_are_refused",
+    "--quiet": "test_the_terminal_matrix_reads_at_80_columns (left out there)",
+    "--help": "argparse",
+}
+
+
+def test_every_campaign_option_is_audited():
+    # Common practice, no published source: a structural audit, as tests/test_option_audit.py does for check
+    from maskcheck.cli import build_parser
+
+    sub = next(a for a in build_parser()._actions if a.dest == "command").choices["campaign"]
+    options = {s for a in sub._actions for s in a.option_strings if s.startswith("--")}
+    assert options == set(CAMPAIGN_OPTIONS)
+
+
+def test_options_that_cannot_act_are_refused(tmp_path, capsys):
+    f = _matrix_campaign(tmp_path)
+    out = str(tmp_path / "out")
+    for extra, says in ((["--scheduler", "tcp://10.0.0.5:8786", "--workers", "2"], "has its own workers"),
+                        (["--scheduler", "local", "--workers", "0"], "cannot run on a Dask cluster"),
+                        (["--workers", "-1"], "expected 0 or more")):
+        assert main(["campaign", str(f), "--out", out, *extra]) == 2
+        err = capsys.readouterr().err
+        assert says in err and err.count("\n") == 1
+    assert not (tmp_path / "out").exists()  # refused before anything was written
+    # --rerun on the command line runs every entry again
+    main(["campaign", str(f), "--out", out, "--workers", "0", "--quiet"])
+    main(["campaign", str(f), "--out", out, "--workers", "0", "--rerun"])
+    assert "12 entries run, 0 unchanged" in capsys.readouterr().out
+
+
+def test_the_terminal_matrix_reads_at_80_columns(tmp_path, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "80")
+    f = _matrix_campaign(tmp_path)
+    main(["campaign", str(f), "--out", str(tmp_path / "out"), "--workers", "0"])
+    out = capsys.readouterr().out
+    lines = out.splitlines()
+    assert max(len(line) for line in lines) <= 80
+    row = next(line for line in lines if line.lstrip().startswith("a-high-g0"))
+    # Source: 47 CFR 97.307(d): +7 dBm limit, a spur of +8 dBm: 1 dB over
+    assert "FAIL" in row and "-1.0" in row and "14.2" in row
+    assert "Screening aid only" in out  # the caution
+    main(["campaign", str(f), "--out", str(tmp_path / "out"), "--workers", "0", "--quiet"])
+    assert capsys.readouterr().out == ""
+
+
+def test_a_scenario_given_as_an_object_runs_on_workers_like_its_file():
+    # what the design solver does: scenarios varied in Python, judged through the engine on worker processes
+    from pathlib import Path
+
+    from maskcheck.sim.scenario import load_scenario
+
+    path = str(Path(__file__).resolve().parent.parent / "examples" / "ssb-filter-exciter.toml")
+    sc, _ = load_scenario(path)
+    stronger = sc.model_copy(update={"antenna": sc.antenna.model_copy(update={"power": 4 * sc.antenna.power})})
+    outcomes = run_entries([Entry("file", scenario=path), Entry("object", scenario=sc),
+                            Entry("stronger", scenario=stronger)], workers=2)
+    r = {o.name: o.result for o in outcomes}
+    assert r["object"].to_dict()["regions"] == r["file"].to_dict()["regions"]
+    # Closed form: four times the power is 10 log10(4) = 6.02 dB more at the antenna port
+    assert r["stronger"].reference_power.dbm - r["file"].reference_power.dbm == pytest.approx(6.0206, abs=0.01)
+    assert outcomes[1].row.inputs[0][0].startswith("scenario ")  # recorded as given in Python, with its hash
