@@ -39,6 +39,8 @@ Public names
 ``OutputError``             an output file that cannot or must not be written
 ``ScenarioError``           a malformed or impossible simulation scenario file
 ``DesignError``             a design question (varied key, range, goal) that cannot be asked
+``CampaignError``           a malformed campaign file (``.problems``, every one at once)
+``run_campaign(c, out)``    run a campaign (a file or Python entries) -> its matrix
 ==========================  ==========================================================
 
 Names are loaded on first use, so ``maskcheck --version`` starts without
@@ -98,9 +100,12 @@ __all__ = [
     "OutputError",
     "ScenarioError",
     "DesignError",
+    "CampaignError",
+    "run_campaign",
 ]
 
 _LAZY = {
+    "run_campaign": "maskcheck.campaign.runner",
     "read_trace": "maskcheck.io.trace_text",
     "read_recording": "maskcheck.io.iq_spectrum",
     "read_setup": "maskcheck.io.setup",

@@ -37,6 +37,7 @@ __all__ = [
     "OutputError",
     "ScenarioError",
     "DesignError",
+    "CampaignError",
 ]
 
 
@@ -160,3 +161,15 @@ class ScenarioError(MaskcheckError, ValueError):
 
 class DesignError(MaskcheckError, ValueError):
     """A design question that cannot be asked: a key that cannot be varied, a range or a goal that cannot be read."""
+
+
+class CampaignError(MaskcheckError, ValueError):
+    """A malformed campaign file (a programme of many checks), or one whose entries cannot be set up.
+
+    ``problems`` holds every problem found, each as ``"key.path: message"``
+    (all are reported at once, nothing is run); the message joins them on one line.
+    """
+
+    def __init__(self, message: str, *, path=None, where=None, param=None, problems=None):
+        super().__init__(message, path=path, where=where, param=param)
+        self.problems = list(problems) if problems else [message]

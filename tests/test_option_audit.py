@@ -492,6 +492,9 @@ COMMANDS = {
         "--mask-dir": ([], ["--mask-dir", "OTHERMASKS"]),
     }),
     "demo": (None, (), {"--out", "--force", "--help"}, set(), {}),  # the invented demo: outputs only
+    # a campaign's options are audited on campaigns of their own in tests/test_campaign.py; compare's are outputs only
+    "campaign": (None, (), {"--out", "--quiet", "--help", "--workers", "--scheduler", "--rerun"}, set(), {}),
+    "compare": (None, (), {"--json", "--report", "--force", "--quiet", "--help"}, set(), {}),
     "masks show": (_cmd_masks_show, ("none",), {"--help"}, set(), {
         "--mask-dir": ([], ["--mask-dir", "MASKDIR"]),
         "--power": ([], ["--power", "100W"]),
@@ -701,7 +704,9 @@ def test_json_dash_writes_only_the_json_to_standard_output_on_every_command_that
         "masks list": ["masks", "list"],
         "masks audit": ["masks", "audit"],
         "masks which": ["masks", "which", "--carrier", "146.52MHz"],
+        "compare": ["compare", str(tmp_path / "r.json"), str(tmp_path / "r.json")],
     }
+    assert main(["check", trace, *BASE, "--json", str(tmp_path / "r.json"), "--quiet"]) in (0, 1, 3)
     writes_json = {c for c, p in _all_parsers() if "--json" in _option_strings(p)}
     assert writes_json == set(runs)
     for command, argv in runs.items():

@@ -12,4 +12,4 @@ Internal: the command line is used as a program, not imported as an API.
 __all__ = ["COMMANDS"]
 
 #: modules in the order ``maskcheck --help`` lists them
-COMMANDS = ("check", "plan", "spectrum", "bandwidth", "designator", "simulate", "twotone", "masks", "demo", "convert", "design")
+COMMANDS = ("check", "plan", "spectrum", "bandwidth", "designator", "simulate", "twotone", "masks", "demo", "convert", "design", "campaign", "compare")

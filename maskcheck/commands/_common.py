@@ -83,11 +83,6 @@ def _say_reading(spectrum) -> None:
 
 def trace_inputs(spectrum) -> list:
     """The input records of one trace: the file (what was inferred, its notes and overrides) and its layout file."""
-    from ..core.result import InputFile
+    from ..io.trace_text import trace_input_files
 
-    tf = spectrum.trace_file
-    files = [InputFile(spectrum.source, spectrum.sha256, reading=(tf.reading or None) if tf is not None else None,
-                       notes=list(spectrum.notes))]
-    if tf is not None and tf.layout:
-        files.append(InputFile(tf.layout, tf.layout_sha256 or ""))
-    return files
+    return trace_input_files(spectrum)

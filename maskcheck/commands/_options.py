@@ -107,6 +107,9 @@ OPTIONS: dict[str, str] = {
     # outputs
     "force": "--force",
     "folder": "--figures",
+    # campaigns
+    "scheduler": "--scheduler",
+    "out": "--out",
 }
 
 #: boolean parameters whose option is a flag: ``force=True`` reads ``--force``
@@ -127,6 +130,8 @@ NO_OPTION = frozenset({
     "reference_w",  # the reference power a mask's relative limits are below: computed by the check
     "window_half_hz",  # the fundamental window the check decided (--exclude sets exclude_hz)
     "spacing_hz",  # twotone: the measured tone spacing
+    "campaign",  # run_campaign: the campaign file named on the command line (or Python entries)
+    "entries",  # run_entries: the entries of the campaign file
 })
 
 # Names replaced wherever they stand as a word: those with an underscore (they

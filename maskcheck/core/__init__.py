@@ -26,6 +26,8 @@ names are re-exported by :mod:`maskcheck`.
 ``uncertainty``       the guard band, the decision rule and the uncertainty budget
 ``remeasure``         whether a reading with other settings than the rule's could
                       change its verdict (noise peak-over-mean, RBW ratio)
+``matrix``            the matrix of a campaign: one row per entry (plain data)
+``compare``           what changed between two results: margins, emissions, verdicts
 ====================  ==============================================================
 """
 

@@ -80,7 +80,7 @@ try:  # an optional accelerator; the numpy converter gives the same numbers
 except ImportError:  # pragma: no cover - depends on the installation
     _orjson = None
 
-__all__ = ["read_trace", "FREQ_UNITS", "LEVEL_UNITS", "MAX_LINE_BYTES", "MAX_TRACE_BYTES"]
+__all__ = ["read_trace", "trace_input_files", "FREQ_UNITS", "LEVEL_UNITS", "MAX_LINE_BYTES", "MAX_TRACE_BYTES"]
 
 #: Levels below this are no reading: thermal noise is -174 dBm in 1 Hz, and a
 #: trace point this low can only be a "no data" placeholder such as -999 dBm.
@@ -680,3 +680,15 @@ def _read(raw, path, rbw_opt, freq_opt, level_opt, det_opt, layout, digest, hash
         return build(values)
     except SpectrumError as exc:  # not expected after the checks above; keep it one line
         raise TraceError(exc.message, path=path, param=exc.param) from None
+
+
+def trace_input_files(spectrum) -> list:
+    """The input records of one trace read here: the file (what was inferred, its notes and overrides) and its layout file."""
+    from ..core.result import InputFile
+
+    tf = spectrum.trace_file
+    files = [InputFile(spectrum.source, spectrum.sha256, reading=(tf.reading or None) if tf is not None else None,
+                       notes=list(spectrum.notes))]
+    if tf is not None and tf.layout:
+        files.append(InputFile(tf.layout, tf.layout_sha256 or ""))
+    return files

@@ -22,6 +22,12 @@ never compute a bandwidth or a margin.
 ``DISCLAIMER``             what a result is and is not
 ``SAFETY``                 bench-safety cautions
 ``SHORT_CAUTION``          the one-line caution
+``render_matrix``          terminal table of a campaign's matrix (rich)
+``matrix_json``            ``matrix.json`` of a campaign
+``matrix_csv``             ``matrix.csv`` of a campaign
+``build_campaign_pdf``     ``campaign.pdf``: summary, matrix, worst spectra (bytes)
+``render_comparison``      terminal summary of ``maskcheck compare``
+``build_compare_pdf``      the short PDF of a comparison (bytes)
 =========================  ==================================================
 
 Submodules are imported on first use, so writing JSON does not load
@@ -52,6 +58,12 @@ __all__ = [
     "DISCLAIMER",
     "SAFETY",
     "SHORT_CAUTION",
+    "render_matrix",
+    "matrix_json",
+    "matrix_csv",
+    "build_campaign_pdf",
+    "render_comparison",
+    "build_compare_pdf",
 ]
 
 _WHERE = {
@@ -74,6 +86,12 @@ _WHERE = {
     "DISCLAIMER": "cautions",
     "SAFETY": "cautions",
     "SHORT_CAUTION": "cautions",
+    "render_matrix": "campaign_terminal",
+    "matrix_json": "matrix_files",
+    "matrix_csv": "matrix_files",
+    "build_campaign_pdf": "campaign_pdf",
+    "render_comparison": "compare_report",
+    "build_compare_pdf": "compare_report",
 }
 
 

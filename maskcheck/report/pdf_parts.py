@@ -26,7 +26,7 @@ from reportlab.platypus import Paragraph, Spacer, Table, TableStyle
 
 from .plot_axes import PALETTE
 
-__all__ = ["pdf_text", "pdf_text_plain", "Parts", "build_document", "INK", "ACCENT", "RULE", "SHADE", "TINT", "MARGIN", "TEXT_WIDTH"]
+__all__ = ["pdf_text", "pdf_text_plain", "Parts", "build_document", "draw_footer", "INK", "ACCENT", "RULE", "SHADE", "TINT", "MARGIN", "TEXT_WIDTH"]
 
 INK = PALETTE["ink"]
 ACCENT = colors.HexColor("#2a6f77")
@@ -189,6 +189,17 @@ class Parts:
         return [self.p(f"\u2022 {item}", style) for item in items]
 
 
+def draw_footer(canvas, page_width: float, page: int) -> None:
+    """The foot of every page: a rule, the one-line caution and the page number (inside a saved canvas state)."""
+    from .cautions import SHORT_CAUTION
+
+    canvas.setStrokeColor(RULE)
+    canvas.setLineWidth(0.5)
+    canvas.line(MARGIN, 14 * mm, page_width - MARGIN, 14 * mm)
+    canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
+    canvas.drawRightString(page_width - MARGIN, 10 * mm, f"page {page}")
+
+
 def build_document(story, *, running_title: str, title: str, subject: str, label: str = "") -> bytes:
     """A short A4 document as PDF bytes: ``story`` laid out with the running title on top and the caution below.
 
@@ -201,8 +212,6 @@ def build_document(story, *, running_title: str, title: str, subject: str, label
     from reportlab.platypus import SimpleDocTemplate
 
     from .. import _version
-    from .cautions import SHORT_CAUTION
-
     def decorate(canvas, doc) -> None:
         canvas.saveState()
         w, h = A4
@@ -211,11 +220,7 @@ def build_document(story, *, running_title: str, title: str, subject: str, label
         canvas.setFillColor(INK)
         canvas.setFont("Helvetica", 7)
         canvas.drawString(MARGIN + 5 * mm, h - 12.5 * mm, running_title)
-        canvas.setStrokeColor(RULE)
-        canvas.setLineWidth(0.5)
-        canvas.line(MARGIN, 14 * mm, w - MARGIN, 14 * mm)
-        canvas.drawString(MARGIN, 10 * mm, pdf_text_plain(SHORT_CAUTION))
-        canvas.drawRightString(w - MARGIN, 10 * mm, f"page {doc.page}")
+        draw_footer(canvas, w, doc.page)
         if label:
             canvas.setFont("Helvetica", 6.5)
             text = pdf_text_plain(label)

@@ -1,0 +1,62 @@
+"""The terminal summary of a campaign (rich): the matrix table, the counts, the worst margin.
+
+Words carry the meaning (the verdict is written out); colour only repeats
+it, so the table reads the same at 80 columns without colour and redirected.
+"""
+
+from __future__ import annotations
+
+from rich import box
+from rich.table import Table
+from rich.text import Text
+
+from ..core.matrix import CampaignMatrix
+from .cautions import SHORT_CAUTION
+from .matrix_files import MATRIX_HEADER, matrix_rows, summary_lines
+from .terminal import VERDICT_STYLES
+
+__all__ = ["render_matrix"]
+
+
+def render_matrix(matrix: CampaignMatrix, console, *, note: str = "") -> None:
+    """Print the matrix; when every row has one rule, it is named once below instead of in a column."""
+    rules = {(r.mask_id, r.grade) for r in matrix.rows if r.verdict != "error"}
+    one_rule = len(rules) <= 1
+    header = list(MATRIX_HEADER[:-1] if one_rule else MATRIX_HEADER)
+    kinds = {r.reference_kind for r in matrix.rows if r.verdict != "error"}
+    # the units stand in the header, so the numbers fit 80 columns
+    header[header.index("margin")] = "dB"
+    header[header.index("power")] = "dBm"
+    t = Table(title=f"campaign: {matrix.name}", title_justify="left", title_style="bold", box=box.SIMPLE_HEAD,
+              padding=(0, 1), pad_edge=False)
+    longest = max((len(r.name) for r in matrix.rows), default=5)
+    for h in header:
+        t.add_column(h, justify="right" if h in ("dB", "at", "OBW") or h.startswith("dBm") else "left",
+                     overflow="fold", no_wrap=h != "entry",
+                     min_width=min(12, longest) if h == "entry" else None)
+    for r, cells in zip(matrix.rows, matrix_rows(matrix, messages=False, kinds=len(kinds) != 1)):
+        style = VERDICT_STYLES.get(r.verdict, "bold red")
+        cells = list(cells[:len(header)])
+        cells[2] = cells[2].removesuffix(" dB")
+        cells[6] = cells[6].removesuffix(" dBm") if len(kinds) == 1 else cells[6].replace(" dBm", "")
+        texts = [Text(c) for c in cells]
+        texts[1].stylize(style)
+        t.add_row(*texts)
+    console.print(t)
+    if one_rule and rules:
+        (mask_id, grade), = rules
+        citation = next(r.citation for r in matrix.rows if r.verdict != "error")
+        console.print(f"rule: {mask_id}, {citation} ({grade})", markup=False)
+    console.print("dB: the worst margin (limit - measured); at: its frequency; OBW: occupied bandwidth; dBm: the "
+                  + (f"{next(iter(kinds))} power" if len(kinds) == 1 else "reference power (mean or PEP)")
+                  + " the limits are taken from", markup=False)
+    errors = [r for r in matrix.rows if r.verdict == "error"]
+    if errors:
+        console.print("entries that could not be judged:", markup=False)
+        for r in errors:
+            console.print(f"  {r.name}: {r.message}", markup=False)
+    for line in summary_lines(matrix):
+        console.print(line, markup=False)
+    if note:
+        console.print(note, markup=False)
+    console.print(SHORT_CAUTION)
