@@ -28,11 +28,24 @@ def test_list_filters_by_authority_service_and_frequency(capsys):
     assert {"verified", "citation", "title"} <= set(rows[0])
 
 
-def test_list_table_says_which_are_verified(capsys):
+def test_list_table_says_which_are_verified(capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "400")  # one table row per mask
     assert main(["masks", "list"]) == 0
     out = capsys.readouterr().out
-    assert "us-am-broadcast-7344  FCC 47 CFR 73.44(a), (b)  (verified)" in out
-    assert "us-90210-mask-d  FCC 47 CFR 90.210(d) (Emission Mask D)  (not verified: rule data not checked against the official text)" in out
+    rows = {line.split()[0]: " ".join(line.split()) for line in out.splitlines() if line.strip()}
+    assert rows["us-am-broadcast-7344"].startswith("us-am-broadcast-7344 FCC 47 CFR 73.44(a), (b) yes ")
+    assert rows["us-90210-mask-d"].startswith("us-90210-mask-d FCC 47 CFR 90.210(d) (Emission Mask D) no ")
+    assert "Verified no: rule data not verified against the official text" in out
+
+
+def test_list_names_the_authority_once(capsys):
+    # was "ETSI ETSI EN 300 220-1": the citation already opens with the authority's name
+    assert main(["masks", "list"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "ETSI EN 300 220-1" in out and "ETSI ETSI" not in out
+    assert "FCC 47 CFR 90.210(d)" in out  # an authority the citation does not name is still said
+    assert main(["masks", "show", "etsi-en300220-srd-spurious"]) == 0
+    assert "ETSI ETSI" not in capsys.readouterr().out
 
 
 def test_show_with_a_station_prints_formula_and_value(capsys):

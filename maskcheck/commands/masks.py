@@ -78,7 +78,7 @@ def run(args) -> int:
                 print(error_line(exc, args), file=sys.stderr)
             else:
                 flag = "" if m.provenance.verified else "; rule data not verified against the official text"
-                con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})", soft_wrap=True)
+                con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}{flag})")
         return 2 if bad else 0
     if cmd == "schema":
         from ..masks.schema import shipped_json_schema_text
@@ -93,9 +93,10 @@ def run(args) -> int:
 
 # -- list ----------------------------------------------------------------------------------
 def _list(args, con, list_masks) -> int:
-    from rich.markup import escape
-
     from ..core.units import parse_frequency
+    from ..report.cautions import UNVERIFIED_NOTE
+    from ..report.tables import rule_name
+    from ..report.term_layout import grid
 
     masks = list_masks(extra_dirs=args.mask_dir)
     if args.authority:
@@ -111,10 +112,11 @@ def _list(args, con, list_masks) -> int:
                  "variant": m.applies.variant, "path": m.path, "file": str(m.source_path)} for m in masks]
         print(json.dumps(rows, indent=2, ensure_ascii=False))
         return 0
-    for m in masks:
-        flag = "verified" if m.provenance.verified else "not verified: rule data not checked against the official text"
-        con.print(f"[bold]{escape(m.id)}[/bold]  {escape(m.provenance.authority)} {escape(m.provenance.citation)}  ({flag})", soft_wrap=True)
-        con.print(f"    {escape(m.title)}" + (f" [{escape(m.applies.variant)}]" if m.applies.variant else ""), soft_wrap=True)
+    rows = [(m.id, rule_name(m.provenance.authority, m.provenance.citation), "yes" if m.provenance.verified else "no",
+             m.title + (f" [{m.applies.variant}]" if m.applies.variant else "")) for m in masks]
+    con.print(grid(con, ("Mask", "Rule", "Verified", "Title"), rows, max_row_lines=3))
+    if any(not m.provenance.verified for m in masks):
+        con.print(f"Verified no: {UNVERIFIED_NOTE}")
     con.print(f"{len(masks)} masks; 'maskcheck masks show ID --power 5W' for one evaluated for a station")
     return 0
 
@@ -188,21 +190,22 @@ def _show_evaluated(mask, st, con) -> None:
 
     from ..core.units import format_frequency, format_power
     from ..report.cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+    from ..report.tables import rule_name
 
     p = mask.provenance
-    con.print(f"[bold]{escape(mask.id)}[/bold]: {escape(mask.title)}", soft_wrap=True)
-    con.print(f"{escape(p.authority)} {escape(p.citation)}; edition: {escape(p.edition)}", soft_wrap=True)
+    con.print(f"[bold]{escape(mask.id)}[/bold]: {escape(mask.title)}")
+    con.print(f"{escape(rule_name(p.authority, p.citation))}; edition: {escape(p.edition)}")
     station = f"power {format_power(st['power_w'])}"
     if st["pep_w"] is not None:
         station += f", PEP {format_power(st['pep_w'])}"
     station += f", carrier {format_frequency(st['carrier_hz'])}"
     if st["authorized_bw_hz"] is not None:
         station += f", authorised bandwidth {format_frequency(st['authorized_bw_hz'])}"
-    con.print(f"Station: {escape(station)}" + (f" ({escape(st['note'])})" if st["note"] else ""), soft_wrap=True)
+    con.print(f"Station: {escape(station)}" + (f" ({escape(st['note'])})" if st["note"] else ""))
     ref = mask.reference_power
-    con.print(f"Reference: {escape(ref.kind)}" + (f" ({escape(ref.note)})" if ref.note else ""), soft_wrap=True)
+    con.print(f"Reference: {escape(ref.kind)}" + (f" ({escape(ref.note)})" if ref.note else ""))
     if mask.applies.variant:
-        con.print(f"Variant: {escape(mask.applies.variant)}", soft_wrap=True)
+        con.print(f"Variant: {escape(mask.applies.variant)}")
     if not p.verified:
         con.print(f"[bold yellow]!! {UNVERIFIED_NOTE}[/bold yellow]")
     con.print("Limits for this station, region by region:")
@@ -220,11 +223,11 @@ def _show_evaluated(mask, st, con) -> None:
                 at = f"{'+' if f >= fc else '-'}{format_frequency(off)} from the carrier" if row["where"].startswith("offset") else format_frequency(f)
                 parts.append((f"{rel:.2f} dB below the reference = " if rel is not None else "") + f"{dbm:.2f} dBm at {at}")
             value = "; ".join(parts)
-        con.print(f"[bold][{i}] {escape(row['name'])}[/bold]" + (f"  ({escape(row['where'])})" if row["where"] else ""), soft_wrap=True)
-        con.print(f"    limit: {escape(row['formula'])}", soft_wrap=True)
-        con.print(f"    value: {escape(value)}", soft_wrap=True)
+        con.print(f"[bold][{i}] {escape(row['name'])}[/bold]" + (f"  ({escape(row['where'])})" if row["where"] else ""))
+        con.print(f"    limit: {escape(row['formula'])}")
+        con.print(f"    value: {escape(value)}")
         if row["bandwidth"] or row["detector"]:
-            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}, detector {escape(row['detector'])}", soft_wrap=True)
+            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}, detector {escape(row['detector'])}")
     con.print(SHORT_CAUTION)
 
 

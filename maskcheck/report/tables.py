@@ -45,9 +45,21 @@ __all__ = [
     "fmt_range",
     "unevaluated_lines",
     "weak_pass_note",
+    "rule_name",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
+
+
+def rule_name(authority: str, citation: str) -> str:
+    """The rule as people name it: ``FCC 47 CFR 97.307(d)``, and ``ETSI EN 300 220-1`` (never ``ETSI ETSI ...``).
+
+    Many citations already open with their authority's name; it is said once.
+    """
+    authority, citation = str(authority or "").strip(), str(citation or "").strip()
+    if not authority or citation.casefold().startswith(authority.casefold()):
+        return citation
+    return f"{authority} {citation}".strip()
 
 
 # ----------------------------------------------------------------------------- JSON

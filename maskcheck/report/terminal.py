@@ -10,16 +10,13 @@ the output reads the same in a plain 80-column terminal without colour.
 
 from __future__ import annotations
 
-from rich import box
 from rich.console import Console
-from rich.padding import Padding
-from rich.rule import Rule
-from rich.table import Table
 from rich.text import Text
 
 from ..core.result import BandwidthFigure, CheckResult
 from ..core.units import format_frequency
 from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+from .term_layout import facts as fact_list, grid, heading, indented
 from .tables import (
     BANDWIDTH_HEADER,
     EMISSION_HEADER,
@@ -28,6 +25,7 @@ from .tables import (
     reference_text,
     region_notes,
     region_rows,
+    rule_name,
     station_rows,
     unevaluated_lines,
     verdict_sentence,
@@ -47,30 +45,20 @@ VERDICT_STYLES = {
 }
 
 
-def _facts(pairs) -> Table:
-    t = Table(box=None, show_header=False, padding=(0, 1, 0, 0), expand=False)
-    t.add_column(style="bold", no_wrap=True)
-    t.add_column(overflow="fold")
-    for label, value in pairs:
-        t.add_row(label, value)
-    return t
+def _facts(console, pairs):
+    return fact_list(console, pairs)
 
 
-def _grid(title: str, header, rows, right=(), no_wrap=()) -> Table:
-    t = Table(title=title, title_justify="left", title_style="bold", box=box.SIMPLE_HEAD, padding=(0, 1))
-    for i, h in enumerate(header):
-        t.add_column(h, justify="right" if i in right else "left", overflow="fold", no_wrap=i in no_wrap)
-    for row in rows:
-        t.add_row(*row)
-    return t
+def _grid(console, title: str, header, rows, right=(), whole=None, keys=(0,)):
+    return grid(console, header, rows, title=title, right=right, whole=whole, keys=keys)
 
 
 #: Shorter names for the columns of :data:`~maskcheck.report.tables.REGION_HEADER`, to fit 80 columns.
 _SHORT_REGION_HEADER = ("#", "Region", "Range", "Ref. BW", "Verdict", "Margin", "At")
 
 
-def _indented(text: str) -> Padding:
-    return Padding(Text(text, overflow="fold"), (0, 0, 0, 2))
+def _indented(text: str, console):
+    return indented(console, text)
 
 
 def render_check(result: CheckResult, console: Console | None = None) -> None:
@@ -86,7 +74,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     console = console or Console()
     mask = result.mask
     version = "" if result.tool is None else result.tool.version
-    console.print(Rule(f"maskcheck {version}".strip() + f" | mask {mask.id}", style="dim"))
+    console.print(heading(console, f"maskcheck {version}".strip() + f" | mask {mask.id}"))
 
     verdict = Text()
     verdict.append("Outcome  ", style="bold")
@@ -103,7 +91,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     if missing:
         console.print(Text(f"Not evaluated ({len(missing)}): these required ranges are not shown to comply", style="bold"))
         for line in missing:
-            console.print(_indented(f"- {line}"))
+            console.print(_indented(f"- {line}", console))
 
     facts = [("Worst margin", worst_point_text(result)), ("Reference", reference_text(result))]
     obw = result.occupied_bandwidth
@@ -114,25 +102,27 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     facts += [(label[:1].upper() + label[1:], value) for label, value in emission_facts(result)]
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
-    facts.append(("Rule", f"{mask.authority} {mask.citation}, edition {mask.edition}".strip()))
-    console.print(_facts(facts))
+    facts.append(("Rule", f"{rule_name(mask.authority, mask.citation)}, edition {mask.edition}".strip()))
+    console.print(_facts(console, facts))
     if not mask.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
 
     header = _SHORT_REGION_HEADER
-    console.print(_grid("Regions (worst margin of each)", header, region_rows(result), right=(0, 5), no_wrap=(2, 5, 6)))
+    console.print(_grid(console, "Regions (worst margin of each)", header, region_rows(result), right=(0, 5),
+                        whole=(0, 4, 5, 6), keys=(0, 1)))
     for note in region_notes(result):
-        console.print(_indented(note))
+        console.print(_indented(note, console))
 
     if result.emissions:
-        console.print(_grid("Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3)))
+        console.print(_grid(console, "Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3),
+                            whole=(0, 1, 2, 3)))
     else:
         console.print(Text("Listed emissions: none within the reporting threshold."))
 
     if result.warnings:
         console.print(Text("Warnings", style="bold"))
         for w in result.warnings:
-            console.print(_indented(f"* {w}"))
+            console.print(_indented(f"* {w}", console))
 
     console.print(Text(SHORT_CAUTION, style="italic"))
 
@@ -155,10 +145,10 @@ def render_bandwidth(
     if not figures:
         console.print(Text(f"{title}: none."))
     else:
-        console.print(_grid(title, BANDWIDTH_HEADER, bandwidth_rows(figures), right=(1, 2, 3)))
+        console.print(_grid(console, title, BANDWIDTH_HEADER, bandwidth_rows(figures), right=(1, 2, 3)))
         for f in figures:
             for note in f.notes:
-                console.print(_indented(f"* {note}"))
+                console.print(_indented(f"* {note}", console))
     console.print(Text(SHORT_CAUTION, style="italic"))
 
 
@@ -210,12 +200,12 @@ def render_mask(mask, console: Console | None = None) -> None:
     """
     console = console or Console()
     prov = mask.provenance
-    console.print(Rule(f"mask {mask.id}", style="dim"))
+    console.print(heading(console, f"mask {mask.id}"))
     bands = " and ".join(f"{format_frequency(lo)} to {format_frequency(hi)}" for lo, hi in mask.applies.carrier_bands)
     facts = [
         ("Title", mask.title),
         ("Service", mask.service),
-        ("Rule", f"{prov.authority} {prov.citation}"),
+        ("Rule", rule_name(prov.authority, prov.citation)),
         ("Edition", prov.edition),
         ("Verified", "yes" if prov.verified else "no"),
         ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
@@ -231,7 +221,7 @@ def render_mask(mask, console: Console | None = None) -> None:
             facts.append(("Installed at", str(mask.source_path)))
     if getattr(mask, "sha256", ""):
         facts.append(("SHA-256", mask.sha256))
-    console.print(_facts(facts))
+    console.print(_facts(console, facts))
     if not prov.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}", style="bold yellow"))
     rows = []
@@ -249,5 +239,5 @@ def render_mask(mask, console: Console | None = None) -> None:
             for b in reg.reference_bandwidth
         )
         rows.append((reg.name, _region_range_text(reg), limit, reg.detector, bands))
-    console.print(_grid("Regions", ("Region", "Range", "Limit", "Detector", "Ref. BW (range)"), rows))
+    console.print(_grid(console, "Regions", ("Region", "Range", "Limit", "Detector", "Ref. BW (range)"), rows))
     console.print(Text(SHORT_CAUTION, style="italic"))
