@@ -275,59 +275,17 @@ def _curves(mask, st, n: int = 200):
 
 
 def mask_drawing(mask, st, width: float = 520.0, height: float = 300.0):
-    """A reportlab Drawing of the mask's limits for one station (offset axis or log-frequency axis)."""
-    from reportlab.graphics.shapes import Drawing, Line, PolyLine, String
-    from reportlab.lib import colors
-
-    from ..core.units import format_frequency
-    from ..report.cautions import UNVERIFIED_NOTE
+    """A reportlab Drawing of the mask's limits for one station, in the report's plot style
+    (:func:`maskcheck.report.mask_plot.mask_drawing`): an offset axis, or a frequency axis."""
+    from ..report.mask_plot import mask_drawing as draw
+    from ..report.tables import rule_name
 
     curves, offsets, rel = _curves(mask, st)
     if not curves:
         raise MaskcheckError(f"mask {mask.id}: no region can be drawn for this station (give --bandwidth?)", where="masks plot")
-    xs = [x for _, pts in curves for x, _ in pts]
-    ys = [y for _, pts in curves for _, y in pts]
-    left, bottom, right, top = 60.0, 40.0, width - 15.0, height - 45.0
-    x0, x1 = (-max(xs), max(xs)) if offsets else (min(xs), max(xs))
-    y0, y1 = math.floor(min(ys) / 10.0) * 10.0 - 10.0, math.ceil(max(ys) / 10.0) * 10.0 + 5.0
-
-    def px(x):
-        if offsets:
-            return left + (x - x0) / (x1 - x0) * (right - left)
-        return left + (math.log10(x) - math.log10(x0)) / (math.log10(x1) - math.log10(x0) or 1.0) * (right - left)
-
-    def py(y):
-        return bottom + (y - y0) / (y1 - y0) * (top - bottom)
-
-    d = Drawing(width, height)
-    title = f"{mask.id}: {mask.provenance.citation}"
-    d.add(String(left, height - 15, title[:90], fontName="Helvetica-Bold", fontSize=9))
-    sub = f"limit {'relative to the reference (dB)' if rel else 'absolute (dBm in the reference bandwidth)'}; power {st['power_w']:g} W"
-    if not mask.provenance.verified:
-        sub += f"; {UNVERIFIED_NOTE}"
-    d.add(String(left, height - 28, sub[:110], fontName="Helvetica", fontSize=7, fillColor=colors.darkred if not mask.provenance.verified else colors.black))
-    d.add(Line(left, bottom, right, bottom, strokeColor=colors.black, strokeWidth=0.6))
-    d.add(Line(left, bottom, left, top, strokeColor=colors.black, strokeWidth=0.6))
-    step = 10.0 if (y1 - y0) <= 120 else 20.0
-    y = y0
-    while y <= y1 + 1e-9:
-        d.add(Line(left, py(y), right, py(y), strokeColor=colors.lightgrey, strokeWidth=0.3))
-        d.add(String(left - 5, py(y) - 3, f"{y:g}", fontName="Helvetica", fontSize=6, textAnchor="end"))
-        y += step
-    for k in range(5):
-        xv = x0 + k * (x1 - x0) / 4 if offsets else 10 ** (math.log10(x0) + k * (math.log10(x1) - math.log10(x0)) / 4)
-        label = ("+" if xv > 0 else "-" if xv < 0 else "") + format_frequency(abs(xv)) if offsets else format_frequency(xv)
-        d.add(String(px(xv), bottom - 12, label, fontName="Helvetica", fontSize=6, textAnchor="middle"))
-    d.add(String((left + right) / 2, bottom - 25, "offset from the carrier" if offsets else "frequency",
-                 fontName="Helvetica", fontSize=7, textAnchor="middle"))
-    for _, pts in curves:
-        sides = (1.0, -1.0) if offsets else (1.0,)
-        for s in sides:
-            flat = []
-            for x, yv in pts:
-                flat += [px(s * x), py(yv)]
-            d.add(PolyLine(flat, strokeColor=colors.red, strokeWidth=1.0))
-    return d
+    title = f"{mask.id}: {rule_name(mask.provenance.authority, mask.provenance.citation)}"
+    return draw(title, curves, offsets=offsets, relative=rel, power_w=st["power_w"], verified=mask.provenance.verified,
+                width_pt=width, height_pt=height)
 
 
 def _plot(mask, st, out, force, con) -> int:
