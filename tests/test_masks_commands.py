@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 
@@ -113,3 +114,48 @@ def test_schema_is_json_and_knows_version_3_and_4_keys(capsys):
     limit = schema["$defs"]["Limit"]["properties"]
     assert {"field_uv_per_m", "distance_m", "density_dbm_per_hz", "combine", "quantity"} <= set(limit)
     assert set(schema["$defs"]["ReferencePowerSpec"]["properties"]["kind"]["enum"]) == {"mean", "pep", "carrier", "channel", "dbsd", "none"}
+
+
+def _reordered_mask(tmp_path):
+    """The CEPT category B mask with its reference bandwidths written out of order, and a region cut to 90-110 kHz."""
+    text = (Path(__file__).resolve().parents[1] / "masks" / "cept-erc-7401-category-b.toml").read_text()
+    bands = '''reference_bandwidth = [
+    { start = "9 kHz", stop = "150 kHz", bandwidth = "1 kHz" },
+    { start = "150 kHz", stop = "30 MHz", bandwidth = "10 kHz" },
+    { start = "30 MHz", stop = "1 GHz", bandwidth = "100 kHz" },
+]'''
+    shuffled = '''reference_bandwidth = [
+    { start = "30 MHz", stop = "1 GHz", bandwidth = "100 kHz" },
+    { start = "9 kHz", stop = "150 kHz", bandwidth = "1 kHz" },
+    { start = "150 kHz", stop = "30 MHz", bandwidth = "10 kHz" },
+]'''
+    assert bands in text
+    text = text.replace(bands, shuffled).replace('id = "cept-erc-7401-category-b"', 'id = "reordered-bands"')
+    text += '''
+[[regions]]
+name = "a narrow range"
+kind = "spurious"
+detector = "rms"
+start = "90 kHz"
+stop = "110 kHz"
+limit = { level_dbm = "-36 dBm" }
+''' + shuffled + "\n"
+    path = tmp_path / "reordered.toml"
+    path.write_text(text)
+    return path
+
+
+def test_show_lists_reference_bandwidths_in_frequency_order_with_their_ranges(tmp_path, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "400")
+    path = _reordered_mask(tmp_path)
+    assert main(["masks", "show", str(path)]) == 0
+    out = capsys.readouterr().out
+    # Source: ITU RR Appendix 3 reference bandwidths as the mask file gives them (1 kHz / 10 kHz / 100 kHz)
+    assert "1 kHz over 9 kHz – 150 kHz; 10 kHz over 150 kHz – 30 MHz; 100 kHz over 30 MHz – 1 GHz" in out
+    # a region inside one band says that band's width alone, not the whole table
+    (narrow,) = [ln for ln in out.splitlines() if ln.strip().startswith("a narrow range")]
+    assert narrow.rstrip().endswith(" 1 kHz") and " 10 kHz" not in narrow and "100 kHz" not in narrow
+    # evaluated for a station: the same order, cut to the region
+    assert main(["masks", "show", str(path), "--power", "5W", "--carrier", "146MHz"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "reference bandwidth 1 kHz over 9 kHz – 150 kHz; 10 kHz over 150 kHz – 30 MHz; 100 kHz over 30 MHz – 1 GHz" in out

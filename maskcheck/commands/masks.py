@@ -150,6 +150,14 @@ def _evaluate(mask, st):
                          window_anchor=fw.spurious_anchor)
 
 
+def _bands_text(lim) -> str:
+    """The evaluated reference bandwidths in frequency order, each with its range (one alone: its width)."""
+    from ..report.tables import reference_bandwidth_text
+
+    edges = [e if math.isfinite(e) else None for e in (lim.start_hz, lim.stop_hz)]
+    return reference_bandwidth_text(lim.bands, within=tuple(edges))
+
+
 def evaluated_rows(mask, st) -> list[dict]:
     """The evaluated limit of every region, as plain rows (name, where, formula, values, bandwidth, detector).
 
@@ -167,7 +175,7 @@ def evaluated_rows(mask, st) -> list[dict]:
             f"{k} = {getattr(region.limit, k).text}" for k in region.limit.terms
         ) or (region.limit.bandwidth.text if region.limit.bandwidth is not None else "")
         row = {"name": lim.name, "where": lim.anchor, "formula": formula, "values": [], "detector": lim.detector,
-               "bandwidth": ", ".join(sorted({format_frequency(b) for _, _, b in lim.bands})), "unevaluated": lim.unevaluated}
+               "bandwidth": _bands_text(lim), "unevaluated": lim.unevaluated}
         if lim.unevaluated or lim.kind == "occupied-bandwidth":
             if lim.max_bandwidth_hz is not None:
                 row["values"] = [("occupied bandwidth at most", format_frequency(lim.max_bandwidth_hz))]
@@ -227,7 +235,7 @@ def _show_evaluated(mask, st, con) -> None:
         con.print(f"    limit: {escape(row['formula'])}")
         con.print(f"    value: {escape(value)}")
         if row["bandwidth"] or row["detector"]:
-            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}, detector {escape(row['detector'])}")
+            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}; detector {escape(row['detector'])}")
     con.print(SHORT_CAUTION)
 
 

@@ -22,6 +22,7 @@ from .tables import (
     EMISSION_HEADER,
     bandwidth_rows,
     emission_rows,
+    reference_bandwidth_text,
     reference_text,
     region_notes,
     region_rows,
@@ -188,6 +189,33 @@ def _region_range_text(reg) -> str:
     return f"{text} ({dom} domain)" if dom else text
 
 
+def _constant_hz(value):
+    return value.constant() if getattr(value, "is_constant", False) else None
+
+
+def _region_bands_text(reg) -> str:
+    """A region's reference bandwidths in frequency order, each with the part of the region it applies to.
+
+    A region with a fixed edge shows only the bands that reach into it, cut to
+    that edge (a table of bandwidths from 9 kHz to 40 GHz shared by many
+    regions says just '200 Hz' for a region 90-110 kHz); a region placed by
+    offsets or by a domain shows each band's own range.
+    Bandwidths written as expressions keep their text.
+    """
+    lo, hi = _constant_hz(reg.start), _constant_hz(reg.stop)
+    known, other = [], []
+    for b in reg.reference_bandwidth:
+        w = _constant_hz(b.bandwidth)
+        a, z = _constant_hz(b.start), _constant_hz(b.stop)
+        if w is None or (b.start is not None and a is None) or (b.stop is not None and z is None):
+            other.append(_value_text(b.bandwidth) + (f" ({_value_text(b.start)} to {_value_text(b.stop)})"
+                                                     if b.start is not None or b.stop is not None else ""))
+            continue
+        known.append((a, z, w))
+    text = reference_bandwidth_text(known, within=(lo, hi))
+    return "; ".join([text] * bool(text) + other) or "-"
+
+
 def render_mask(mask, console: Console | None = None) -> None:
     """Print one mask definition: provenance, applicability and regions.
 
@@ -233,11 +261,6 @@ def render_mask(mask, console: Console | None = None) -> None:
         if lim.level is not None:
             parts.append(f"at most {_value_text(lim.level, 'W' if lim.level_w is not None else 'dBm')}")
         limit = lim.description or " and ".join(parts)
-        bands = "; ".join(
-            f"{_value_text(b.bandwidth)} ({_value_text(b.start)}-{_value_text(b.stop)})"
-            if (b.start is not None or b.stop is not None) else _value_text(b.bandwidth)
-            for b in reg.reference_bandwidth
-        )
-        rows.append((reg.name, _region_range_text(reg), limit, reg.detector, bands))
-    console.print(_grid(console, "Regions", ("Region", "Range", "Limit", "Detector", "Ref. BW (range)"), rows))
+        rows.append((reg.name, _region_range_text(reg), limit, reg.detector, _region_bands_text(reg)))
+    console.print(_grid(console, "Regions", ("Region", "Range", "Limit", "Detector", "Reference bandwidth"), rows))
     console.print(Text(SHORT_CAUTION, style="italic"))
