@@ -439,8 +439,11 @@ def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
     # nested records (the estimation and calibration of a recording) are for the JSON; their
     # one-line texts ("estimate", "levels") are shown instead
     flat = {k: v for k, v in result.spectrum_summary.to_dict().items() if not isinstance(v, dict)}
-    return _dict_rows(flat, ("start_hz", "stop_hz", "points", "spans", "rbw_hz", "rbw_hz_min", "rbw_hz_max", "detector", "level_scale",
-                             "estimate", "levels"))
+    rows = _dict_rows(flat, ("first_point_hz", "last_point_hz", "start_hz", "stop_hz", "points", "spans", "rbw_hz",
+                             "rbw_hz_min", "rbw_hz_max", "detector", "level_scale", "estimate", "levels"))
+    # the covered range runs to the outer edges of the end points' cells: said so, never as where the trace starts
+    edges = {"start": "covered from (edge of the first point's cell)", "stop": "covered to (edge of the last point's cell)"}
+    return [(edges.get(label, label), value) for label, value in rows]
 
 
 BANDWIDTH_HEADER = ("Method", "Width", "Lower edge", "Upper edge")

@@ -1,0 +1,45 @@
+"""Smaller output defects of issue 12, each with the input that showed it (invented bench data)."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+
+from maskcheck.cli import main
+
+
+def _write_trace(path, freq_hz, level_dbm, rbw_hz):
+    lines = [f"# rbw_hz: {rbw_hz:g}", "# detector: rms", "frequency_hz,level_dbm"]
+    lines += [f"{f:.1f},{v:.2f}" for f, v in zip(freq_hz, level_dbm)]
+    path.write_text("\n".join(lines) + "\n")
+    return path
+
+
+def test_a_trace_from_9_khz_is_said_to_start_at_9_khz(tmp_path):
+    # was: 'start 4.00005 kHz' -- the lower edge of the first point's cell, given as where the trace starts
+    f = np.arange(9e3, 30e6 + 1, 10e3)
+    level = np.full(f.size, -90.0)
+    level[np.argmin(abs(f - 7.1e6))] = 50.0
+    trace = _write_trace(tmp_path / "t.txt", f, level, 10e3)
+    out = tmp_path / "r.json"
+    assert main(["check", str(trace), "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W",
+                 "--json", str(out), "--quiet"]) in (0, 1, 3)
+    s = json.loads(out.read_text())["spectrum"]
+    assert s["first_point_hz"] == 9e3 and s["last_point_hz"] == f[-1]
+    # Closed form: a point's cell reaches half-way to its neighbour; the outer cells are as wide as the spacing
+    assert s["start_hz"] == pytest.approx(9e3 - 5e3) and s["stop_hz"] == pytest.approx(f[-1] + 5e3)
+
+    from types import SimpleNamespace
+
+    from maskcheck.core.records import SpectrumSummary
+    from maskcheck.report.tables import spectrum_rows
+
+    summary = SpectrumSummary(points=s["points"], start_hz=s["start_hz"], stop_hz=s["stop_hz"], spans=1,
+                              rbw_hz_min=1e4, rbw_hz_max=1e4, detector="rms", first_point_hz=9e3,
+                              last_point_hz=float(f[-1]))
+    rows = dict(spectrum_rows(SimpleNamespace(spectrum_summary=summary)))  # the rows read only the summary
+    assert rows["first point"] == "9 kHz"
+    assert rows["covered from (edge of the first point's cell)"] == "4 kHz"
+    assert "start" not in rows
