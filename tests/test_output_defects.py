@@ -43,3 +43,35 @@ def test_a_trace_from_9_khz_is_said_to_start_at_9_khz(tmp_path):
     assert rows["first point"] == "9 kHz"
     assert rows["covered from (edge of the first point's cell)"] == "4 kHz"
     assert "start" not in rows
+
+
+def test_plan_names_the_setup_tables_own_edge_where_the_correction_is_unknown(tmp_path):
+    # was: "correction unknown from 9 kHz to 914.355 kHz" -- the last sampled point below a table starting at 1 MHz
+    setup = tmp_path / "bench.toml"
+    setup.write_text('''schema_version = 1
+name = "cable table from 1 MHz to 100 MHz (invented)"
+measurement = "conducted"
+
+[[chain]]
+name = "40 dB attenuator"
+kind = "attenuator"
+loss_db = 40.0
+
+[[chain]]
+name = "cable"
+kind = "cable"
+
+[chain.loss_table]
+frequency_mhz = [1, 10, 100]
+db = [0.05, 0.15, 0.5]
+''')
+    out = tmp_path / "plan.json"
+    assert main(["plan", "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W", "--setup", str(setup),
+                 "--json", str(out), "--quiet"]) == 0
+    notes = [n for r in json.loads(out.read_text())["ranges"] for n in r["notes"] if "correction unknown" in n]
+    assert notes, "the plan must say where the correction is unknown"
+    text = " ".join(notes)
+    # the plan's ranges split at 150 kHz (the reference bandwidth changes); the second ends at the table's first
+    # frequency, 1 MHz, not at the last sampled point below it
+    assert "correction unknown from 9 kHz to 150 kHz" in text
+    assert "correction unknown from 150 kHz to 1 MHz (" in text
