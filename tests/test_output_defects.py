@@ -75,3 +75,27 @@ db = [0.05, 0.15, 0.5]
     # frequency, 1 MHz, not at the last sampled point below it
     assert "correction unknown from 9 kHz to 150 kHz" in text
     assert "correction unknown from 150 kHz to 1 MHz (" in text
+
+
+def test_worst_point_labels_do_not_overprint_each_other():
+    # was: the labels [2] and [3] printed over each other on the whole-range plot when two regions' worst
+    # points fell close together
+    import dataclasses
+
+    from reportlab.graphics.shapes import String
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    import test_report  # the synthetic result of the report tests (an invented 100 W station on 7.1 MHz)
+    from maskcheck.report.plots import spectrum_drawing
+
+    base = test_report.make_result()
+    r0 = base.regions[0]
+    close = [dataclasses.replace(r0, name=f"region {k}", worst_freq_hz=14.2e6 * (1 + 1e-4 * k),
+                                 worst_level_dbm=15.0 - 0.5 * k) for k in range(4)]
+    d = spectrum_drawing(dataclasses.replace(base, regions=close))
+    labels = [s for s in d.contents if isinstance(s, String) and s.text.startswith("[") and s.text.endswith("]")]
+    assert sorted(s.text for s in labels) == ["[1]", "[2]", "[3]", "[4]"]
+    boxes = [(s.x, s.y - 1, s.x + stringWidth(s.text, s.fontName, s.fontSize), s.y + 6) for s in labels]
+    overlaps = [(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:]
+                if a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]]
+    assert overlaps == []
