@@ -99,3 +99,22 @@ def test_worst_point_labels_do_not_overprint_each_other():
     overlaps = [(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:]
                 if a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]]
     assert overlaps == []
+
+
+def test_simulated_wideband_traces_state_no_centre_at_0_hz(tmp_path):
+    # was: the first wideband trace (the zone at DC, from 9 kHz up) said '# centre_hz: 0.0'
+    from pathlib import Path
+
+    from maskcheck.io.trace_text import read_trace
+
+    scenario = Path(__file__).resolve().parents[1] / "examples" / "fm-handheld.toml"
+    assert main(["simulate", str(scenario), "--out", str(tmp_path), "--quiet"]) == 0
+    files = sorted(tmp_path.glob("wideband-*.txt"))
+    assert files
+    centres = 0
+    for path in files:
+        s = read_trace(path)
+        if s.centre_hz is not None:
+            centres += 1
+            assert s.freq_hz[0] <= s.centre_hz <= s.freq_hz[-1], path.name  # a sweep's centre lies inside it
+    assert centres >= 1  # the carrier's zone still says its centre (146.52 MHz in the scenario)
