@@ -118,3 +118,35 @@ def test_simulated_wideband_traces_state_no_centre_at_0_hz(tmp_path):
             centres += 1
             assert s.freq_hz[0] <= s.centre_hz <= s.freq_hz[-1], path.name  # a sweep's centre lies inside it
     assert centres >= 1  # the carrier's zone still says its centre (146.52 MHz in the scenario)
+
+
+def test_spectrum_reads_a_noiseless_recording(tmp_path):
+    # was: refused as "digital silence" -- an unmodulated carrier without noise leaves Hann-window bins at exactly 0
+    import math
+
+    from maskcheck.io.iq_write import write_sigmf
+    from maskcheck.io.trace_text import read_trace
+
+    fs = 48000.0
+    write_sigmf(tmp_path / "carrier", np.full(48000, 0.5, complex), fs, 14.2e6, full_scale_w=1.0, force=True)
+    out = tmp_path / "carrier.txt"
+    assert main(["spectrum", str(tmp_path / "carrier.sigmf-meta"), "--window", "hann", "--full-scale", "0dBm",
+                 "--out", str(out), "--quiet"]) == 0
+    s = read_trace(out)
+    text = out.read_text()
+    assert "(a noiseless recording; some held no power at all)" in text and "an upper bound, not a reading" in text
+    total = float(np.sum(s.power_w))
+    floor = float(np.min(s.power_w))
+    # Closed form: the float32 machine epsilon is 2**-23; a power bound of eps**2 is 20 log10(2**-23) = -138.47 dB
+    assert 10 * math.log10(floor / total) == pytest.approx(20 * math.log10(2.0**-23), abs=0.05)
+    # the carrier itself: amplitude 0.5 of full scale = -6.02 dB re full scale (0 dBm here); each bin reads the power
+    # in the Hann window's noise bandwidth, 1.5 bins (Closed form: ENBW of the Hann window), so the bins sum to 1.5 x
+    assert 10 * math.log10(total / 1.5) + 30 == pytest.approx(20 * math.log10(0.5), abs=0.05)
+
+
+def test_spectrum_still_refuses_a_silent_recording(tmp_path):
+    # negative control: all samples zero is digital silence, refused with exit 2
+    from maskcheck.io.iq_write import write_sigmf
+
+    write_sigmf(tmp_path / "zero", np.zeros(48000, complex), 48000.0, 14.2e6, full_scale_w=1.0, force=True)
+    assert main(["spectrum", str(tmp_path / "zero.sigmf-meta"), "--quiet"]) == 2
