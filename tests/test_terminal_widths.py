@@ -136,3 +136,28 @@ def test_the_check_finds_an_ellipsis_and_an_overlong_line():
     wide = "one two three"
     assert broken_words("one two thr…", wide, 80)
     assert broken_words("one two three " + "x " * 50, wide, 80)
+
+
+def test_grid_is_a_table_when_it_fits_and_blocks_when_it_does_not():
+    from io import StringIO
+
+    from rich.console import Console
+
+    from maskcheck.report.term_layout import grid
+
+    header = ("#", "Region", "Verdict", "Margin")
+    rows = [("1", "fd more than 5.625 kHz up to 12.5 kHz (out-of-band)", "marginal", "+0.7 dB")]
+
+    def render(width):
+        buf = StringIO()
+        con = Console(file=buf, width=width, color_system=None)
+        con.print(grid(con, header, rows, right=(0, 3), keys=(0, 1)))
+        return buf.getvalue()
+
+    wide = render(200)
+    assert wide.splitlines()[0].split() == ["#", "Region", "Verdict", "Margin"]  # a table: one header row
+    assert "fd more than 5.625 kHz up to 12.5 kHz (out-of-band)" in wide
+    narrow = render(40)
+    assert narrow.splitlines()[0].startswith("1 fd more than")  # a block opened by the row's keys
+    assert "Verdict: marginal" in narrow and "Margin: +0.7 dB" in narrow
+    assert broken_words(narrow, wide, 40) == [] and all(len(ln) <= 40 for ln in narrow.splitlines())

@@ -6,9 +6,9 @@
   into pieces.
 - :func:`facts` -- label/value pairs: two aligned columns, or each label on
   its own line with its value indented below it when the columns do not fit.
-- :func:`heading` -- a ruled heading on a terminal wide enough for it, a
-  plain bold line otherwise (redirected output, long titles: never an
-  ellipsis).
+- :func:`heading` -- a ruled heading on a terminal wide enough for it, else
+  the title wrapped at words over a line of ``=`` (redirected output, long
+  titles: never an ellipsis).
 - :func:`is_plain` -- whether the console writes to a file or pipe: plain
   aligned text with ASCII rules and no trailing blanks.
 
@@ -98,7 +98,10 @@ def heading(console, text: str, style: str = "dim"):
     """A heading line: a rule on a terminal that holds the whole text, else the text in bold."""
     if not is_plain(console) and cell_len(text) + 8 <= console.width:
         return Rule(text, style=style)
-    return Text(text, style="bold")
+    # a title wider than the line, or plain text: the title wrapped at words, underlined in ASCII
+    body = Text(text, style="bold")
+    under = "=" * min(cell_len(text), console.width)
+    return Trimmed(Group(body, Text(under, style=style))) if is_plain(console) else Group(body, Text(under, style=style))
 
 
 def _widths(console, header, rows, box, padding, show_edge, whole) -> tuple[list[int], list[int], int]:
