@@ -45,6 +45,7 @@ def test_list_names_the_authority_once(capsys):
     out = " ".join(capsys.readouterr().out.split())
     assert "ETSI EN 300 220-1" in out and "ETSI ETSI" not in out
     assert "FCC 47 CFR 90.210(d)" in out  # an authority the citation does not name is still said
+    assert "[equipment with an audio low-pass filter]" in out  # the variant, in brackets
     assert main(["masks", "show", "etsi-en300220-srd-spurious"]) == 0
     assert "ETSI ETSI" not in capsys.readouterr().out
 

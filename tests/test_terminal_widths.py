@@ -161,3 +161,16 @@ def test_grid_is_a_table_when_it_fits_and_blocks_when_it_does_not():
     assert narrow.splitlines()[0].startswith("1 fd more than")  # a block opened by the row's keys
     assert "Verdict: marginal" in narrow and "Margin: +0.7 dB" in narrow
     assert broken_words(narrow, wide, 40) == [] and all(len(ln) <= 40 for ln in narrow.splitlines())
+
+
+def test_grid_cells_are_text_not_markup():
+    from io import StringIO
+
+    from rich.console import Console
+
+    from maskcheck.report.term_layout import grid
+
+    buf = StringIO()
+    con = Console(file=buf, width=120, color_system=None)
+    con.print(grid(con, ("Region", "Note"), [("[bold]x[/bold]", "see [2]")]))
+    assert "[bold]x[/bold]" in buf.getvalue() and "see [2]" in buf.getvalue()

@@ -95,7 +95,7 @@ def _pack(items: list[str], width: int) -> list[str]:
 
 
 def heading(console, text: str, style: str = "dim"):
-    """A heading line: a rule on a terminal that holds the whole text, else the text in bold."""
+    """A heading line: a rule on a terminal that holds the whole text, else the text underlined with ``=``."""
     if not is_plain(console) and cell_len(text) + 8 <= console.width:
         return Rule(text, style=style)
     # a title wider than the line, or plain text: the title wrapped at words, underlined in ASCII
@@ -187,7 +187,7 @@ def grid(console, header, rows, *, title: str | None = None, right=(), keys=(0,)
             t.add_column(h, justify="right" if i in right else "left", width=max(widths[i], 1),
                          overflow="fold", style="bold" if not show_header and i == 0 else None)
         for r in rows:
-            t.add_row(*r)
+            t.add_row(*(Text(c) for c in r))  # cells are text, never rich markup ("[2]" stays "[2]")
         parts.append(t)
         return Trimmed(Group(*parts)) if plain else Group(*parts)
     for r in rows:
