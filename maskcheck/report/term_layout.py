@@ -201,9 +201,9 @@ def grid(console, header, rows, *, title: str | None = None, right=(), keys=(0,)
 
 
 def indented(console, text: str, indent: int = 2):
-    """A paragraph indented by ``indent`` characters, wrapped at words."""
+    """A paragraph indented by ``indent`` characters, wrapped at words (``console`` None: as on a terminal)."""
     body = Padding(Text(text), (0, 0, 0, indent))
-    return Trimmed(body) if is_plain(console) else body
+    return Trimmed(body) if console is not None and is_plain(console) else body
 
 
 def facts(console, pairs):

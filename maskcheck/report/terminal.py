@@ -58,7 +58,8 @@ def _grid(console, title: str, header, rows, right=(), whole=None, keys=(0,)):
 _SHORT_REGION_HEADER = ("#", "Region", "Range", "Ref. BW", "Verdict", "Margin", "At")
 
 
-def _indented(text: str, console):
+def _indented(text: str, console=None):
+    """A paragraph indented two characters (trimmed when ``console`` writes plain text)."""
     return indented(console, text)
 
 
