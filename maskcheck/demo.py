@@ -174,7 +174,9 @@ def run_demo(out_dir, *, force: bool = False, console=None) -> int:
         result = check(sim.wideband.spectrum, load_mask(sc.check.mask), station, guard_db=sc.check.guard or 0.0,
                        inputs=[InputFile(str(d / "scenario.toml"), digest)])
         if console is not None:
-            console.rule(sc.name)
+            from .report.term_layout import heading
+
+            console.print(heading(console, sc.name))
             render_check(result, console)
         write_json(result, out / f"demo-{name}-result.json", force=force)
         write_report(result, out / f"demo-{name}-report.pdf", force=force)

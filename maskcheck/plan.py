@@ -428,6 +428,26 @@ def _union(intervals):
     return out
 
 
+def _uncorrected(setup, lo: float, hi: float) -> list[tuple[float, float]]:
+    """The parts of ``[lo, hi]`` outside the range of some table of the setup, with the tables' own edges.
+
+    Sampled points would say where the last sample without a correction lies
+    (914.355 kHz for a table that starts at 1 MHz); the table says where the
+    correction starts.
+    """
+    tables = setup.chain_corrections() + ([setup.antenna_factor()] if setup.radiated else [])
+    ranges = [c.range_hz for c in tables if c is not None and c.freq_hz is not None]
+    if not ranges:
+        return []
+    start, stop = max(a for a, _ in ranges), min(b for _, b in ranges)
+    if start >= stop:
+        return [(lo, hi)]
+    gaps = [(lo, min(hi, start))] if lo < start else []
+    if hi > stop:
+        gaps.append((max(lo, stop), hi))
+    return gaps
+
+
 def _range_row(lim, lo, hi, setup, extra_loss_db, floor_margin_db, ins) -> PlanRange | None:
     pts = np.unique(np.concatenate((np.geomspace(lo, hi, _SAMPLES), [lo, hi])))
     if setup is not None:
@@ -459,11 +479,8 @@ def _range_row(lim, lo, hi, setup, extra_loss_db, floor_margin_db, ins) -> PlanR
         if rbw is not None:
             row.floor_needed_dbm_per_hz = row.floor_needed_dbm - 10.0 * math.log10(rbw)
     else:
-        bad = pts[~known]
-        row.notes.append(
-            f"correction unknown from {format_frequency(float(bad.min()))} to {format_frequency(float(bad.max()))} "
-            "(outside a setup table): limit at the input not stated"
-        )
+        gaps = "; ".join(f"{format_frequency(a)} to {format_frequency(b)}" for a, b in _uncorrected(setup, lo, hi))
+        row.notes.append(f"correction unknown from {gaps} (outside a setup table): limit at the input not stated")
     if ins is not None and ins.noise_density is not None and rbw is not None:
         row.instrument_floor_dbm = float(ins.noise_density + 10.0 * math.log10(rbw))
     if rbw:

@@ -131,6 +131,8 @@ def _spectrum_summary(spectrum) -> SpectrumSummary:
         points=len(spectrum),
         start_hz=spectrum.start_hz,
         stop_hz=spectrum.stop_hz,
+        first_point_hz=float(spectrum.freq_hz[0]),
+        last_point_hz=float(spectrum.freq_hz[-1]),
         spans=len(spectrum.segments) + 1,
         rbw_hz_min=float(spectrum.rbw_hz.min()),
         rbw_hz_max=float(spectrum.rbw_hz.max()),

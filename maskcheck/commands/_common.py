@@ -34,6 +34,18 @@ def console(stderr: bool = False):
             self.quiet = True
             raise BrokenPipeError("standard output was closed")
 
+        def print(self, *objects, **kwargs) -> None:
+            # redirected: plain lines without the blanks rich pads wrapped text with
+            if len(objects) == 1 and not self.is_terminal and not kwargs.get("soft_wrap"):
+                from ..report.term_layout import Trimmed
+
+                (o,) = objects
+                if isinstance(o, str):
+                    o = self.render_str(o, markup=kwargs.get("markup"), emoji=kwargs.get("emoji"),
+                                        highlight=kwargs.get("highlight"))
+                objects = (Trimmed(o),)
+            super().print(*objects, **kwargs)
+
     return _Console(stderr=stderr, highlight=False)
 
 

@@ -101,7 +101,7 @@ def run(args) -> int:
                 print(error_line(exc, args), file=sys.stderr)
             else:
                 con.print(f"{f}: valid ({m.id}, {m.provenance.citation}, schema_version {m.schema_version}; "
-                          f"rule data {m.provenance.grade_text})", soft_wrap=True)
+                          f"rule data {m.provenance.grade_text})")
         return 2 if bad else 0
     if cmd == "audit":
         return _audit(args, con, list_masks)
@@ -119,9 +119,10 @@ def run(args) -> int:
 
 # -- list ----------------------------------------------------------------------------------
 def _list(args, con, list_masks) -> int:
-    from rich.markup import escape
-
     from ..core.units import parse_frequency
+    from ..report.cautions import UNVERIFIED_NOTE
+    from ..report.tables import rule_name
+    from ..report.term_layout import grid
 
     masks = list_masks(extra_dirs=args.mask_dir)
     if args.authority:
@@ -142,10 +143,11 @@ def _list(args, con, list_masks) -> int:
         if args.json != "-":
             con.print(f"{len(masks)} masks written: {args.json}")
         return 0
-    for m in masks:
-        flag = f"rule data {m.provenance.grade}"
-        con.print(f"[bold]{escape(m.id)}[/bold]  {escape(m.provenance.authority)} {escape(m.provenance.citation)}  ({flag})", soft_wrap=True)
-        con.print(f"    {escape(m.title)}" + (f" [{escape(m.applies.variant)}]" if m.applies.variant else ""), soft_wrap=True)
+    rows = [(m.id, rule_name(m.provenance.authority, m.provenance.citation), m.provenance.grade,
+             m.title + (f" [{m.applies.variant}]" if m.applies.variant else "")) for m in masks]
+    con.print(grid(con, ("Mask", "Rule", "Rule data", "Title"), rows, max_row_lines=3))
+    if any(not m.provenance.verified for m in masks):
+        con.print(f"Rule data other than verified: {UNVERIFIED_NOTE}; 'maskcheck masks audit' lists the sources")
     con.print(f"{len(masks)} masks; 'maskcheck masks show ID --power 5W' for one evaluated for a station")
     return 0
 
@@ -234,6 +236,14 @@ def _evaluate(mask, st):
                          window_anchor=fw.spurious_anchor)
 
 
+def _bands_text(lim) -> str:
+    """The evaluated reference bandwidths in frequency order, each with its range (one alone: its width)."""
+    from ..report.tables import reference_bandwidth_text
+
+    edges = [e if math.isfinite(e) else None for e in (lim.start_hz, lim.stop_hz)]
+    return reference_bandwidth_text(lim.bands, within=tuple(edges))
+
+
 def evaluated_rows(mask, st) -> list[dict]:
     """The evaluated limit of every region, as plain rows (name, where, formula, values, bandwidth, detector).
 
@@ -253,7 +263,7 @@ def evaluated_rows(mask, st) -> list[dict]:
             f"{k} = {getattr(region.limit, k).text}" for k in region.limit.terms
         ) or (region.limit.bandwidth.text if region.limit.bandwidth is not None else "")
         row = {"name": lim.name, "where": lim.anchor, "formula": formula, "values": [], "detector": lim.detector,
-               "bandwidth": ", ".join(sorted({format_frequency(b) for _, _, b in lim.bands})), "unevaluated": lim.unevaluated}
+               "bandwidth": _bands_text(lim), "unevaluated": lim.unevaluated}
         if lim.unevaluated or lim.judges_bandwidth:
             if lim.kind == "bandwidth":
                 side, width = ("at least", lim.min_bandwidth_hz) if lim.min_bandwidth_hz is not None else ("at most", lim.max_bandwidth_hz)
@@ -280,24 +290,25 @@ def _show_evaluated(mask, st, con) -> None:
 
     from ..core.units import format_frequency, format_power
     from ..report.cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+    from ..report.tables import rule_name
 
     p = mask.provenance
-    con.print(f"[bold]{escape(mask.id)}[/bold]: {escape(mask.title)}", soft_wrap=True)
-    con.print(f"{escape(p.authority)} {escape(p.citation)}", soft_wrap=True)
-    con.print(f"Rule data: {escape(p.grade_text)}", soft_wrap=True)
+    con.print(f"[bold]{escape(mask.id)}[/bold]: {escape(mask.title)}")
+    con.print(f"{escape(rule_name(p.authority, p.citation))}")
+    con.print(f"Rule data: {escape(p.grade_text)}")
     if p.grading.unconfirmed_text:
-        con.print(f"Not confirmed: {escape(p.grading.unconfirmed_text)}", soft_wrap=True)
+        con.print(f"Not confirmed: {escape(p.grading.unconfirmed_text)}")
     station = f"power {format_power(st['power_w'])}"
     if st["pep_w"] is not None:
         station += f", PEP {format_power(st['pep_w'])}"
     station += f", carrier {format_frequency(st['carrier_hz'])}"
     if st["authorized_bw_hz"] is not None:
         station += f", authorised bandwidth {format_frequency(st['authorized_bw_hz'])}"
-    con.print(f"Station: {escape(station)}" + (f" ({escape(st['note'])})" if st["note"] else ""), soft_wrap=True)
+    con.print(f"Station: {escape(station)}" + (f" ({escape(st['note'])})" if st["note"] else ""))
     ref = mask.reference_power
-    con.print(f"Reference: {escape(ref.kind)}" + (f" ({escape(ref.note)})" if ref.note else ""), soft_wrap=True)
+    con.print(f"Reference: {escape(ref.kind)}" + (f" ({escape(ref.note)})" if ref.note else ""))
     if mask.applies.variant:
-        con.print(f"Variant: {escape(mask.applies.variant)}", soft_wrap=True)
+        con.print(f"Variant: {escape(mask.applies.variant)}")
     if not p.verified:
         con.print(f"[bold yellow]!! {UNVERIFIED_NOTE}: rule data {escape(p.grade)}, {escape(p.grading.summary)}[/bold yellow]")
     con.print("Limits for this station, region by region:")
@@ -315,14 +326,14 @@ def _show_evaluated(mask, st, con) -> None:
                 at = f"{'+' if f >= fc else '-'}{format_frequency(off)} from the carrier" if row["where"].startswith("offset") else format_frequency(f)
                 parts.append((f"{rel:.2f} dB below the reference = " if rel is not None else "") + f"{dbm:.2f} dBm at {at}")
             value = "; ".join(parts)
-        con.print(f"[bold][{i}] {escape(row['name'])}[/bold]" + (f"  ({escape(row['where'])})" if row["where"] else ""), soft_wrap=True)
-        con.print(f"    limit: {escape(row['formula'])}", soft_wrap=True)
-        con.print(f"    value: {escape(value)}", soft_wrap=True)
+        con.print(f"[bold][{i}] {escape(row['name'])}[/bold]" + (f"  ({escape(row['where'])})" if row["where"] else ""))
+        con.print(f"    limit: {escape(row['formula'])}")
+        con.print(f"    value: {escape(value)}")
         resting = p.grading.rests_on(row["name"])
         if resting and p.grade != "unchecked":
-            con.print(f"    [yellow]rests on values no text read confirms: {escape(', '.join(resting))}[/yellow]", soft_wrap=True)
+            con.print(f"    [yellow]rests on values no text read confirms: {escape(', '.join(resting))}[/yellow]")
         if row["bandwidth"] or row["detector"]:
-            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}, detector {escape(row['detector'])}", soft_wrap=True)
+            con.print(f"    reference bandwidth {escape(row['bandwidth'] or '-')}; detector {escape(row['detector'])}")
     con.print(SHORT_CAUTION)
 
 
@@ -370,58 +381,17 @@ def _curves(mask, st, n: int = 200):
 
 
 def mask_drawing(mask, st, width: float = 520.0, height: float = 300.0):
-    """A reportlab Drawing of the mask's limits for one station (offset axis or log-frequency axis)."""
-    from reportlab.graphics.shapes import Drawing, Line, PolyLine, String
-    from reportlab.lib import colors
-
-    from ..core.units import format_frequency
+    """A reportlab Drawing of the mask's limits for one station, in the report's plot style
+    (:func:`maskcheck.report.mask_plot.mask_drawing`): an offset axis, or a frequency axis."""
+    from ..report.mask_plot import mask_drawing as draw
+    from ..report.tables import rule_name
 
     curves, offsets, rel = _curves(mask, st)
     if not curves:
         raise MaskcheckError(f"mask {mask.id}: no region can be drawn for this station (give --bandwidth?)", where="masks plot")
-    xs = [x for _, pts in curves for x, _ in pts]
-    ys = [y for _, pts in curves for _, y in pts]
-    left, bottom, right, top = 60.0, 40.0, width - 15.0, height - 45.0
-    x0, x1 = (-max(xs), max(xs)) if offsets else (min(xs), max(xs))
-    y0, y1 = math.floor(min(ys) / 10.0) * 10.0 - 10.0, math.ceil(max(ys) / 10.0) * 10.0 + 5.0
-
-    def px(x):
-        if offsets:
-            return left + (x - x0) / (x1 - x0) * (right - left)
-        return left + (math.log10(x) - math.log10(x0)) / (math.log10(x1) - math.log10(x0) or 1.0) * (right - left)
-
-    def py(y):
-        return bottom + (y - y0) / (y1 - y0) * (top - bottom)
-
-    d = Drawing(width, height)
-    title = f"{mask.id}: {mask.provenance.citation}"
-    d.add(String(left, height - 15, title[:90], fontName="Helvetica-Bold", fontSize=9))
-    sub = f"limit {'relative to the reference (dB)' if rel else 'absolute (dBm in the reference bandwidth)'}; power {st['power_w']:g} W"
-    if not mask.provenance.verified:
-        sub += f"; rule data {mask.provenance.grade}, not verified against the official text"
-    d.add(String(left, height - 28, sub[:110], fontName="Helvetica", fontSize=7, fillColor=colors.darkred if not mask.provenance.verified else colors.black))
-    d.add(Line(left, bottom, right, bottom, strokeColor=colors.black, strokeWidth=0.6))
-    d.add(Line(left, bottom, left, top, strokeColor=colors.black, strokeWidth=0.6))
-    step = 10.0 if (y1 - y0) <= 120 else 20.0
-    y = y0
-    while y <= y1 + 1e-9:
-        d.add(Line(left, py(y), right, py(y), strokeColor=colors.lightgrey, strokeWidth=0.3))
-        d.add(String(left - 5, py(y) - 3, f"{y:g}", fontName="Helvetica", fontSize=6, textAnchor="end"))
-        y += step
-    for k in range(5):
-        xv = x0 + k * (x1 - x0) / 4 if offsets else 10 ** (math.log10(x0) + k * (math.log10(x1) - math.log10(x0)) / 4)
-        label = ("+" if xv > 0 else "-" if xv < 0 else "") + format_frequency(abs(xv)) if offsets else format_frequency(xv)
-        d.add(String(px(xv), bottom - 12, label, fontName="Helvetica", fontSize=6, textAnchor="middle"))
-    d.add(String((left + right) / 2, bottom - 25, "offset from the carrier" if offsets else "frequency",
-                 fontName="Helvetica", fontSize=7, textAnchor="middle"))
-    for _, pts in curves:
-        sides = (1.0, -1.0) if offsets else (1.0,)
-        for s in sides:
-            flat = []
-            for x, yv in pts:
-                flat += [px(s * x), py(yv)]
-            d.add(PolyLine(flat, strokeColor=colors.red, strokeWidth=1.0))
-    return d
+    title = f"{mask.id}: {rule_name(mask.provenance.authority, mask.provenance.citation)}"
+    return draw(title, curves, offsets=offsets, relative=rel, power_w=st["power_w"], verified=mask.provenance.verified,
+                grade=mask.provenance.grade, width_pt=width, height_pt=height)
 
 
 def _plot(mask, st, out, force, con) -> int:

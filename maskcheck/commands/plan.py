@@ -130,9 +130,9 @@ def _num(v) -> str:
 
 def render_plan(plan, con) -> None:
     """The plan as rich tables on ``con``."""
-    from rich import box
     from rich.markup import escape
-    from rich.table import Table
+
+    from ..report.term_layout import grid
 
     from ..core.units import format_frequency
     from ..report.cautions import SAFETY, SHORT_CAUTION, UNVERIFIED_NOTE
@@ -158,28 +158,23 @@ def render_plan(plan, con) -> None:
     if f.get("peak_at_input_dbm") is not None:
         con.print("levels are the " + escape(plan.quantity) + "; 'loss dB' is added to a reading at the analyser input to get it")
         con.print(f"fundamental at the analyser input: {_db(f['mean_at_input_dbm'])} mean, {_db(f['peak_at_input_dbm'])} peak")
-    t = Table(title="Ranges to sweep (levels in dBm in the reference bandwidth; pts = sweep points needed)",
-              title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
-    for h, j in (("range", "left"), ("RBW", "right"), ("det.", "left"), ("limit", "right"), ("loss dB", "right"),
-                 ("input", "right"), ("floor", "right"), ("pts", "right")):
-        t.add_column(h, justify=j, no_wrap=h in ("range", "RBW", "pts"))
+    rows = []
     for r in plan.ranges:
         corr = "–" if r.offset_min_db is None else (f"{r.offset_min_db:.1f}" if abs(r.offset_max_db - r.offset_min_db) < 0.05
                                                      else f"{r.offset_min_db:.1f}…{r.offset_max_db:.1f}")
-        t.add_row(f"{format_frequency(r.start_hz)} – {format_frequency(r.stop_hz)}",
-                  "–" if r.reference_bandwidth_hz is None else format_frequency(r.reference_bandwidth_hz), r.detector,
-                  _num(r.limit_dbm), corr, _num(r.limit_at_input_dbm), _num(r.floor_needed_dbm),
-                  "–" if r.points_needed is None else f"≥{r.points_needed}")
-    con.print(t)
+        rows.append((f"{format_frequency(r.start_hz)} – {format_frequency(r.stop_hz)}",
+                     "–" if r.reference_bandwidth_hz is None else format_frequency(r.reference_bandwidth_hz), r.detector,
+                     _num(r.limit_dbm), corr, _num(r.limit_at_input_dbm), _num(r.floor_needed_dbm),
+                     "–" if r.points_needed is None else f"≥{r.points_needed}"))
+    con.print(grid(con, ("range", "RBW", "det.", "limit", "loss dB", "input", "floor", "pts"), rows,
+                   title="Ranges to sweep (levels in dBm in the reference bandwidth; pts = sweep points needed)",
+                   right=(1, 3, 4, 5, 6, 7)))
     if plan.harmonics:
-        h = Table(title="Harmonics to look at", title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
-        for c in ("n", "frequency", "RBW", "limit dBm", "at input dBm"):
-            h.add_column(c, justify="right")
-        for x in plan.harmonics:
-            h.add_row(str(x.order), format_frequency(x.freq_hz),
-                      "–" if x.reference_bandwidth_hz is None else format_frequency(x.reference_bandwidth_hz),
-                      _num(x.limit_dbm), _num(x.limit_at_input_dbm))
-        con.print(h)
+        rows = [(str(x.order), format_frequency(x.freq_hz),
+                 "–" if x.reference_bandwidth_hz is None else format_frequency(x.reference_bandwidth_hz),
+                 _num(x.limit_dbm), _num(x.limit_at_input_dbm)) for x in plan.harmonics]
+        con.print(grid(con, ("n", "frequency", "RBW", "limit dBm", "at input dBm"), rows, title="Harmonics to look at",
+                       right=range(5), keys=(0, 1)))
     for r in plan.ranges:
         for n in r.notes:
             con.print(f"note ({format_frequency(r.start_hz)} to {format_frequency(r.stop_hz)}): {escape(n)}")

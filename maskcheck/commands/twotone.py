@@ -192,7 +192,8 @@ def run(args) -> int:
     to_stdout = args.json == "-"
     if not args.quiet:
         from rich.markup import escape
-        from rich.table import Table
+
+        from ..report.term_layout import grid
 
         con = console(stderr=to_stdout)
         d = res.to_dict()
@@ -211,13 +212,11 @@ def run(args) -> int:
         con.print(f"PEP {d['pep_dbm']:.2f} {unit}, mean {d['mean_dbm']:.2f} {unit} (PEP/mean {d['pep_to_mean_db']:.2f} dB)")
         if res.floor_w is not None:
             con.print(f"floor in a {res.band_hz:.4g} Hz line band: {d['floor_db_re_one_tone']:.2f} dB re one tone")
-        tab = Table("order", "side", "frequency", "dB re one tone", "dB re PEP")
-        for k in ORDERS:
-            w = res.worst(k)
-            for p in (p for p in res.products if p.order == k):
-                tab.add_row(str(k), p.side + (" (worse)" if p is w and not p.below_floor else ""), format_frequency(p.freq_hz, 9),
-                            p.describe("tone"), p.describe("pep"))
-        con.print(tab)
+        rows = [(str(k), p.side + (" (worse)" if p is res.worst(k) and not p.below_floor else ""),
+                 format_frequency(p.freq_hz, 9), p.describe("tone"), p.describe("pep"))
+                for k in ORDERS for p in res.products if p.order == k]
+        con.print(grid(con, ("order", "side", "frequency", "dB re one tone", "dB re PEP"), rows,
+                       title="Intermodulation products", right=(0, 3, 4), keys=(0, 1)))
         if res.carrier is not None:
             c = res.carrier
             con.print(f"suppressed carrier {format_frequency(c.carrier_hz, 9)} ({c.sideband} sideband): "

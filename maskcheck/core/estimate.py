@@ -610,12 +610,16 @@ class WelchEstimate:
         values, detector, k = self.trace_fs(trace, frame)
         power = values * scale_w
         if not np.all(power > 0):
-            i = int(np.flatnonzero(~(power > 0))[0])
-            raise SpectrumError(
-                f"no power at {centre_hz + self.offset_hz[i]:g} Hz (and {int(np.count_nonzero(~(power > 0))) - 1} more "
-                "bins): the recording is digital silence there; expected a recording with at least receiver noise",
-                path=source,
-            )
+            empty = ~(power > 0)
+            i = int(np.flatnonzero(empty)[0])
+            if not np.any(power > 0) or not np.all(np.isfinite(power)) or np.any(power < 0):
+                raise SpectrumError(
+                    f"no power at {centre_hz + self.offset_hz[i]:g} Hz (and {int(np.count_nonzero(empty)) - 1} more "
+                    "bins): the recording is digital silence there; expected a recording with at least receiver noise",
+                    path=source,
+                )
+            power, note = _resolution_floor(power)
+            metadata["notes"] = (*tuple(metadata.get("notes") or ()), note)
         if source is not None:
             metadata["source"] = str(source)
         metadata["estimation"] = self._record(trace, frame, detector, k)
@@ -623,6 +627,38 @@ class WelchEstimate:
             metadata["centre_hz"] = float(centre_hz)
         enbw = self.plan.enbw_hz
         return Spectrum(float(centre_hz) + self.offset_hz, power, enbw, enbw, detector=detector, **metadata)
+
+
+#: Relative resolution of the single-precision arithmetic of the estimate (the segments' FFT is float32).
+FLOAT32_EPS = float(np.finfo(np.float32).eps)
+
+
+def _resolution_floor(power: np.ndarray) -> tuple[np.ndarray, str]:
+    """A noiseless recording's bins below the estimate's arithmetic resolution, given at that resolution.
+
+    A recording without noise (a simulated carrier, a tone on a bin) leaves
+    bins whose power is exactly zero, or a rounding residue far below what
+    single-precision arithmetic resolves beside the signal: neither is a
+    reading.  Every bin below ``total power x FLOAT32_EPS**2`` (about 138 dB
+    below the total power) is given at that level, an upper bound of what it
+    holds, and a note says so.  Called only when some bin holds exactly no
+    power: a recording with noise never comes near this bound.
+
+    References
+    ----------
+    .. [1] The relative rounding error of a float32 result is at most its
+       machine epsilon, 2**-23 (IEEE 754 binary32); a power is an amplitude
+       squared.  Common practice, no published source, for taking it as the
+       bound of a bin the arithmetic cannot resolve.
+    """
+    total = float(np.sum(power, dtype=np.float64))
+    floor = total * FLOAT32_EPS**2
+    below = power < floor
+    out = np.where(below, floor, power)
+    note = (f"{int(np.count_nonzero(below))} bin(s) lay below the resolution of the single-precision estimate "
+            f"(a noiseless recording; some held no power at all): they are given at that resolution, "
+            f"{10.0 * math.log10(FLOAT32_EPS**2):.1f} dB below the total power, an upper bound, not a reading")
+    return out, note
 
 
 class _BatchState:

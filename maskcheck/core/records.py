@@ -986,7 +986,13 @@ class SpectrumSummary:
     ----------
     points, spans : int
     start_hz, stop_hz : float
-        The covered range, Hz.
+        The covered range, Hz: the outer edges of the first and last points'
+        cells (a point stands for the cell reaching half-way to its
+        neighbours), so a trace whose points start at 9 kHz, 10 kHz apart,
+        covers from 4 kHz.
+    first_point_hz, last_point_hz : float or None
+        The frequencies of the first and the last point, as the trace gives
+        them (omitted when None).
     rbw_hz_min, rbw_hz_max : float
     detector : str
     level_scale : str or None
@@ -1020,10 +1026,15 @@ class SpectrumSummary:
     levels_text: str | None = None
     time_resolved: TimeResolvedRecord | None = None
     receiver_artefacts: ReceiverArtefacts | None = None
+    first_point_hz: float | None = None
+    last_point_hz: float | None = None
 
     def to_dict(self) -> dict:
         d = _plain(self, tuple(f.name for f in fields(self) if f.name not in (
             "points", "start_hz", "stop_hz", "spans", "rbw_hz_min", "rbw_hz_max", "detector")))
+        ends = {k: d.pop(k) for k in ("first_point_hz", "last_point_hz") if k in d}
+        head = {k: d.pop(k) for k in ("points", "start_hz", "stop_hz")}
+        d = {**head, **ends, **d}  # the end points beside the covered range they explain
         for name, key in (("estimate_text", "estimate"), ("levels_text", "levels")):
             if name in d:
                 d[key] = d.pop(name)

@@ -28,7 +28,7 @@ from reportlab.lib import colors
 
 from ..core.units import format_frequency
 
-__all__ = ["Envelope", "envelope", "choose_log_axis", "LOG_AXIS_DECADES", "PALETTE", "Axes"]
+__all__ = ["Envelope", "envelope", "choose_log_axis", "LOG_AXIS_DECADES", "PALETTE", "Axes", "tick_decimals"]
 
 #: Spans wider than this many decades are drawn on a log frequency axis.
 LOG_AXIS_DECADES = 2.0
@@ -194,9 +194,21 @@ def _unit(hz: float) -> tuple[float, str]:
     return 1.0, "Hz"
 
 
+def tick_decimals(step: float) -> int:
+    """The fewest decimals that write every multiple of ``step`` exactly (0.025 -> 3, 0.0025 -> 4, 5 -> 0).
+
+    Ticks sit at whole multiples of the step, so the step's own decimals are
+    enough and necessary: with fewer, 146.475 would print as 146.47 or 146.48.
+    """
+    for decimals in range(0, 13):
+        scaled = step * 10.0**decimals
+        if abs(scaled - round(scaled)) <= 1e-6 * max(scaled, 1.0):
+            return decimals
+    return 12
+
+
 def _fmt_tick(value: float, step: float) -> str:
-    decimals = max(0, -math.floor(math.log10(step) + 1e-9))
-    text = f"{value:.{decimals}f}"
+    text = f"{value:.{tick_decimals(step)}f}"
     return "0" if text.strip("-0.") == "" else text
 
 
@@ -257,8 +269,8 @@ class Axes:
             xa, xb = mid - min_width / 2, mid + min_width / 2
         self.d.add(Rect(xa, self.bottom if y is None else y, xb - xa, self.ph if h is None else h, fillColor=color, strokeColor=None))
 
-    def frame(self, level_label: str = "Level (dBm)") -> None:
-        """Grid, ticks, frame and axis labels."""
+    def frame(self, level_label: str = "Level (dBm)", x_label: str = "Frequency") -> None:
+        """Grid, ticks, frame and axis labels (``x_label`` names a linear axis, e.g. an offset from the carrier)."""
         d, font, fs, ink = self.d, self.font, 7, PALETTE["ink"]
         left, bottom, pw, ph = self.left, self.bottom, self.pw, self.ph
         yv = self.y0
@@ -286,15 +298,16 @@ class Axes:
             xlabel = "Frequency (logarithmic axis)"
         else:
             factor, uname = _unit(max(abs(lo), abs(hi)))
-            step = _nice_step((hi - lo) / factor, 6) * factor
-            f = math.ceil(lo / step) * step
-            while f <= hi + step * 1e-9:
+            step_u = _nice_step((hi - lo) / factor, 6)  # in the axis unit: 0.025 (MHz), never 25000.000000004 Hz
+            k = math.ceil(lo / factor / step_u - 1e-9)
+            while k * step_u <= hi / factor + step_u * 1e-9:
+                f = k * step_u * factor
                 xx = float(self.px(f))
                 d.add(Line(xx, bottom, xx, bottom + ph, strokeColor=PALETTE["grid"], strokeWidth=0.4))
                 d.add(Line(xx, bottom - 4, xx, bottom, strokeColor=PALETTE["frame"], strokeWidth=0.6))
-                d.add(String(xx, bottom - 12, _fmt_tick(f / factor, step / factor), textAnchor="middle", fontName=font, fontSize=fs, fillColor=ink))
-                f += step
-            xlabel = f"Frequency ({uname})"
+                d.add(String(xx, bottom - 12, _fmt_tick(k * step_u, step_u), textAnchor="middle", fontName=font, fontSize=fs, fillColor=ink))
+                k += 1
+            xlabel = f"{x_label} ({uname})"
         d.add(Rect(left, bottom, pw, ph, fillColor=None, strokeColor=PALETTE["frame"], strokeWidth=0.8))
         d.add(String(left + pw / 2, bottom - 24, xlabel, textAnchor="middle", fontName=font, fontSize=8, fillColor=ink))
         ylab = Group(String(0, 0, level_label, textAnchor="middle", fontName=font, fontSize=8, fillColor=ink))

@@ -209,18 +209,39 @@ def spectrum_drawing(
         if m.level_dbm is not None:
             yy = float(ax.py(m.level_dbm))
             d.add(Line(left, yy, left + pw, yy, strokeColor=m.color, strokeWidth=0.7, strokeDashArray=dash))
-    # worst points: an open diamond with the region's number from the table
-    for i, r in enumerate(result.regions, 1):
-        if r.worst_freq_hz is None or r.worst_level_dbm is None or not (lo <= r.worst_freq_hz <= hi):
-            continue
-        xx, yy = float(ax.px(r.worst_freq_hz)), float(ax.py(r.worst_level_dbm))
+    # worst points: an open diamond with the region's number from the table, each label where it overprints
+    # neither another label nor a diamond
+    marks = [(i, r, float(ax.px(r.worst_freq_hz)), float(ax.py(r.worst_level_dbm)))
+             for i, r in enumerate(result.regions, 1)
+             if r.worst_freq_hz is not None and r.worst_level_dbm is not None and lo <= r.worst_freq_hz <= hi]
+    taken = [(xx - 4.0, yy - 4.0, xx + 4.0, yy + 4.0) for _, _, xx, yy in marks]
+    for i, r, xx, yy in marks:
         c = PALETTE.get(r.verdict, ink)
         _diamond(d, xx, yy, 4.0, c)
         label = f"[{i}]"
-        lx = xx + 6 if xx + 6 + stringWidth(label, "Helvetica-Bold", 7) < left + pw else xx - 6 - stringWidth(label, "Helvetica-Bold", 7)
-        d.add(String(lx, min(yy + 2, bottom + ph - 8), label, fontName="Helvetica-Bold", fontSize=7, fillColor=c))
+        lx, ly = _label_place(label, xx, yy, taken, (left, bottom, left + pw, bottom + ph))
+        taken.append((lx, ly - 1.0, lx + stringWidth(label, "Helvetica-Bold", 7), ly + 6.0))
+        d.add(String(lx, ly, label, fontName="Helvetica-Bold", fontSize=7, fillColor=c))
     _legend(d, result, ax, markers, lo, hi, window_shown)
     return d
+
+
+def _label_place(label: str, x: float, y: float, taken, frame) -> tuple[float, float]:
+    """Where a worst point's label goes: beside its diamond, right or left, then one line lower or higher
+    at a time, at the first place that overlaps no rectangle in ``taken`` and stays inside ``frame``."""
+    w = stringWidth(label, "Helvetica-Bold", 7)
+    x0, y0, x1, y1 = frame
+    first = None
+    for dy in (2.0, -7.0, 11.0, -16.0, 20.0, -25.0, 29.0, -34.0):
+        for lx in (x + 6.0, x - 6.0 - w):
+            ly = min(max(y + dy, y0 + 1.0), y1 - 8.0)
+            box = (lx, ly - 1.0, lx + w, ly + 6.0)
+            if lx < x0 or lx + w > x1:
+                continue
+            first = first or (lx, ly)
+            if not any(box[0] < b[2] and b[0] < box[2] and box[1] < b[3] and b[1] < box[3] for b in taken):
+                return lx, ly
+    return first or (x + 6.0, min(y + 2.0, y1 - 8.0))
 
 
 def _curve_visible(curve, lo, hi) -> bool:

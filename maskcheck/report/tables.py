@@ -55,6 +55,8 @@ __all__ = [
     "remeasure_lines",
     "rule_data_lines",
     "resting_lines",
+    "rule_name",
+    "reference_bandwidth_text",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
@@ -80,6 +82,17 @@ def resting_lines(result) -> list[str]:
     """One line per judged region whose verdict rests on values no text read confirms."""
     return [f"region '{r.name}' rests on values no text read confirms: {', '.join(r.unconfirmed)}"
             for r in result.regions if r.unconfirmed]
+
+
+def rule_name(authority: str, citation: str) -> str:
+    """The rule as people name it: ``FCC 47 CFR 97.307(d)``, and ``ETSI EN 300 220-1`` (never ``ETSI ETSI ...``).
+
+    Many citations already open with their authority's name; it is said once.
+    """
+    authority, citation = str(authority or "").strip(), str(citation or "").strip()
+    if not authority or citation.casefold().startswith(authority.casefold()):
+        return citation
+    return f"{authority} {citation}".strip()
 
 
 # ----------------------------------------------------------------------------- JSON
@@ -177,6 +190,58 @@ def fmt_dbm(level_dbm: float | None) -> str:
 def fmt_range(start_hz: float, stop_hz: float) -> str:
     """``(9e3, 71e6)`` -> ``'9 kHz – 71 MHz'``."""
     return f"{format_frequency(start_hz)} {DASH} {format_frequency(stop_hz)}"
+
+
+def reference_bandwidth_text(bands, within: tuple[float | None, float | None] = (None, None)) -> str:
+    """Reference bandwidths in frequency order, each with the range it applies to.
+
+    Parameters
+    ----------
+    bands : iterable of (start_hz or None, stop_hz or None, bandwidth_hz)
+        ``None`` for an open end (both ``None``: the whole region).
+    within : (lo_hz or None, hi_hz or None)
+        The region's own edges where known: each band is cut to them, a band
+        wholly outside is left out, and a single band over the whole region is
+        given as its width alone.
+
+    Returns
+    -------
+    str
+        ``'1 kHz over 9 kHz – 150 kHz; 10 kHz over 150 kHz – 30 MHz'``.
+
+    Examples
+    --------
+    >>> reference_bandwidth_text([(1e9, 40e9, 1e6), (9e3, 1e9, 30e3)])
+    '30 kHz over 9 kHz – 1 GHz; 1 MHz over 1 GHz – 40 GHz'
+    >>> reference_bandwidth_text([(9e3, 150e3, 200.0), (150e3, 30e6, 9e3)], within=(90e3, 110e3))
+    '200 Hz'
+    """
+    lo, hi = within
+    cut = []
+    for a, z, w in bands:
+        if lo is not None:
+            if z is not None and z <= lo:
+                continue
+            a = lo if a is None else max(a, lo)
+        if hi is not None:
+            if a is not None and a >= hi:
+                continue
+            z = hi if z is None else min(z, hi)
+        cut.append((a, z, w))
+    if len(cut) == 1 and cut[0][0] in (None, lo) and cut[0][1] in (None, hi):
+        cut = [(None, None, cut[0][2])]  # one bandwidth over the whole region
+    ordered = sorted(cut, key=lambda b: (-math.inf if b[0] is None else b[0], math.inf if b[1] is None else b[1]))
+    parts = []
+    for a, b, w in ordered:
+        if a is None and b is None:
+            parts.append(format_frequency(w))
+        elif a is None:
+            parts.append(f"{format_frequency(w)} up to {format_frequency(b)}")
+        elif b is None:
+            parts.append(f"{format_frequency(w)} from {format_frequency(a)}")
+        else:
+            parts.append(f"{format_frequency(w)} over {fmt_range(a, b)}")
+    return "; ".join(parts)
 
 
 _MEANING = {
@@ -364,8 +429,7 @@ def region_notes(result: CheckResult) -> list[str]:
             notes.append(f"[{i}] {r.name}: and {len(r.excluded_hz) - len(shown)} more spans excluded from the check "
                          f"({r.anchor or 'see the JSON for each'})")
         if len(r.reference_bandwidths) > 1:
-            bands = "; ".join(f"{format_frequency(w)} over {fmt_range(a, b)}" for a, b, w in r.reference_bandwidths)
-            notes.append(f"[{i}] {r.name}: reference bandwidth {bands}")
+            notes.append(f"[{i}] {r.name}: reference bandwidth {reference_bandwidth_text(r.reference_bandwidths)}")
         if r.limit_text:
             notes.append(f"[{i}] {r.name}: limit {r.limit_text}; detector {r.detector_required}")
     return notes
@@ -494,8 +558,11 @@ def spectrum_rows(result: CheckResult) -> list[tuple[str, str]]:
     # nested records (the estimation and calibration of a recording) are for the JSON; their
     # one-line texts ("estimate", "levels") are shown instead
     flat = {k: v for k, v in result.spectrum_summary.to_dict().items() if not isinstance(v, dict)}
-    rows = _dict_rows(flat, ("start_hz", "stop_hz", "points", "spans", "rbw_hz", "rbw_hz_min", "rbw_hz_max", "detector",
-                             "level_scale", "estimate", "levels"))
+    rows = _dict_rows(flat, ("first_point_hz", "last_point_hz", "start_hz", "stop_hz", "points", "spans", "rbw_hz",
+                             "rbw_hz_min", "rbw_hz_max", "detector", "level_scale", "estimate", "levels"))
+    # the covered range runs to the outer edges of the end points' cells: said so, never as where the trace starts
+    edges = {"start": "covered from (edge of the first point's cell)", "stop": "covered to (edge of the last point's cell)"}
+    rows = [(edges.get(label, label), value) for label, value in rows]
     art = result.spectrum_summary.receiver_artefacts
     if art is not None:
         rows.append(("receiver", receiver_text(art)))

@@ -10,16 +10,13 @@ the output reads the same in a plain 80-column terminal without colour.
 
 from __future__ import annotations
 
-from rich import box
 from rich.console import Console
-from rich.padding import Padding
-from rich.rule import Rule
-from rich.table import Table
 from rich.text import Text
 
 from ..core.result import BandwidthFigure, CheckResult
 from ..core.units import format_frequency
 from .cautions import SHORT_CAUTION, UNVERIFIED_NOTE
+from .term_layout import facts as fact_list, grid, heading, indented
 from .tables import (
     BANDWIDTH_HEADER,
     rule_data_lines,
@@ -28,10 +25,12 @@ from .tables import (
     artefact_notes,
     decision_rule_text,
     emission_rows,
+    reference_bandwidth_text,
     reference_text,
     region_notes,
     region_rows,
     remeasure_lines,
+    rule_name,
     station_rows,
     unevaluated_lines,
     verdict_sentence,
@@ -51,30 +50,21 @@ VERDICT_STYLES = {
 }
 
 
-def _facts(pairs) -> Table:
-    t = Table(box=None, show_header=False, padding=(0, 1, 0, 0), expand=False)
-    t.add_column(style="bold", no_wrap=True)
-    t.add_column(overflow="fold")
-    for label, value in pairs:
-        t.add_row(label, value)
-    return t
+def _facts(console, pairs):
+    return fact_list(console, pairs)
 
 
-def _grid(title: str, header, rows, right=(), no_wrap=()) -> Table:
-    t = Table(title=title, title_justify="left", title_style="bold", box=box.SIMPLE_HEAD, padding=(0, 1))
-    for i, h in enumerate(header):
-        t.add_column(h, justify="right" if i in right else "left", overflow="fold", no_wrap=i in no_wrap)
-    for row in rows:
-        t.add_row(*row)
-    return t
+def _grid(console, title: str, header, rows, right=(), whole=None, keys=(0,)):
+    return grid(console, header, rows, title=title, right=right, whole=whole, keys=keys)
 
 
 #: Shorter names for the columns of :data:`~maskcheck.report.tables.REGION_HEADER`, to fit 80 columns.
 _SHORT_REGION_HEADER = ("#", "Region", "Range", "Ref. BW", "Verdict", "Margin", "At")
 
 
-def _indented(text: str) -> Padding:
-    return Padding(Text(text, overflow="fold"), (0, 0, 0, 2))
+def _indented(text: str, console=None):
+    """A paragraph indented two characters (trimmed when ``console`` writes plain text)."""
+    return indented(console, text)
 
 
 def render_check(result: CheckResult, console: Console | None = None) -> None:
@@ -90,7 +80,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     console = console or Console()
     mask = result.mask
     version = "" if result.tool is None else result.tool.version
-    console.print(Rule(f"maskcheck {version}".strip() + f" | mask {mask.id}", style="dim"))
+    console.print(heading(console, f"maskcheck {version}".strip() + f" | mask {mask.id}"))
 
     verdict = Text()
     verdict.append("Outcome  ", style="bold")
@@ -109,7 +99,7 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     if missing:
         console.print(Text(f"Not evaluated ({len(missing)}): these required ranges are not shown to comply", style="bold"))
         for line in missing:
-            console.print(_indented(f"- {line}"))
+            console.print(_indented(f"- {line}", console))
 
     facts = [("Worst margin", worst_point_text(result)), ("Reference", reference_text(result))]
     obw = result.occupied_bandwidth
@@ -120,40 +110,42 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     facts += [(label[:1].upper() + label[1:], value) for label, value in emission_facts(result)]
     mask_line = f"{mask.id}: {mask.title}" if mask.title else mask.id
     facts.append(("Mask", mask_line))
-    facts.append(("Rule", f"{mask.authority} {mask.citation}".strip()))
+    facts.append(("Rule", rule_name(mask.authority, mask.citation)))
     facts.append(("Rule data", mask.grade_text or mask.grade))
     if mask.unconfirmed_text:
         facts.append(("Not confirmed", mask.unconfirmed_text))
     facts.append(("Decision rule", decision_rule_text(result)))
-    console.print(_facts(facts))
+    console.print(_facts(console, facts))
     if not mask.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {mask.grade}, {mask.grade_summary or mask.grade_text}; "
                            f"'maskcheck masks show {mask.id}' lists the sources", style="bold yellow"))
 
     header = _SHORT_REGION_HEADER
-    console.print(_grid("Regions (worst margin of each)", header, region_rows(result), right=(0, 5), no_wrap=(2, 5, 6)))
+    console.print(_grid(console, "Regions (worst margin of each)", header, region_rows(result), right=(0, 5),
+                        whole=(0, 4, 5, 6), keys=(0, 1)))
     for note in region_notes(result):
-        console.print(_indented(note))
+        console.print(_indented(note, console))
 
     if result.emissions:
-        console.print(_grid("Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3)))
+        console.print(_grid(console, "Listed emissions", EMISSION_HEADER, emission_rows(result), right=(1, 2, 3),
+                            whole=(0, 1, 2, 3)))
         notes = artefact_notes(result)
         if notes:
-            console.print(_indented("* read by the receiver of the recording, not the transmitter:"))
+            console.print(_indented("* read by the receiver of the recording, not the transmitter:", console))
             for note in notes:
-                console.print(_indented(f"  {note}"))
+                console.print(_indented(f"  {note}", console))
     else:
         console.print(Text("Listed emissions: none within the reporting threshold."))
 
     if result.remeasure is not None and result.remeasure.items:
         console.print(Text("Measure again the rule's way (the verdict could change)", style="bold"))
         for line in remeasure_lines(result):
-            console.print(_indented(line))
+            console.print(_indented(line, console))
 
     if result.warnings:
         console.print(Text("Warnings", style="bold"))
         for w in result.warnings:
-            console.print(_indented(f"* {w}"))
+            console.print(_indented(f"* {w}", console))
 
     console.print(Text(SHORT_CAUTION, style="italic"))
 
@@ -176,10 +168,10 @@ def render_bandwidth(
     if not figures:
         console.print(Text(f"{title}: none."))
     else:
-        console.print(_grid(title, BANDWIDTH_HEADER, bandwidth_rows(figures), right=(1, 2, 3)))
+        console.print(_grid(console, title, BANDWIDTH_HEADER, bandwidth_rows(figures), right=(1, 2, 3)))
         for f in figures:
             for note in f.notes:
-                console.print(_indented(f"* {note}"))
+                console.print(_indented(f"* {note}", console))
     console.print(Text(SHORT_CAUTION, style="italic"))
 
 
@@ -219,6 +211,33 @@ def _region_range_text(reg) -> str:
     return f"{text} ({dom} domain)" if dom else text
 
 
+def _constant_hz(value):
+    return value.constant() if getattr(value, "is_constant", False) else None
+
+
+def _region_bands_text(reg) -> str:
+    """A region's reference bandwidths in frequency order, each with the part of the region it applies to.
+
+    A region with a fixed edge shows only the bands that reach into it, cut to
+    that edge (a table of bandwidths from 9 kHz to 40 GHz shared by many
+    regions says just '200 Hz' for a region 90-110 kHz); a region placed by
+    offsets or by a domain shows each band's own range.
+    Bandwidths written as expressions keep their text.
+    """
+    lo, hi = _constant_hz(reg.start), _constant_hz(reg.stop)
+    known, other = [], []
+    for b in reg.reference_bandwidth:
+        w = _constant_hz(b.bandwidth)
+        a, z = _constant_hz(b.start), _constant_hz(b.stop)
+        if w is None or (b.start is not None and a is None) or (b.stop is not None and z is None):
+            other.append(_value_text(b.bandwidth) + (f" ({_value_text(b.start)} to {_value_text(b.stop)})"
+                                                     if b.start is not None or b.stop is not None else ""))
+            continue
+        known.append((a, z, w))
+    text = reference_bandwidth_text(known, within=(lo, hi))
+    return "; ".join([text] * bool(text) + other) or "-"
+
+
 def render_mask(mask, console: Console | None = None) -> None:
     """Print one mask definition: provenance, applicability and regions.
 
@@ -231,12 +250,12 @@ def render_mask(mask, console: Console | None = None) -> None:
     """
     console = console or Console()
     prov = mask.provenance
-    console.print(Rule(f"mask {mask.id}", style="dim"))
+    console.print(heading(console, f"mask {mask.id}"))
     bands = " and ".join(f"{format_frequency(lo)} to {format_frequency(hi)}" for lo, hi in mask.applies.carrier_bands)
     facts = [
         ("Title", mask.title),
         ("Service", mask.service),
-        ("Rule", f"{prov.authority} {prov.citation}"),
+        ("Rule", rule_name(prov.authority, prov.citation)),
         ("Rule data", prov.grade_text),
         *([("Not confirmed", prov.grading.unconfirmed_text)] if prov.grading.unconfirmed_text else []),
         ("Carrier range" if mask.applies.bands is None else "Carrier bands", bands),
@@ -252,10 +271,10 @@ def render_mask(mask, console: Console | None = None) -> None:
             facts.append(("Installed at", str(mask.source_path)))
     if getattr(mask, "sha256", ""):
         facts.append(("SHA-256", mask.sha256))
-    console.print(_facts(facts))
+    console.print(_facts(console, facts))
     console.print("Checks made on the rule data:")
     for line in rule_data_lines(prov.grading.checks, prov.grade_text, prov.grading.choices)[1:]:
-        console.print(_indented(line))
+        console.print(_indented(line, console))
     if not prov.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {prov.grade}, {prov.grading.summary}", style="bold yellow"))
     rows = []
@@ -267,11 +286,6 @@ def render_mask(mask, console: Console | None = None) -> None:
         if lim.level is not None:
             parts.append(f"at most {_value_text(lim.level, 'W' if lim.level_w is not None else 'dBm')}")
         limit = lim.description or " and ".join(parts)
-        bands = "; ".join(
-            f"{_value_text(b.bandwidth)} ({_value_text(b.start)}-{_value_text(b.stop)})"
-            if (b.start is not None or b.stop is not None) else _value_text(b.bandwidth)
-            for b in reg.reference_bandwidth
-        )
-        rows.append((reg.name, _region_range_text(reg), limit, reg.detector, bands))
-    console.print(_grid("Regions", ("Region", "Range", "Limit", "Detector", "Ref. BW (range)"), rows))
+        rows.append((reg.name, _region_range_text(reg), limit, reg.detector, _region_bands_text(reg)))
+    console.print(_grid(console, "Regions", ("Region", "Range", "Limit", "Detector", "Reference bandwidth"), rows))
     console.print(Text(SHORT_CAUTION, style="italic"))

@@ -303,12 +303,16 @@ def build_twotone_report(spectrum: Spectrum, res: TwoToneResult, inputs, *, leve
         rows.append(["-", ln.name, format_frequency(ln.freq_hz, 9), lvl, ln.describe("tone"), ln.describe("pep")])
         tints.append(None)
     w = x.width
-    story += [x.heading("The products"),
-              x.grid(["order", "side", "frequency", f"level ({level_unit})", "dB re one tone", "dB re PEP"], rows,
-                     [0.08 * w, 0.2 * w, 0.22 * w, 0.16 * w, 0.17 * w, 0.17 * w], tints=tints),
-              x.p(f"dB re PEP = dB re one tone - 20 log10(2) = - 6.02 dB for equal tones; here the difference is "
-                  f"{10 * math.log10(res.pep_w / res.tone_w):.2f} dB. Shaded: the stronger side of each order, where the "
-                  f"two sides differ by {EQUAL_SIDES_DB:g} dB or more.", "small")]
+    # the note goes above the table and the three are kept together: below the table, the note was left
+    # alone on a page of its own whenever the table just filled the page before (a table longer than a
+    # page still continues on the next, its header row repeated)
+    story.append(KeepTogether([
+        x.heading("The products"),
+        x.p(f"dB re PEP = dB re one tone - 20 log10(2) = - 6.02 dB for equal tones; here the difference is "
+            f"{10 * math.log10(res.pep_w / res.tone_w):.2f} dB. Shaded: the stronger side of each order, where "
+            f"the two sides differ by {EQUAL_SIDES_DB:g} dB or more.", "small"),
+        x.grid(["order", "side", "frequency", f"level ({level_unit})", "dB re one tone", "dB re PEP"], rows,
+               [0.08 * w, 0.2 * w, 0.22 * w, 0.16 * w, 0.17 * w, 0.17 * w], tints=tints)]))
     if res.warnings:
         story += [x.heading("Warnings")] + x.bullets(res.warnings, "small")
     story += closing_page(x)

@@ -133,8 +133,10 @@ def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, respon
         p = p * np.abs(response(f_rf)) ** 2
     enbw = plan.enbw_hz
     p = p + float(floor_w_per_hz) * enbw
+    # the zone's centre is the centre of its sweep, except the zone at DC: a span from 9 kHz up has no centre
+    # at 0 Hz (its trace file said '# centre_hz: 0.0')
     return Spectrum(f_rf, p, enbw, enbw, detector="rms", source=f"simulated zone at {bb.carrier_hz:.9g} Hz",
-                    centre_hz=float(bb.carrier_hz), estimation=est.record("average"))
+                    centre_hz=None if real else float(bb.carrier_hz), estimation=est.record("average"))
 
 
 def floor_cells(start_hz: float, stop_hz: float, floor_w_per_hz: float, *, below_hz: float | None = None,
