@@ -211,3 +211,30 @@ def test_15231_20db_bandwidth():
     # deliberately failing: 1.2 MHz wide
     bad = {g.name: g for g in check(_fob_trace(fc, 1.2e6), m, Station(carrier_hz=fc, power_w=1e-7)).regions}
     assert bad["(c) 20 dB bandwidth"].verdict == "fail"
+
+
+@pytest.mark.parametrize("freq_hz, expected", [
+    # Source: 47 CFR 15.209(a), reprint of the CFR revised 2015-10-02 (hallikainen.org FccRules/2015/15/209):
+    # 100 uV/m at 3 m for 30-88 MHz = 40.0 dBuV/m -> 40.0 - 95.23 = -55.2 dBm EIRP; 37.5-38.25 MHz is restricted
+    # (15.205(a), reprint of 2009-10-01)
+    (38.0e6, -55.2),
+    # Source: the same 15.209(a) reprint: 150 uV/m (43.5 dBuV/m) for 88-216 MHz -> -51.7 dBm; 123-138 MHz restricted
+    (130e6, -51.7),
+    # Source: the same 15.209(a) reprint: 500 uV/m (54.0 dBuV/m) above 960 MHz -> -41.2 dBm, average detector
+    # above 1000 MHz (15.209(d)); 1300-1427 MHz is restricted and holds the 3rd harmonic of 433.92 MHz
+    (3 * 433.92e6, -41.2),
+])
+def test_15231_restricted_bands_take_the_15209_limits(freq_hz, expected):
+    region = "restricted bands above 1000 MHz (15.205, 15.209)" if freq_hz > 1e9 else "restricted bands 30-1000 MHz (15.205, 15.209)"
+    assert _limit_dbm("us-part15-231", 433.92e6, freq_hz, region) == pytest.approx(expected, abs=0.05)
+
+
+def test_15231_restricted_bands_stop_at_the_tenth_harmonic_and_use_the_15209_detectors():
+    # Source: 47 CFR 15.33(a)(1), reprint of the CFR revised 2008-10-01: up to the tenth harmonic (below 10 GHz)
+    # Source: 47 CFR 15.209(d), reprint of 2015-10-02: quasi-peak up to 1000 MHz, average above
+    regions = {r.name: r for r in _mask("us-part15-231").regions}
+    assert regions["restricted bands 30-1000 MHz (15.205, 15.209)"].detector == "quasi-peak"
+    assert regions["restricted bands above 1000 MHz (15.205, 15.209)"].detector == "average"
+    (above,) = [x for x in _regions("us-part15-231", 433.92e6) if x.name.startswith("restricted bands above")]
+    # 3600-4400 MHz is restricted; the tenth harmonic of 433.92 MHz is 4339.2 MHz
+    assert above.in_scope(np.array([4.30e9]))[0] and not above.in_scope(np.array([4.35e9]))[0]
