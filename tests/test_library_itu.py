@@ -33,9 +33,8 @@ def test_appendix_3_cases(mask_id, power_w, pep_w, expected_db):
 
 @pytest.mark.parametrize("freq_hz", [100e3, 10e6, 500e6, 5e9])
 def test_space_services_measure_in_4_khz_at_every_frequency(freq_hz):
-    # Source: ITU RR Appendix 3 (Rev. WRC-12) section 8, Radio Regulations Edition 2020, as quoted in a
-    # secondary document (not the ITU's own text): 4 kHz for all space-service spurious emissions.
-    # Corrected from the 1 kHz / 10 kHz / 100 kHz / 1 MHz ladder the file had from memory.
+    # From memory, not checked against the text: RR Appendix 3 gives space services one 4 kHz reference
+    # bandwidth for their spurious emissions (the file had the general 1 kHz .. 1 MHz ladder before).
     (region,) = regions_at("itu-rr-ap3-space", freq_hz, power_w=10.0, carrier_hz=2.2e9 if freq_hz > 1e9 else 137.5e6)
     bws = {bw for a, b, bw in region.bands if a <= freq_hz <= b}
     assert bws == {4e3}
