@@ -155,4 +155,5 @@ def _spectrum_summary(spectrum) -> SpectrumSummary:
         estimate_text=estimate,
         levels_text=levels,
         receiver_artefacts=spectrum.artefacts,
+        stitch_notes=spectrum.stitch_notes or None,
     )
