@@ -40,6 +40,20 @@ def overall_verdict(regions, applicable: bool) -> str:
     return verdict
 
 
+def _input_files(spectrum, setup_info, inputs) -> list:
+    """The files the result lists: ``inputs`` (else the spectrum's own file), then the setup file that corrected it.
+
+    The setup is listed here, once, and only when it is a file: a pad given
+    with the command alone (``attenuator_db``) is no input file; it is a
+    correction, recorded in the result's setup and corrections records.
+    """
+    files = list(inputs) if inputs is not None else (
+        [InputFile(spectrum.source, spectrum.sha256)] if spectrum.source else [])
+    if setup_info is not None and setup_info.path and all(f.path != setup_info.path for f in files):
+        files.append(InputFile(setup_info.path, setup_info.sha256))
+    return files
+
+
 def assemble(spectrum, mask, *, station, facts, window, readings, reference, judged, applicable: bool,
              warnings: list[str], guard, report_threshold_db: float, inputs=None) -> CheckResult:
     """The :class:`CheckResult` of one check from the records of its steps."""
@@ -53,10 +67,7 @@ def assemble(spectrum, mask, *, station, facts, window, readings, reference, jud
         warnings = [*warnings, f"rule data {grading.grade}: {grading.summary}; check the mask against the current rule"]
         warnings += [f"region '{r.name}' rests on values no text read confirms: {', '.join(r.unconfirmed)}"
                      for r in regions if r.unconfirmed]
-    if inputs is None:  # the spectrum's own file, and the setup file that corrected it (as the command line lists them)
-        inputs = [InputFile(spectrum.source, spectrum.sha256)] if spectrum.source else []
-        if setup_info is not None and setup_info.path:
-            inputs.append(InputFile(setup_info.path, setup_info.sha256))
+    inputs = _input_files(spectrum, setup_info, inputs)
     summary = _spectrum_summary(spectrum)
     nb, dom = facts.necessary, facts.domains
     return CheckResult(
@@ -144,4 +155,5 @@ def _spectrum_summary(spectrum) -> SpectrumSummary:
         estimate_text=estimate,
         levels_text=levels,
         receiver_artefacts=spectrum.artefacts,
+        stitch_notes=spectrum.stitch_notes or None,
     )

@@ -51,7 +51,6 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..core.result import InputFile
     from ..core.spectrum import stitch
     from ..core.station import Station
     from ..core.units import parse_db, parse_frequency, parse_power
@@ -94,9 +93,7 @@ def run(args) -> int:
         spectrum = stitch(spectra)
     except SpectrumError as exc:
         raise TraceError(f"cannot join the traces: {exc.message}", path=" + ".join(args.traces)) from None
-    inputs = got.inputs
-    if setup is not None:
-        inputs = [*inputs, InputFile(setup.path, setup.sha256)]
+    inputs = got.inputs  # check() adds the setup file, when there is one (a pad alone is a correction, no file)
     from ..checking import check
 
     def judge(s):
@@ -117,7 +114,7 @@ def run(args) -> int:
     if args.attach_inputs:
         from ..report.attachments import input_attachments
 
-        attachments = input_attachments(result, inputs, recordings=[p for p in args.traces if is_recording(p, args)])
+        attachments = input_attachments(result, result.inputs, recordings=[p for p in args.traces if is_recording(p, args)])
     write_outputs(result, args, attachments=attachments)
     if args.remeasure:
         write_remeasure(result, args)

@@ -1009,6 +1009,10 @@ class SpectrumSummary:
         (omitted when None).
     receiver_artefacts : ReceiverArtefacts or None
         The usable band and the receiver's own lines of a recording (omitted when None).
+    stitch_notes : tuple of str or None
+        How several spans were joined (:func:`maskcheck.core.spectrum.stitch`):
+        which span was kept where they overlap, any point dropped at a seam
+        (omitted when None: one span, or spans that did not overlap).
     """
 
     points: int
@@ -1028,6 +1032,7 @@ class SpectrumSummary:
     receiver_artefacts: ReceiverArtefacts | None = None
     first_point_hz: float | None = None
     last_point_hz: float | None = None
+    stitch_notes: tuple[str, ...] | None = None
 
     def to_dict(self) -> dict:
         d = _plain(self, tuple(f.name for f in fields(self) if f.name not in (

@@ -49,6 +49,7 @@ import numpy as np
 
 from ..errors import SpectrumError
 from .artefacts import join_artefacts
+from .units import format_frequency
 from .records import (CalibrationRecord, CorrectionsRecord, EstimationRecord, ReceiverArtefacts, RecordingRecord, SetupRecord,
                       TraceFileRecord)
 
@@ -111,6 +112,10 @@ class Spectrum:
         SHA-256 of the source file's bytes ("" when not known).
     notes : tuple of str
         What the reader noticed (overrides, trimmed spans).
+    stitch_notes : tuple of str
+        What :func:`stitch` decided, in words: which span was kept where the
+        spans overlap, and any point dropped at a seam (empty unless
+        stitched); the check carries them into its result.
     centre_hz : float or None
         The analyser's centre (or the recording's tuned) frequency, Hz.
     sources : tuple of str
@@ -144,6 +149,7 @@ class Spectrum:
     source: str = ""
     sha256: str = ""
     notes: tuple[str, ...] = ()
+    stitch_notes: tuple[str, ...] = ()
     centre_hz: float | None = None
     sources: tuple[str, ...] = ()
     trace_file: TraceFileRecord | None = None
@@ -236,7 +242,7 @@ class Spectrum:
         for name in ("source", "sha256"):
             if not isinstance(getattr(self, name), str):
                 raise SpectrumError(f"{name} must be a str, got {type(getattr(self, name)).__name__}")
-        for name in ("notes", "sources"):
+        for name in ("notes", "stitch_notes", "sources"):
             value = getattr(self, name)
             if isinstance(value, str) or not all(isinstance(v, str) for v in value):
                 raise SpectrumError(f"{name} must be a sequence of str")
@@ -252,7 +258,7 @@ class Spectrum:
                 raise SpectrumError(f"{name} must be a {kind.__name__} or None, got {type(value).__name__}")
 
     #: the metadata fields: where the spectrum came from, not what it holds
-    METADATA = ("source", "sha256", "notes", "centre_hz", "sources", "trace_file", "recording", "estimation",
+    METADATA = ("source", "sha256", "notes", "stitch_notes", "centre_hz", "sources", "trace_file", "recording", "estimation",
                 "calibration", "setup", "corrections", "artefacts")
 
     @property
@@ -657,13 +663,14 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
     # narrowest RBW first: it keeps all its points
     order = sorted(range(len(spectra)), key=lambda i: float(np.median(spectra[i].rbw_hz)))
     taken: list[tuple[float, float, float]] = []  # (lo, hi, rbw) already covered
+    placed: list[tuple[float, float, float, Spectrum, str]] = []  # the same, with the span and its name
     pieces = []
     notes = []
     for i in order:
         s = spectra[i]
         rbw = float(np.median(s.rbw_hz))
         keep = np.ones(len(s), bool)
-        for lo, hi, other_rbw in taken:
+        for lo, hi, other_rbw, other, other_name in placed:
             inside = (s.freq_hz >= lo) & (s.freq_hz <= hi)
             if inside.any():
                 if other_rbw == rbw:
@@ -672,12 +679,9 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
                         f"with the same RBW ({rbw:g} Hz): which one to use is ambiguous"
                     )
                 keep &= ~inside
+                notes += _overlap_notes(_span_name(s, i), rbw, other_name, other_rbw, other, lo, hi, s.freq_hz[inside])
         if not keep.any():
             raise SpectrumError(f"a span from {s.freq_hz[0]:g} to {s.freq_hz[-1]:g} Hz lies wholly inside a narrower-RBW span")
-        if not keep.all():
-            notes.append(
-                f"span {s.source or i} trimmed where a narrower-RBW span covers it"
-            )
         # each run of kept points becomes a span of its own; where a run was
         # cut against a narrower span, its outer cell meets that span's edge
         s_lo, s_hi = s.cell_edges_hz
@@ -706,6 +710,7 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
             pieces.append((s, a, b, e_lo, e_hi))
         for a, b in s.coverage_hz:
             taken.append((a, b, rbw))
+            placed.append((a, b, rbw, s, _span_name(s, i)))
     pieces.sort(key=lambda t: t[0].freq_hz[t[1]])
     # neighbouring pieces whose outer cells overlap meet at one edge: the
     # narrower-RBW piece keeps its cell, the other yields (equal RBW: midway)
@@ -753,6 +758,28 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
         span_edges_hz=tuple(edges),
         sources=sources,
         notes=tuple(notes),
+        stitch_notes=tuple(notes),
         artefacts=join_artefacts([s.artefacts for s in spectra]),
     )
+
+
+def _span_name(s: Spectrum, i: int) -> str:
+    return s.source or f"span {i + 1}"
+
+
+def _overlap_notes(name: str, rbw: float, other_name: str, other_rbw: float, other: Spectrum, lo: float, hi: float,
+                   dropped_hz: np.ndarray) -> list[str]:
+    """What :func:`stitch` decided where span ``name`` overlaps the narrower-RBW span ``other`` over ``lo``..``hi``."""
+    out = [f"{name} (RBW {format_frequency(rbw)}) trimmed over {format_frequency(lo, 7)} to "
+           f"{format_frequency(hi, 7)}, where {other_name} (RBW {format_frequency(other_rbw)}) is kept: "
+           f"{dropped_hz.size} point(s) of {name} left out (where spans overlap, the narrower RBW wins)"]
+    f0, f1 = float(other.freq_hz[0]), float(other.freq_hz[-1])
+    seam = dropped_hz[(dropped_hz < f0) | (dropped_hz > f1)]
+    if seam.size:
+        at = ", ".join(format_frequency(float(f), 7) for f in seam[:4]) + (", ..." if seam.size > 4 else "")
+        out.append(f"{seam.size} point(s) of {name} at {at} dropped at the seam with {other_name}, deliberately: "
+                   f"they lie beyond its outermost reading but inside that reading's cell, so its narrower-RBW reading "
+                   f"stands for them (no power counted twice, and no reading through the wider RBW, which would take in "
+                   f"{other_name}'s range, is judged at the seam)")
+    return out
 

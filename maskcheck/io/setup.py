@@ -595,10 +595,14 @@ def with_attenuator(setup: MeasurementSetup | None, attenuator_db: float) -> Mea
     if not (math.isfinite(v) and v >= 0):
         raise SetupError(f"attenuator_db={v:g} must be a finite loss >= 0 dB (a pad ahead of the analyser)",
                          param="attenuator_db")
+    if setup is None:  # the pad is the whole chain: a record of corrections, not a file
+        part = ChainPart(name=ATTENUATOR_PART_NAME, kind="attenuator", loss_db=v,
+                         notes="given with the command; no setup file, so it is the whole chain; "
+                               "a correction applied to every trace")
+        return MeasurementSetup(SetupFile(schema_version=1, name=f"no setup file: a fixed {v:g} dB attenuator "
+                                          "given with the command, applied to every trace", chain=[part]))
     part = ChainPart(name=ATTENUATOR_PART_NAME, kind="attenuator", loss_db=v,
-                     notes="added on the command line, after the setup file's chain")
-    if setup is None:
-        return MeasurementSetup(SetupFile(schema_version=1, name="a fixed attenuator (no setup file)", chain=[part]))
+                     notes="given with the command, after the setup file's chain; a correction applied to every trace")
     file = setup.file.model_copy(update={"chain": [*setup.file.chain, part]})
     return MeasurementSetup(file, setup.path, setup.sha256)
 

@@ -38,7 +38,10 @@ is installed (the block is rewritten into a JSON array with
 :meth:`bytes.translate`), else :func:`numpy.fromstring`.  The cell structure
 of every line is verified with numpy on the byte buffer (the positions of
 delimiters, newlines and tokens must interleave exactly), and the values with
-numpy (finite, strictly increasing, positive).  Whenever this fast path finds
+numpy (finite, strictly increasing, positive).  An export whose rows all end
+with the delimiter is read in place: each row's final delimiter, checked to
+sit right before its LF or CRLF, is the separator from the next row, so the
+block is never rewritten to drop it.  Whenever this fast path finds
 anything it does not accept, a line-by-line pass re-reads the data; it is the
 authority on what the file holds, and its first complaint, with its line
 number, is the error.  The fast path accepts a subset of what that pass
@@ -90,10 +93,14 @@ _MIN_PLAUSIBLE_W = 10.0 ** ((MIN_PLAUSIBLE_DBM - 30.0) / 10.0)
 _BOM = b"\xef\xbb\xbf"
 _BLANK = b" \t\r\n"
 _HASH_IN_THREAD_BYTES = 4 << 20
-#: (delimiter, decimal comma) -> the byte table that turns a block of rows into JSON numbers
-_JSON_TABLES = {(",", False): bytes.maketrans(b"\n", b","), ("\t", False): bytes.maketrans(b"\n\t", b",,"),
-                ("\t", True): bytes.maketrans(b"\n\t,", b",,."), (";", False): bytes.maketrans(b"\n;", b",,"),
-                (";", True): bytes.maketrans(b"\n;,", b",,.")}
+#: (delimiter, decimal comma, trailing delimiter) -> the byte table that turns a block of rows into JSON
+#: numbers: the delimiter becomes ',', and so does the newline unless every row ends with the delimiter
+#: (then that delimiter separates the rows and the newline stays a JSON blank)
+_JSON_TABLES = {(d, comma, trailing): bytes.maketrans(
+                    (b"" if trailing else b"\n") + d.encode() + (b"," if comma else b""),
+                    (b"" if trailing else b",") + b"," + (b"." if comma else b""))
+                for d in (",", "\t", ";") for comma in (False, True) for trailing in (False, True)
+                if not (comma and d == ",")}
 _CHUNK_BYTES = 128 << 10
 _FREQ_EXPECTED = "frequency_hz, frequency_khz, frequency_mhz or frequency_ghz"
 _LEVEL_EXPECTED = "level_dbm, level_dbw, level_dbuv, level_w or level_mw"
@@ -117,25 +124,58 @@ def _drop_blank_and_comment_lines(block: bytes) -> bytes | None:
 
 
 def _structure_ok(buf: np.ndarray, delim: str | None, ncols: int, nlines: int, newlines: np.ndarray,
-                  tokens: np.ndarray | None) -> bool:
-    """True when every line holds exactly ``ncols`` cells split by one delimiter each."""
+                  tokens: np.ndarray | None, trailing: bool = False) -> bool:
+    """True when every line holds exactly ``ncols`` cells split by one delimiter each.
+
+    ``trailing``: every line also ends with the delimiter, after its last cell.
+    """
     if delim is not None:
+        per_line = ncols if trailing else ncols - 1
         cuts = np.flatnonzero(buf == ord(delim))
-        if cuts.size != nlines * (ncols - 1):
+        if cuts.size != nlines * per_line:
             return False
-        cuts = cuts.reshape(nlines, ncols - 1)
+        cuts = cuts.reshape(nlines, per_line)
         if not (np.all(cuts[:-1, -1] < newlines) and np.all(newlines < cuts[1:, 0])):
             return False
-        if tokens is not None and not (np.all(tokens[:, :-1] < cuts) and np.all(cuts < tokens[:, 1:])):
-            return False
+        if tokens is not None:
+            before, after = (tokens, tokens[:, 1:]) if trailing else (tokens[:, :-1], tokens[:, 1:])
+            # token 0 < cut 0 < token 1 < ... (< the last cut, at the end of the line, when trailing)
+            if not (np.all(before < cuts) and np.all(cuts[:, :ncols - 1] < after)):
+                return False
     if tokens is not None and not (np.all(tokens[:-1, -1] < newlines) and np.all(newlines < tokens[1:, 0])):
         return False
     return True
 
 
-def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int, decimal_comma: bool) -> np.ndarray | None:
+def _ends_with_delimiter(block: bytes, d: int) -> bool:
+    """True when every line of ``block`` ends with the delimiter byte ``d`` right before its LF or CRLF."""
+    buf = np.frombuffer(block, dtype=np.uint8)
+    ends = np.flatnonzero(buf == 10)
+    ends = np.append(ends, buf.size)  # the last line ends with the block
+    if ends[0] < 1:
+        return False
+    last = buf[ends - 1]
+    crlf = last == 13
+    if crlf.any():
+        if ends[crlf].min() < 2:
+            return False
+        last = last.copy()
+        last[crlf] = buf[ends[crlf] - 2]
+    return bool(np.all(last == d))
+
+
+def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int, decimal_comma: bool,
+               trailing: bool = False) -> np.ndarray | None:
+    block = memoryview(raw)[start:end]
+    if trailing:
+        # every line must end with the delimiter right before its newline; then that delimiter separates
+        # the line's last cell from the next line's first, the newline is a JSON blank, and only the
+        # block's final delimiter (with the CR of a CRLF cut from its LF) is dropped
+        if not _ends_with_delimiter(block, ord(delim)):
+            return None
+        block = block[:len(block) - (2 if block[-1] == 13 else 1)]
     # One copy of the block, already wrapped as a JSON array.
-    text = b"".join((b"[", memoryview(raw)[start:end], b"]"))
+    text = b"".join((b"[", block, b"]"))
     # What is left once digits, signs, points, exponents and blanks are deleted
     # must be exactly the delimiters and newlines of ncols cells per line: this
     # one pass checks every line's cell count and that no other byte (a letter,
@@ -145,9 +185,10 @@ def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int, decimal
     skeleton = text.translate(None, numberish)
     nlines = skeleton.count(b"\n") + 1
     cut = delim.encode() * (ncols - 1)
-    if skeleton != b"[" + (cut + b"\n") * (nlines - 1) + cut + b"]":
+    line_end = delim.encode() + b"\n" if trailing else b"\n"
+    if skeleton != b"[" + (cut + line_end) * (nlines - 1) + cut + b"]":
         return None
-    text = text.translate(_JSON_TABLES[delim, decimal_comma])
+    text = text.translate(_JSON_TABLES[delim, decimal_comma, trailing])
     try:
         values = _orjson.loads(text)
         if len(values) != nlines * ncols:
@@ -160,10 +201,11 @@ def _rows_json(raw: bytes, start: int, end: int, delim: str, ncols: int, decimal
 
 
 def _rows_strtod(raw: bytes, start: int, end: int, delim: str | None, ncols: int,
-                 decimal_comma: bool) -> np.ndarray | None:
+                 decimal_comma: bool, trailing: bool = False) -> np.ndarray | None:
     # Tokens (runs of non-blank bytes once delimiters are blanked) must sit
-    # ncols to a line with one delimiter between neighbours, and numpy's parser
-    # must turn each token into exactly one number and reach the end.
+    # ncols to a line with one delimiter between neighbours (and one after the
+    # last when every row ends with one), and numpy's parser must turn each
+    # token into exactly one number and reach the end.
     block = raw[start:end]
     allowed = b"0123456789+-.eE \t\r\n" + (delim.encode() if delim else b"") + (b"," if decimal_comma else b"")
     if not block or block.translate(None, allowed):
@@ -181,7 +223,7 @@ def _rows_strtod(raw: bytes, start: int, end: int, delim: str | None, ncols: int
     if starts.size != nlines * ncols:
         return None
     cuts_in = np.frombuffer(block, dtype=np.uint8) if delim is not None else None
-    if not _structure_ok(cuts_in, delim, ncols, nlines, newlines, starts.reshape(nlines, ncols)):
+    if not _structure_ok(cuts_in, delim, ncols, nlines, newlines, starts.reshape(nlines, ncols), trailing):
         return None
     with warnings.catch_warnings():
         warnings.simplefilter("error")
@@ -199,22 +241,19 @@ def _rows_fast(raw: bytes, start: int, delim: str | None, ncols: int, decimal_co
     """All data rows from ``raw[start:]`` as an (n, ncols) array, or None when
     anything looks unusual (then the exact pass decides).
 
-    ``trailing``: every row ends with the delimiter, which is dropped chunk by
-    chunk (a copy of one chunk at a time, never of the file)."""
+    ``trailing``: every row ends with the delimiter; the converters check that
+    and read past it, so no copy of the block is made to drop it."""
     end = len(raw)
     while end > start and raw[end - 1] in _BLANK:
         end -= 1
     while start < end and raw[start] in _BLANK:
         start += 1
-    if start >= end:
+    if start >= end or (trailing and delim is None):
         return None
     base = _rows_json if (_orjson is not None and delim is not None) else _rows_strtod
 
     def convert(buf, a, b, d, n):
-        if not trailing:
-            return base(buf, a, b, d, n, decimal_comma)
-        block = _without_trailing(buf[a:b], d.encode())
-        return None if block is None else base(block, 0, len(block), d, n, decimal_comma)
+        return base(buf, a, b, d, n, decimal_comma, trailing)
 
     values = _in_chunks(convert, raw, start, end, delim, ncols)
     if values is None:  # comment or blank lines among the data?
@@ -222,16 +261,6 @@ def _rows_fast(raw: bytes, start: int, delim: str | None, ncols: int, decimal_co
         if kept and len(kept) < end - start:
             values = _in_chunks(convert, kept, 0, len(kept), delim, ncols)
     return values
-
-
-def _without_trailing(block: bytes, d: bytes) -> bytes | None:
-    """``block`` with the delimiter at the end of each line removed, or None unless every line ends with one."""
-    out = block.replace(d + b"\r\n", b"\r\n").replace(d + b"\n", b"\n")
-    if out.endswith(d + b"\r"):  # a chunk is cut at a newline: its last line may end in CRLF's CR
-        out = out[:-2] + b"\r"
-    elif out.endswith(d):
-        out = out[:-1]
-    return out if len(block) - len(out) == block.count(b"\n") + 1 else None
 
 
 def _in_chunks(convert, raw: bytes, start: int, end: int, delim, ncols) -> np.ndarray | None:

@@ -66,7 +66,6 @@ DETECTOR_ALIASES = {"avg": "average", "av": "average", "qp": "quasi-peak", "quas
 # a unit written after the name: "name [unit]", "name (unit)", "name / unit", "name in unit"
 _UNIT_FORMS = (re.compile(r"^(.*?)\s*\[\s*([^\]]*?)\s*\]$"), re.compile(r"^(.*?)\s*\(\s*([^)]*?)\s*\)$"),
                re.compile(r"^(.*?)\s*/\s*([^/\s]+)$"), re.compile(r"^(.*?)\s+in\s+(\S+)$", re.IGNORECASE))
-_FREQ_FACTS = ("rbw_hz", "enbw_hz", "vbw_hz", "centre_hz", "span_hz", "start_hz", "stop_hz")
 
 
 def show_unit(unit: str) -> str:

@@ -62,7 +62,8 @@ def setup_section(x: Parts, result: CheckResult) -> list:
             "rule, the EIRP): attenuators, cables and antenna factors were not added by maskcheck. A calibration or "
             "correction table of a recording is listed under the estimation parameters."))
         return out
-    facts = [("Setup", s.name or DASH), ("File", s.path), ("SHA-256", s.sha256), ("Measurement", s.measurement)]
+    facts = [("Setup", s.name or DASH), *([("File", s.path), ("SHA-256", s.sha256)] if s.path else []),
+             ("Measurement", s.measurement)]  # a pad given alone with the command has no file
     if s.notes:
         facts.append(("Notes", s.notes))
     out.append(x.facts(facts, mono_keys=("SHA-256",)))

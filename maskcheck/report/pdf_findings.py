@@ -155,6 +155,9 @@ def spectrum_section(x: Parts, result: CheckResult, figs) -> list:
     overview = figs[0]
     zooms = [f for f in figs if f.stem.startswith("zoom-")]
     out = [CondPageBreak(380), x.heading("Spectrum and limits"), overview.drawing, x.p(overview.caption, "small")]
+    joined = result.spectrum_summary.stitch_notes
+    if joined:  # how the traces were stitched: which was kept where, any point dropped at a seam
+        out += [Spacer(1, 3), x.p("How the traces were joined:", "small"), *x.bullets(joined, "small")]
     if zooms:
         head = x.sub(f"Closer views: {len(zooms)} place{'s' if len(zooms) != 1 else ''} that failed or came within the guard band")
         for n, f in enumerate(zooms):

@@ -268,7 +268,8 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     if cursor < stop:
         pieces.extend(floor_cells(cursor, stop, floor, below_hz=below))
     spectrum = stitch(pieces)
+    # stitch_notes=(): these joins are the simulator's own evaluation grid, not traces a person measured and joined
     spectrum = replace(spectrum, detector="rms", source="simulation", centre_hz=float(zones.carrier_hz),
-                       estimation=fundamental_estimation)
+                       estimation=fundamental_estimation, stitch_notes=())
     spans = tuple(sorted(pieces, key=lambda s: float(s.freq_hz[0])))
     return WidebandResult(spectrum, fund, scale, zone_powers, spans)
