@@ -207,3 +207,17 @@ def test_a_two_tone_leak_on_the_dc_line_is_called_a_bound(tmp_path):
     assert [ln.kind for ln in s.artefacts.lines] == ["dc"]
     res = analyse_two_tone(s.between(14.195e6, 14.205e6), carrier_hz=14.2e6)
     assert any("carrier leak" in w and "receiver DC line" in w and "upper bound" in w for w in res.warnings)
+
+
+def test_the_api_refuses_to_judge_artefacts_of_a_trace_in_one_error(tmp_path):
+    # Common practice, no published source: a trace from an analyser carries no readings flagged as the
+    # receiver's, so asking the check to judge them cannot be honoured and is refused (not a NameError)
+    import maskcheck
+    from maskcheck.errors import StationError
+    trace = tmp_path / "t.txt"
+    trace.write_text("# rbw_hz: 10000\n# detector: rms\nfrequency_hz,level_dbm\n" + "".join(f"{7.0e6 + k * 5e3:.0f},-80\n" for k in range(41)))
+    spectrum = maskcheck.read_trace(trace)
+    station = maskcheck.Station(carrier_hz=7.1e6, power_w=1.0)
+    with pytest.raises(StationError) as err:
+        maskcheck.check(spectrum, maskcheck.load_mask("us-amateur-hf-2003"), station, judge_artefacts=True)
+    assert err.value.param == "judge_artefacts"

@@ -64,6 +64,7 @@ from ..core.necessary import NecessaryBandwidth
 from ..core.result import CheckResult, InputFile
 from ..core.spectrum import Spectrum
 from ..core.station import Station
+from ..errors import StationError
 from ..masks.evaluate import applies_when, evaluate_mask, station_variables
 from ..masks.station_values import require_in_bands
 from .emission import EmissionFacts, emission_facts

@@ -138,7 +138,7 @@ class _Progress:
 
 def estimate_args(args, trace: str):
     """Keyword arguments of :func:`maskcheck.io.iq_spectrum.estimate_recording` from the options."""
-    from ..core.units import parse_frequency, parse_quantity
+    from ..core.units import parse_frequency
 
     window, beta = _window(args.window)
     rbw = parse_frequency(args.rbw, what="--rbw", default_unit="Hz") if args.rbw else None

@@ -20,7 +20,6 @@ and worst points shown come from the result, never from the reduced curve.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
