@@ -417,6 +417,72 @@ def test_two_continuous_keys_best_point_lies_on_the_closed_form_contour(tmp_path
     assert math.hypot(gain - 0.5, (phi - 2.0) / 3.0) <= best.fun * 1.05
 
 
+def test_a_two_key_grid_through_the_campaign_engine_gives_the_same_margin_map(tmp_path, mask):
+    table = '[output_filter]\nkind = "butter"\norder = 3\ncutoff = "8e6 Hz"'
+    path = _write(tmp_path, harmonic_text(table).replace('duration = "1 s"', 'duration = "0.25 s"'))
+    keys = ["output_filter.order=3..5", "amplifier.backoff=0dB..12dB"]
+    here = design(path, keys, "margin >= 0 dB", mask, grid=3)
+    engine = design(path, keys, "margin >= 0 dB", mask, grid=3, workers=2)  # local workers of run_entries
+    assert engine.grid.g == here.grid.g and engine.grid.xs == here.grid.xs
+    # and both are the closed form of the map (Closed form: _harmonic_margin_db)
+    for iy, bo in enumerate(engine.grid.ys):
+        for ix, n in enumerate(engine.grid.xs):
+            assert engine.grid.g[iy][ix] == pytest.approx(_harmonic_margin_db(bo, n, 8e6), abs=0.05)
+
+
+def test_the_engine_route_keeps_the_content_hash_cache(tmp_path, mask, monkeypatch):
+    from maskcheck.campaign import engine as campaign_engine
+
+    sent = []
+    real = campaign_engine.run_entries
+    monkeypatch.setattr(campaign_engine, "run_entries", lambda entries, **kw: sent.append(len(entries)) or real(
+        entries, **{**kw, "workers": 0}))
+    text = harmonic_text('[output_filter]\nkind = "butter"\norder = 3\ncutoff = "8e6 Hz"').replace(
+        'duration = "1 s"', 'duration = "0.25 s"')
+    sc = parse_scenario(text)
+    v = parse_vary("amplifier.backoff=0dB..12dB", sc)
+    ev = Evaluator(text, (v,), Settings(parse_goal("margin >= 0 dB"), mask))
+    first = ev.many([(0.0,), (6.0,), (6.0,)], workers=2)
+    again = ev.many([(6.0,), (12.0,)], workers=2)
+    assert sent == [2, 1]  # the repeated and the already-seen points were not sent again
+    assert ev.simulations == 3 and again[0] is first[1]
+
+
+def test_points_on_a_local_dask_cluster_give_the_outcomes_of_this_process(tmp_path, mask):
+    pytest.importorskip("distributed")
+    from maskcheck.design.grid import run_points
+
+    table = '[output_filter]\nkind = "butter"\norder = 3\ncutoff = "8e6 Hz"'
+    texts = [harmonic_text(table.replace("order = 3", f"order = {n}")).replace('duration = "1 s"', 'duration = "0.25 s"')
+             for n in (3, 5)]
+    settings = Settings(parse_goal("margin >= 0 dB"), mask)
+    here = run_points(texts, settings)
+    dask = run_points(texts, settings, workers=1, scheduler="local")
+    assert [o.measure for o in dask] == [o.measure for o in here]
+    # Closed form: _harmonic_margin_db at the scenario's back-off
+    assert [o.measure for o in dask] == pytest.approx([_harmonic_margin_db(BACKOFF, n, 8e6) for n in (3, 5)], abs=0.05)
+
+
+def test_design_refuses_workers_a_scheduler_cannot_use(tmp_path, capsys):
+    sc = _write(tmp_path, harmonic_text('[output_filter]\nkind = "butter"\norder = 5\ncutoff = "8 MHz"'))
+    base = ["design", str(sc), "--vary", "amplifier.backoff=0dB..20dB", "--goal", "margin >= 3 dB", "--mask", MASK]
+    for extra, says in ((["--scheduler", "tcp://10.0.0.5:8786", "--workers", "2"], "has its own workers"),
+                        (["--scheduler", "local", "--workers", "0"], "cannot run on a Dask cluster"),
+                        (["--workers", "-1"], "expected 0 or more")):
+        out = tmp_path / "out"
+        assert main([*base, *extra, "--out", str(out)]) == 2
+        err = capsys.readouterr().err
+        assert says in err and "--workers" in err and len(err.strip().splitlines()) == 1
+        assert not out.exists()
+
+
+def test_a_two_tone_goal_on_a_dask_scheduler_is_refused(tmp_path, mask):
+    from maskcheck.design.grid import run_points
+
+    with pytest.raises(DesignError, match="scheduler="):
+        run_points([cubic_text(3.0)], Settings(parse_goal("im3 >= 30 dB"), mask), scheduler="local")
+
+
 def test_run_points_on_two_workers_gives_the_outcomes_of_one(tmp_path, mask):
     from maskcheck.design.grid import run_points
 
@@ -491,7 +557,7 @@ def test_design_options_each_change_the_result_or_are_refused(tmp_path):
         "--goal": ([], ["--goal", "margin >= 6 dB"]),
     }
     # options that choose where outputs go or how the work is spread, not the result (tested above)
-    not_result = {"--out", "--force", "--quiet", "--help", "--workers", "--mask-dir"}
+    not_result = {"--out", "--force", "--quiet", "--help", "--workers", "--scheduler", "--mask-dir"}
     assert options == set(cases) | not_result
 
     def run(extra, name):

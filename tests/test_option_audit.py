@@ -444,7 +444,7 @@ COMMANDS = {
         "--floor-threshold": ([], ["--floor-threshold", "6dB"]),
         **_TRACE,
     }),
-    "design": (_cmd_design, ("scenario",), {"--out", "--force", "--quiet", "--help"}, {"--vary", "--goal"}, {
+    "design": (_cmd_design, ("scenario",), {"--out", "--force", "--quiet", "--help", "--scheduler"}, {"--vary", "--goal"}, {
         "--mask": ([], ["--mask", "MASKFILE"]),
         "--mask-dir": ([], ["--mask-dir", "MASKDIR"]),
         "--designator": ([], ["--designator", "6K00A3E"]),

@@ -87,6 +87,8 @@ OPTION_TEXTS: dict[str, tuple[str | None, str]] = {
     "--ref-tone": ("F=P", "calibration of a recording: a tone of known power in it, e.g. 7.1MHz=-10dBm"),
     "--workers": ("N", "how many threads or processes work in parallel; the numbers do not depend on it, and the "
                        "number asked for is recorded"),
+    "--scheduler": ("ADDRESS|local", "run on a Dask cluster: the scheduler's address (tcp://host:8786), or 'local' "
+                                     "for a local one (needs the 'distributed' package)"),
     # receiver artefacts of recordings (the texts of the options as the lead wrote them in commands/_recording.py)
     "--usable-fraction": ("F", "part of the sample rate about the centre kept as usable, e.g. 80%% (default) or 0.9: the "
                                "band edges beyond it, where the receiver's anti-alias filter rolls off, are not judged"),

@@ -20,7 +20,7 @@ def register(sub) -> None:
     add_option(c, "--out", required=True, metavar="DIR", detail="a folder (created if missing; a later run resumes from it)")
     add_option(c, "--workers", type=int, detail="here local worker processes (default: all CPUs; 0: one after the "
                                                 "other in this process); with --scheduler local, the Dask workers")
-    c.add_argument("--scheduler", metavar="ADDRESS|local", help="run on a Dask cluster: the scheduler's address (tcp://host:8786), or 'local' for a local one (needs the 'distributed' package)")
+    add_option(c, "--scheduler")
     c.add_argument("--rerun", action="store_true", help="run every entry again, even those unchanged since the last run")
     add_option(c, "--quiet", action="store_true", detail="no progress and no table")
     c.set_defaults(run=run)

@@ -38,11 +38,29 @@ def register(sub) -> None:
     add_option(s, "--guard", detail="of the check (default: the scenario's, else 0dB)")
     s.add_argument("--samples", type=int, default=None, metavar="N", help="samples of a one-key range (default 7)")
     s.add_argument("--grid", type=int, default=None, metavar="N", help="points per key of a two-key map (default 7)")
-    add_option(s, "--workers", type=int, default=1, detail="here worker processes for the samples and the map "
-                                                          "(default 1)")
+    add_option(s, "--workers", type=int, detail="here local worker processes for the samples and the map "
+                                                "(default 1: one after the other in this process, as 0); with "
+                                                "--scheduler local, the Dask workers")
+    add_option(s, "--scheduler", detail="the points run as entries of the campaign engine (a margin or "
+                                        "occupied-bandwidth goal; a two-tone goal runs on local workers only)")
     add_option(s, "--force", action="store_true")
     add_option(s, "--quiet", action="store_true")
     s.set_defaults(run=run)
+
+
+def _workers(args) -> int:
+    """--workers checked as the campaign checks it: 0 and 1 both run in this process."""
+    from ..errors import DesignError
+
+    if args.workers is not None and args.workers < 0:
+        raise DesignError(f"{args.workers} is not a number of worker processes; expected 0 or more", where="--workers")
+    if args.scheduler and args.scheduler != "local" and args.workers is not None:
+        raise DesignError("a running Dask scheduler has its own workers; --workers applies to local processes "
+                          "and to --scheduler local", where="--workers")
+    if args.scheduler is not None and args.workers == 0:
+        raise DesignError("0 (in this process) cannot run on a Dask cluster; give 1 or more, or leave out --scheduler",
+                          where="--workers")
+    return max(1, args.workers or 1)
 
 
 def _options(args):
@@ -92,7 +110,8 @@ def run(args) -> int:
 
     res = design(args.scenario, args.vary, args.goal, mask, designator=designator, guard_db=guard,
                  samples=DEFAULT_SAMPLES if args.samples is None else args.samples,
-                 grid=DEFAULT_GRID if args.grid is None else args.grid, workers=args.workers, text=text)
+                 grid=DEFAULT_GRID if args.grid is None else args.grid, workers=_workers(args), scheduler=args.scheduler,
+                 text=text)
     make_folder(out)  # in the run's ledger: removed again if this run created it and then fails
     created = utc_now()
     written = {}
@@ -118,7 +137,7 @@ def run(args) -> int:
     written["json"] = str(paths["json"])
     data = result_dict(res, scenario=str(args.scenario), scenario_sha256=sha, mask_info=mask.to_info().to_dict(),
                        guard_db=guard, designator=designator, created_utc=created, outputs=written,
-                       workers=args.workers)
+                       workers=_workers(args))
     write_atomic(paths["json"], json.dumps(data, indent=2, allow_nan=False, ensure_ascii=False) + "\n", force=args.force)
     if not args.quiet:
         from ..report.cautions import DESIGN_CAUTION, SHORT_CAUTION

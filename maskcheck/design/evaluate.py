@@ -23,7 +23,7 @@ from ..errors import DesignError
 from .goal import TWO_TONE_MEASURES, Goal
 from .keys import Vary, substitute, scenario_hash
 
-__all__ = ["Settings", "Binding", "Outcome", "Point", "evaluate_text", "Evaluator"]
+__all__ = ["Settings", "Binding", "Outcome", "Point", "evaluate_text", "outcome_of", "Evaluator"]
 
 
 @dataclass(frozen=True)
@@ -177,6 +177,12 @@ def evaluate_text(text: str, settings: Settings, path=None) -> Outcome:
                       notes=("simulated scenario, not a measurement",))
     result = check(sim.wideband.spectrum, settings.mask, station, guard_db=settings.guard_db)
     t2 = time.perf_counter()
+    return outcome_of(result, settings, sim.fundamental.sample_rate_hz / 2, t1 - t0, t2 - t1, sim=sim)
+
+
+def outcome_of(result, settings: Settings, zone_half_hz: float, simulate_s: float, check_s: float,
+               sim=None) -> Outcome:
+    """The design outcome of one checked point (``sim``, the simulation, is needed by two-tone goals only)."""
     goal = settings.goal
     worst = result.worst_region
     blocked = []
@@ -213,10 +219,10 @@ def evaluate_text(text: str, settings: Settings, path=None) -> Outcome:
     else:
         measure, bound, detail = _two_tone(sim, goal)
     return Outcome(measure, bound, None if worst is None else float(worst.worst_margin_db), result.verdict,
-                   _binding(result, sim.carrier_hz, sim.fundamental.sample_rate_hz / 2), tuple(blocked),
+                   _binding(result, result.station.carrier_hz, zone_half_hz), tuple(blocked),
                    tuple((r.name, r.worst_margin_db, r.verdict) for r in result.regions),
                    None if result.occupied_bandwidth is None else float(result.occupied_bandwidth.width_hz),
-                   t1 - t0, t2 - t1, detail)
+                   simulate_s, check_s, detail)
 
 
 def require_goal_fits(sc, settings: Settings) -> None:
@@ -298,7 +304,7 @@ class Evaluator:
             return self.record(vals, text, sha, self.cache[sha], simulated=False)
         return self.record(vals, text, sha, evaluate_text(text, self.settings, self.path), simulated=True)
 
-    def many(self, list_of_values, workers: int = 1) -> list[Point]:
+    def many(self, list_of_values, workers: int = 1, scheduler: str | None = None) -> list[Point]:
         """Evaluate several points, the new ones through :func:`maskcheck.design.grid.run_points`."""
         from .grid import run_points
 
@@ -308,7 +314,8 @@ class Evaluator:
             if sha not in self.cache and sha not in seen:
                 todo.append((text, sha))
                 seen.add(sha)
-        outcomes = run_points([t for t, _ in todo], self.settings, workers=workers, path=self.path)
+        outcomes = run_points([t for t, _ in todo], self.settings, workers=workers, scheduler=scheduler,
+                              path=self.path)
         fresh = {sha: o for (_, sha), o in zip(todo, outcomes)}
         out = []
         for vals, text, sha in prepared:

@@ -30,7 +30,7 @@ DESIGN_NOTES = (
 
 def design(path, vary, goal: str, mask, *, designator: str | None = None, guard_db: float = 0.0,
            samples: int = DEFAULT_SAMPLES, grid: int = DEFAULT_GRID, workers: int = 1,
-           text: str | None = None) -> DesignResult:
+           scheduler: str | None = None, text: str | None = None) -> DesignResult:
     """Answer one design question about the scenario file at ``path``.
 
     Parameters
@@ -70,7 +70,8 @@ def design(path, vary, goal: str, mask, *, designator: str | None = None, guard_
     ev = Evaluator(text, varies, settings, path=str(path))
     for corner in itertools.product(*[(v.low, v.high) for v in varies]):
         ev.prepare(corner)  # every corner of the range is a valid scenario, or the design is refused now
-    res = solve_one(ev, samples=samples, workers=workers) if len(varies) == 1 else solve_two(ev, grid=grid, workers=workers)
+    res = (solve_one(ev, samples=samples, workers=workers, scheduler=scheduler) if len(varies) == 1
+           else solve_two(ev, grid=grid, workers=workers, scheduler=scheduler))
     res.cautions = list(DESIGN_NOTES)
     g = settings.goal
     if g.measure == "margin" and g.value < guard_db:

@@ -238,7 +238,8 @@ def _present(v) -> float:
     return (v.low + v.high) / 2 if p is None else float(p)
 
 
-def solve_one(ev: Evaluator, *, samples: int = DEFAULT_SAMPLES, xtol: float | None = None, workers: int = 1) -> DesignResult:
+def solve_one(ev: Evaluator, *, samples: int = DEFAULT_SAMPLES, xtol: float | None = None, workers: int = 1,
+              scheduler: str | None = None) -> DesignResult:
     """Solve a one-key design (see the module docstring)."""
     (v,) = ev.varies
     if isinstance(samples, bool) or not isinstance(samples, int) or samples < 3:
@@ -247,7 +248,7 @@ def solve_one(ev: Evaluator, *, samples: int = DEFAULT_SAMPLES, xtol: float | No
     if len(xs) < 2:
         raise DesignError(f"vary={v.text}: the range holds fewer than two whole numbers", param="vary")
     tol = (v.high - v.low) * RELATIVE_XTOL if xtol is None else float(xtol)
-    pts = ev.many([(x,) for x in xs], workers=workers)
+    pts = ev.many([(x,) for x in xs], workers=workers, scheduler=scheduler)
     gs = np.array([p.g for p in pts])
     d = np.diff(gs)
     monotonic = bool(np.all(d >= 0) or np.all(d <= 0))
@@ -358,14 +359,15 @@ def _refined(ev: Evaluator, varies, pts, contour, here, span, grid_best: Point) 
     return c.feasible if c.feasible is not None and c.feasible.holds else grid_best
 
 
-def solve_two(ev: Evaluator, *, grid: int = DEFAULT_GRID, workers: int = 1) -> DesignResult:
+def solve_two(ev: Evaluator, *, grid: int = DEFAULT_GRID, workers: int = 1,
+              scheduler: str | None = None) -> DesignResult:
     """Map a two-key design on a grid (see the module docstring)."""
     vx, vy = ev.varies
     if isinstance(grid, bool) or not isinstance(grid, int) or grid < 3:
         raise DesignError(f"grid={grid!r} is not a whole number >= 3", param="grid")
     xs = _sample_values(vx.low, vx.high, grid, vx.key.integer)
     ys = _sample_values(vy.low, vy.high, grid, vy.key.integer)
-    pts = ev.many([(x, y) for y in ys for x in xs], workers=workers)
+    pts = ev.many([(x, y) for y in ys for x in xs], workers=workers, scheduler=scheduler)
     at = {(ix, iy): pts[iy * len(xs) + ix] for iy in range(len(ys)) for ix in range(len(xs))}
     g = [[at[ix, iy].g for ix in range(len(xs))] for iy in range(len(ys))]
     gm = GridMap(tuple(xs), tuple(ys), tuple(tuple(r) for r in g),

@@ -80,9 +80,7 @@ def zone_coefficient(k: int, n: int) -> float:
 
 def _split(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     r = np.abs(x)
-    u = np.ones_like(x)
-    nz = r > 0
-    u[nz] = x[nz] / r[nz]
+    u = np.divide(x, r, out=np.ones_like(x), where=r > 0)  # 1 where the envelope is 0
     return r, u
 
 
@@ -126,21 +124,33 @@ class Polynomial:
                 out = out + a * c * r**k
         return out
 
-    def zones(self, x: np.ndarray, max_zone: int) -> dict[int, np.ndarray]:
+    def zones(self, x: np.ndarray, max_zone: int, *, skip: tuple[int, ...] = ()) -> dict[int, np.ndarray]:
+        """Zone n of ``x`` for n = 0 .. ``max_zone`` (those not in ``skip``): ``u**n sum_k a_k c(k, n) r**k``.
+
+        The powers ``r**k`` are made once by repeated multiplication and every
+        zone's amplitude comes from one matrix product of the coefficients
+        ``a_k c(k, n)`` with them (no power calls, no Python loop over samples).
+        """
         r, u = _split(x)
-        r_pow = [None, r]  # r**k by repeated multiplication, each power once for all zones
-        for _ in range(2, self.order + 1):
-            r_pow.append(r_pow[-1] * r)
-        out = {}
-        u_pow = np.ones_like(u)
+        ns, rows = [], []
         for n in range(0, min(self.order, max_zone) + 1):
-            if n:
-                u_pow = u_pow * u
-            terms = [(a * zone_coefficient(k, n), k) for k, a in enumerate(self.coefficients, start=1)
-                     if a and zone_coefficient(k, n)]
-            if terms:
-                amp = sum(c * r_pow[k] for c, k in terms)
-                out[n] = amp if n == 0 else amp * u_pow
+            row = [a * zone_coefficient(k, n) for k, a in enumerate(self.coefficients, start=1)]
+            if n not in skip and any(row):
+                ns.append(n)
+                rows.append(row)
+        if not ns:
+            return {}
+        r_pow = np.empty((self.order, r.size))
+        r_pow[0] = r
+        for k in range(1, self.order):
+            np.multiply(r_pow[k - 1], r, out=r_pow[k])
+        amps = np.asarray(rows) @ r_pow
+        out, u_pow, m = {}, None, 0
+        for n, amp in zip(ns, amps):
+            while m < n:
+                u_pow = u if u_pow is None else u_pow * u
+                m += 1
+            out[n] = amp if n == 0 else amp * u_pow
         return out
 
     @property
@@ -359,9 +369,8 @@ def amplify(bb: Baseband, model, *, max_harmonic: int = 10, oversample: int = 1,
     out = model.zones(x, nmax)
     notes = [model.describe()]
     if harmonics is not None:
-        for n, z in harmonics.zones(x, nmax).items():
-            if n != 1:
-                out[n] = out.get(n, 0) + z
+        for n, z in harmonics.zones(x, nmax, skip=(1,)).items():
+            out[n] = out[n] + z if n in out else z
         notes.append("harmonics from " + harmonics.describe())
     if any(n >= 2 for n in out) and bb.carrier_hz < fs:
         raise ValueError(f"carrier_hz={bb.carrier_hz:g} is below the zone sample rate {fs:g} Hz, so the harmonic "
