@@ -82,13 +82,13 @@ def read_traces(paths, args):
 
 def _say_reading(spectrum) -> None:
     """What the reader inferred, once, on standard error (wrapped at word boundaries on a terminal)."""
-    import shutil
     import sys
     import textwrap
 
     line = f"read {spectrum.source!r}: {spectrum.trace_file.reading}"
-    if sys.stderr.isatty():
-        width = max(40, shutil.get_terminal_size().columns - 1)
+    err = console(stderr=True)
+    if err.is_terminal:  # redirected: one line, as a log keeps it (greppable)
+        width = max(40, err.width - 1)
         line = textwrap.fill(line, width=width, subsequent_indent="  ", break_long_words=False, break_on_hyphens=False)
     print(line, file=sys.stderr, flush=True)
 

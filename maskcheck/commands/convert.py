@@ -32,8 +32,6 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    import sys
-
     from .._version import __version__
     from ..core.units import format_frequency
     from ..io.output import check_writable, write_text
@@ -55,7 +53,13 @@ def run(args) -> int:
     if not args.quiet:
         rbw = sorted({float(x) for x in spectrum.rbw_hz.tolist()})
         rbw_text = format_frequency(rbw[0]) if len(rbw) == 1 else f"{format_frequency(rbw[0])} to {format_frequency(rbw[-1])}"
-        print(f"{'standard output' if to_stdout else args.out}: {len(spectrum)} points, "
-              f"{format_frequency(float(spectrum.freq_hz[0]))} to {format_frequency(float(spectrum.freq_hz[-1]))}, RBW {rbw_text}, "
-              f"detector {spectrum.detector}", file=sys.stderr if to_stdout else sys.stdout)
+        from rich.text import Text
+
+        from ._common import console
+
+        # wrapped at words at the console's width (a long output path is one word and stays whole)
+        console(stderr=to_stdout).print(Text(
+            f"{'standard output' if to_stdout else args.out}: {len(spectrum)} points, "
+            f"{format_frequency(float(spectrum.freq_hz[0]))} to {format_frequency(float(spectrum.freq_hz[-1]))}, "
+            f"RBW {rbw_text}, detector {spectrum.detector}"))
     return 0

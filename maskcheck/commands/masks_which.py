@@ -94,28 +94,41 @@ def run_which(args, con) -> int:
 
 
 def _print(choice, con, escape) -> None:
+    """The candidates, wrapped at words at the console's width (a mask id is one word and never splits)."""
+    from rich.console import Group
+    from rich.padding import Padding
+    from rich.table import Table
+    from rich.text import Text
+
     from ..core.units import format_frequency
+    from ..report.term_layout import indented, is_plain, Trimmed
+
+    def say(text, indent=0):
+        con.print(indented(con, text, indent) if indent or is_plain(con) else Text(text))
 
     s = choice.station
     given = [f"service {s.service}" if s.service else "", f"channel {format_frequency(s.channel_hz)}" if s.channel_hz else "",
              f"class {s.emission_class}" if s.emission_class else "", s.authority or "",
              "" if s.audio_filter is None else ("audio filter" if s.audio_filter else "no audio filter"),
              f"installed {s.installed.isoformat()}" if s.installed else ""]
-    con.print(f"Candidate masks for {format_frequency(s.carrier_hz)}"
-              + (f" ({escape(', '.join(g for g in given if g))})" if any(given) else ""), soft_wrap=True)
+    say(f"Candidate masks for {format_frequency(s.carrier_hz)}"
+        + (f" ({', '.join(g for g in given if g)})" if any(given) else ""))
     for i, c in enumerate(choice.candidates, 1):
-        con.print(f"{i:>2}. [bold]{escape(c.id)}[/bold]  {escape(c.authority)} {escape(c.citation)}  (score {c.score})",
-                  soft_wrap=True)
-        for r in c.reasons:
-            con.print(f"      {escape(r)}", soft_wrap=True)
+        # a hanging indent: the number in a column of its own, the text and reasons wrapped beside it
+        block = Table.grid(padding=0)
+        block.add_column(no_wrap=True)
+        block.add_column()
+        block.add_row(f"{i:>2}. ", Group(Text.assemble((c.id, "bold"), f"  {c.authority} {c.citation}  (score {c.score})"),
+                                         *(Padding(Text(r), (0, 0, 0, 2)) for r in c.reasons)))
+        con.print(Trimmed(block) if is_plain(con) else block)
     if choice.ruled_out:
-        con.print("Ruled out:", soft_wrap=True)
+        say("Ruled out:")
         for i, why in choice.ruled_out:
-            con.print(f"    {escape(i)}: {escape(why)}", soft_wrap=True)
+            say(f"{i}: {why}", 4)
     word = "Choice" if choice.unambiguous else "No single choice"
-    con.print(f"{word}: {escape(choice.summary())}", soft_wrap=True)
-    con.print("The ranking is our own reading of the rules' tables, a pre-compliance aid: the rule text and the "
-              "regulator decide.", soft_wrap=True)
+    say(f"{word}: {choice.summary()}")
+    say("The ranking is our own reading of the rules' tables, a pre-compliance aid: the rule text and the "
+        "regulator decide.")
 
 
 def chosen_mask(args):

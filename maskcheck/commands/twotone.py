@@ -193,39 +193,47 @@ def run(args) -> int:
     if not args.quiet:
         from rich.markup import escape
 
-        from ..report.term_layout import grid
+        from ..report.term_layout import facts, grid, heading
 
         con = console(stderr=to_stdout)
         d = res.to_dict()
-        con.print(f"[bold]two-tone test[/bold] of {escape(label)}")
-        if who.label():
-            con.print(f"station: {escape(who.label())}")
-        con.print(f"tones {format_frequency(res.f1_hz)} and {format_frequency(res.f2_hz)} "
-                  f"(spacing {res.spacing_hz:.6g} Hz, imbalance {res.tone_imbalance_db:+.2f} dB)")
-        con.print(f"RBW {res.rbw_hz:.4g} Hz ({resolution['method']}; spacing = {res.spacing_hz / res.rbw_hz:.3g} RBW)")
+        con.print(heading(con, f"two-tone test of {label}"))
+        pairs = [("station", who.label())] if who.label() else []
+        pairs += [("tones", f"{format_frequency(res.f1_hz)} and {format_frequency(res.f2_hz)}"),
+                  ("spacing", f"{res.spacing_hz:.6g} Hz ({res.spacing_hz / res.rbw_hz:.3g} RBW)"),
+                  ("tone imbalance", f"{res.tone_imbalance_db:+.2f} dB"),
+                  ("RBW", f"{res.rbw_hz:.4g} Hz ({resolution['method']})")]
         if spectrum.corrections is not None:
             c = spectrum.corrections
             span = (f"{c.total_db_min:+.2f} dB" if c.total_db_min == c.total_db_max
                     else f"{c.total_db_min:+.2f} to {c.total_db_max:+.2f} dB")
             parts = ", ".join(f"{a.correction.name} {a.applied_min_db:+.2f} dB" for a in c.applied)
-            con.print(f"levels corrected by {span} ({escape(parts)}): {escape(c.quantity)}")
-        con.print(f"PEP {d['pep_dbm']:.2f} {unit}, mean {d['mean_dbm']:.2f} {unit} (PEP/mean {d['pep_to_mean_db']:.2f} dB)")
+            pairs.append(("levels corrected", f"by {span} ({parts}): {c.quantity}"))
+        pairs += [("PEP", f"{d['pep_dbm']:.2f} {unit}"), ("mean power", f"{d['mean_dbm']:.2f} {unit}"),
+                  ("PEP/mean", f"{d['pep_to_mean_db']:.2f} dB")]
         if res.floor_w is not None:
-            con.print(f"floor in a {res.band_hz:.4g} Hz line band: {d['floor_db_re_one_tone']:.2f} dB re one tone")
+            pairs.append(("floor", f"{d['floor_db_re_one_tone']:.2f} dB re one tone in a {res.band_hz:.4g} Hz line band"))
+        if res.carrier is not None:
+            pairs.append(("sideband suppression", res.carrier.suppression_text()))
+        con.print(facts(con, pairs))
         rows = [(str(k), p.side + (" (worse)" if p is res.worst(k) and not p.below_floor else ""),
                  format_frequency(p.freq_hz, 9), p.describe("tone"), p.describe("pep"))
                 for k in ORDERS for p in res.products if p.order == k]
         con.print(grid(con, ("order", "side", "frequency", "dB re one tone", "dB re PEP"), rows,
                        title="Intermodulation products", right=(0, 3, 4), keys=(0, 1)))
+        lines = []
         if res.carrier is not None:
             c = res.carrier
-            con.print(f"suppressed carrier {format_frequency(c.carrier_hz, 9)} ({c.sideband} sideband): "
-                      f"leak {c.leak.describe('pep')} re PEP, {c.leak.describe('tone')} re one tone")
-            con.print(f"opposite sideband suppression: {c.suppression_text()}; images "
-                      + ", ".join(f"{format_frequency(i.freq_hz, 9)} {i.describe('tone')} re one tone" for i in c.images))
-        for x in res.other_lines:
-            con.print(f"other line at {format_frequency(x.freq_hz, 9)}: {x.describe('tone')} re one tone, "
-                      f"{x.describe('pep')} re PEP ({escape(x.name)})")
+            lines.append(("carrier leak", format_frequency(c.carrier_hz, 9), c.leak.describe("tone"),
+                          c.leak.describe("pep"), f"suppressed carrier ({c.sideband} sideband)"))
+            lines += [(i.name, format_frequency(i.freq_hz, 9), i.describe("tone"), i.describe("pep"),
+                       "opposite sideband") for i in c.images]
+        lines += [("other line", format_frequency(x.freq_hz, 9), x.describe("tone"), x.describe("pep"), x.name)
+                  for x in res.other_lines]
+        if lines:
+            con.print(grid(con, ("line", "frequency", "dB re one tone", "dB re PEP", "what it is"), lines,
+                           title="Carrier, opposite sideband and other lines", right=(1, 2, 3), keys=(0, 1),
+                           max_row_lines=3))
         if res.other_lines_left_out:
             con.print(f"... and {res.other_lines_left_out} weaker other lines, not listed")
         for w in warnings:

@@ -6,13 +6,12 @@ it, so the table reads the same at 80 columns without colour and redirected.
 
 from __future__ import annotations
 
-from rich import box
-from rich.table import Table
 from rich.text import Text
 
 from ..core.matrix import CampaignMatrix
 from .cautions import SHORT_CAUTION
 from .matrix_files import MATRIX_HEADER, matrix_rows, summary_lines
+from .term_layout import grid, indented
 from .terminal import VERDICT_STYLES
 
 __all__ = ["render_matrix"]
@@ -27,22 +26,16 @@ def render_matrix(matrix: CampaignMatrix, console, *, note: str = "") -> None:
     # the units stand in the header, so the numbers fit 80 columns
     header[header.index("margin")] = "dB"
     header[header.index("power")] = "dBm"
-    t = Table(title=f"campaign: {matrix.name}", title_justify="left", title_style="bold", box=box.SIMPLE_HEAD,
-              padding=(0, 1), pad_edge=False)
-    longest = max((len(r.name) for r in matrix.rows), default=5)
-    for h in header:
-        t.add_column(h, justify="right" if h in ("dB", "at", "OBW") or h.startswith("dBm") else "left",
-                     overflow="fold", no_wrap=h != "entry",
-                     min_width=min(12, longest) if h == "entry" else None)
+    rows = []
     for r, cells in zip(matrix.rows, matrix_rows(matrix, messages=False, kinds=len(kinds) != 1)):
-        style = VERDICT_STYLES.get(r.verdict, "bold red")
         cells = list(cells[:len(header)])
         cells[2] = cells[2].removesuffix(" dB")
         cells[6] = cells[6].removesuffix(" dBm") if len(kinds) == 1 else cells[6].replace(" dBm", "")
-        texts = [Text(c) for c in cells]
-        texts[1].stylize(style)
-        t.add_row(*texts)
-    console.print(t)
+        rows.append([Text(c) for c in cells])
+        rows[-1][1].stylize(VERDICT_STYLES.get(r.verdict, "bold red"))
+    # entry names, numbers and rule ids are never split: a narrow terminal gets one block per entry instead
+    console.print(grid(console, header, rows, title=f"campaign: {matrix.name}", right=(2, 3, 5, 6), keys=(0, 1),
+                       whole=(0, 1, 2, 3, 5, 6, 7)))
     if one_rule and rules:
         (mask_id, grade), = rules
         citation = next(r.citation for r in matrix.rows if r.verdict != "error")
@@ -54,7 +47,7 @@ def render_matrix(matrix: CampaignMatrix, console, *, note: str = "") -> None:
     if errors:
         console.print("entries that could not be judged:", markup=False)
         for r in errors:
-            console.print(f"  {r.name}: {r.message}", markup=False)
+            console.print(indented(console, f"{r.name}: {r.message}"))
     for line in summary_lines(matrix):
         console.print(line, markup=False)
     if note:

@@ -48,47 +48,37 @@ def _verdict_line(c: Comparison) -> str:
 
 
 def render_comparison(c: Comparison, console) -> None:
-    from rich import box
-    from rich.table import Table
-    from rich.text import Text
+    from .term_layout import grid
 
     console.print(f"before: {c.before.label}", markup=False)
     console.print(f"after:  {c.after.label}", markup=False)
     console.print(_verdict_line(c), markup=False)
-    for title, header, rows in (("regions", REGION_HEADER, region_change_rows(c)),
-                                ("listed emissions that changed", EMISSION_HEADER, emission_change_rows(c))):
-        if not rows:
-            continue
-        t = Table(title=title, title_justify="left", box=box.SIMPLE_HEAD, padding=(0, 1))
-        for h in header:
-            t.add_column(h, overflow="fold")
-        for row in rows:
-            t.add_row(*(Text(x) for x in row))
-        console.print(t)
+    for title, header, rows, right in (("regions", REGION_HEADER, region_change_rows(c), (3,)),
+                                       ("listed emissions that changed", EMISSION_HEADER, emission_change_rows(c),
+                                        (1, 2, 3, 4))):
+        if rows:  # region names wrap at words; frequencies and margins stay whole (blocks when too narrow)
+            console.print(grid(console, header, rows, title=title, right=right, keys=(0,)))
 
 
 def render_campaign_comparison(entries: list[EntryComparison], console, before: str, after: str) -> None:
-    from rich import box
-    from rich.table import Table
-    from rich.text import Text
+    from .term_layout import grid, indented
 
     console.print(f"before: {before}", markup=False)
     console.print(f"after:  {after}", markup=False)
-    t = Table(box=box.SIMPLE_HEAD, padding=(0, 1))
-    for h in ("entry", "before", "after", "worst change", "status"):
-        t.add_column(h, overflow="fold")
+    rows = []
     for e in entries:
         worst = None
         if e.comparison is not None:
             changes = [r.change_db for r in e.comparison.regions if r.change_db is not None]
             worst = min(changes) if changes else None
-        t.add_row(*(Text(x) for x in (e.name, e.verdict_before or DASH, e.verdict_after or DASH, fmt_db(worst), e.status)))
-    console.print(t)
+        rows.append((e.name, e.verdict_before or DASH, e.verdict_after or DASH, fmt_db(worst), e.status))
+    console.print(grid(console, ("entry", "before", "after", "worst change", "status"), rows, right=(3,),
+                       whole=(0, 3)))
     changed = [e for e in entries if e.status != "unchanged"]
     console.print(f"{len(changed)} of {len(entries)} entries changed", markup=False)
     for e in entries:
         if e.note:
-            console.print(f"  {e.name}: {e.note}", markup=False)
+            console.print(indented(console, f"{e.name}: {e.note}"))
 
 
 def comparison_json(payload) -> str:

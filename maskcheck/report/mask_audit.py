@@ -3,14 +3,11 @@
 from __future__ import annotations
 
 from rich.console import Console
-from rich.table import Table
-from rich.text import Text
 
 from ..masks.audit import KIND_WORDS, grade_counts
 
 __all__ = ["render_audit"]
 
-_STYLE = {"verified": "bold green", "checked": "green", "partial": "yellow", "unchecked": "bold red"}
 
 
 def _source_line(s) -> str:
@@ -30,19 +27,20 @@ def render_audit(rows, console: Console | None = None) -> None:
     console : rich.console.Console, optional
         Where to print.
     """
+    from .term_layout import grid, heading
+
     console = console or Console()
-    table = Table(title="Rule data of the mask library, value by value", show_lines=True, expand=False)
-    table.add_column("mask", overflow="fold", ratio=3)
-    table.add_column("grade", no_wrap=True)
-    table.add_column("texts read (edition)", ratio=5)
-    table.add_column("not confirmed", ratio=4)
+    cells = []
     for r in rows:
         read = "\n".join(_source_line(s) for s in r.sources)
         missing = r.unconfirmed_text or "none"
         if r.choices:
             missing += "\nour choice: " + "; ".join(v for v, _ in r.choices)
-        table.add_row(r.id, Text(r.grade, style=_STYLE.get(r.grade, "")), read, missing)
-    console.print(table)
+        cells.append((r.id, r.grade, read, missing))
+    console.print(heading(console, "Rule data of the mask library, value by value"))
+    # mask ids and grades are identifiers, never split; the texts read wrap at words
+    console.print(grid(console, ("mask", "grade", "texts read (edition)", "not confirmed"), cells, keys=(0, 1),
+                       whole=(0, 1), max_row_lines=12, row_gap=True))
     counts = grade_counts(rows)
     console.print(f"{len(rows)} masks: " + ", ".join(f"{n} {g}" for g, n in counts.items())
                   + "; 'maskcheck masks show ID' for one mask's checks in full")

@@ -136,7 +136,7 @@ def _share(lo: list[int], hi: list[int], room: int) -> list[int]:
 
 
 def grid(console, header, rows, *, title: str | None = None, right=(), keys=(0,), whole=None,
-         show_header: bool = True, max_row_lines: int = 2):
+         show_header: bool = True, max_row_lines: int = 2, row_gap: bool = False):
     """A table that keeps every word whole, or its rows as blocks when the console is too narrow.
 
     Parameters
@@ -145,8 +145,8 @@ def grid(console, header, rows, *, title: str | None = None, right=(), keys=(0,)
         Where it will be printed (its width and whether it is a terminal decide the layout).
     header : sequence of str
         Column names.
-    rows : sequence of sequence of str
-        The cells, as text.
+    rows : sequence of sequence of str or rich.text.Text
+        The cells, as text (a ``Text`` keeps its style in a table: a verdict's colour).
     title : str, optional
         A line above the table.
     right : collection of int
@@ -162,12 +162,16 @@ def grid(console, header, rows, *, title: str | None = None, right=(), keys=(0,)
     max_row_lines : int
         A table whose rows would wrap onto more lines than this is shown in
         the compact layout instead (label/value lists wrap freely).
+    row_gap : bool
+        A blank line between rows (and between blocks), for rows of several
+        lines each; a cell's own line breaks are kept.
 
     Returns
     -------
     rich renderable
     """
-    rows = [[str(c) for c in r] for r in rows]
+    styled = [[c if isinstance(c, Text) else Text(str(c)) for c in r] for r in rows]
+    rows = [[t.plain for t in r] for r in styled]
     plain = is_plain(console)
     box = (PLAIN_HEAD if plain else rich_box.SIMPLE_HEAD) if show_header else None
     padding, show_edge = (0, 1, 0, 0), not plain  # one blank after each column, one from the box between them
@@ -178,23 +182,28 @@ def grid(console, header, rows, *, title: str | None = None, right=(), keys=(0,)
     parts = [Text(title, style="bold")] if title else []
     widths = _share(lo, hi, room) if sum(lo) <= room else None
     if widths is not None and show_header:
-        tallest = max((_lines_needed(c, w) for r in rows for c, w in zip(r, widths)), default=1)
+        tallest = max((sum(_lines_needed(p, w) for p in c.split("\n")) for r in rows for c, w in zip(r, widths)),
+                      default=1)
         widths = widths if tallest <= max_row_lines else None
     if widths is not None:
         t = Table(box=box, padding=padding, show_edge=show_edge, show_header=show_header, header_style="bold",
-                  expand=False)
+                  expand=False, show_lines=row_gap)
         for i, h in enumerate(header):
             t.add_column(h, justify="right" if i in right else "left", width=max(widths[i], 1),
                          overflow="fold", style="bold" if not show_header and i == 0 else None)
-        for r in rows:
-            t.add_row(*(Text(c) for c in r))  # cells are text, never rich markup ("[2]" stays "[2]")
+        for r in styled:
+            t.add_row(*r)  # cells are text, never rich markup ("[2]" stays "[2]")
         parts.append(t)
         return Trimmed(Group(*parts)) if plain else Group(*parts)
-    for r in rows:
+    for n, r in enumerate(rows):
+        if row_gap and n:
+            parts.append(Text(""))
         lead = " ".join(r[i] for i in sorted(keys) if r[i])
         rest = [(header[i], r[i]) for i in range(len(header)) if i not in keys and r[i]]
         parts.append(Text(lead, style="bold"))
         items = [f"{h}: {v}" if show_header and h else v for h, v in rest]
+        if row_gap:  # rows of several lines: each column on lines of its own, its line breaks kept
+            items = [line for item in items for line in item.split("\n")]
         for text in _pack(items, console.width - BLOCK_INDENT):
             parts.append(Padding(Text(text), (0, 0, 0, BLOCK_INDENT)))
     return Trimmed(Group(*parts)) if plain else Group(*parts)
