@@ -250,8 +250,6 @@ def evaluated_rows(mask, st) -> list[dict]:
     Each value is ``(frequency_hz, limit_dbm, dB below the reference or None)``
     at the inner and the outer edge of the region's upper side.
     """
-    import numpy as np
-
     from ..core.units import format_frequency, w_to_dbm_fast
     from ..masks.evaluate import sample_points_hz
 
