@@ -45,6 +45,15 @@ def _client(scheduler: str, workers: int | None):
     return client, None, n
 
 
+def _preload() -> None:
+    import importlib
+
+    from .engine import PRELOAD
+
+    for name in PRELOAD:
+        importlib.import_module(name)
+
+
 def run_on_dask(tasks, scheduler: str, workers: int | None, done) -> None:
     """Run ``engine._task`` on each task on the cluster; ``done(outcome)`` here as each ends."""
     from distributed import as_completed
@@ -54,6 +63,7 @@ def run_on_dask(tasks, scheduler: str, workers: int | None, done) -> None:
     client, cluster, n = _client(scheduler, workers)
     futures = []
     try:
+        client.run(_preload)  # every worker imports the check once, before its first entry (not inside it)
         it = iter(tasks)
         window = 2 * n
         first = [client.submit(_task, t, pure=False) for _, t in zip(range(window), it)]
