@@ -120,8 +120,9 @@ def _read_recordings(entry: Entry, mask):
     from ..io.iq import open_recording, recording_kind
     from ..io.iq_spectrum import Calibration, estimate_recording
 
-    # the trace a peak-detector rule asks for (as 'check --trace auto')
-    trace = "max-hold" if any(getattr(r, "detector", "") == "peak" for r in mask.regions) else "average"
+    from ..checking.trace_choice import trace_for_mask
+
+    trace = trace_for_mask(mask)  # the trace a peak-detector rule asks for (as 'check --trace auto')
     spectra, inputs = [], []
     for p in entry.recordings:
         if recording_kind(p) is None:

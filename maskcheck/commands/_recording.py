@@ -318,8 +318,9 @@ def choose_trace(args, mask) -> str:
     choice = getattr(args, "trace", None) or "auto"
     if choice != "auto":
         return choice
-    wants_peak = any(getattr(r, "detector", "") == "peak" for r in getattr(mask, "regions", ()))
-    return "max-hold" if wants_peak else "average"
+    from ..checking.trace_choice import trace_for_mask
+
+    return trace_for_mask(mask)
 
 
 def worst_frame_check(result, got: InputSet, judge):
