@@ -278,6 +278,20 @@ PRELOAD = ("maskcheck.campaign._calm", "maskcheck.campaign.engine", "maskcheck.c
            "maskcheck.io.trace_write", "maskcheck.campaign.outputs")
 
 
+def start_local_workers() -> None:
+    """Start the fork server now, so that its import of the check overlaps what the caller does next.
+
+    The command calls it before reading the campaign file: the server imports
+    :data:`PRELOAD` while the file is read and the resume keys are hashed, and
+    :func:`_run_local` then finds it running.  It does not wait for the import.
+    """
+    import multiprocessing
+    from multiprocessing import forkserver
+
+    multiprocessing.get_context("forkserver").set_forkserver_preload(list(PRELOAD))
+    forkserver.ensure_running()
+
+
 def _init_worker() -> None:
     """A local worker ignores Ctrl-C (the parent decides) and has the check loaded before its first entry."""
     import importlib

@@ -73,6 +73,10 @@ def run(args) -> int:
     out = Path(args.out)
     if out.exists() and not out.is_dir():
         raise OutputError("exists and is not a folder", path=out, where="--out")
+    if args.scheduler is None and args.workers != 0:
+        from ..campaign.engine import start_local_workers
+
+        start_local_workers()  # the workers' import overlaps reading the file and hashing the inputs
     campaign = load_campaign(args.campaign)  # every problem of the file at once, before anything runs
     bar = _Bar(len(campaign.entries), args.quiet)
     try:
