@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["OPTIONS", "FLAGS", "NO_OPTION", "option_of", "with_options", "error_line"]
+__all__ = ["OPTIONS", "FLAGS", "NO_OPTION", "option_of", "with_options", "error_line", "check_workers"]
 
 #: Python parameter (as library errors name it in ``param=``) -> the option that sets it
 OPTIONS: dict[str, str] = {
@@ -222,3 +222,18 @@ def _place(exc) -> str:
         loc = f"line {where}" if isinstance(where, int) else str(where)
         prefix = f"{prefix}, {loc}" if prefix else loc
     return prefix
+
+
+def check_workers(args, error) -> None:
+    """``--workers`` and ``--scheduler`` checked together, as every command that spreads work checks them.
+
+    ``error`` is the command's error class (raised with ``where="--workers"``).
+    """
+    if args.workers is not None and args.workers < 0:
+        raise error(f"{args.workers} is not a number of worker processes; expected 0 or more", where="--workers")
+    if args.scheduler and args.scheduler != "local" and args.workers is not None:
+        raise error("a running Dask scheduler has its own workers; --workers applies to local processes "
+                    "and to --scheduler local", where="--workers")
+    if args.scheduler is not None and args.workers == 0:
+        raise error("0 (in this process) cannot run on a Dask cluster; give 1 or more, or leave out --scheduler",
+                    where="--workers")

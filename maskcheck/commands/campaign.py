@@ -61,15 +61,9 @@ def run(args) -> int:
     from ..campaign.file import load_campaign
     from ..campaign.runner import run_campaign
     from ..errors import CampaignError, OutputError
+    from ._options import check_workers
 
-    if args.workers is not None and args.workers < 0:
-        raise CampaignError(f"{args.workers} is not a number of worker processes; expected 0 or more", where="--workers")
-    if args.scheduler and args.scheduler != "local" and args.workers is not None:
-        raise CampaignError("a running Dask scheduler has its own workers; --workers applies to local processes "
-                            "and to --scheduler local", where="--workers")
-    if args.scheduler is not None and args.workers == 0:
-        raise CampaignError("0 (in this process) cannot run on a Dask cluster; give 1 or more, or leave out --scheduler",
-                            where="--workers")
+    check_workers(args, CampaignError)
     out = Path(args.out)
     if out.exists() and not out.is_dir():
         raise OutputError("exists and is not a folder", path=out, where="--out")

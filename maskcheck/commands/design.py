@@ -51,15 +51,9 @@ def register(sub) -> None:
 def _workers(args) -> int:
     """--workers checked as the campaign checks it: 0 and 1 both run in this process."""
     from ..errors import DesignError
+    from ._options import check_workers
 
-    if args.workers is not None and args.workers < 0:
-        raise DesignError(f"{args.workers} is not a number of worker processes; expected 0 or more", where="--workers")
-    if args.scheduler and args.scheduler != "local" and args.workers is not None:
-        raise DesignError("a running Dask scheduler has its own workers; --workers applies to local processes "
-                          "and to --scheduler local", where="--workers")
-    if args.scheduler is not None and args.workers == 0:
-        raise DesignError("0 (in this process) cannot run on a Dask cluster; give 1 or more, or leave out --scheduler",
-                          where="--workers")
+    check_workers(args, DesignError)
     return max(1, args.workers or 1)
 
 
