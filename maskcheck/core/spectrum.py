@@ -662,8 +662,7 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
         raise SpectrumError(f"cannot stitch spans with different detectors: {', '.join(sorted(detectors))}")
     # narrowest RBW first: it keeps all its points
     order = sorted(range(len(spectra)), key=lambda i: float(np.median(spectra[i].rbw_hz)))
-    taken: list[tuple[float, float, float]] = []  # (lo, hi, rbw) already covered
-    placed: list[tuple[float, float, float, Spectrum, str]] = []  # the same, with the span and its name
+    placed: list[tuple[float, float, float, Spectrum, str]] = []  # (lo, hi, rbw, span, its name) already covered
     pieces = []
     notes = []
     for i in order:
@@ -690,11 +689,11 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
             a, b = int(a), int(b)
             e_lo = e_hi = None
             if a > 0:  # cut below: meet the covered interval that ends below this run
-                e_lo = max(hi for lo, hi, _ in taken if hi <= s.freq_hz[a])
+                e_lo = max(hi for lo, hi, *_ in placed if hi <= s.freq_hz[a])
             elif s.span_edges_hz:
                 e_lo = s.span_edges_hz[0][0]
             if b < len(s):
-                e_hi = min(lo for lo, hi, _ in taken if lo >= s.freq_hz[b - 1])
+                e_hi = min(lo for lo, hi, *_ in placed if lo >= s.freq_hz[b - 1])
             elif s.span_edges_hz:
                 e_hi = s.span_edges_hz[-1][1]
             if e_lo is not None and e_lo > s.freq_hz[a]:
@@ -709,7 +708,6 @@ def stitch(spectra: Sequence[Spectrum]) -> Spectrum:
                 e_hi = min(e_hi, float(s_hi[b - 1]) + float(s_hi[b - 1] - s_lo[b - 1]) * 2)
             pieces.append((s, a, b, e_lo, e_hi))
         for a, b in s.coverage_hz:
-            taken.append((a, b, rbw))
             placed.append((a, b, rbw, s, _span_name(s, i)))
     pieces.sort(key=lambda t: t[0].freq_hz[t[1]])
     # neighbouring pieces whose outer cells overlap meet at one edge: the
