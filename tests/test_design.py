@@ -573,3 +573,14 @@ def test_design_options_each_change_the_result_or_are_refused(tmp_path):
     for opt, (a, b) in cases.items():
         got_a, got_b = run(a, opt.strip("-") + "-a"), run(b, opt.strip("-") + "-b")
         assert got_a is None or got_b is None or got_a != got_b, opt
+
+
+def test_a_local_cluster_for_the_design_has_the_campaigns_default_of_two_workers():
+    # Common practice, no published source: the same option means the same thing on every command
+    import argparse
+
+    from maskcheck.commands.design import _workers
+    assert _workers(argparse.Namespace(workers=None, scheduler="local")) == 2
+    assert _workers(argparse.Namespace(workers=3, scheduler="local")) == 3
+    assert _workers(argparse.Namespace(workers=None, scheduler=None)) == 1
+    assert _workers(argparse.Namespace(workers=0, scheduler=None)) == 1

@@ -49,11 +49,13 @@ def register(sub) -> None:
 
 
 def _workers(args) -> int:
-    """--workers checked as the campaign checks it: 0 and 1 both run in this process."""
+    """--workers checked as the campaign checks it: 0 and 1 both run in this process; a local cluster has 2 unless told."""
     from ..errors import DesignError
     from ._options import check_workers
 
     check_workers(args, DesignError)
+    if args.scheduler == "local" and args.workers is None:
+        return 2  # the local cluster's own default, as for the campaign
     return max(1, args.workers or 1)
 
 
