@@ -714,3 +714,16 @@ def test_json_dash_writes_only_the_json_to_standard_output_on_every_command_that
         out = capsys.readouterr().out
         assert rc in (0, 1, 3), command
         assert json.loads(out), command  # nothing but the JSON on standard output
+
+
+def test_no_command_takes_an_abbreviated_option(capsys):
+    # Common practice, no published source: an option is honoured as spelled or refused; before, 'check --out'
+    # was taken silently as '--outside-bands', which changes the verdict
+    from maskcheck.cli import main
+    with pytest.raises(SystemExit) as exit_:
+        main(["check", "t.txt", "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "1W", "--out"])
+    err = capsys.readouterr().err.strip()
+    assert exit_.value.code == 2 and "unrecognized arguments: --out" in err and len(err.splitlines()) == 1
+    with pytest.raises(SystemExit) as exit_:
+        main(["designator", "--necessary-b", "3kHz"])
+    assert exit_.value.code == 2 and "--necessary-b" in capsys.readouterr().err

@@ -11,7 +11,15 @@ EXIT_USAGE = 2
 
 
 class Parser(argparse.ArgumentParser):
-    """argparse with a one-line usage error and exit code 2."""
+    """argparse with a one-line usage error and exit code 2, and options only as spelled.
+
+    No abbreviations: with them, ``check --out DIR`` (the spelling of other
+    commands) silently meant ``--outside-bands``, which changes the verdict.
+    """
+
+    def __init__(self, *args, **kwargs):
+        kwargs.setdefault("allow_abbrev", False)
+        super().__init__(*args, **kwargs)
 
     def error(self, message):
         from ._spelling import usage_hint
