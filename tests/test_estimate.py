@@ -244,7 +244,10 @@ def _blocks(total, block, seed=0):
 
 
 def _peak_bytes(total, block):
+    from maskcheck.core.estimate import clear_kept_scratch
+
     plan = plan_welch(1.0, window="hann", segment_samples=4096)
+    clear_kept_scratch()  # each estimate allocates its own scratch, as the first one of a process does
     tracemalloc.start()
     try:
         tracemalloc.reset_peak()
@@ -263,6 +266,39 @@ def test_memory_stays_bounded_whatever_the_length():
     assert large < 16 * 2**20
     assert large < 64 * block * 8 / 2  # negative control: far below holding the samples
     assert abs(large - small) < 2**20
+
+
+def test_kept_scratch_gives_the_numbers_of_fresh_scratch():
+    # Closed form: an estimate depends only on its samples -- scratch arrays handed on from an
+    # earlier estimate (of other samples, with a max-hold) must not carry anything into the next one
+    from maskcheck.core.estimate import _kept_states, clear_kept_scratch
+
+    plan = plan_welch(1.0, window="hann", segment_samples=1024)
+    rng = np.random.default_rng(7)
+    loud = (30 * (rng.standard_normal(50_000) + 1j * rng.standard_normal(50_000))).astype(np.complex64)
+    quiet = (rng.standard_normal(50_000) + 1j * rng.standard_normal(50_000)).astype(np.complex64)
+    clear_kept_scratch()
+    fresh = welch_stream([quiet], plan, workers=2)
+    welch_stream([loud], plan, workers=2)
+    assert len(_kept_states) == 2  # the two threads' scratch is kept for the next estimate
+    reused = welch_stream([quiet], plan, workers=2)
+    np.testing.assert_array_equal(reused.mean_fs, fresh.mean_fs)
+    np.testing.assert_array_equal(reused.max_hold_fs, fresh.max_hold_fs)
+    # negative control: the loud recording's estimate differs from the quiet one's
+    assert not np.array_equal(welch_stream([loud], plan, workers=2).mean_fs, fresh.mean_fs)
+
+
+def test_complex128_blocks_give_the_numbers_of_complex64_blocks():
+    # Closed form: the estimator works in complex64; a complex128 block (the simulator's records)
+    # is rounded to complex64 in the worker threads, which must give the numbers of rounding first
+    plan = plan_welch(1.0, window="hann", segment_samples=1000)
+    rng = np.random.default_rng(8)
+    x = rng.standard_normal(40_011) + 1j * rng.standard_normal(40_011)
+    cuts = [0, 999, 1500, 20_000, x.size]
+    as64 = welch_stream([x[a:b].astype(np.complex64) for a, b in zip(cuts, cuts[1:])], plan, workers=2)
+    as128 = welch_stream([x[a:b] for a, b in zip(cuts, cuts[1:])], plan, workers=2)
+    np.testing.assert_array_equal(as128.mean_fs, as64.mean_fs)
+    np.testing.assert_array_equal(as128.max_hold_fs, as64.max_hold_fs)
 
 
 @pytest.mark.parametrize("spec", ["hann", "blackmanharris", "flattop", ("kaiser", 14.0), ("kaiser", 0.0), ("kaiser", 6.5)])

@@ -79,6 +79,8 @@ __all__ = [
     "welch_uncertainty_db",
     "overlap_correlation",
     "equivalent_averages",
+    "KEPT_SCRATCH_BYTES",
+    "clear_kept_scratch",
     "TRACES",
     "FRAME_BUDGET_BYTES",
     "FAST_LENGTH_TOLERANCE",
@@ -269,6 +271,16 @@ def _enbw_bins(window, n: int) -> float:
     # plan's enbw_hz); a window of 64 Ki points takes a millisecond to compute
     w = get_window(window, n)
     return float(n * np.sum(w * w) / np.sum(w) ** 2)
+
+
+@functools.lru_cache(maxsize=16)
+def _window_float32(window, n: int) -> tuple[np.ndarray, float]:
+    # the window as the accumulator multiplies by it (float32, read-only) and its float64 sum;
+    # every accumulator of one plan (each zone of a simulation, each capture) asks for the same
+    w = get_window(window, n)
+    w32 = w.astype(np.float32)
+    w32.setflags(write=False)
+    return w32, float(np.sum(w))
 
 
 @dataclass(frozen=True)
@@ -670,6 +682,44 @@ class _BatchState:
         self.sum = np.zeros(2 * n, np.float64)  # sums of re**2 and im**2, interleaved
         self.max = np.zeros(n, np.float32)
 
+    @property
+    def nbytes(self) -> int:
+        return self.batch.nbytes + self.power.nbytes + self.sum.nbytes + self.max.nbytes
+
+
+#: Bytes of scratch arrays kept after an estimate for the next one of the same segment length
+#: (a simulation estimates eleven zones in a row, a recording one capture after another): the
+#: next accumulator takes them instead of asking the system for fresh pages.  Common practice,
+#: no published source.
+KEPT_SCRATCH_BYTES = 32 << 20
+
+_kept_states: list[_BatchState] = []
+_kept_states_lock = threading.Lock()
+
+
+def clear_kept_scratch() -> None:
+    """Let go of the scratch arrays kept for the next estimate."""
+    with _kept_states_lock:
+        _kept_states.clear()
+
+
+def _take_state(rows: int, n: int) -> _BatchState:
+    with _kept_states_lock:
+        for i, st in enumerate(_kept_states):
+            if st.batch.shape == (rows, n):
+                del _kept_states[i]
+                st.sum.fill(0.0)
+                st.max.fill(0.0)
+                return st
+    return _BatchState(rows, n)
+
+
+def _keep_states(states: list[_BatchState]) -> None:
+    with _kept_states_lock:
+        _kept_states.extend(states)
+        while _kept_states and sum(st.nbytes for st in _kept_states) > KEPT_SCRATCH_BYTES:
+            _kept_states.pop(0)  # the oldest first
+
 
 class WelchAccumulator:
     """Streaming Welch estimate: feed blocks of samples, then ask for the result.
@@ -710,9 +760,7 @@ class WelchAccumulator:
         n = plan.segment_samples
         self._n = n
         self._hop = plan.hop_samples
-        w = plan.window_values()
-        self._win = w.astype(np.float32)
-        self._s1 = float(np.sum(w))
+        self._win, self._s1 = _window_float32(plan.window_spec, n)
         self._count = 0
         self._carry = np.zeros(0, np.complex64)
         self._seen = 0
@@ -733,7 +781,7 @@ class WelchAccumulator:
         self._fft = scipy.fft.fft
         self._pool = ThreadPoolExecutor(threads, thread_name_prefix="welch") if threads > 1 else None
         self._states: queue.SimpleQueue = queue.SimpleQueue()
-        self._all_states = [_BatchState(self._batch_segments, n) for _ in range(threads)]
+        self._all_states = [_take_state(self._batch_segments, n) for _ in range(threads)]
         for st in self._all_states:
             self._states.put(st)
         self._lock = threading.Lock()
@@ -759,8 +807,10 @@ class WelchAccumulator:
     def feed(self, block) -> None:
         """Add consecutive samples (complex, full scale 1) of the current run."""
         x = np.asarray(block)
-        if x.dtype != np.complex64:
+        if x.dtype not in (np.complex64, np.complex128):
             x = x.astype(np.complex64)
+        # complex128 (the simulator's records) is rounded to complex64 batch by batch in the
+        # transform threads: the same numbers as rounding the block first, without a copy of it
         if x.ndim != 1:
             raise ValueError(f"a block must be one-dimensional, got shape {x.shape}")
         n, hop = self._n, self._hop
@@ -769,13 +819,13 @@ class WelchAccumulator:
         self._seen += x.size
         if c:
             # segments starting inside the carry: join the carry with the head of the block
-            head = np.concatenate((self._carry, x[: n - 1]))
+            head = np.concatenate((self._carry, x[: n - 1].astype(np.complex64)))
             k = 0 if head.size < n else min((c - 1) // hop + 1, (head.size - n) // hop + 1)
             if k:
                 self._segments(np.lib.stride_tricks.sliding_window_view(head, n)[: k * hop : hop], stream_pos)
             first = k * hop - c  # where the next segment starts, relative to x
             if first < 0:  # the block was too short to complete a segment
-                self._carry = np.concatenate((self._carry[k * hop :], x))
+                self._carry = np.concatenate((self._carry[k * hop :], x.astype(np.complex64)))
                 return
             body = x[first:]
             stream_pos += k * hop
@@ -784,7 +834,7 @@ class WelchAccumulator:
         k = 0 if body.size < n else (body.size - n) // hop + 1
         if k:
             self._segments(np.lib.stride_tricks.sliding_window_view(body, n)[::hop][:k], stream_pos)
-        self._carry = body[k * hop :].copy()
+        self._carry = body[k * hop :].astype(np.complex64)  # a copy: the caller may reuse its block
 
     def _segments(self, segs: np.ndarray, stream_pos: int) -> None:
         b = self._batch_segments
@@ -804,7 +854,11 @@ class WelchAccumulator:
         try:
             m = segs.shape[0]
             buf = st.batch[:m]
-            np.multiply(segs, self._win, out=buf)
+            if segs.dtype == np.complex64:
+                np.multiply(segs, self._win, out=buf)
+            else:  # round to complex64 first, then window in complex64 (as for a complex64 block)
+                buf[...] = segs
+                buf *= self._win
             spec = self._fft(buf, axis=1, overwrite_x=True, workers=self._fft_workers)
             v = spec.view(np.float32)  # re, im, re, im, ... of each segment
             # sums of squares of the components, without forming |X|**2: float32 within one
@@ -849,6 +903,16 @@ class WelchAccumulator:
         if self._pool is not None:
             self._pool.shutdown(wait=True)
             self._pool = None
+
+    def release(self) -> None:
+        """Stop the threads and hand the scratch arrays on to the next accumulator (see :data:`KEPT_SCRATCH_BYTES`).
+
+        For the end of an estimate, after :meth:`result`: the accumulator
+        can then be neither fed nor asked for a result again.
+        """
+        self.close()
+        states, self._all_states, self._states = self._all_states, [], None
+        _keep_states(states)
 
     # -- result ------------------------------------------------------------------
     @property
@@ -931,4 +995,4 @@ def welch_stream(
                 progress(len(b))
         return acc.result()
     finally:
-        acc.close()
+        acc.release()

@@ -256,7 +256,7 @@ def estimate_recording(
             except SpectrumError as exc:
                 raise RecordingError(exc.message, path=rec.path, where=exc.where, param=exc.param) from None
         finally:
-            acc.close()
+            acc.release()
         estimates.append((fc, est))
 
     # calibration scale
