@@ -240,3 +240,37 @@ def test_amplifier_refuses_overlapping_zones_and_bad_parameters():
         OutputFilter(1e6, "ellip", 5, ripple_db=None, stopband_db=40.0)
     with pytest.raises(ValueError, match="does not compress"):
         Polynomial((1.0, 0.0, 0.1)).input_1db_compression_v
+
+
+def test_zones_do_not_depend_on_the_block_size(monkeypatch):
+    # Closed form: each zone is a sum over k at each sample alone, so forming them a block of
+    # samples at a time cannot change a number; the record here spans several blocks and ends
+    # in a partial one.  Against a whole-record evaluation of u**n sum_k a_k c(k, n) r**k.
+    import maskcheck.sim.amplifier as amplifier_module
+
+    rng = np.random.default_rng(5)
+    x = 0.4 * (rng.standard_normal(40_003) + 1j * rng.standard_normal(40_003))
+    amp = Polynomial((1.0, 0.05, -0.08, 0.01, 0.004))
+    default = amp.zones(x, 5)
+    monkeypatch.setattr(amplifier_module, "ZONE_BLOCK", 777)
+    small = amp.zones(x, 5)
+    r, u = np.abs(x), x / np.abs(x)
+    for n in range(0, 6):
+        np.testing.assert_array_equal(small[n], default[n])
+        want = sum(a * zone_coefficient(k, n) * r**k for k, a in enumerate(amp.coefficients, 1)) * u**n
+        np.testing.assert_allclose(default[n], want.real if n == 0 else want, rtol=1e-12, atol=1e-15)
+    # negative control: a changed coefficient shows up
+    assert not np.allclose(Polynomial((1.0, 0.05, -0.09, 0.01, 0.004)).zones(x, 5)[1], default[1], rtol=1e-9)
+
+
+def test_a_zone_is_its_own_record_and_read_only():
+    # Common practice, no published source: the stages hand their new arrays on without a copy,
+    # so each record must be read-only and no zone may share memory with another or with the input
+    bb = two_tones(0.2, 500.0, 1500.0, fc=5.0e6)
+    zones = amplify(bb, Polynomial((1.0, 0.1, 0.02)), max_harmonic=3)
+    arrays = [zones[n].iq for n in zones] + [bb.iq]
+    for i, a in enumerate(arrays):
+        assert not a.flags.writeable
+        assert not any(np.shares_memory(a, b) for b in arrays[i + 1:])
+    with pytest.raises(ValueError):
+        zones[1].iq[0] = 0.0

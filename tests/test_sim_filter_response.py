@@ -66,3 +66,35 @@ def test_a_different_filter_is_not_taken_for_the_reference():
 def test_bad_sections_are_refused():
     with pytest.raises(ValueError, match="expected"):
         sos_response(np.ones((2, 5)), [0.0], 8000.0)
+
+
+def test_responses_at_the_bins_are_kept_read_only_and_equal_to_a_fresh_evaluation(monkeypatch):
+    # Reference library: scipy.signal.freqz_sos / freqs_zpk at the DFT bins, as above; the kept
+    # copy is the same array the next time, cannot be written, and a different filter or record
+    # length is not served from it
+    import maskcheck.sim.filters as filters
+
+    filters.clear_kept_responses()
+    fs, n = 48e3, 20_000
+    f = scipy.fft.fftfreq(n, 1 / fs)
+    filt = IfFilter(300.0, 2700.0, "ellip", 6, ripple_db=0.5, stopband_db=60.0)
+    h = filt.bin_response(n, fs, "upper")
+    np.testing.assert_array_equal(h, scipy.signal.freqz_sos(filt.sos(fs), worN=f - 1500.0, fs=fs)[1])
+    assert filt.bin_response(n, fs, "upper") is h
+    assert not h.flags.writeable
+    other = IfFilter(300.0, 2700.0, "ellip", 7, ripple_db=0.5, stopband_db=60.0)
+    assert not np.array_equal(other.bin_response(n, fs, "upper"), h)  # negative control
+    assert filt.bin_response(n + 2, fs, "upper").size == n + 2
+    assert not np.array_equal(filt.bin_response(n, fs, "lower"), h)
+    lpf = OutputFilter(16e6, "cheby1", 7, ripple_db=0.1)
+    z, p, k = lpf.zpk()
+    np.testing.assert_array_equal(lpf.bin_response(n, fs, 14.2e6),
+                                  scipy.signal.freqs_zpk(z, p, k, worN=2 * np.pi * (14.2e6 + f))[1])
+    # the store stays within its budget: a response larger than it is computed and not kept
+    monkeypatch.setattr(filters, "KEPT_RESPONSE_BYTES", 8 * n)
+    filters.clear_kept_responses()
+    big = filt.bin_response(n, fs, "upper")  # 16 bytes a bin: twice the budget
+    assert filt.bin_response(n, fs, "upper") is not big
+    np.testing.assert_array_equal(filt.bin_response(n, fs, "upper"), big)
+    assert filters._kept == {}
+    filters.clear_kept_responses()

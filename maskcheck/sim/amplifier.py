@@ -45,7 +45,7 @@ import scipy.optimize
 import scipy.signal
 import scipy.special
 
-from .baseband import Baseband, apply_response, bin_frequencies_hz, require_finite, require_positive
+from .baseband import Baseband, apply_response, require_finite, require_positive
 from .filters import OutputFilter
 from ..errors import format_value
 
@@ -59,6 +59,11 @@ __all__ = [
     "amplify",
     "apply_output_filter",
 ]
+
+#: Samples per block when the polynomial's zones are formed: its powers and
+#: products for one block (order x block floats) stay in the processor's cache.
+#: Common practice, no published source; any size gives the same numbers.
+ZONE_BLOCK = 16384
 
 
 def zone_coefficient(k: int, n: int) -> float:
@@ -127,11 +132,18 @@ class Polynomial:
     def zones(self, x: np.ndarray, max_zone: int, *, skip: tuple[int, ...] = ()) -> dict[int, np.ndarray]:
         """Zone n of ``x`` for n = 0 .. ``max_zone`` (those not in ``skip``): ``u**n sum_k a_k c(k, n) r**k``.
 
-        The powers ``r**k`` are made once by repeated multiplication and every
+        The powers ``r**k`` are made by repeated multiplication and every
         zone's amplitude comes from one matrix product of the coefficients
-        ``a_k c(k, n)`` with them (no power calls, no Python loop over samples).
+        ``a_k c(k, n)`` with them (no power calls, no Python loop over
+        samples), a block of :data:`ZONE_BLOCK` samples at a time, so the
+        powers and products stay in the processor's cache and only the zones
+        themselves take whole-record memory.
         """
-        r, u = _split(x)
+        return self._zones(*_split(x), max_zone, skip=skip)
+
+    def _zones(self, r: np.ndarray, u: np.ndarray, max_zone: int, *, skip: tuple[int, ...] = (),
+               divisor: float = 1.0) -> dict[int, np.ndarray]:
+        # divisor: every zone but the DC one is divided by it, block by block while it is in the cache
         ns, rows = [], []
         for n in range(0, min(self.order, max_zone) + 1):
             row = [a * zone_coefficient(k, n) for k, a in enumerate(self.coefficients, start=1)]
@@ -140,17 +152,36 @@ class Polynomial:
                 rows.append(row)
         if not ns:
             return {}
-        r_pow = np.empty((self.order, r.size))
-        r_pow[0] = r
-        for k in range(1, self.order):
-            np.multiply(r_pow[k - 1], r, out=r_pow[k])
-        amps = np.asarray(rows) @ r_pow
-        out, u_pow, m = {}, None, 0
-        for n, amp in zip(ns, amps):
-            while m < n:
-                u_pow = u if u_pow is None else u_pow * u
-                m += 1
-            out[n] = amp if n == 0 else amp * u_pow
+        coef = np.asarray(rows)
+        out = {n: np.empty(r.size, dtype=float if n == 0 else complex) for n in ns}
+        block = min(ZONE_BLOCK, r.size)
+        r_pow = np.empty((self.order, block))
+        amps = np.empty((len(ns), block))
+        u_pow = np.empty(block, dtype=complex)
+        for i in range(0, r.size, block):
+            j = min(i + block, r.size)
+            rb, ub, m = r[i:j], u[i:j], j - i
+            rp = r_pow[:, :m]
+            rp[0] = rb
+            for k in range(1, self.order):
+                np.multiply(rp[k - 1], rb, out=rp[k])
+            ab = amps[:, :m]
+            np.matmul(coef, rp, out=ab)
+            up, power = u_pow[:m], 0
+            for n, amp in zip(ns, ab):
+                while power < n:
+                    if power == 0:
+                        up[:] = ub
+                    else:
+                        up *= ub
+                    power += 1
+                if n == 0:
+                    out[0][i:j] = amp
+                else:
+                    ob = out[n][i:j]
+                    np.multiply(amp, up, out=ob)
+                    if divisor != 1.0:
+                        ob /= divisor
         return out
 
     @property
@@ -211,8 +242,13 @@ class Rapp:
         return gr / (1 + (gr / float(self.saturation_v)) ** (2 * p)) ** (1 / (2 * p))
 
     def zones(self, x: np.ndarray, max_zone: int) -> dict[int, np.ndarray]:
-        r, u = _split(x)
-        return {1: self.zone_amplitude(r) * u}
+        return self._zones(*_split(x), max_zone)
+
+    def _zones(self, r: np.ndarray, u: np.ndarray, max_zone: int, *, divisor: float = 1.0) -> dict[int, np.ndarray]:
+        z = self.zone_amplitude(r) * u
+        if divisor != 1.0:
+            z /= divisor
+        return {1: z}
 
     @property
     def input_reference_v(self) -> float:
@@ -258,8 +294,13 @@ class Saleh:
         return float(self.alpha_phi) * r * r / (1 + float(self.beta_phi) * r * r)
 
     def zones(self, x: np.ndarray, max_zone: int) -> dict[int, np.ndarray]:
-        r, u = _split(x)
-        return {1: self.zone_amplitude(r) * np.exp(1j * self.phase_rad(r)) * u}
+        return self._zones(*_split(x), max_zone)
+
+    def _zones(self, r: np.ndarray, u: np.ndarray, max_zone: int, *, divisor: float = 1.0) -> dict[int, np.ndarray]:
+        z = self.zone_amplitude(r) * np.exp(1j * self.phase_rad(r)) * u
+        if divisor != 1.0:
+            z /= divisor
+        return {1: z}
 
     @property
     def input_reference_v(self) -> float:
@@ -306,7 +347,7 @@ def drive(bb: Baseband, model, backoff_db: float, *, reference: str = "pep") -> 
     if not now_v > 0:
         raise ValueError("the amplifier input has no power (all samples are zero)")
     want_v = model.input_reference_v * 10 ** (-bo / 20)
-    return bb.replace(bb.iq * (want_v / now_v), f"driven {bo:g} dB below the amplifier's reference input ({reference})")
+    return bb._replaced(bb.iq * (want_v / now_v), f"driven {bo:g} dB below the amplifier's reference input ({reference})")
 
 
 @dataclass(frozen=True)
@@ -365,11 +406,12 @@ def amplify(bb: Baseband, model, *, max_harmonic: int = 10, oversample: int = 1,
     nmax = int(max_harmonic)
     fs = bb.sample_rate_hz * int(oversample)
     iq = bb.iq if oversample == 1 else scipy.signal.resample(bb.iq, bb.iq.size * int(oversample))
-    x = math.sqrt(2.0) * iq
-    out = model.zones(x, nmax)
+    split = _split(math.sqrt(2.0) * iq)  # the envelope and its phasor, shared by the model and the harmonics
+    # the zones come back divided by sqrt(2) (RF volts to the complex envelope), all but the DC zone
+    out = model._zones(*split, nmax, divisor=math.sqrt(2.0))
     notes = [model.describe()]
     if harmonics is not None:
-        for n, z in harmonics.zones(x, nmax, skip=(1,)).items():
+        for n, z in harmonics._zones(*split, nmax, skip=(1,), divisor=math.sqrt(2.0)).items():
             out[n] = out[n] + z if n in out else z
         notes.append("harmonics from " + harmonics.describe())
     if any(n >= 2 for n in out) and bb.carrier_hz < fs:
@@ -379,9 +421,9 @@ def amplify(bb: Baseband, model, *, max_harmonic: int = 10, oversample: int = 1,
     zones = {}
     for n, z in sorted(out.items()):
         if n == 0:
-            zones[0] = Baseband(np.real(z), fs, 0.0, bb.notes + (note + "; DC zone (real voltage)",))
+            zones[0] = Baseband._adopt(np.real(z), fs, 0.0, bb.notes + (note + "; DC zone (real voltage)",))
         else:
-            zones[n] = Baseband(z / math.sqrt(2.0), fs, n * bb.carrier_hz, bb.notes + (note + f"; zone {n}",))
+            zones[n] = Baseband._adopt(z, fs, n * bb.carrier_hz, bb.notes + (note + f"; zone {n}",))
     result = Zones(zones, bb.carrier_hz)
     return result if output_filter is None else apply_output_filter(result, output_filter)
 
@@ -392,7 +434,6 @@ def apply_output_filter(zones: Zones, output_filter: OutputFilter) -> Zones:
         raise ValueError(f"output_filter={format_value(output_filter)} is not an OutputFilter")
     out = {}
     for n, z in zones.zones.items():
-        f_rf = z.carrier_hz + bin_frequencies_hz(len(z), z.sample_rate_hz)
-        y = apply_response(z.iq, output_filter.response(f_rf))
-        out[n] = z.replace(y.real if n == 0 else y, output_filter.describe())
+        y = apply_response(z.iq, output_filter.bin_response(len(z), z.sample_rate_hz, z.carrier_hz))
+        out[n] = z._replaced(y.real if n == 0 else y, output_filter.describe())
     return Zones(out, zones.carrier_hz)

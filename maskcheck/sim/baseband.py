@@ -90,7 +90,9 @@ def apply_response(x: np.ndarray, response: np.ndarray) -> np.ndarray:
     A real ``x`` with a Hermitian response stays real up to rounding; the
     result is complex in general.
     """
-    return scipy.fft.ifft(scipy.fft.fft(np.asarray(x, dtype=complex)) * response)
+    spec = scipy.fft.fft(np.asarray(x, dtype=complex))
+    spec *= response
+    return scipy.fft.ifft(spec, overwrite_x=True)  # the spectrum is this function's own: no second record
 
 
 @dataclass(frozen=True)
@@ -123,17 +125,38 @@ class Baseband:
     notes: tuple[str, ...] = field(default=())
 
     def __post_init__(self):
-        iq = np.array(self.iq, dtype=complex, copy=True)
+        self._settle(np.array(self.iq, dtype=complex, copy=True))
+
+    def _settle(self, iq: np.ndarray) -> None:
+        # validate and freeze the samples (``iq`` is already this object's own array) and the scalars
         if iq.ndim != 1 or iq.size < 2:
             raise ValueError(f"iq has shape {iq.shape} (expected one dimension of at least 2 samples)")
-        bad = ~np.isfinite(iq)
-        if bad.any():
+        # a finite sum has no inf or NaN term; only when the sum is not finite (or overflows) are the samples searched
+        if not np.isfinite(iq.sum()) and not np.isfinite(iq).all():
+            bad = ~np.isfinite(iq)
             raise ValueError(f"iq[{int(np.flatnonzero(bad)[0])}] is {format_value(iq[bad][0])} (expected finite samples)")
         iq.setflags(write=False)
         object.__setattr__(self, "iq", iq)
         object.__setattr__(self, "sample_rate_hz", require_positive("sample_rate_hz", self.sample_rate_hz))
         object.__setattr__(self, "carrier_hz", require_positive("carrier_hz", self.carrier_hz, allow_zero=True))
         object.__setattr__(self, "notes", tuple(str(n) for n in self.notes))
+
+    @classmethod
+    def _adopt(cls, iq: np.ndarray, sample_rate_hz: float, carrier_hz: float, notes=()) -> "Baseband":
+        """A Baseband that keeps ``iq`` itself (no copy), for the simulator's stages.
+
+        The caller hands the array over: it has just made it (the result of an
+        arithmetic step) or it is another Baseband's read-only array, and no
+        reference to it is left that could write it.  The same checks as the
+        constructor; a real or complex64 ``iq`` is converted (a new array).
+        Saves one copy of the record per stage (16 per simulation of an SSB
+        chain with ten harmonic zones).
+        """
+        bb = cls.__new__(cls)
+        for name, value in (("sample_rate_hz", sample_rate_hz), ("carrier_hz", carrier_hz), ("notes", notes)):
+            object.__setattr__(bb, name, value)
+        bb._settle(np.asarray(iq, dtype=complex))
+        return bb
 
     def __len__(self) -> int:
         return int(self.iq.size)
@@ -164,6 +187,10 @@ class Baseband:
                         self.carrier_hz if carrier_hz is None else carrier_hz,
                         self.notes + (note,))
 
+    def _replaced(self, iq: np.ndarray, note: str) -> "Baseband":
+        """:meth:`replace` for a stage's own new array, kept without a copy (see :meth:`_adopt`)."""
+        return Baseband._adopt(iq, self.sample_rate_hz, self.carrier_hz, self.notes + (note,))
+
     def scaled_to(self, power_w: float, kind: str = "mean") -> "Baseband":
         """The same signal scaled to a mean power or a PEP of ``power_w`` watts.
 
@@ -180,4 +207,4 @@ class Baseband:
         now = self.mean_power_w if kind == "mean" else self.pep_w
         if not now > 0:
             raise ValueError("the signal has no power to scale (all samples are zero)")
-        return self.replace(self.iq * math.sqrt(p / now), f"scaled to {p:g} W {kind}")
+        return self._replaced(self.iq * math.sqrt(p / now), f"scaled to {p:g} W {kind}")

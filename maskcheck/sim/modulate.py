@@ -115,7 +115,7 @@ def am(audio, sample_rate_hz: float, carrier_hz: float, *, index: float, carrier
         env = np.maximum(env, 0.0)
     elif overmodulation != "invert":
         raise ValueError(f"overmodulation={format_value(overmodulation)} is not 'clip' or 'invert'")
-    return Baseband(math.sqrt(pc) * env, sample_rate_hz, carrier_hz, (f"AM, m = {m:g}, carrier {pc:g} W",))
+    return Baseband._adopt(math.sqrt(pc) * env, sample_rate_hz, carrier_hz, (f"AM, m = {m:g}, carrier {pc:g} W",))
 
 
 def dsb_sc(audio, sample_rate_hz: float, carrier_hz: float, *, imbalance: float = 0.0,
@@ -147,8 +147,8 @@ def dsb_sc(audio, sample_rate_hz: float, carrier_hz: float, *, imbalance: float 
     a = _audio(audio)
     d = require_finite("imbalance", imbalance)
     p = require_positive("peak_power_w", peak_power_w)
-    return Baseband(math.sqrt(p) * (a + d / 2), sample_rate_hz, carrier_hz,
-                    (f"DSB-SC balanced modulator, imbalance {d:g}",))
+    return Baseband._adopt(math.sqrt(p) * (a + d / 2), sample_rate_hz, carrier_hz,
+                           (f"DSB-SC balanced modulator, imbalance {d:g}",))
 
 
 def ssb_phasing(audio, sample_rate_hz: float, carrier_hz: float, *, sideband: str = "upper",
@@ -195,9 +195,9 @@ def ssb_phasing(audio, sample_rate_hz: float, carrier_hz: float, *, sideband: st
     analytic = scipy.signal.hilbert(a)
     q = g * np.imag(analytic * np.exp(1j * phi))
     iq = a + (1j if sb == "upper" else -1j) * q + leak
-    return Baseband(math.sqrt(p) * iq, sample_rate_hz, carrier_hz,
-                    (f"SSB phasing, {sb} sideband, Q/I gain {20 * math.log10(g):+.3g} dB, "
-                     f"phase error {math.degrees(phi):+.3g} deg, carrier leak {abs(leak):g}",))
+    return Baseband._adopt(math.sqrt(p) * iq, sample_rate_hz, carrier_hz,
+                           (f"SSB phasing, {sb} sideband, Q/I gain {20 * math.log10(g):+.3g} dB, "
+                            f"phase error {math.degrees(phi):+.3g} deg, carrier leak {abs(leak):g}",))
 
 
 def ssb_filter(audio, sample_rate_hz: float, carrier_hz: float, *, sideband: str = "upper",
@@ -230,8 +230,8 @@ def ssb_filter(audio, sample_rate_hz: float, carrier_hz: float, *, sideband: str
     if not isinstance(filt, IfFilter):
         raise ValueError(f"if_filter={format_value(if_filter)} is not an IfFilter")
     dsb = dsb_sc(audio, sample_rate_hz, carrier_hz, imbalance=imbalance, peak_power_w=peak_power_w)
-    h = filt.response(dsb.bin_frequencies_hz(), dsb.sample_rate_hz, sb)
-    return dsb.replace(2.0 * apply_response(dsb.iq, h), f"SSB filter method, {sb} sideband, {filt.describe()}")
+    h = filt.bin_response(len(dsb), dsb.sample_rate_hz, sb)
+    return dsb._replaced(2.0 * apply_response(dsb.iq, h), f"SSB filter method, {sb} sideband, {filt.describe()}")
 
 
 def _pre_emphasis(a: np.ndarray, sample_rate_hz: float, time_constant_s) -> np.ndarray:
@@ -297,7 +297,7 @@ def fm(audio, sample_rate_hz: float, carrier_hz: float, *, deviation_hz: float, 
     p = require_positive("power_w", power_w)
     phase = 2 * np.pi * dev * _integrate_periodic(a, fs)
     pe = "" if pre_emphasis_s is None else f", pre-emphasis {pre_emphasis_s * 1e6:g} us"
-    return Baseband(math.sqrt(p) * np.exp(1j * phase), fs, carrier_hz, (f"FM, deviation {dev:g} Hz{pe}",))
+    return Baseband._adopt(math.sqrt(p) * np.exp(1j * phase), fs, carrier_hz, (f"FM, deviation {dev:g} Hz{pe}",))
 
 
 def pm(audio, sample_rate_hz: float, carrier_hz: float, *, deviation_rad: float, pre_emphasis_s: float | None = None,
@@ -307,7 +307,7 @@ def pm(audio, sample_rate_hz: float, carrier_hz: float, *, deviation_rad: float,
     k = require_positive("deviation_rad", deviation_rad, allow_zero=True)
     p = require_positive("power_w", power_w)
     pe = "" if pre_emphasis_s is None else f", pre-emphasis {pre_emphasis_s * 1e6:g} us"
-    return Baseband(math.sqrt(p) * np.exp(1j * k * a), sample_rate_hz, carrier_hz, (f"PM, deviation {k:g} rad{pe}",))
+    return Baseband._adopt(math.sqrt(p) * np.exp(1j * k * a), sample_rate_hz, carrier_hz, (f"PM, deviation {k:g} rad{pe}",))
 
 
 def cw(envelope, sample_rate_hz: float, carrier_hz: float, *, power_w: float = 1.0) -> Baseband:
@@ -316,7 +316,7 @@ def cw(envelope, sample_rate_hz: float, carrier_hz: float, *, power_w: float = 1
     if e.min() < 0 or e.max() > 1:
         raise ValueError(f"envelope runs from {e.min():g} to {e.max():g} (expected a keying envelope from 0 to 1)")
     p = require_positive("power_w", power_w)
-    return Baseband(math.sqrt(p) * e, sample_rate_hz, carrier_hz, (f"CW keyed carrier, {p:g} W key-down",))
+    return Baseband._adopt(math.sqrt(p) * e, sample_rate_hz, carrier_hz, (f"CW keyed carrier, {p:g} W key-down",))
 
 
 def _samples_per_symbol(symbol_rate_hz, sample_rate_hz) -> int:
@@ -353,8 +353,8 @@ def fsk(symbols, order: int, symbol_rate_hz: float, sample_rate_hz: float, carri
     levels = (2.0 * s - (m - 1)) / (m - 1)
     freq = shape_symbols(levels, sps, pulse=pulse, alpha=alpha)
     bb = fm(freq, sample_rate_hz, carrier_hz, deviation_hz=deviation_hz, power_w=power_w)
-    return Baseband(bb.iq, bb.sample_rate_hz, bb.carrier_hz,
-                    (f"{m}-FSK, {symbol_rate_hz:g} Bd, deviation {deviation_hz:g} Hz, {pulse} pulse",))
+    return Baseband._adopt(bb.iq, bb.sample_rate_hz, bb.carrier_hz,
+                           (f"{m}-FSK, {symbol_rate_hz:g} Bd, deviation {deviation_hz:g} Hz, {pulse} pulse",))
 
 
 def psk_constellation(order: int) -> np.ndarray:
@@ -411,5 +411,5 @@ def linear(symbols, constellation, symbol_rate_hz: float, sample_rate_hz: float,
     if not mean > 0:
         raise ValueError("the symbols give a signal with no power (all points at the origin)")
     shape = f"RRC alpha {alpha:g}" if pulse == "rrc" else "rectangular"
-    return Baseband(wave * math.sqrt(p / mean), sample_rate_hz, carrier_hz,
-                    (f"{pts.size}-point linear modulation, {symbol_rate_hz:g} Bd, {shape} pulse",))
+    return Baseband._adopt(wave * math.sqrt(p / mean), sample_rate_hz, carrier_hz,
+                           (f"{pts.size}-point linear modulation, {symbol_rate_hz:g} Bd, {shape} pulse",))

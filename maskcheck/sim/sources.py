@@ -26,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.fft
 
-from .baseband import apply_response, bin_frequencies_hz, require_finite, require_positive, sample_count
+from .baseband import require_finite, require_positive, sample_count
 from ..errors import format_value
 
 __all__ = [
@@ -228,10 +228,13 @@ def speech_noise(duration_s: float, sample_rate_hz: float, rng: np.random.Genera
     knee = require_positive("knee_hz", knee_hz)
     tilt = require_finite("tilt_db_per_octave", tilt_db_per_octave)
     n = sample_count(duration_s, sample_rate_hz)
-    f = np.abs(bin_frequencies_hz(n, sample_rate_hz))
+    # the noise is real and the response even in f: the half spectrum of a real DFT (rfft) carries it all
+    f = scipy.fft.rfftfreq(n, 1.0 / float(sample_rate_hz))
     density_db = np.where(f > knee, tilt * np.log2(np.maximum(f, knee) / knee), 0.0)
     response = np.where((f >= lo) & (f <= hi), 10.0 ** (density_db / 20.0), 0.0)
-    x = apply_response(rng.standard_normal(n), response).real
+    spec = scipy.fft.rfft(rng.standard_normal(n))
+    spec *= response
+    x = scipy.fft.irfft(spec, n, overwrite_x=True)
     peak = np.max(np.abs(x))
     if not peak > 0:
         raise ValueError(f"low_hz={format_value(low_hz)}..high_hz={format_value(high_hz)} holds no DFT bin of a {format_value(duration_s)} s record")

@@ -222,13 +222,13 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     floor = dbm_to_w_fast(floor_dbm)
     fund = zones[1]
     if output_filter is not None:
-        h = output_filter.response(fund.carrier_hz + fund.bin_frequencies_hz())
-        fund = fund.replace(apply_response(fund.iq, h), output_filter.describe())
+        h = output_filter.bin_response(len(fund), fund.sample_rate_hz, fund.carrier_hz)
+        fund = fund._replaced(apply_response(fund.iq, h), output_filter.describe())
     now = fund.mean_power_w if power_kind == "mean" else fund.pep_w
     if not now > 0:
         raise ValueError("the fundamental has no power at the antenna port (the output filter stops it?)")
     scale = p_want / now
-    fund = fund.replace(fund.iq * math.sqrt(scale), f"scaled to {p_want:g} W {power_kind} at the antenna port")
+    fund = fund._replaced(fund.iq * math.sqrt(scale), f"scaled to {p_want:g} W {power_kind} at the antenna port")
     response = None if output_filter is None else output_filter.response
     top = max([z.carrier_hz + z.sample_rate_hz / 2 for z in zones.zones.values()]
               + [int(max_harmonic) * fund.carrier_hz + fund.sample_rate_hz / 2])
