@@ -23,6 +23,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field
 
@@ -166,15 +167,22 @@ class Baseband:
         """Record length, s."""
         return self.iq.size / self.sample_rate_hz
 
+    @functools.cached_property
+    def _powers(self) -> tuple[float, float]:
+        # mean and peak of |iq|**2 from one pass (the record is read-only, so they are computed once)
+        p = np.abs(self.iq)
+        np.square(p, out=p)
+        return float(np.mean(p)), float(np.max(p))
+
     @property
     def mean_power_w(self) -> float:
         """Mean power, W: ``mean(|iq|**2)``."""
-        return float(np.mean(np.abs(self.iq) ** 2))
+        return self._powers[0]
 
     @property
     def pep_w(self) -> float:
         """Peak envelope power, W: ``max(|iq|**2)`` (between samples the envelope may peak higher)."""
-        return float(np.max(np.abs(self.iq) ** 2))
+        return self._powers[1]
 
     def bin_frequencies_hz(self) -> np.ndarray:
         """Baseband frequency of each DFT bin of the record, Hz (FFT order)."""
