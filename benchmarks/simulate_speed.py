@@ -105,6 +105,10 @@ def main() -> None:
             w, c, _ = timed(fn)
             wall[k].append(w)
             cpu[k].append(c)
+    # each round's own ratio (its simulation over its estimation, timed moments apart): their median
+    # moves less with the machine's load than the ratio of the two best times
+    per_round = sorted(a / b for a, b in zip(wall["sim"], wall["est_all"]))
+    round_median = per_round[len(per_round) // 2]
     # the estimation also back to back (it then reuses its own memory, where after a simulation it
     # must fault its scratch arrays in again): the smaller figure is the one the ratios divide by
     for _ in range(args.repeat):
@@ -127,6 +131,8 @@ def main() -> None:
           f"{bc['est_all'] * 1e3:7.1f} ms")
     print(f"ratio simulate / estimating the fundamental:  wall {bw['sim'] / bw['est1']:.1f}x, CPU {bc['sim'] / bc['est1']:.1f}x")
     print(f"ratio simulate / estimating every zone:       wall {bw['sim'] / bw['est_all']:.1f}x, CPU {bc['sim'] / bc['est_all']:.1f}x")
+    print(f"  median of the rounds' own ratios:           wall {round_median:.1f}x "
+          f"(from {per_round[0]:.1f}x to {per_round[-1]:.1f}x)")
     print(f"  the same, responses computed again:         wall {bw['fresh'] / bw['est_all']:.1f}x, "
           f"CPU {bc['fresh'] / bc['est_all']:.1f}x")
 
