@@ -41,6 +41,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 import threading
 from collections import OrderedDict
@@ -378,6 +379,16 @@ class IfFilter:
         return f"IF filter {self.kind} order {self.order}, {self.low_hz:g}-{self.high_hz:g} Hz{extra}"
 
 
+@functools.lru_cache(maxsize=64)
+def _analog_zpk(f: "OutputFilter"):
+    # every zone of every simulation asks for the same design; it is a few dozen numbers
+    rp, rs = _ripples(f.kind, f.ripple_db, f.stopband_db)
+    z, p, k = _design(f.kind, f.order, 2 * math.pi * float(f.cutoff_hz), rp, rs, analog=True, output="zpk")
+    for a in (z, p):
+        a.setflags(write=False)
+    return z, p, k
+
+
 @dataclass(frozen=True)
 class OutputFilter:
     """The transmitter's output (harmonic) low-pass filter, an analog design at RF.
@@ -416,9 +427,8 @@ class OutputFilter:
         _ripples(self.kind, self.ripple_db, self.stopband_db)
 
     def zpk(self):
-        """Zeros, poles and gain of the analog design (rad/s)."""
-        rp, rs = _ripples(self.kind, self.ripple_db, self.stopband_db)
-        return _design(self.kind, self.order, 2 * math.pi * float(self.cutoff_hz), rp, rs, analog=True, output="zpk")
+        """Zeros, poles and gain of the analog design (rad/s); the arrays are read-only (designed once per filter)."""
+        return _analog_zpk(self)
 
     def ba(self):
         """Numerator and denominator of the analog design (rad/s), for :func:`scipy.signal.freqs`."""
