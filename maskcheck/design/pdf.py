@@ -162,7 +162,9 @@ def build_design_report(res: DesignResult, facts: list[tuple[str, str]], created
     for p in sorted(res.points, key=lambda p: p.values):
         o = p.outcome
         vals = ", ".join(v.key.describe(val) for v, val in zip(res.varies, p.values))
-        meas = f"{o.measure:.6g}" + (" (bound)" if o.measure_is_bound else "")
+        # dB to a ten-thousandth (the points beside a crossing differ in the 4th decimal); Hz to 6 digits
+        meas = f"{o.measure:.6g}" if res.goal.unit == "Hz" else f"{o.measure:.4f}"
+        meas += " (bound)" if o.measure_is_bound else ""
         rows.append([vals, meas, "n/a" if o.worst_margin_db is None else f"{o.worst_margin_db:.2f}", o.verdict,
                      "yes" if p.holds else "no", binding_text(p)])
         tints.append(TINT["pass"] if p.holds else None)
