@@ -91,3 +91,24 @@ def test_a_corrected_stitched_spectrum_keeps_its_notes():
     corrected = with_attenuator(None, 20.0).apply(s)
     assert corrected.stitch_notes == s.stitch_notes
     assert dataclasses.replace(s).stitch_notes == s.stitch_notes
+
+
+def test_the_terminal_says_how_the_traces_were_joined_and_what_the_setup_added(tmp_path, capsys):
+    # Common practice, no published source: a reader of the terminal alone must see that a pad's loss
+    # was added to every reading and which trace stood where, before trusting a margin
+    paths = []
+    for spec in (OVERVIEW, ZOOM_SEAM):
+        paths.append(str(_write_trace(tmp_path / spec["source"], _flat(**spec))))
+    main(["check", *paths, "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W",
+          "--attenuator", "20dB"])
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Setup no setup file: a fixed 20 dB attenuator given with the command" in out
+    assert "readings corrected to the power at the transmitter output: +20.00 dB added" in out
+    assert "Traces joined - " in out  # the traces are named by their paths
+    assert "overview.txt (RBW 10 kHz) trimmed over 7.049 MHz to 7.151 MHz" in out
+    assert "dropped at the seam with " in out and "zoom.txt, deliberately" in out
+    # negative control: one trace, no pad
+    main(["check", paths[0], "--mask", "us-amateur-hf-2003", "--carrier", "7.1MHz", "--power", "100W"])
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Setup none given: readings taken as at the transmitter output" in out
+    assert "Traces joined" not in out and "dB added" not in out

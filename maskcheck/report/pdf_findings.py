@@ -30,6 +30,7 @@ from .tables import (
     ARTEFACT_MARK,
     BANDWIDTH_HEADER,
     resting_lines,
+    setup_text,
     DASH,
     artefact_notes,
     REMEASURE_HEADER,
@@ -136,8 +137,7 @@ def summary_page(x: Parts, result: CheckResult, toc: TableOfContents) -> list:
          or "none: every value rests on memory"),
         *([("Not confirmed", m.unconfirmed_text)] if m.unconfirmed_text else []),
     ]
-    setup = r.setup
-    rule.append(("Setup", (setup.name or setup.path) if setup else "none given: readings taken as at the transmitter output"))
+    rule.append(("Setup", setup_text(r)))
     rule.append(("Created (UTC)", r.created_utc or "not recorded"))
     gap = 5 * mm
     half = (x.width - gap) / 2

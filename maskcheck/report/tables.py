@@ -57,6 +57,7 @@ __all__ = [
     "resting_lines",
     "rule_name",
     "reference_bandwidth_text",
+    "setup_text",
 ]
 
 DASH = "\u2013"  # en dash, for ranges and empty cells
@@ -524,6 +525,26 @@ def _shown_keys(data: dict, order=()) -> list[str]:
 def _dict_rows(data: dict, order=(), labels=None) -> list[tuple[str, str]]:
     labels = labels or {}
     return [(labels.get(k) or _label(k), _value(k, data[k])) for k in _shown_keys(data, order)]
+
+
+def setup_text(result: CheckResult) -> str:
+    """The measurement setup in one line: which, and what its corrections added to the readings.
+
+    The terminal's and the report summary's "Setup" line, so that a reader
+    sees whether an attenuator or cable loss was added before any margin.
+    """
+    s, c = result.setup, result.corrections
+    if s is None:
+        return "none given: readings taken as at the transmitter output (no attenuator or cable loss added)"
+    text = s.name or s.path or "unnamed"
+    if c is not None:
+        lo, hi = c.total_db_min, c.total_db_max
+        if lo is not None:
+            span = f"{lo:+.2f} dB" if hi is None or abs(hi - lo) < 0.005 else f"{lo:+.2f} to {hi:+.2f} dB"
+            text += f"; readings corrected to the {c.quantity}: {span} added"
+        if c.removed_hz:
+            text += f"; {len(c.removed_hz)} range(s) left out (no correction table covers them)"
+    return text
 
 
 def station_rows(result: CheckResult) -> list[tuple[str, str]]:

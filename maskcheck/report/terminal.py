@@ -31,6 +31,7 @@ from .tables import (
     region_rows,
     remeasure_lines,
     rule_name,
+    setup_text,
     station_rows,
     unevaluated_lines,
     verdict_sentence,
@@ -115,7 +116,13 @@ def render_check(result: CheckResult, console: Console | None = None) -> None:
     if mask.unconfirmed_text:
         facts.append(("Not confirmed", mask.unconfirmed_text))
     facts.append(("Decision rule", decision_rule_text(result)))
+    facts.append(("Setup", setup_text(result)))
     console.print(_facts(console, facts))
+    joined = result.spectrum_summary.stitch_notes
+    if joined:  # how several traces became one spectrum: which was kept where, any point dropped at a seam
+        console.print(Text("Traces joined", style="bold"))
+        for note in joined:
+            console.print(_indented(f"- {note}", console))
     if not mask.verified:
         console.print(Text(f"!! {UNVERIFIED_NOTE}: rule data {mask.grade}, {mask.grade_summary or mask.grade_text}; "
                            f"'maskcheck masks show {mask.id}' lists the sources", style="bold yellow"))
