@@ -83,6 +83,17 @@ def zone_coefficient(k: int, n: int) -> float:
     return c / 2 if n == 0 else c
 
 
+def _divide_by_real(z: np.ndarray, d: float) -> None:
+    """``z /= d`` in place for a complex ``z`` and a real ``d``, as a product of both parts with ``1 / d``.
+
+    numpy divides a complex number by ``d + 0j`` with Smith's method, which for
+    a zero imaginary part is exactly ``(re * (1 / d), im * (1 / d))``; these are
+    the same numbers from a real multiplication, about five times faster.
+    """
+    parts = z.view(np.float64)
+    np.multiply(parts, 1.0 / d, out=parts)
+
+
 def _split(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     r = np.abs(x)
     u = np.divide(x, r, out=np.ones_like(x), where=r > 0)  # 1 where the envelope is 0
@@ -181,7 +192,7 @@ class Polynomial:
                     ob = out[n][i:j]
                     np.multiply(amp, up, out=ob)
                     if divisor != 1.0:
-                        ob /= divisor
+                        _divide_by_real(ob, divisor)
         return out
 
     @property
@@ -247,7 +258,7 @@ class Rapp:
     def _zones(self, r: np.ndarray, u: np.ndarray, max_zone: int, *, divisor: float = 1.0) -> dict[int, np.ndarray]:
         z = self.zone_amplitude(r) * u
         if divisor != 1.0:
-            z /= divisor
+            _divide_by_real(z, divisor)
         return {1: z}
 
     @property
@@ -299,7 +310,7 @@ class Saleh:
     def _zones(self, r: np.ndarray, u: np.ndarray, max_zone: int, *, divisor: float = 1.0) -> dict[int, np.ndarray]:
         z = self.zone_amplitude(r) * np.exp(1j * self.phase_rad(r)) * u
         if divisor != 1.0:
-            z /= divisor
+            _divide_by_real(z, divisor)
         return {1: z}
 
     @property
