@@ -292,3 +292,30 @@ def test_dividing_the_zones_by_a_real_number_gives_numpys_quotient():
     got = z.copy()
     _divide_by_real(got, math.sqrt(2.0) * (1 + 1e-15))
     assert not np.array_equal(got, z / math.sqrt(2.0))
+
+
+def test_the_zone_products_leave_the_blas_thread_count_as_they_found_it(monkeypatch):
+    # Common practice, no published source: the zones are formed with BLAS on one thread (its worker
+    # threads would spin on the small products), and the process's own setting is restored after
+    import threadpoolctl
+
+    import maskcheck.sim.amplifier as amplifier_module
+
+    def counts():
+        return [i["num_threads"] for i in threadpoolctl.threadpool_info() if i["user_api"] == "blas"]
+
+    seen = []
+    real_matmul = np.matmul
+
+    def spy(*args, **kwargs):
+        seen.append(counts())
+        return real_matmul(*args, **kwargs)
+
+    with threadpoolctl.threadpool_limits(limits=2, user_api="blas"):
+        if not counts() or min(counts()) != 2:
+            pytest.skip("BLAS does not take two threads here, so the limit cannot be seen")
+        monkeypatch.setattr(amplifier_module.np, "matmul", spy)
+        Polynomial((1.0, 0.05, -0.08)).zones(0.3 * np.exp(2j * np.pi * np.arange(4000) / 400), 3)
+        monkeypatch.undo()
+        assert seen and all(n == 1 for c in seen for n in c)  # one thread while the zones are formed
+        assert min(counts()) == 2  # and the setting found is back

@@ -44,6 +44,7 @@ import numpy as np
 import scipy.optimize
 import scipy.signal
 import scipy.special
+import threadpoolctl
 
 from .baseband import Baseband, apply_response, require_finite, require_positive
 from .filters import OutputFilter
@@ -81,6 +82,24 @@ def zone_coefficient(k: int, n: int) -> float:
         return 0.0
     c = 2.0 ** (1 - k) * float(scipy.special.comb(k, (k + n) // 2, exact=True))
     return c / 2 if n == 0 else c
+
+
+_blas_controller = None
+
+
+def _blas_on_this_thread():
+    """A context in which BLAS (numpy's matmul) works on the calling thread alone.
+
+    The zone products are small (a dozen rows by a block of samples), and
+    OpenBLAS would hand each to its own worker threads, which then spin for
+    a while after every call: on a 2-core machine they took one core from
+    the estimator's threads that follow (about 60 ms of CPU in a 10 s
+    simulation).  :mod:`threadpoolctl` sets the limit and restores it.
+    """
+    global _blas_controller
+    if _blas_controller is None:
+        _blas_controller = threadpoolctl.ThreadpoolController()
+    return _blas_controller.limit(limits=1, user_api="blas")
 
 
 def _divide_by_real(z: np.ndarray, d: float) -> None:
@@ -169,30 +188,31 @@ class Polynomial:
         r_pow = np.empty((self.order, block))
         amps = np.empty((len(ns), block))
         u_pow = np.empty(block, dtype=complex)
-        for i in range(0, r.size, block):
-            j = min(i + block, r.size)
-            rb, ub, m = r[i:j], u[i:j], j - i
-            rp = r_pow[:, :m]
-            rp[0] = rb
-            for k in range(1, self.order):
-                np.multiply(rp[k - 1], rb, out=rp[k])
-            ab = amps[:, :m]
-            np.matmul(coef, rp, out=ab)
-            up, power = u_pow[:m], 0
-            for n, amp in zip(ns, ab):
-                while power < n:
-                    if power == 0:
-                        up[:] = ub
+        with _blas_on_this_thread():  # small products: threads would cost more than they bring
+            for i in range(0, r.size, block):
+                j = min(i + block, r.size)
+                rb, ub, m = r[i:j], u[i:j], j - i
+                rp = r_pow[:, :m]
+                rp[0] = rb
+                for k in range(1, self.order):
+                    np.multiply(rp[k - 1], rb, out=rp[k])
+                ab = amps[:, :m]
+                np.matmul(coef, rp, out=ab)
+                up, power = u_pow[:m], 0
+                for n, amp in zip(ns, ab):
+                    while power < n:
+                        if power == 0:
+                            up[:] = ub
+                        else:
+                            up *= ub
+                        power += 1
+                    if n == 0:
+                        out[0][i:j] = amp
                     else:
-                        up *= ub
-                    power += 1
-                if n == 0:
-                    out[0][i:j] = amp
-                else:
-                    ob = out[n][i:j]
-                    np.multiply(amp, up, out=ob)
-                    if divisor != 1.0:
-                        _divide_by_real(ob, divisor)
+                        ob = out[n][i:j]
+                        np.multiply(amp, up, out=ob)
+                        if divisor != 1.0:
+                            _divide_by_real(ob, divisor)
         return out
 
     @property
