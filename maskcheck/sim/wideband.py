@@ -37,16 +37,17 @@ References
 from __future__ import annotations
 
 import math
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..core.estimate import WelchPlan, welch_stream
+from ..core.estimate import WelchEstimate, WelchPlan, welch_stream
 from ..core.spectrum import Spectrum, stitch
 from ..core.units import dbm_to_w_fast
 from ..errors import format_value
 from .amplifier import Zones
-from .baseband import Baseband, apply_response, require_finite, require_positive
+from .baseband import Baseband, apply_response_in_place, require_finite, require_positive
 from .filters import OutputFilter
 
 __all__ = [
@@ -92,7 +93,8 @@ class WidebandResult:
 
 
 def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, response=None,
-                  floor_w_per_hz: float = 0.0, real: bool = False, workers: int | None = None) -> Spectrum:
+                  floor_w_per_hz: float = 0.0, real: bool = False, workers: int | None = None,
+                  estimate: WelchEstimate | None = None) -> Spectrum:
     """Welch estimate of one zone as a Spectrum at its RF frequencies.
 
     Parameters
@@ -111,10 +113,13 @@ def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, respon
     real : bool
         The zone is a real signal at 0 Hz (the DC zone): the two halves of its
         spectrum are folded onto the positive frequencies.
+    estimate : WelchEstimate, optional
+        The zone's estimate, ``welch_stream([bb.iq], plan, max_hold=False)``,
+        if it has been made already.
     """
     if plan.sample_rate_hz != bb.sample_rate_hz:
         raise ValueError(f"plan sample rate {plan.sample_rate_hz:g} Hz is not the zone's {bb.sample_rate_hz:g} Hz")
-    est = welch_stream([bb.iq], plan, max_hold=False, workers=workers)
+    est = welch_stream([bb.iq], plan, max_hold=False, workers=workers) if estimate is None else estimate
     off = est.offset_hz
     p = est.mean_fs.astype(float) * float(scale_w)
     if real:
@@ -221,15 +226,6 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     floor_dbm = require_finite("floor_dbm_per_hz", floor_dbm_per_hz)
     floor = dbm_to_w_fast(floor_dbm)
     fund = zones[1]
-    if output_filter is not None:
-        h = output_filter.bin_response(len(fund), fund.sample_rate_hz, fund.carrier_hz)
-        fund = fund._replaced(apply_response(fund.iq, h), output_filter.describe())
-    now = fund.mean_power_w if power_kind == "mean" else fund.pep_w
-    if not now > 0:
-        raise ValueError("the fundamental has no power at the antenna port (the output filter stops it?)")
-    scale = p_want / now
-    fund = fund._replaced(fund.iq * math.sqrt(scale), f"scaled to {p_want:g} W {power_kind} at the antenna port")
-    response = None if output_filter is None else output_filter.response
     top = max([z.carrier_hz + z.sample_rate_hz / 2 for z in zones.zones.values()]
               + [int(max_harmonic) * fund.carrier_hz + fund.sample_rate_hz / 2])
     stop = top if stop_hz is None else require_positive("stop_hz", stop_hz)
@@ -237,6 +233,24 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
     if not start < fund.carrier_hz - fund.sample_rate_hz / 2:
         raise ValueError(f"start_hz={format_value(start_hz)} is not below the fundamental zone "
                          f"({fund.carrier_hz - fund.sample_rate_hz / 2:g} Hz and up)")
+    # The output filter's full-record FFTs of the fundamental (one thread) run beside the other
+    # zones' estimates, which leave part of the processors idle; they work in place in a copy
+    # made here, so that the thread asks for no memory of its own.
+    filtered = None
+    with ThreadPoolExecutor(1, thread_name_prefix="output-filter") as pool:
+        if output_filter is not None:
+            h = output_filter.bin_response(len(fund), fund.sample_rate_hz, fund.carrier_hz)
+            filtered = pool.submit(apply_response_in_place, np.array(fund.iq), h)
+        estimates = {n: welch_stream([zones[n].iq], plan, max_hold=False, workers=workers)
+                     for n in sorted(zones.zones) if n != 1}
+        if filtered is not None:
+            fund = fund._replaced(filtered.result(), output_filter.describe())
+    now = fund.mean_power_w if power_kind == "mean" else fund.pep_w
+    if not now > 0:
+        raise ValueError("the fundamental has no power at the antenna port (the output filter stops it?)")
+    scale = p_want / now
+    fund = fund._replaced(fund.iq * math.sqrt(scale), f"scaled to {p_want:g} W {power_kind} at the antenna port")
+    response = None if output_filter is None else output_filter.response
     pieces = []
     zone_powers = {}
     for n in sorted(zones.zones):
@@ -247,7 +261,7 @@ def wideband_spectrum(zones: Zones, plan: WelchPlan, *, power_w: float, power_ki
             fundamental_estimation = s.estimation
         else:
             s = zone_spectrum(z, plan, scale_w=scale, response=response, floor_w_per_hz=floor, real=(n == 0),
-                              workers=workers)
+                              estimate=estimates.pop(n))
             zone_powers[n] = max(0.0, float(np.sum(s.power_w - floor * plan.enbw_hz) / plan.enbw_bins))
         lo_cov, hi_cov = s.coverage_hz[0]
         if hi_cov <= start or lo_cov >= stop:
