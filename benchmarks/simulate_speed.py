@@ -16,7 +16,7 @@ The scenario: 10 s at 48 kS/s of speech-like noise, filter-method SSB at
   --repeat times back to back, and the best of all its runs is the one
   the ratios divide by (the smallest, so the ratio is not flattered).
 
-The aim (issue 15: simulate within a small multiple of estimating all its
+The aim (for the design solver: simulate within a small multiple of estimating all its
 zones, taken as at most 3x) is read on the CPU time and on the median of the
 rounds' own wall-time ratios; the ratio of the two best wall times is
 printed as the most conservative figure.
