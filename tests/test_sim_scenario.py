@@ -155,3 +155,11 @@ def test_simulate_refuses_to_overwrite_without_force(tmp_path):
     assert main(["simulate", str(f), "--out", str(out), "--quiet"]) == 0
     assert main(["simulate", str(f), "--out", str(out), "--quiet"]) == 2
     assert main(["simulate", str(f), "--out", str(out), "--quiet", "--force"]) == 0
+
+
+def test_a_value_that_is_not_a_time_or_a_frequency_is_quoted_in_the_error():
+    # Common practice, no published source: the one-line error shows the value found, as written
+    err = str(_err(CARRIER_ONLY.replace('duration = "0.25 s"', 'duration = "oops"')))
+    assert "signal.duration: 'oops' is not a time" in err and "{" not in err
+    err = str(_err(CARRIER_ONLY.replace('carrier = "7 MHz"', "carrier = true")))
+    assert "signal.carrier: expected a frequency, found True" in err and "{" not in err

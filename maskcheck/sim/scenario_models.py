@@ -73,7 +73,7 @@ WindowName = Annotated[Literal[tuple(w for w in WINDOWS if w != "kaiser")], _spe
 def _unit_value(parse, what: str):
     def convert(v):
         if isinstance(v, bool):
-            raise PydanticCustomError("scenario_value", "expected {what}, found {found!r}", {"what": what, "found": v})
+            raise PydanticCustomError("scenario_value", "expected {what}, found {found}", {"what": what, "found": repr(v)})
         try:
             return parse(v)
         except MaskcheckError as exc:
@@ -85,7 +85,8 @@ def _parse_time(v) -> float:
     try:
         return parse_duration(v, default_unit="s")
     except UnitError:
-        raise PydanticCustomError("scenario_value", "{found!r} is not a time (expected e.g. '2 s' or '5 ms')", {"found": v}) from None
+        raise PydanticCustomError("scenario_value", "{found} is not a time (expected e.g. '2 s' or '5 ms')",
+                                  {"found": repr(v)}) from None
 
 
 def _freq(v):
