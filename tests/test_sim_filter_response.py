@@ -119,3 +119,20 @@ def test_filtering_in_place_gives_the_numbers_of_filtering_a_copy():
         ro = x.copy()
         ro.setflags(write=False)
         apply_response_in_place(ro, h)
+
+
+def test_a_zone_spectrum_takes_an_estimate_only_of_its_own_plan():
+    # Common practice, no published source: an estimate made with other parameters would give the
+    # spectrum a resolution bandwidth its header does not state; it is refused, not used
+    from maskcheck.core.estimate import plan_welch, welch_stream
+    from maskcheck.sim import Baseband
+    from maskcheck.sim.wideband import zone_spectrum
+
+    fs = 48e3
+    bb = Baseband(np.exp(2j * np.pi * 1000.0 * np.arange(48_000) / fs), fs, 14.2e6)
+    plan = plan_welch(fs, rbw_hz=10.0)
+    est = welch_stream([bb.iq], plan, max_hold=False)
+    np.testing.assert_array_equal(zone_spectrum(bb, plan, estimate=est).power_w, zone_spectrum(bb, plan).power_w)
+    other = welch_stream([bb.iq], plan_welch(fs, rbw_hz=100.0), max_hold=False)
+    with pytest.raises(ValueError, match="expected the plan given"):
+        zone_spectrum(bb, plan, estimate=other)

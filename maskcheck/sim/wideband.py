@@ -119,6 +119,8 @@ def zone_spectrum(bb: Baseband, plan: WelchPlan, *, scale_w: float = 1.0, respon
     """
     if plan.sample_rate_hz != bb.sample_rate_hz:
         raise ValueError(f"plan sample rate {plan.sample_rate_hz:g} Hz is not the zone's {bb.sample_rate_hz:g} Hz")
+    if estimate is not None and estimate.plan != plan:
+        raise ValueError(f"estimate was made with {estimate.plan.describe()} (expected the plan given, {plan.describe()})")
     est = welch_stream([bb.iq], plan, max_hold=False, workers=workers) if estimate is None else estimate
     off = est.offset_hz
     p = est.mean_fs.astype(float) * float(scale_w)
